@@ -1,0 +1,159 @@
+/**
+ * Result objects: plain, serialisable data. Every formatter (terminal report, CSV,
+ * XLSX, LaTeX, HTML) and every screen reads these. JSON keys named in the issues
+ * (sample, params, pricingErrors, test, hj, fit, windows, oos, perAsset, paths, models)
+ * are a contract: add keys freely, never rename.
+ */
+import type { SampleInfo } from './panel.js';
+import type { Frequency } from './data.js';
+
+export interface ParamEstimate {
+  /** b.<factor>, mu.<factor>, lambda.<factor>, lambda.const, a, delta, gamma, beta.<asset>.<factor> ... */
+  name: string;
+  estimate: number;
+  se: number;
+  t: number;
+  p: number;
+  /** Two-pass only: Shanken (1992) corrected standard error. */
+  seShanken?: number;
+  /** Note on how the s.e. was computed, e.g. "delta method, Sigma_f treated as known". */
+  note?: string;
+}
+
+export interface PricingErrorRow {
+  asset: string;
+  /** Per-period pricing error (decimal). */
+  alpha: number;
+  se: number;
+  t: number;
+  /** alpha x periods per year. */
+  alphaAnnual: number;
+  seAnnual: number;
+  /** Realised mean return of the asset over the sample (excess or gross, as estimated). */
+  meanReturn: number;
+  /** Model-predicted mean return (meanReturn - alpha for excess-return models). */
+  predicted: number;
+}
+
+/** A test statistic: chi-square style (df) or F style (df1, df2). */
+export interface TestResult {
+  name: string;
+  stat: number;
+  df?: number;
+  df1?: number;
+  df2?: number;
+  p: number;
+  note?: string;
+}
+
+export interface HjDistanceResult {
+  distance: number;
+  p: number;
+  /** How the p-value was evaluated, e.g. "Imhof (1961) numerical inversion". */
+  method: string;
+}
+
+export interface CrossSectionFit {
+  mape: number;
+  rmse: number;
+  r2: number;
+  mapeAnnual: number;
+  rmseAnnual: number;
+}
+
+export interface SdfSeries {
+  periods: string[];
+  values: number[];
+  mean: number;
+  std: number;
+}
+
+export interface VolatilityBound {
+  /** Gross returns: sigma_min(m) at each candidate E[m]. */
+  curve?: { mean: number; sigma: number }[];
+  /** Excess returns: the max Sharpe ratio, so sigma(m)/E(m) >= maxSharpe. */
+  maxSharpe: number;
+  /** The model's own fitted (E m, sigma m). */
+  model?: { mean: number; sigma: number };
+}
+
+export interface SampleHeader extends SampleInfo {
+  frequency: Frequency;
+  periodsPerYear: number;
+  returns: 'excess' | 'gross';
+  method: string;
+  model: string;
+  stage: string;
+  weighting: string;
+  centered: boolean;
+  lagsRule: string;
+  assets: string[];
+  factors: string[];
+  notes: string[];
+}
+
+export interface FitResult {
+  kind: 'fit';
+  label: string;
+  sample: SampleHeader;
+  params: ParamEstimate[];
+  pricingErrors: PricingErrorRow[];
+  test: TestResult;
+  /** Further tests (e.g. Hansen J beside the pricing-error chi-square, GRS). */
+  tests: TestResult[];
+  hj?: HjDistanceResult;
+  fit: CrossSectionFit;
+  sdf?: SdfSeries;
+  bound?: VolatilityBound;
+  convergence?: { iterations: number; converged: boolean; criterion: string };
+  /** Statements the report must carry (e.g. how lambda s.e. were computed). */
+  notes: string[];
+}
+
+export interface BacktestWindow {
+  start: string;
+  end: string;
+  /** Held-out periods (first and last label). */
+  oosStart: string;
+  oosEnd: string;
+  ok: boolean;
+  reason?: string;
+}
+
+export interface BacktestResult {
+  kind: 'backtest';
+  label: string;
+  sample: SampleHeader;
+  windows: number;
+  windowsFailed: number;
+  failures: { end: string; reason: string }[];
+  oos: { rmse: number; rmsePooled: number; r2: number };
+  inSample: { rmse: number; r2: number; mape: number };
+  perAsset: { asset: string; alphaOos: number; alphaIn: number; meanReturnOos: number }[];
+  paths: { end: string; params: { name: string; estimate: number; se: number }[] }[];
+  windowList: BacktestWindow[];
+  spec: { window: number; step: number; horizon: number; expanding: boolean };
+}
+
+export interface CompareRow {
+  label: string;
+  params: ParamEstimate[];
+  test: TestResult;
+  hj?: HjDistanceResult;
+  fit: CrossSectionFit;
+  oos?: { rmse: number; rmsePooled: number; r2: number };
+  error?: string;
+}
+
+export interface CompareResult {
+  kind: 'compare';
+  sample: SampleHeader;
+  models: CompareRow[];
+  /** Pairwise bootstrap tests of equal squared HJ distance. */
+  hjTests: { a: string; b: string; diff: number; p: number; replications: number; block: number; seed: number }[];
+}
+
+export type AnyResult = FitResult | BacktestResult | CompareResult;
+
+/** The caution every results screen and report carries. */
+export const CAUTION = 'Statistical model diagnostics only; not investment advice.';

@@ -1,0 +1,183 @@
+/**
+ * The run specification: what to estimate, on which sample. The same JSON is read by
+ * the CLI (`deflator fit SPEC`), written by the app's model set-up screen, and stored
+ * with every run. Keys are a contract scripts rely on: add freely, never rename.
+ */
+import { z } from 'zod';
+import { FREQUENCIES } from './data.js';
+import { DeflatorError } from './errors.js';
+
+const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
+
+export const MODEL_KINDS = ['linear', 'linear-raw', 'linear-gross', 'consumption'] as const;
+export const METHODS = ['gmm', 'time-series', 'two-pass'] as const;
+export const STAGES = ['first', 'second', 'iterated', 'cue'] as const;
+export const WEIGHTS = ['identity', 'hj'] as const;
+
+export const modelSchema = z
+  .object({
+    kind: z.enum(MODEL_KINDS).default('linear'),
+    factors: z.array(z.string().min(1)).default([]),
+    consumption: z.string().min(1).optional(),
+    /** Consumption model on excess returns: delta is fixed at this value (METHODS 2). */
+    delta: z.number().positive().finite().optional(),
+  })
+  .strict();
+
+export const estimatorSchema = z
+  .object({
+    method: z.enum(METHODS).default('gmm'),
+    stage: z.enum(STAGES).default('second'),
+    weight: z.enum(WEIGHTS).default('identity'),
+    lags: z.union([z.number().int().min(0).max(1000), z.literal('auto')]).default('auto'),
+    centered: z.boolean().default(true),
+    /** Inference with S from the weighting step (default) or re-estimated at the final estimate. */
+    inferenceS: z.enum(['weighting', 'final']).default('weighting'),
+    /** Two-pass: include a constant in the cross-sectional regressions (default true). */
+    intercept: z.boolean().default(true),
+    /** Iterated GMM / nonlinear solvers: iteration cap. */
+    maxIterations: z.number().int().min(1).max(10000).default(100),
+  })
+  .strict();
+
+export const backtestSchema = z
+  .object({
+    window: z.number().int().min(2),
+    step: z.number().int().min(1).default(1),
+    horizon: z.number().int().min(1).default(1),
+    expanding: z.boolean().default(false),
+  })
+  .strict();
+
+export const bootstrapSchema = z
+  .object({
+    replications: z.number().int().min(10).max(100000).default(499),
+    /** Block length in periods, or 'auto' = ceil(T^(1/3)) (common practice, see docs/methods.md). */
+    block: z.union([z.number().int().min(1), z.literal('auto')]).default('auto'),
+    seed: z.number().int().min(0).max(2 ** 31 - 1).default(20261201),
+  })
+  .strict();
+
+/** Keys that fix the data: shared by every model of a comparison. */
+const sampleShape = {
+  frequency: z.enum(FREQUENCIES).default('monthly'),
+  start: isoDate.optional(),
+  end: isoDate.optional(),
+  assets: z.union([z.literal('all'), z.array(z.string().min(1)).min(1)]).default('all'),
+  returns: z.enum(['excess', 'gross']).default('excess'),
+  riskfree: z.string().min(1).optional(),
+  includeRiskfree: z.boolean().default(false),
+};
+
+export const fitSpecSchema = z
+  .object({
+    ...sampleShape,
+    label: z.string().optional(),
+    model: modelSchema,
+    estimator: estimatorSchema.default(estimatorSchema.parse({})),
+    backtest: backtestSchema.optional(),
+  })
+  .strict();
+
+export const compareEntrySchema = z
+  .object({
+    label: z.string().optional(),
+    model: modelSchema,
+    estimator: estimatorSchema.optional(),
+    returns: z.enum(['excess', 'gross']).optional(),
+    includeRiskfree: z.boolean().optional(),
+  })
+  .strict();
+
+export const compareSpecSchema = z
+  .object({
+    ...sampleShape,
+    estimator: estimatorSchema.optional(),
+    backtest: backtestSchema.optional(),
+    bootstrap: bootstrapSchema.optional(),
+    compare: z.array(compareEntrySchema).min(1),
+  })
+  .strict();
+
+export type FitSpec = z.infer<typeof fitSpecSchema>;
+export type FitSpecInput = z.input<typeof fitSpecSchema>;
+export type CompareSpec = z.infer<typeof compareSpecSchema>;
+export type ModelSpec = z.infer<typeof modelSchema>;
+export type EstimatorSpec = z.infer<typeof estimatorSchema>;
+export type BacktestSpec = z.infer<typeof backtestSchema>;
+export type BootstrapSpec = z.infer<typeof bootstrapSchema>;
+
+/** "spec.estimator.stage: expected one of ..." for each problem, one per line. */
+export function formatSpecIssues(error: z.ZodError, root = 'spec'): string {
+  return error.issues
+    .map((issue) => {
+      const where = [root, ...issue.path.map(String)].join('.');
+      if (issue.code === 'unrecognized_keys') return `${where}: unknown key(s) ${issue.keys.map((k) => `"${k}"`).join(', ')}`;
+      return `${where}: ${issue.message}`;
+    })
+    .join('\n');
+}
+
+/** Checks that go across keys (which model needs which series). */
+function crossCheck(spec: FitSpec, where: string): string[] {
+  const problems: string[] = [];
+  const m = spec.model;
+  const e = spec.estimator;
+  if (m.kind !== 'consumption' && m.factors.length === 0) problems.push(`${where}.model.factors: a ${m.kind} model needs at least one factor`);
+  if (m.kind === 'consumption' && !m.consumption) problems.push(`${where}.model.consumption: the consumption model needs the name of a consumption series`);
+  if (m.kind === 'consumption' && m.factors.length > 0) problems.push(`${where}.model.factors: the consumption model takes no factors`);
+  if (spec.returns === 'excess' && !spec.riskfree) problems.push(`${where}.riskfree: excess returns need a risk-free series name`);
+  if (m.kind === 'linear-gross' && spec.returns !== 'gross') problems.push(`${where}.returns: the linear-gross model prices gross returns; set "returns":"gross"`);
+  if ((m.kind === 'linear' || m.kind === 'linear-raw') && spec.returns !== 'excess') problems.push(`${where}.returns: the ${m.kind} model prices excess returns; set "returns":"excess"`);
+  if (m.delta !== undefined && !(m.kind === 'consumption' && spec.returns === 'excess')) problems.push(`${where}.model.delta: a fixed delta applies only to the consumption model on excess returns`);
+  if (spec.includeRiskfree && spec.returns !== 'gross') problems.push(`${where}.includeRiskfree: the risk-free asset can be a test asset only with gross returns`);
+  if (spec.includeRiskfree && !spec.riskfree) problems.push(`${where}.includeRiskfree: needs "riskfree" to name the series`);
+  if (e.method !== 'gmm') {
+    if (m.kind !== 'linear') problems.push(`${where}.estimator.method: ${e.method} regressions apply to the linear (beta-representation) model with excess returns`);
+  }
+  if (spec.start && spec.end && spec.start > spec.end) problems.push(`${where}.start: ${spec.start} is after end ${spec.end}`);
+  if (spec.backtest && spec.backtest.horizon < 1) problems.push(`${where}.backtest.horizon: must be at least 1`);
+  return problems;
+}
+
+/** Parses and validates a fit (or back-test) spec; throws SPEC_INVALID naming every bad key. */
+export function parseFitSpec(input: unknown, root = 'spec'): FitSpec {
+  const r = fitSpecSchema.safeParse(input);
+  if (!r.success) throw new DeflatorError('SPEC_INVALID', formatSpecIssues(r.error, root), 'fix the keys named above; docs/spec.md lists every key');
+  const problems = crossCheck(r.data, root);
+  if (problems.length) throw new DeflatorError('SPEC_INVALID', problems.join('\n'), 'fix the keys named above; docs/spec.md lists every key');
+  return r.data;
+}
+
+/** Parses a comparison spec and expands it into one full fit spec per model. */
+export function parseCompareSpec(input: unknown, root = 'spec'): { spec: CompareSpec; fits: FitSpec[] } {
+  const r = compareSpecSchema.safeParse(input);
+  if (!r.success) throw new DeflatorError('SPEC_INVALID', formatSpecIssues(r.error, root), 'fix the keys named above; docs/spec.md lists every key');
+  const c = r.data;
+  const fits = c.compare.map((entry, i) => {
+    const full = {
+      frequency: c.frequency,
+      start: c.start,
+      end: c.end,
+      assets: c.assets,
+      returns: entry.returns ?? c.returns,
+      riskfree: c.riskfree,
+      includeRiskfree: entry.includeRiskfree ?? c.includeRiskfree,
+      label: entry.label ?? defaultLabel(entry.model.kind, entry.model.factors, entry.model.consumption),
+      model: entry.model,
+      estimator: entry.estimator ?? c.estimator ?? estimatorSchema.parse({}),
+      backtest: c.backtest,
+    };
+    return parseFitSpec(JSON.parse(JSON.stringify(full)), `${root}.compare.${i}`);
+  });
+  return { spec: c, fits };
+}
+
+function defaultLabel(kind: string, factors: string[], consumption?: string): string {
+  return kind === 'consumption' ? `consumption(${consumption ?? ''})` : `${kind}(${factors.join(',')})`;
+}
+
+/** Does this JSON look like a comparison spec? */
+export function isCompareSpec(input: unknown): boolean {
+  return typeof input === 'object' && input !== null && 'compare' in input;
+}

@@ -1,0 +1,9 @@
+/**
+ * Every sub-command registers itself here (one line per command file).
+ * Keep this list in the order `deflator --help` should show them.
+ */
+import type { Command } from 'commander';
+
+export type RegisterCommand = (program: Command) => void;
+
+export const COMMANDS: RegisterCommand[] = [];
