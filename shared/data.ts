@@ -54,3 +54,18 @@ export interface NamedSeries {
   /** Only for kind 'riskfree'. */
   rfForm?: RiskfreeForm;
 }
+
+/**
+ * A return series that is already a return (not a price), e.g. a test-asset portfolio
+ * built by a characteristic sort. Usable as a test asset in any spec by its name.
+ */
+export interface ReturnSeries {
+  name: string;
+  frequency: Frequency;
+  /** Period-end labels (ISO dates). */
+  periods: string[];
+  /** Net per-period returns (decimal), NaN where the portfolio had no return. */
+  net: Float64Array;
+  /** How it was built (the sort rules), for the record. */
+  rules?: string;
+}
