@@ -1,0 +1,127 @@
+/**
+ * Canonical byte encoding of a returns panel, and its SHA-256 fingerprint.
+ *
+ * The fingerprint identifies the exact numbers an estimate used: two panels have the
+ * same fingerprint iff they have the same frequency, return kind, period labels, asset
+ * and factor names (in order) and the same float64 values bit for bit. Layout
+ * (documented in docs/methods.md, "Run records"), all integers unsigned 32-bit
+ * little-endian, all strings UTF-8 prefixed by their byte length as u32:
+ *
+ *   "DFLP"                  4 ASCII bytes (magic)
+ *   u32 encoding version    (PANEL_ENCODING_VERSION)
+ *   string frequency, string returnKind
+ *   u32 T, u32 N, u32 K
+ *   u8 flags                bit 0: riskfreeGross present; bit 1: consumptionGrowth present
+ *   T strings               period labels
+ *   N strings               asset names
+ *   K strings               factor names
+ *   float64 LE values       asset 0 periods 0..T-1, asset 1 ..., then factor 0 ... factor K-1,
+ *                           then riskfreeGross (T) if present, then consumptionGrowth (T) if present.
+ *
+ * Every NaN is written as the one quiet NaN 0x7FF8000000000000 (payloads carry no data);
+ * -0 keeps its sign bit. sampleNotes are descriptive text, not data, and are left out.
+ */
+import type { ReturnsPanel } from '../panel.js';
+import { DeflatorError } from '../errors.js';
+import { Sha256, toHex } from './sha256.js';
+import { utf8Encode } from './utf8.js';
+
+export const PANEL_ENCODING_VERSION = 1;
+
+/** Appends to a growable byte buffer. */
+class ByteWriter {
+  private buf = new Uint8Array(1024);
+  private view = new DataView(this.buf.buffer);
+  private n = 0;
+
+  private reserve(extra: number): void {
+    if (this.n + extra <= this.buf.length) return;
+    let size = this.buf.length * 2;
+    while (size < this.n + extra) size *= 2;
+    const next = new Uint8Array(size);
+    next.set(this.buf.subarray(0, this.n));
+    this.buf = next;
+    this.view = new DataView(next.buffer);
+  }
+  u8(x: number): void {
+    this.reserve(1);
+    this.buf[this.n++] = x;
+  }
+  u32(x: number): void {
+    this.reserve(4);
+    this.view.setUint32(this.n, x, true);
+    this.n += 4;
+  }
+  bytes(b: Uint8Array): void {
+    this.reserve(b.length);
+    this.buf.set(b, this.n);
+    this.n += b.length;
+  }
+  str(s: string): void {
+    const b = utf8Encode(s);
+    this.u32(b.length);
+    this.bytes(b);
+  }
+  f64(x: number): void {
+    this.reserve(8);
+    if (Number.isNaN(x)) {
+      this.view.setUint32(this.n, 0, true);
+      this.view.setUint32(this.n + 4, 0x7ff80000, true);
+    } else this.view.setFloat64(this.n, x, true);
+    this.n += 8;
+  }
+  result(): Uint8Array {
+    return this.buf.slice(0, this.n);
+  }
+}
+
+function checkLength(what: string, got: number, T: number): void {
+  if (got !== T) {
+    throw new DeflatorError(
+      'INPUT_INVALID',
+      `panel ${what} has ${got} values but the panel has ${T} periods`,
+      'rebuild the panel from the store; every series of a panel is aligned on its periods',
+    );
+  }
+}
+
+/** The canonical bytes of a panel (layout above). */
+export function encodePanel(panel: ReturnsPanel): Uint8Array {
+  const T = panel.periods.length;
+  const N = panel.assets.length;
+  const K = panel.factors.length;
+  if (panel.returns.length !== N) {
+    throw new DeflatorError('INPUT_INVALID', `panel has ${N} asset names but ${panel.returns.length} return series`, 'rebuild the panel from the store');
+  }
+  const w = new ByteWriter();
+  w.bytes(Uint8Array.from([0x44, 0x46, 0x4c, 0x50]));
+  w.u32(PANEL_ENCODING_VERSION);
+  w.str(panel.frequency);
+  w.str(panel.returnKind);
+  w.u32(T);
+  w.u32(N);
+  w.u32(K);
+  w.u8((panel.riskfreeGross ? 1 : 0) | (panel.consumptionGrowth ? 2 : 0));
+  for (const p of panel.periods) w.str(p);
+  for (const a of panel.assets) w.str(a);
+  for (const f of panel.factors) w.str(f.name);
+  panel.returns.forEach((r, i) => {
+    checkLength(`asset ${panel.assets[i]}`, r.length, T);
+    for (let t = 0; t < T; t++) w.f64(r[t]);
+  });
+  for (const f of panel.factors) {
+    checkLength(`factor ${f.name}`, f.values.length, T);
+    for (let t = 0; t < T; t++) w.f64(f.values[t]);
+  }
+  for (const [what, s] of [['riskfreeGross', panel.riskfreeGross], ['consumptionGrowth', panel.consumptionGrowth]] as const) {
+    if (!s) continue;
+    checkLength(what, s.length, T);
+    for (let t = 0; t < T; t++) w.f64(s[t]);
+  }
+  return w.result();
+}
+
+/** SHA-256 (hex) of the canonical encoding: the panel fingerprint stored with every run. */
+export function panelFingerprint(panel: ReturnsPanel): string {
+  return toHex(new Sha256().update(encodePanel(panel)).digest());
+}
