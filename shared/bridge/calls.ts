@@ -1,0 +1,111 @@
+/**
+ * The one table of bridge calls. Every call the app's screens can make is declared here
+ * once: its name, the zod schema of its request and the type of its reply. The Electron
+ * IPC handlers, the loopback HTTP routes (POST /api/<name>) and the renderer's client are
+ * all generated from this table, so a screen cannot tell which transport it talks to.
+ *
+ * Adding a call is one entry below plus its handler in src-main/app/handlers.ts
+ * (the compiler reports a missing handler).
+ */
+import { z } from 'zod';
+import { FREQUENCIES, RF_FORMS, SERIES_KINDS } from '../data.js';
+import { compareSpecSchema, fitSpecSchema } from '../spec.js';
+import type { BacktestResult, CompareResult, FitResult } from '../results.js';
+import type { AppInfo, AssetHistory, Coverage, ImportReport } from './types.js';
+
+export interface CallDef<Req extends z.ZodType, Rep> {
+  request: Req;
+  /** Long work: runs as a cancellable task that reports progress events. */
+  task: boolean;
+  /** One line for DEVELOPERS.md and error messages. */
+  summary: string;
+  /** Type-level only: the reply's type. */
+  readonly reply?: Rep;
+}
+
+function call<Rep>() {
+  return <Req extends z.ZodType>(request: Req, opts: { summary: string; task?: boolean }): CallDef<Req, Rep> => ({
+    request,
+    task: opts.task ?? false,
+    summary: opts.summary,
+  });
+}
+
+const empty = z.object({}).strict();
+const name = z.string().min(1).max(200);
+
+/** A file to import: a path the user chose (dialog, drop, or typed), or its content. */
+export const importSourceSchema = z.union([
+  z.object({ path: z.string().min(1).max(4096) }).strict(),
+  z
+    .object({
+      /** The file's own name, for the log (no folders). */
+      name: z.string().min(1).max(255),
+      text: z.string().max(256 * 1024 * 1024),
+    })
+    .strict(),
+]);
+
+export const importOptionsSchema = z
+  .object({
+    /** Series files: what the columns hold (default 'factor'). */
+    seriesKind: z.enum(SERIES_KINDS).optional(),
+    /** Risk-free columns: how the rate is quoted. */
+    rfForm: z.enum(RF_FORMS).optional(),
+    /** Values are in percent (divide by 100). */
+    percent: z.boolean().optional(),
+  })
+  .strict();
+
+export const CALLS = {
+  info: call<AppInfo>()(empty, { summary: 'version, open database, counts' }),
+  coverage: call<Coverage>()(empty, { summary: 'first/last date, count and gaps of every stored asset and series' }),
+  history: call<AssetHistory>()(
+    z.object({ asset: name, frequency: z.enum(FREQUENCIES).optional() }).strict(),
+    { summary: "an asset's price against its total-return index" },
+  ),
+  importFile: call<ImportReport>()(
+    z
+      .object({
+        source: importSourceSchema,
+        kind: z.enum(['prices', 'series']),
+        options: importOptionsSchema.optional(),
+      })
+      .strict(),
+    { summary: 'import a CSV of prices/dividends or of named series', task: true },
+  ),
+  checkSpec: call<{ kind: 'fit' | 'compare'; spec: unknown }>()(
+    z.object({ spec: z.unknown() }).strict(),
+    { summary: 'validate a spec (fit or comparison) and return it with defaults filled in' },
+  ),
+  fit: call<FitResult>()(z.object({ spec: fitSpecSchema }).strict(), { summary: 'fit one model', task: true }),
+  backtest: call<BacktestResult>()(z.object({ spec: fitSpecSchema }).strict(), {
+    summary: 'rolling or expanding back-test of one model (spec.backtest required)',
+    task: true,
+  }),
+  compare: call<CompareResult>()(z.object({ spec: compareSpecSchema }).strict(), {
+    summary: 'fit several models on one sample, side by side',
+    task: true,
+  }),
+  cancel: call<{ cancelled: boolean }>()(
+    z.object({ taskId: z.string().regex(/^[A-Za-z0-9_-]{1,64}$/) }).strict(),
+    { summary: 'cancel a running task' },
+  ),
+} as const;
+
+export type Calls = typeof CALLS;
+export type CallName = keyof Calls;
+/** What a caller sends (defaults may be left out). */
+export type RequestOf<K extends CallName> = z.input<Calls[K]['request']>;
+/** What a handler receives (after validation, defaults filled in). */
+export type ParsedRequestOf<K extends CallName> = z.output<Calls[K]['request']>;
+export type ReplyOf<K extends CallName> = Calls[K] extends CallDef<z.ZodType, infer R> ? R : never;
+
+export const CALL_NAMES = Object.keys(CALLS) as CallName[];
+
+export function isCallName(s: unknown): s is CallName {
+  return typeof s === 'string' && Object.prototype.hasOwnProperty.call(CALLS, s);
+}
+
+/** Task ids are made by the caller and tag progress events. */
+export const TASK_ID = /^[A-Za-z0-9_-]{1,64}$/;

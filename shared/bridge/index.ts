@@ -1,0 +1,5 @@
+export * from './calls.js';
+export * from './envelope.js';
+export * from './types.js';
+export * from './validate.js';
+export * from './client.js';

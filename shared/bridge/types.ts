@@ -1,0 +1,86 @@
+/**
+ * Reply and event types of the bridge: what the app's screens receive from the
+ * main side (Electron IPC or the loopback HTTP server). Plain JSON data only.
+ */
+import type { Frequency, SeriesKind } from '../data.js';
+
+/** One stored history as the data screen lists it (coverage of an asset or a series). */
+export interface CoverageRow {
+  name: string;
+  /** 'asset' for a price history, a series kind, or 'portfolio' for a built return series. */
+  kind: 'asset' | SeriesKind | 'portfolio';
+  first: string | null;
+  last: string | null;
+  /** Number of stored observations. */
+  count: number;
+  /**
+   * Gaps: calendar steps with no observation, judged against the history's own usual
+   * spacing (a step more than twice the median spacing counts as a gap).
+   */
+  gaps: number;
+  /** The longest gap, in days, where there is one. */
+  longestGapDays?: number;
+  /** How a risk-free series was quoted, where known. */
+  rfForm?: string;
+}
+
+export interface Coverage {
+  assets: CoverageRow[];
+  series: CoverageRow[];
+  portfolios: CoverageRow[];
+}
+
+export interface AppInfo {
+  version: string;
+  /** File name of the open project database (never a full path). */
+  database: string;
+  caution: string;
+  counts: { assets: number; series: number; portfolios: number };
+}
+
+/** Price against the total-return index of one asset (METHODS section 1). */
+export interface AssetHistory {
+  asset: string;
+  frequency: Frequency | 'stored';
+  dates: string[];
+  price: number[];
+  /** Total-return index V_t, scaled to start at the first price so both lines share an axis. */
+  totalReturn: number[];
+  dividends: number;
+}
+
+export interface ImportWarning {
+  /** File line (1-based) where known. */
+  line?: number;
+  column?: string;
+  message: string;
+}
+
+export interface ImportReport {
+  file: string;
+  kind: 'prices' | 'series';
+  rows: number;
+  /** Asset or series names written. */
+  names: string[];
+  warnings: ImportWarning[];
+  durationMs: number;
+}
+
+export interface TaskProgress {
+  type: 'progress';
+  taskId: string;
+  /** Units done out of total (windows, files, rows ...). */
+  done: number;
+  total: number;
+  stage?: string;
+}
+
+export type MenuAction = 'open-database' | 'new-database' | 'import-prices' | 'import-series' | 'export' | 'save-spec' | 'load-spec';
+
+export type BridgeEvent =
+  | TaskProgress
+  | { type: 'task-end'; taskId: string; ok: boolean }
+  /** A native menu item was chosen; `path` is a file the user picked in a dialog. */
+  | { type: 'menu'; action: MenuAction; path?: string }
+  /** Another project database was opened. */
+  | { type: 'project'; database: string };
