@@ -13,7 +13,9 @@ export type ErrorCode =
   | 'UNDERIDENTIFIED'
   | 'CANCELLED'
   | 'NOT_FOUND'
-  | 'CONFLICT';
+  | 'CONFLICT'
+  /** A file or request outside what this session may touch (app file policy, foreign origin). */
+  | 'FORBIDDEN';
 
 export class DeflatorError extends Error {
   readonly code: ErrorCode;
