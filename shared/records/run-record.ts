@@ -1,0 +1,87 @@
+/**
+ * A run record: everything needed to show, export and replay one fit, back-test or
+ * comparison. Stored by src-main/runs in the project database; read by the CLI
+ * (`deflator runs|show|replay|export`), the run-history screen and every export.
+ * JSON keys are a contract: add keys, never rename.
+ */
+import type { AnyResult } from '../results.js';
+
+export const RUN_KINDS = ['fit', 'backtest', 'compare'] as const;
+export type RunKind = (typeof RUN_KINDS)[number];
+
+/** One imported file a run depends on, as the import log knew it when the run was recorded. */
+export interface DataFileFingerprint {
+  /** The file as it was imported (path or name recorded by the import log). */
+  file: string;
+  /** SHA-256 (hex) of the file's bytes at import. */
+  sha256: string;
+  /** The import-log entry it came from, when the store has one. */
+  importId?: number;
+  /** Assets and series of the run that this file fed. */
+  subjects: string[];
+}
+
+/** What the run's returns panel looked like: enough to recognise it without the data. */
+export interface PanelFingerprint {
+  /** SHA-256 (hex) of the canonical encoding (shared/records/panel-encoding.ts). */
+  sha256: string;
+  /** PANEL_ENCODING_VERSION used. */
+  encoding: number;
+  frequency: string;
+  start: string;
+  end: string;
+  T: number;
+  N: number;
+  K: number;
+}
+
+export interface RunRecord {
+  /** Run id (1, 2, ...), unique within one project database. */
+  id: number;
+  kind: RunKind;
+  /** The result's label (fit, back-test) or the models' labels joined (compare). */
+  label: string;
+  /** Model kinds and labels, for filtering (e.g. ["linear", "linear(MKT,SIZE)"]). */
+  models: string[];
+  /** ISO 8601 time the run was recorded (UTC). */
+  createdAt: string;
+  /** Software version that computed it (src-main/version.ts). */
+  version: string;
+  /** The spec as parsed (defaults filled in): the input replay runs again. */
+  spec: unknown;
+  result: AnyResult;
+  panel: PanelFingerprint;
+  files: DataFileFingerprint[];
+}
+
+/** A data file whose current state differs from what the run recorded. */
+export interface StaleFile {
+  file: string;
+  recorded: string;
+  /** Current SHA-256, or null when the file's data is no longer in the store. */
+  current: string | null;
+  reason: string;
+}
+
+/** One line of `deflator runs` / the run-history list. */
+export interface RunSummary {
+  id: number;
+  kind: RunKind;
+  label: string;
+  models: string[];
+  createdAt: string;
+  version: string;
+  start: string;
+  end: string;
+  T: number;
+  N: number;
+  K: number;
+  panelSha256: string;
+  stale: boolean;
+  staleFiles: StaleFile[];
+}
+
+/** Is this parsed JSON a run record's kind? */
+export function isRunKind(x: unknown): x is RunKind {
+  return typeof x === 'string' && (RUN_KINDS as readonly string[]).includes(x);
+}

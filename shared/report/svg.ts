@@ -1,0 +1,190 @@
+/**
+ * A small server-side SVG chart generator for the self-contained HTML report (and any
+ * other place that needs a static chart): bars with error whiskers, a scatter with a
+ * 45-degree line, and lines over labelled steps. Output is a plain <svg> string with
+ * no scripts, fonts or external references. Every mark carries a data-* attribute with
+ * its exact value, so a reader can check the chart against the result.
+ */
+import { exactNumber, significant } from './numbers.js';
+
+export function xmlEscape(s: string): string {
+  return s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c] as string);
+}
+
+/** Round tick values covering [lo, hi] (Heckbert's "nice numbers", Graphics Gems 1990). */
+export function niceTicks(lo: number, hi: number, count = 5): number[] {
+  if (!(hi > lo)) {
+    const pad = lo === 0 ? 1 : Math.abs(lo) * 0.1;
+    lo -= pad;
+    hi += pad;
+  }
+  const nice = (x: number, round: boolean): number => {
+    const e = Math.floor(Math.log10(x));
+    const f = x / 10 ** e;
+    const nf = round ? (f < 1.5 ? 1 : f < 3 ? 2 : f < 7 ? 5 : 10) : f <= 1 ? 1 : f <= 2 ? 2 : f <= 5 ? 5 : 10;
+    return nf * 10 ** e;
+  };
+  const step = nice(nice(hi - lo, false) / Math.max(1, count - 1), true);
+  const start = Math.floor(lo / step) * step;
+  const ticks: number[] = [];
+  for (let v = start; v <= hi + step * 0.5; v += step) ticks.push(Math.abs(v) < step * 1e-9 ? 0 : Number(v.toPrecision(12)));
+  if (ticks[ticks.length - 1] < hi) ticks.push(Number((ticks[ticks.length - 1] + step).toPrecision(12)));
+  return ticks;
+}
+
+interface Frame {
+  width: number;
+  height: number;
+  left: number;
+  right: number;
+  top: number;
+  bottom: number;
+}
+
+const FONT = 'font-family="Helvetica, Arial, sans-serif" font-size="11"';
+const PALETTE = ['#2b6f9e', '#c2693b', '#4e8a3e', '#8a4e8a', '#9e8a2b', '#3b9ea0'];
+
+function scale(d0: number, d1: number, r0: number, r1: number): (x: number) => number {
+  const k = d1 === d0 ? 0 : (r1 - r0) / (d1 - d0);
+  return (x) => r0 + (x - d0) * k;
+}
+
+const f1 = (x: number): string => (Math.round(x * 10) / 10).toString();
+
+function open(id: string, title: string, f: Frame, kind: string): string[] {
+  return [
+    `<svg xmlns="http://www.w3.org/2000/svg" id="${xmlEscape(id)}" class="chart" data-chart="${kind}" width="${f.width}" height="${f.height}" viewBox="0 0 ${f.width} ${f.height}" role="img" aria-label="${xmlEscape(title)}">`,
+    `<title>${xmlEscape(title)}</title>`,
+    `<rect x="0" y="0" width="${f.width}" height="${f.height}" fill="#ffffff"/>`,
+    `<text x="${f.width / 2}" y="16" text-anchor="middle" ${FONT} font-size="13" font-weight="bold">${xmlEscape(title)}</text>`,
+  ];
+}
+
+function yAxis(out: string[], f: Frame, ticks: number[], y: (v: number) => number, label: string): void {
+  for (const t of ticks) {
+    const yy = f1(y(t));
+    out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${yy}" y2="${yy}" stroke="#e3e3e3"/>`);
+    out.push(`<text x="${f.left - 6}" y="${yy}" dy="4" text-anchor="end" ${FONT}>${xmlEscape(significant(t, 4))}</text>`);
+  }
+  out.push(`<line x1="${f.left}" x2="${f.left}" y1="${f.top}" y2="${f.height - f.bottom}" stroke="#555"/>`);
+  const cy = (f.top + f.height - f.bottom) / 2;
+  out.push(`<text x="14" y="${cy}" transform="rotate(-90 14 ${cy})" text-anchor="middle" ${FONT}>${xmlEscape(label)}</text>`);
+}
+
+export interface BarDatum {
+  label: string;
+  value: number;
+  /** Whisker ends (e.g. value ± 1.96 s.e.); omit for a plain bar. */
+  low?: number;
+  high?: number;
+}
+
+/** Vertical bars from zero with optional whiskers; one bar per datum. */
+export function barChart(opts: { id: string; title: string; yLabel: string; bars: BarDatum[]; width?: number; height?: number }): string {
+  const f: Frame = { width: opts.width ?? 640, height: opts.height ?? 340, left: 64, right: 16, top: 28, bottom: 84 };
+  const vals = opts.bars.flatMap((b) => [b.value, b.low ?? b.value, b.high ?? b.value, 0]);
+  const ticks = niceTicks(Math.min(...vals), Math.max(...vals));
+  const y = scale(ticks[0], ticks[ticks.length - 1], f.height - f.bottom, f.top);
+  const out = open(opts.id, opts.title, f, 'bars');
+  yAxis(out, f, ticks, y, opts.yLabel);
+  const n = Math.max(1, opts.bars.length);
+  const band = (f.width - f.left - f.right) / n;
+  const y0 = y(0);
+  opts.bars.forEach((b, i) => {
+    const cx = f.left + band * (i + 0.5);
+    const w = Math.max(2, band * 0.6);
+    const top = Math.min(y(b.value), y0);
+    const h = Math.max(0.5, Math.abs(y(b.value) - y0));
+    out.push(
+      `<rect class="bar" x="${f1(cx - w / 2)}" y="${f1(top)}" width="${f1(w)}" height="${f1(h)}" fill="${b.value < 0 ? PALETTE[1] : PALETTE[0]}" data-label="${xmlEscape(b.label)}" data-value="${exactNumber(b.value)}"><title>${xmlEscape(`${b.label}: ${significant(b.value, 6)}`)}</title></rect>`,
+    );
+    if (b.low !== undefined && b.high !== undefined) {
+      const yl = f1(y(b.low));
+      const yh = f1(y(b.high));
+      const cap = f1(Math.min(w / 2, 6));
+      out.push(
+        `<g class="whisker" stroke="#222" data-label="${xmlEscape(b.label)}" data-low="${exactNumber(b.low)}" data-high="${exactNumber(b.high)}"><line x1="${f1(cx)}" x2="${f1(cx)}" y1="${yl}" y2="${yh}"/><line x1="${f1(cx - Number(cap))}" x2="${f1(cx + Number(cap))}" y1="${yl}" y2="${yl}"/><line x1="${f1(cx - Number(cap))}" x2="${f1(cx + Number(cap))}" y1="${yh}" y2="${yh}"/></g>`,
+      );
+    }
+    const ly = f.height - f.bottom + 12;
+    out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}>${xmlEscape(b.label)}</text>`);
+  });
+  out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f1(y0)}" y2="${f1(y0)}" stroke="#555"/>`);
+  out.push('</svg>');
+  return out.join('\n');
+}
+
+export interface ScatterPoint {
+  label: string;
+  x: number;
+  y: number;
+}
+
+/** Points with labels; `diagonal` draws the y = x line (predicted = realised). */
+export function scatterChart(opts: { id: string; title: string; xLabel: string; yLabel: string; points: ScatterPoint[]; diagonal?: boolean; width?: number; height?: number }): string {
+  const f: Frame = { width: opts.width ?? 480, height: opts.height ?? 400, left: 64, right: 20, top: 28, bottom: 48 };
+  const xs = opts.points.map((p) => p.x);
+  const ys = opts.points.map((p) => p.y);
+  let lo = Math.min(...xs, ...(opts.diagonal ? ys : []));
+  let hi = Math.max(...xs, ...(opts.diagonal ? ys : []));
+  const xt = niceTicks(lo, hi);
+  if (opts.diagonal) {
+    lo = xt[0];
+    hi = xt[xt.length - 1];
+  }
+  const yt = opts.diagonal ? xt : niceTicks(Math.min(...ys), Math.max(...ys));
+  const x = scale(xt[0], xt[xt.length - 1], f.left, f.width - f.right);
+  const y = scale(yt[0], yt[yt.length - 1], f.height - f.bottom, f.top);
+  const out = open(opts.id, opts.title, f, 'scatter');
+  yAxis(out, f, yt, y, opts.yLabel);
+  for (const t of xt) {
+    out.push(`<text x="${f1(x(t))}" y="${f.height - f.bottom + 14}" text-anchor="middle" ${FONT}>${xmlEscape(significant(t, 4))}</text>`);
+  }
+  out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f.height - f.bottom}" y2="${f.height - f.bottom}" stroke="#555"/>`);
+  out.push(`<text x="${(f.left + f.width - f.right) / 2}" y="${f.height - 10}" text-anchor="middle" ${FONT}>${xmlEscape(opts.xLabel)}</text>`);
+  if (opts.diagonal) {
+    const a = Math.max(xt[0], yt[0]);
+    const b = Math.min(xt[xt.length - 1], yt[yt.length - 1]);
+    out.push(`<line class="diagonal" x1="${f1(x(a))}" y1="${f1(y(a))}" x2="${f1(x(b))}" y2="${f1(y(b))}" stroke="#999" stroke-dasharray="4 3"/>`);
+  }
+  for (const p of opts.points) {
+    out.push(
+      `<circle class="point" cx="${f1(x(p.x))}" cy="${f1(y(p.y))}" r="4" fill="${PALETTE[0]}" data-label="${xmlEscape(p.label)}" data-x="${exactNumber(p.x)}" data-y="${exactNumber(p.y)}"><title>${xmlEscape(`${p.label}: ${significant(p.x, 6)}, ${significant(p.y, 6)}`)}</title></circle>`,
+    );
+    out.push(`<text x="${f1(x(p.x) + 6)}" y="${f1(y(p.y) - 5)}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
+  }
+  out.push('</svg>');
+  return out.join('\n');
+}
+
+export interface LineSeries {
+  name: string;
+  values: number[];
+}
+
+/** One line per series over shared step labels (e.g. window ends), with a legend. */
+export function lineChart(opts: { id: string; title: string; yLabel: string; steps: string[]; series: LineSeries[]; width?: number; height?: number }): string {
+  const f: Frame = { width: opts.width ?? 640, height: opts.height ?? 320, left: 64, right: 120, top: 28, bottom: 48 };
+  const all = opts.series.flatMap((s) => s.values);
+  const yt = niceTicks(Math.min(...all), Math.max(...all));
+  const n = opts.steps.length;
+  const x = scale(0, Math.max(1, n - 1), f.left, f.width - f.right);
+  const y = scale(yt[0], yt[yt.length - 1], f.height - f.bottom, f.top);
+  const out = open(opts.id, opts.title, f, 'lines');
+  yAxis(out, f, yt, y, opts.yLabel);
+  out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f.height - f.bottom}" y2="${f.height - f.bottom}" stroke="#555"/>`);
+  const every = Math.max(1, Math.ceil(n / 6));
+  opts.steps.forEach((s, i) => {
+    if (i % every === 0 || i === n - 1) out.push(`<text x="${f1(x(i))}" y="${f.height - f.bottom + 14}" text-anchor="middle" ${FONT} font-size="9">${xmlEscape(s)}</text>`);
+  });
+  opts.series.forEach((s, k) => {
+    const colour = PALETTE[k % PALETTE.length];
+    const d = s.values.map((v, i) => `${i === 0 ? 'M' : 'L'}${f1(x(i))},${f1(y(v))}`).join(' ');
+    out.push(`<path class="line" d="${d}" fill="none" stroke="${colour}" stroke-width="1.5" data-series="${xmlEscape(s.name)}" data-values="${s.values.map(exactNumber).join(' ')}"/>`);
+    const ly = f.top + 14 * k + 6;
+    out.push(`<line x1="${f.width - f.right + 8}" x2="${f.width - f.right + 24}" y1="${ly}" y2="${ly}" stroke="${colour}" stroke-width="2"/>`);
+    out.push(`<text x="${f.width - f.right + 28}" y="${ly + 4}" ${FONT}>${xmlEscape(s.name)}</text>`);
+  });
+  out.push('</svg>');
+  return out.join('\n');
+}
