@@ -6,7 +6,7 @@ import type { ErrorCode } from '../errors.js';
 import { isDeflatorError } from '../errors.js';
 
 /** The domain's error codes plus the transport's own. */
-export type BridgeErrorCode = ErrorCode | 'BAD_REQUEST' | 'UNKNOWN_CALL' | 'FORBIDDEN' | 'INTERNAL';
+export type BridgeErrorCode = ErrorCode | 'BAD_REQUEST' | 'UNKNOWN_CALL' | 'INTERNAL';
 
 export interface BridgeErrorBody {
   code: BridgeErrorCode;

@@ -3,3 +3,4 @@ export * from './envelope.js';
 export * from './types.js';
 export * from './validate.js';
 export * from './client.js';
+export * from './csp.js';

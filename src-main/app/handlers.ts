@@ -1,0 +1,56 @@
+/**
+ * The bridge calls implemented on the app's services. One function per entry of the call
+ * table (shared/bridge/calls.ts); the `Handlers` type makes a missing one a compile error.
+ */
+import { CAUTION } from '../../shared/results.js';
+import { DeflatorError } from '../../shared/errors.js';
+import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
+import type { Handlers } from './dispatch.js';
+import type { Engine, FilePolicy, Importer, ProjectData } from './ports.js';
+import type { TaskRegistry } from './tasks.js';
+
+export interface AppServices {
+  version: string;
+  /** The open project; a getter, because the Electron shell can open another database. */
+  project: () => ProjectData;
+  importer: () => Importer;
+  engine: Engine;
+  files: FilePolicy;
+  tasks: TaskRegistry;
+}
+
+export function createHandlers(s: AppServices): Handlers {
+  return {
+    info: async () => {
+      const p = s.project();
+      const c = p.coverage();
+      return {
+        version: s.version,
+        database: p.databaseName,
+        caution: CAUTION,
+        counts: { assets: c.assets.length, series: c.series.length, portfolios: c.portfolios.length },
+      };
+    },
+    coverage: async () => s.project().coverage(),
+    history: async (req) => s.project().history(req.asset, req.frequency),
+    importFile: async (req, ctx) => {
+      const file = 'path' in req.source ? s.files.check(req.source.path) : s.files.storeUpload(req.source.name, req.source.text);
+      const report = await s.importer().importFile(file, req.kind, req.options ?? {}, ctx);
+      return 'name' in req.source ? { ...report, file: req.source.name } : report;
+    },
+    checkSpec: async (req) => {
+      if (isCompareSpec(req.spec)) return { kind: 'compare', spec: parseCompareSpec(req.spec).spec };
+      return { kind: 'fit', spec: parseFitSpec(req.spec) };
+    },
+    fit: async (req, ctx) => s.engine.fit(parseFitSpec(req.spec), ctx),
+    backtest: async (req, ctx) => {
+      const spec = parseFitSpec(req.spec);
+      if (!spec.backtest) {
+        throw new DeflatorError('SPEC_INVALID', 'spec.backtest: a back-test needs "backtest": {"window": W, ...}', 'set the window length (periods) in the model set-up');
+      }
+      return s.engine.backtest(spec, ctx);
+    },
+    compare: async (req, ctx) => s.engine.compare(parseCompareSpec(req.spec).spec, ctx),
+    cancel: async (req) => ({ cancelled: s.tasks.cancel(req.taskId) }),
+  };
+}
