@@ -1,0 +1,103 @@
+import { execFileSync, spawnSync } from 'node:child_process';
+import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { describe, expect, it } from 'vitest';
+import type { AnyResult } from '../../../shared/results.js';
+import { latexEscape, resultToLatex } from '../../../shared/report/latex.js';
+import { sampleBacktest, sampleCompare, sampleFit, sampleRecord } from './sample-results.js';
+
+/**
+ * A small independent reader of LaTeX structure: strips comments (unescaped %), then
+ * checks that braces balance (escaped \{ \} excluded) and that every \begin{env} is
+ * closed by the matching \end{env} in order.
+ */
+function checkStructure(tex: string): { envs: string[]; problems: string[] } {
+  const problems: string[] = [];
+  const envs: string[] = [];
+  const body = tex
+    .split('\n')
+    .map((l) => l.replace(/(^|[^\\])%.*$/, '$1'))
+    .join('\n');
+  let depth = 0;
+  for (let i = 0; i < body.length; i++) {
+    const c = body[i];
+    if (c === '\\') {
+      i++; // skip the escaped character (\{, \}, \\, \%)
+      continue;
+    }
+    if (c === '{') depth++;
+    if (c === '}') depth--;
+    if (depth < 0) problems.push(`unmatched } at offset ${i}`);
+  }
+  if (depth !== 0) problems.push(`brace depth ${depth} at end`);
+  const stack: string[] = [];
+  for (const m of body.matchAll(/\\(begin|end)\{([^}]+)\}/g)) {
+    if (m[1] === 'begin') {
+      stack.push(m[2]);
+      envs.push(m[2]);
+    } else if (stack.pop() !== m[2]) problems.push(`\\end{${m[2]}} closes the wrong environment`);
+  }
+  if (stack.length) problems.push(`unclosed: ${stack.join(', ')}`);
+  // math-mode dollars pair up (escaped \$ excluded)
+  const dollars = (body.replace(/\\\$/g, '').match(/\$/g) ?? []).length;
+  if (dollars % 2) problems.push('odd number of $');
+  return { envs, problems };
+}
+
+const kinds: [string, () => AnyResult][] = [
+  ['fit', () => sampleFit()],
+  ['backtest', () => sampleBacktest()],
+  ['compare', () => sampleCompare()],
+];
+
+describe('LaTeX export', () => {
+  it.each(kinds)('%s: balanced braces, dollars and environments; booktabs rules; rounding note', (_k, make) => {
+    const tex = resultToLatex(make(), sampleRecord());
+    const { envs, problems } = checkStructure(tex);
+    expect(problems).toEqual([]);
+    expect(envs.filter((e) => e === 'table').length).toBeGreaterThanOrEqual(2);
+    expect(tex).toMatch(/\\toprule[\s\S]*\\midrule[\s\S]*\\bottomrule/);
+    expect(tex).not.toMatch(/\\hline/);
+    expect(tex).toMatch(/rounded to \d decimals/);
+    expect(tex).not.toMatch(/NaN|Infinity|undefined/);
+  });
+
+  it('fit: estimates rounded to 4 decimals with s.e. in parentheses beneath, alphas in percent with t', () => {
+    const r = sampleFit();
+    const tex = resultToLatex(r, sampleRecord());
+    const p = r.params[1];
+    const shown = (x: number, d: number) => (x < 0 ? `$-$${(-x).toFixed(d)}` : x.toFixed(d));
+    const est = new RegExp(`${latexEscape(p.name).replace(/[.\\]/g, '\\$&')} & ${shown(p.estimate, 4).replace(/\$/g, '\\$')}`);
+    expect(tex).toMatch(est);
+    expect(tex).toContain(` & (${shown(p.se, 4)}) & & \\\\`);
+    // A value below the last displayed decimal is shown in scientific notation, not as 0.0000.
+    expect(tex).toContain('$1.23\\times 10^{-7}$');
+    const e = r.pricingErrors[0];
+    expect(tex).toContain(`${latexEscape(e.asset)} & ${shown(100 * e.alpha, 3)} & ${shown(e.t, 2)} &`);
+    // Names are escaped: & _ " # % { } ~ never appear raw inside a cell.
+    expect(tex).toContain('Birch \\& Pine\\_2');
+    expect(tex).toContain('Dune, Ltd \\#4');
+    expect(tex).toContain('Elm 50\\% \\{x\\}');
+    expect(tex).toContain('Fir\\textasciitilde{}Co');
+  });
+
+  // Compiler check: Debian's texlive (pdflatex) when installed; skipped with the reason otherwise.
+  it('compiles with pdflatex where texlive is present', () => {
+    const which = spawnSync('sh', ['-c', 'command -v pdflatex'], { encoding: 'utf8' });
+    const pdflatex = which.stdout.trim();
+    if (which.status !== 0 || !pdflatex) {
+      console.log('pdflatex check skipped: pdflatex not on PATH (Debian: apt-get install texlive-latex-recommended)');
+      return;
+    }
+    const dir = mkdtempSync(path.join(tmpdir(), 'deflator-tex-'));
+    for (const [k, make] of kinds) {
+      writeFileSync(path.join(dir, `${k}.tex`), resultToLatex(make(), sampleRecord()));
+      const doc = `\\documentclass{article}\n\\usepackage[T1]{fontenc}\n\\usepackage{booktabs}\n\\begin{document}\n\\input{${k}.tex}\n\\end{document}\n`;
+      writeFileSync(path.join(dir, `doc-${k}.tex`), doc);
+      execFileSync(pdflatex, ['-interaction=nonstopmode', '-halt-on-error', `doc-${k}.tex`], { cwd: dir, stdio: 'pipe' });
+      expect(existsSync(path.join(dir, `doc-${k}.pdf`))).toBe(true);
+      expect(readFileSync(path.join(dir, `doc-${k}.log`), 'utf8')).not.toMatch(/^! /m);
+    }
+  });
+});
