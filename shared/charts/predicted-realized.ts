@@ -1,0 +1,57 @@
+/**
+ * Predicted against realised mean returns per test asset, with the 45-degree line: a
+ * model that prices the cross-section puts every point on the line (the vertical
+ * distance is the pricing error).
+ */
+import type { FitResult } from '../results.js';
+import { baseOption, num, valueAxis } from './common.js';
+import { PALETTE } from './palette.js';
+import type { ChartOption } from './types.js';
+
+export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean } = {}): ChartOption {
+  const annual = opts.annual ?? true;
+  const k = (annual ? fit.sample.periodsPerYear : 1) * 100;
+  const pts = fit.pricingErrors.map((r) => ({ name: r.asset, value: [r.predicted * k, r.meanReturn * k] }));
+  const all = pts.flatMap((p) => p.value).filter(Number.isFinite);
+  let lo = all.length ? Math.min(...all, 0) : 0;
+  let hi = all.length ? Math.max(...all, 0) : 1;
+  const pad = (hi - lo) * 0.08 || 1;
+  lo -= pad;
+  hi += pad;
+  const unit = annual ? '% a year' : '% per period';
+  const labels = pts.length <= 30;
+  return {
+    id: 'predicted-realized',
+    ...baseOption(),
+    grid: { left: 64, right: 24, top: 20, bottom: 52 },
+    tooltip: {
+      ...(baseOption().tooltip as Record<string, unknown>),
+      trigger: 'item',
+      formatter: (p: { name?: string; value?: number[]; seriesName?: string }) =>
+        p.seriesName === '45°' || !p.value ? '' : `<b>${p.name ?? ''}</b><br/>predicted ${num(p.value[0], 2)}<br/>realised ${num(p.value[1], 2)} ${unit}`,
+    },
+    xAxis: valueAxis(`predicted mean ${fit.sample.returns} return, ${unit}`, { min: lo, max: hi, nameGap: 30, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
+    yAxis: valueAxis(`realised mean, ${unit}`, { min: lo, max: hi, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
+    series: [
+      {
+        type: 'line',
+        name: '45°',
+        data: [
+          [lo, lo],
+          [hi, hi],
+        ],
+        showSymbol: false,
+        silent: true,
+        lineStyle: { color: PALETTE.faint, type: 'dashed', width: 1 },
+      },
+      {
+        type: 'scatter',
+        name: 'test assets',
+        data: pts,
+        symbolSize: pts.length > 50 ? 5 : 8,
+        itemStyle: { color: PALETTE.primary, opacity: 0.85 },
+        label: { show: labels, position: 'right', formatter: '{b}', fontSize: 9, color: PALETTE.muted },
+      },
+    ],
+  };
+}
