@@ -1,0 +1,281 @@
+/**
+ * The estimation input: a balanced panel of test-asset returns with the factor,
+ * risk-free and consumption series on the same periods (shared/panel.ts).
+ *
+ * Test assets are price histories (returns from prices and dividends) or ready-made
+ * return series (built portfolios) at the spec's frequency. The window is the spec's
+ * start..end (inclusive, compared with the period labels) or, where a side is not
+ * given, the common sample of the assets on that side; it never reaches outside the
+ * span of the required series. Assets with a missing period inside the window are
+ * dropped and noted. docs/methods.md ("Returns") states the rules.
+ */
+import type { Frequency, NamedSeries, PriceHistory, ReturnSeries, SeriesKind } from '../data.js';
+import { DeflatorError } from '../errors.js';
+import type { ReturnsPanel, SampleNote } from '../panel.js';
+import type { FitSpec } from '../spec.js';
+import { frequencyRank, parseAscending, periodCalendar, parseDate, type PeriodCalendar } from './periods.js';
+import { historyPeriods } from './prices.js';
+import { consumptionPeriods, factorPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
+import { assetLastDates, periodLabels } from './table.js';
+import { commonWindow } from './window.js';
+
+export interface BuildPanelInput {
+  histories: PriceHistory[];
+  series: NamedSeries[];
+  portfolios?: ReturnSeries[];
+  spec: FitSpec;
+}
+
+interface TestAsset {
+  name: string;
+  gross: Map<number, number>;
+  lastDates: Map<number, string>;
+  cutShort?: { index: number; note: string };
+  unusable?: string;
+}
+
+function listNames(names: string[]): string {
+  if (names.length === 0) return '(none)';
+  const shown = names.slice(0, 30).join(', ');
+  return names.length > 30 ? `${shown}, ... (${names.length} in all)` : shown;
+}
+
+function findSeries(series: readonly NamedSeries[], name: string, kinds: readonly SeriesKind[], role: string, key: string): NamedSeries {
+  const hit = series.find((s) => s.name === name && kinds.includes(s.kind));
+  if (hit) return hit;
+  const available = series.filter((s) => kinds.includes(s.kind)).map((s) => s.name);
+  const other = series.find((s) => s.name === name);
+  throw new DeflatorError(
+    'DATA_MISSING',
+    `${role} series "${name}" (${key}) not found${other ? ` (a series of that name exists, but of kind "${other.kind}")` : ''}; available ${kinds.join('/')} series: ${listNames(available)}`,
+    `import the series, or correct ${key} to one of the names listed`,
+  );
+}
+
+function portfolioAsset(p: ReturnSeries, cal: PeriodCalendar, frequency: Frequency): TestAsset {
+  if (p.frequency !== frequency) {
+    throw new DeflatorError('INPUT_INVALID', `portfolio "${p.name}" holds ${p.frequency} returns, but the spec asks for ${frequency}`, `rebuild the portfolio at ${frequency} frequency, or set "frequency":"${p.frequency}"`);
+  }
+  if (p.net.length !== p.periods.length) {
+    throw new DeflatorError('INPUT_INVALID', `portfolio "${p.name}": ${p.periods.length} periods but ${p.net.length} returns`, 'rebuild the portfolio');
+  }
+  const dates = parseAscending(p.periods, `portfolio "${p.name}"`);
+  const gross = new Map<number, number>();
+  const lastDates = new Map<number, string>();
+  for (let i = 0; i < dates.length; i++) {
+    const k = cal.indexOf(dates[i]);
+    if (k === null) continue;
+    if (lastDates.has(k)) {
+      throw new DeflatorError('INPUT_INVALID', `portfolio "${p.name}": ${lastDates.get(k)} and ${p.periods[i]} fall in the same ${frequency} period`, 'rebuild the portfolio at this frequency');
+    }
+    lastDates.set(k, p.periods[i]);
+    const r = p.net[i];
+    if (Number.isNaN(r)) continue;
+    if (!Number.isFinite(r) || r <= -1) throw new DeflatorError('INPUT_INVALID', `portfolio "${p.name}", ${p.periods[i]}: net return ${r} is not above -1`, 'rebuild the portfolio');
+    gross.set(k, 1 + r);
+  }
+  return { name: p.name, gross, lastDates, ...(gross.size === 0 ? { unusable: 'no returns' } : {}) };
+}
+
+/** Builds the balanced panel a fit, back-test or comparison estimates on. */
+export function buildPanel(input: BuildPanelInput): ReturnsPanel {
+  const { spec } = input;
+  const frequency = spec.frequency;
+  const portfolios = input.portfolios ?? [];
+
+  // Which test assets.
+  let chosenH: PriceHistory[];
+  let chosenP: ReturnSeries[];
+  if (spec.assets === 'all') {
+    chosenH = input.histories;
+    chosenP = [];
+    if (chosenH.length === 0) throw new DeflatorError('DATA_MISSING', 'spec.assets is "all", but there are no price histories', 'import price histories, or list portfolio names in spec.assets');
+  } else {
+    chosenH = [];
+    chosenP = [];
+    const seen = new Set<string>();
+    for (const name of spec.assets) {
+      if (seen.has(name)) throw new DeflatorError('SPEC_INVALID', `spec.assets names "${name}" twice`, 'list each test asset once');
+      seen.add(name);
+      const h = input.histories.find((x) => x.asset === name);
+      const p = portfolios.find((x) => x.name === name);
+      if (h && p) throw new DeflatorError('CONFLICT', `spec.assets: "${name}" names both a price history and a portfolio`, 'rename the portfolio so that each test asset name is unique');
+      if (h) chosenH.push(h);
+      else if (p) chosenP.push(p);
+      else {
+        throw new DeflatorError(
+          'DATA_MISSING',
+          `test asset "${name}" (spec.assets) not found; available assets: ${listNames(input.histories.map((x) => x.asset))}; portfolios: ${listNames(portfolios.map((x) => x.name))}`,
+          'import it, or correct spec.assets to names listed',
+        );
+      }
+    }
+  }
+  const dupe = chosenH.find((h, i) => chosenH.findIndex((x) => x.asset === h.asset) !== i);
+  if (dupe) throw new DeflatorError('INPUT_INVALID', `price history "${dupe.asset}" is given twice`, 'pass each asset once');
+
+  // Periods.
+  let cal: PeriodCalendar;
+  if (frequency === 'daily') {
+    const days: number[] = [];
+    for (const h of chosenH) for (const d of h.dates) days.push(parseDate(d, `price history "${h.asset}"`).day);
+    for (const p of chosenP) for (const d of p.periods) days.push(parseDate(d, `portfolio "${p.name}"`).day);
+    cal = periodCalendar('daily', days);
+  } else cal = periodCalendar(frequency);
+
+  const assets: TestAsset[] = [];
+  for (const h of chosenH) {
+    const a = historyPeriods(h, cal);
+    assets.push({
+      name: h.asset,
+      gross: a.gross,
+      lastDates: assetLastDates(a),
+      ...(a.unusable ? { unusable: a.unusable } : {}),
+      ...(a.cutShort ? { cutShort: { index: a.cutShort.index, note: `last ${frequency} period cut short by the end of the data: ${a.cutShort.from ? `from ${a.cutShort.from} ` : ''}to ${a.cutShort.to}` } } : {}),
+    });
+  }
+  for (const p of chosenP) assets.push(portfolioAsset(p, cal, frequency));
+  const labels = periodLabels(assets.map((a) => a.lastDates));
+  const describe = (k: number): string => labels.get(k) ?? cal.keyOf(k);
+
+  // Series the spec needs.
+  const notes: SampleNote[] = [];
+  const required: { role: string; series: PeriodSeries }[] = [];
+  const noValues = (s: PeriodSeries, role: string): DeflatorError =>
+    new DeflatorError('DATA_MISSING', `${role} series "${s.name}" has no value at ${frequency} frequency`, `check its dates, or choose a frequency the series supports`);
+  let rf: PeriodSeries | undefined;
+  if (spec.riskfree) {
+    const s = findSeries(input.series, spec.riskfree, ['riskfree'], 'risk-free', 'spec.riskfree');
+    rf = riskfreePeriods(s, cal, 'periods');
+    if (rf.values.size === 0) throw noValues(rf, 'risk-free');
+    if (s.rfForm === undefined) notes.push({ subject: s.name, reason: 'the series does not say how it is quoted; read as a per-period rate, R^f_t = 1 + rf_t' });
+    required.push({ role: 'risk-free', series: rf });
+  }
+  const factors: PeriodSeries[] = [];
+  for (const name of spec.model.factors) {
+    const s = findSeries(input.series, name, ['factor', 'other'], 'factor', 'spec.model.factors');
+    const f = factorPeriods(s, cal);
+    if (f.values.size === 0) throw noValues(f, 'factor');
+    if (frequencyRank(f.stored) < frequencyRank(frequency)) {
+      notes.push({ subject: name, reason: `stored at ${f.stored} frequency: compounded to ${frequency} as prod(1 + f) - 1 (exact for a traded return, an approximation for an excess return)` });
+    }
+    factors.push(f);
+    required.push({ role: 'factor', series: f });
+  }
+  let consumption: PeriodSeries | undefined;
+  if (spec.model.consumption) {
+    const s = findSeries(input.series, spec.model.consumption, ['consumption'], 'consumption', 'spec.model.consumption');
+    consumption = consumptionPeriods(s, cal);
+    if (consumption.values.size === 0) throw noValues(consumption, 'consumption');
+    if (frequencyRank(consumption.stored) < frequencyRank(frequency)) notes.push({ subject: s.name, reason: `stored at ${consumption.stored} frequency: growth from the last level in each ${frequency} period` });
+    required.push({ role: 'consumption', series: consumption });
+  }
+
+  // Window bounds from spec.start / spec.end, on the labels of periods with any asset return.
+  const usable = assets.filter((a) => !a.unusable);
+  for (const a of assets) if (a.unusable) notes.push({ subject: a.name, reason: `dropped: ${a.unusable}` });
+  const withReturns = new Set<number>();
+  for (const a of usable) for (const k of a.gross.keys()) withReturns.add(k);
+  const order = [...withReturns].sort((x, y) => x - y);
+  const windowText = `${spec.start ?? 'the first period'}..${spec.end ?? 'the last period'}`;
+  const bounds: { lo?: number; hi?: number } = {};
+  if (spec.start !== undefined) {
+    const k = order.find((i) => describe(i) >= (spec.start as string));
+    if (k === undefined) throw new DeflatorError('SAMPLE_TOO_SHORT', `no ${frequency} period with asset returns on or after spec.start ${spec.start}`, 'choose an earlier start');
+    bounds.lo = k;
+  }
+  if (spec.end !== undefined) {
+    const k = [...order].reverse().find((i) => describe(i) <= (spec.end as string));
+    if (k === undefined) throw new DeflatorError('SAMPLE_TOO_SHORT', `no ${frequency} period with asset returns on or before spec.end ${spec.end}`, 'choose a later end');
+    bounds.hi = k;
+  }
+
+  const w = commonWindow(
+    usable.map((a) => ({ name: a.name, values: a.gross })),
+    required.map((r) => r.series.values),
+    bounds,
+    describe,
+  );
+  for (const d of w.dropped) notes.push({ subject: d.asset, reason: `dropped: ${d.reason}` });
+  if (usable.length === 0) {
+    throw new DeflatorError(
+      'DATA_MISSING',
+      `no test asset has ${frequency} returns: ${assets.map((a) => `${a.name}: ${a.unusable ?? ''}`).join('; ')}`,
+      'choose a frequency the data support, or import the missing prices',
+    );
+  }
+  if (w.kept.length === 0 && w.dropped.length > 0) {
+    throw new DeflatorError(
+      'DATA_MISSING',
+      `no test asset has a return in every period of the window ${windowText}: ${w.dropped.map((d) => `${d.asset}: ${d.reason}`).join('; ')}`,
+      'narrow spec.start/spec.end to periods the assets cover, or fill the missing prices',
+    );
+  }
+  const T = w.hi - w.lo + 1;
+  if (!(T >= 2) || w.kept.length === 0) {
+    throw new DeflatorError(
+      'SAMPLE_TOO_SHORT',
+      `the window ${windowText}${T >= 1 ? ` (${describe(w.lo)}..${describe(w.hi)})` : ''} at ${frequency} frequency holds ${Math.max(0, T)} period(s) where the assets and the series ${required.map((r) => `"${r.series.name}"`).join(', ') || '(none)'} all have values; at least 2 are needed`,
+      'widen spec.start/spec.end, choose another frequency, or check the dates of the series',
+    );
+  }
+  for (const r of required) {
+    for (let k = w.lo; k <= w.hi; k++) {
+      if (!r.series.values.has(k)) {
+        throw new DeflatorError(
+          'DATA_MISSING',
+          `${r.role} series "${r.series.name}" has no value for the ${frequency} period ${describe(k)}, inside the window ${describe(w.lo)}..${describe(w.hi)}`,
+          'fill the series for that period, or set spec.start/spec.end to a window that avoids it',
+        );
+      }
+    }
+  }
+
+  // Assemble.
+  const periods: string[] = [];
+  for (let k = w.lo; k <= w.hi; k++) periods.push(describe(k));
+  const series = (m: Map<number, number>): Float64Array => {
+    const out = new Float64Array(T);
+    for (let k = w.lo; k <= w.hi; k++) out[k - w.lo] = m.get(k) as number;
+    return out;
+  };
+  const rfGross = rf ? series(rf.values) : undefined;
+  const kept = w.kept.map((name) => usable.find((a) => a.name === name) as TestAsset);
+  const assetNames: string[] = [];
+  const returns: Float64Array[] = [];
+  for (const a of kept) {
+    const g = series(a.gross);
+    if (spec.returns === 'excess') {
+      if (!rfGross) throw new DeflatorError('SPEC_INVALID', 'spec.riskfree: excess returns need a risk-free series name', 'set "riskfree" to the name of a risk-free series');
+      for (let t = 0; t < T; t++) g[t] -= rfGross[t];
+    }
+    assetNames.push(a.name);
+    returns.push(g);
+    if (a.cutShort && a.cutShort.index >= w.lo && a.cutShort.index <= w.hi) notes.push({ subject: a.name, reason: `${describe(a.cutShort.index)}: ${a.cutShort.note}` });
+  }
+  if (spec.includeRiskfree && rf && rfGross) {
+    if (assetNames.includes(rf.name)) throw new DeflatorError('CONFLICT', `spec.includeRiskfree: a test asset is already named "${rf.name}"`, 'rename that asset, or leave includeRiskfree off');
+    assetNames.push(rf.name);
+    returns.push(Float64Array.from(rfGross));
+  }
+  if (rf?.cutShort && rf.cutShort.index >= w.lo && rf.cutShort.index <= w.hi) {
+    notes.push({ subject: rf.name, reason: `${describe(rf.cutShort.index)}: last ${frequency} period cut short, compounded to ${rf.cutShort.to}` });
+  }
+  for (const arr of [...returns, ...(rfGross ? [rfGross] : [])]) {
+    for (const v of arr) if (!Number.isFinite(v)) throw new DeflatorError('INPUT_INVALID', 'a return in the panel is not finite', 'check the prices and series for zeros or extreme values');
+  }
+  notes.push({ subject: '*', reason: `common sample ${periods[0]}..${periods[T - 1]}: T = ${T} ${frequency} periods, N = ${assetNames.length} test assets` });
+
+  const panel: ReturnsPanel = {
+    frequency,
+    periods,
+    assets: assetNames,
+    returnKind: spec.returns,
+    returns,
+    factors: factors.map((f) => ({ name: f.name, values: series(f.values) })),
+    sampleNotes: notes,
+  };
+  if (rfGross) panel.riskfreeGross = rfGross;
+  if (consumption) panel.consumptionGrowth = series(consumption.values);
+  return panel;
+}

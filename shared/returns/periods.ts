@@ -1,0 +1,203 @@
+/**
+ * Calendar periods: which period a date belongs to, how periods follow one another, and
+ * the string key a period is known by. Alignment across assets and series is on the
+ * period (its integer index here), never on the exact date string, so a price history
+ * whose last trading day in January is the 29th and a factor file dated the 31st meet.
+ *
+ * - daily: the periods are the trading dates of the data (the union of the test assets'
+ *   dates); a series observation dated between two trading dates belongs to the next one.
+ * - weekly: ISO 8601 weeks, Monday to Sunday (so a trading week ends on its Friday).
+ * - monthly, quarterly, annual: calendar months, quarters (Jan-Mar, ...), years.
+ *
+ * Keys: daily "2024-03-28", weekly "2024-W13", monthly "2024-03", quarterly "2024-Q1",
+ * annual "2024". docs/methods.md ("Returns") states the rules.
+ */
+import { FREQUENCIES, type Frequency } from '../data.js';
+import { DeflatorError } from '../errors.js';
+
+const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})$/;
+const MS_PER_DAY = 86_400_000;
+
+/** A parsed calendar date. `day` counts days since 1970-01-01 (UTC, proleptic Gregorian). */
+export interface CalendarDate {
+  day: number;
+  year: number;
+  month: number;
+  date: string;
+}
+
+/** Parses an ISO date (YYYY-MM-DD); `where` names the field for the error message. */
+export function parseDate(date: string, where = 'date'): CalendarDate {
+  const m = ISO_DATE.exec(date);
+  if (m) {
+    const year = Number(m[1]);
+    const month = Number(m[2]);
+    const dom = Number(m[3]);
+    const t = Date.UTC(year, month - 1, dom);
+    const back = new Date(t);
+    if (back.getUTCFullYear() === year && back.getUTCMonth() === month - 1 && back.getUTCDate() === dom) {
+      return { day: Math.round(t / MS_PER_DAY), year, month, date };
+    }
+  }
+  throw new DeflatorError('INPUT_INVALID', `${where}: "${date}" is not a calendar date written as YYYY-MM-DD`, 'write dates as YYYY-MM-DD, e.g. 2024-03-28');
+}
+
+/** The ISO date of a day number. */
+export function dateOfDay(day: number): string {
+  return new Date(day * MS_PER_DAY).toISOString().slice(0, 10);
+}
+
+/** 0 = Monday ... 6 = Sunday (1970-01-01 was a Thursday). */
+export function weekday(day: number): number {
+  return (((day + 3) % 7) + 7) % 7;
+}
+
+/** Position of a frequency from the shortest period (daily, 0) to the longest (annual, 4). */
+export function frequencyRank(f: Frequency): number {
+  return FREQUENCIES.indexOf(f);
+}
+
+/** Index of the calendar period (weekly and lower) holding a date; consecutive periods have consecutive indices. */
+export function calendarIndex(d: CalendarDate, f: Exclude<Frequency, 'daily'>): number {
+  switch (f) {
+    case 'weekly': {
+      const monday = d.day - weekday(d.day);
+      return (monday + 3) / 7;
+    }
+    case 'monthly':
+      return d.year * 12 + (d.month - 1);
+    case 'quarterly':
+      return d.year * 4 + Math.floor((d.month - 1) / 3);
+    case 'annual':
+      return d.year;
+  }
+}
+
+function pad2(n: number): string {
+  return n < 10 ? `0${n}` : String(n);
+}
+
+function calendarKey(index: number, f: Exclude<Frequency, 'daily'>): string {
+  switch (f) {
+    case 'weekly': {
+      const thursday = index * 7; // Monday is index * 7 - 3
+      const year = new Date(thursday * MS_PER_DAY).getUTCFullYear();
+      const jan1 = Math.round(Date.UTC(year, 0, 1) / MS_PER_DAY);
+      return `${year}-W${pad2(Math.floor((thursday - jan1) / 7) + 1)}`;
+    }
+    case 'monthly':
+      return `${Math.floor(index / 12)}-${pad2((index % 12) + 1)}`;
+    case 'quarterly':
+      return `${Math.floor(index / 4)}-Q${(index % 4) + 1}`;
+    case 'annual':
+      return String(index);
+  }
+}
+
+/** Last day (day number) of a calendar period, stepped back over a weekend: the last weekday of the period. */
+function lastWeekdayOf(index: number, f: Exclude<Frequency, 'daily'>): number {
+  let last: number;
+  switch (f) {
+    case 'weekly':
+      return index * 7 + 1; // the Friday of that ISO week (Monday + 4)
+    case 'monthly':
+      last = Math.round(Date.UTC(Math.floor(index / 12), (index % 12) + 1, 0) / MS_PER_DAY);
+      break;
+    case 'quarterly':
+      last = Math.round(Date.UTC(Math.floor(index / 4), (index % 4) * 3 + 3, 0) / MS_PER_DAY);
+      break;
+    case 'annual':
+      last = Math.round(Date.UTC(index, 11, 31) / MS_PER_DAY);
+      break;
+  }
+  while (weekday(last) >= 5) last -= 1;
+  return last;
+}
+
+/**
+ * The periods of one frequency. For daily periods the calendar is a list of trading
+ * dates: period i runs from just after trading date i-1 up to and including trading date i.
+ */
+export interface PeriodCalendar {
+  readonly frequency: Frequency;
+  /** Period index of a date; null for a daily calendar when the date is after its last trading date. */
+  indexOf(d: CalendarDate): number | null;
+  /** The period's key (see the file comment). */
+  keyOf(index: number): string;
+  /** Last weekday of a calendar period (weekly and lower); null for daily periods. */
+  lastWeekday(index: number): number | null;
+}
+
+/** A calendar of `frequency`; daily calendars need the trading dates (day numbers, any order, duplicates allowed). */
+export function periodCalendar(frequency: Frequency, tradingDays?: Iterable<number>): PeriodCalendar {
+  if (frequency !== 'daily') {
+    const f = frequency;
+    return {
+      frequency,
+      indexOf: (d) => calendarIndex(d, f),
+      keyOf: (i) => calendarKey(i, f),
+      lastWeekday: (i) => lastWeekdayOf(i, f),
+    };
+  }
+  const days = [...new Set(tradingDays ?? [])].sort((a, b) => a - b);
+  return {
+    frequency,
+    indexOf: (d) => {
+      let lo = 0;
+      let hi = days.length;
+      while (lo < hi) {
+        const mid = (lo + hi) >>> 1;
+        if (days[mid] < d.day) lo = mid + 1;
+        else hi = mid;
+      }
+      return lo < days.length ? lo : null;
+    },
+    keyOf: (i) => (i >= 0 && i < days.length ? dateOfDay(days[i]) : `trading day #${i}`),
+    lastWeekday: () => null,
+  };
+}
+
+/** The key of the period holding `date` at a calendar frequency (daily: the date itself). Use it to align on labels. */
+export function periodKey(date: string, frequency: Frequency): string {
+  const d = parseDate(date);
+  return frequency === 'daily' ? d.date : calendarKey(calendarIndex(d, frequency), frequency);
+}
+
+/**
+ * The frequency a list of dates is stored at: the lowest frequency (longest period) at
+ * which no two dates fall in the same calendar period. Monthly data -> 'monthly', daily
+ * data -> 'daily'. Null when there are fewer than two dates (nothing to tell).
+ */
+export function storedFrequency(dates: readonly CalendarDate[]): Frequency | null {
+  if (dates.length < 2) return null;
+  for (const f of ['annual', 'quarterly', 'monthly', 'weekly'] as const) {
+    let prev = Number.NaN;
+    let clash = false;
+    for (const d of dates) {
+      const i = calendarIndex(d, f);
+      if (i === prev) {
+        clash = true;
+        break;
+      }
+      prev = i;
+    }
+    if (!clash) return f;
+  }
+  return 'daily';
+}
+
+/** Checks that dates are strictly ascending; throws INPUT_INVALID naming the first offending pair. */
+export function parseAscending(dates: readonly string[], where: string): CalendarDate[] {
+  const out: CalendarDate[] = new Array(dates.length);
+  for (let i = 0; i < dates.length; i++) {
+    out[i] = parseDate(dates[i], `${where}, row ${i + 1}`);
+    if (i > 0 && out[i].day <= out[i - 1].day) {
+      throw new DeflatorError(
+        'INPUT_INVALID',
+        `${where}: dates must be strictly ascending, but row ${i + 1} (${dates[i]}) follows ${dates[i - 1]}`,
+        'sort the rows by date and keep one row per date',
+      );
+    }
+  }
+  return out;
+}

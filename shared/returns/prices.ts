@@ -1,0 +1,139 @@
+/**
+ * One asset's price and dividend history -> gross returns per period (METHODS section 1).
+ *
+ * Row returns: with the split/adjustment factor a_t of shared/data.ts (prices and
+ * dividends before t are divided by the product of later factors), the return from
+ * the previous close to the close of t is
+ *   R_t = (P*_t + D*_t) / P*_{t-1} = (P_t + D_t) a_t / P_{t-1},
+ * so a split leaves returns unchanged. A period's gross return is the product of the
+ * row returns inside it: from the last close of the previous period to the last close
+ * of this one. The value index V (1 at the first close, V_t = V_{t-1} R_t) is kept at
+ * each period's last close.
+ */
+import type { Frequency, PriceHistory } from '../data.js';
+import { DeflatorError } from '../errors.js';
+import { frequencyRank, parseAscending, storedFrequency, dateOfDay, type PeriodCalendar } from './periods.js';
+
+export interface AssetPeriods {
+  asset: string;
+  /** The frequency the history is stored at (null: too few rows to tell). */
+  stored: Frequency | null;
+  /** Period index -> value index V at the period's last close (V = 1 at the asset's first close). */
+  close: Map<number, number>;
+  /** Period index -> gross return over the period (only where the previous period has a close). */
+  gross: Map<number, number>;
+  /** Period index -> day number of the last close in the period. */
+  lastDay: Map<number, number>;
+  /** The asset's last period when the data end before that period's last weekday (kept, flagged). */
+  cutShort?: { index: number; from: string | null; to: string };
+  /** Why the asset yields no returns at this frequency, when it yields none. */
+  unusable?: string;
+}
+
+function invalid(asset: string, date: string, what: string): DeflatorError {
+  return new DeflatorError('INPUT_INVALID', `price history "${asset}", ${date}: ${what}`, 'correct that row in the source file and import it again');
+}
+
+/**
+ * Period returns of one history on a calendar. Rows whose price is NaN count as no
+ * observation: their dividend and split factor are carried to the next priced row
+ * (cash held, not reinvested, for those days). A non-positive or infinite price,
+ * a negative dividend or a non-positive split factor is an error naming the row.
+ */
+export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPeriods {
+  const n = h.dates.length;
+  const where = `price history "${h.asset}"`;
+  if (h.price.length !== n || h.dividend.length !== n || (h.adjust && h.adjust.length !== n)) {
+    throw new DeflatorError('INPUT_INVALID', `${where}: ${n} dates but ${h.price.length} prices, ${h.dividend.length} dividends${h.adjust ? `, ${h.adjust.length} split factors` : ''}`, 'give one price, dividend and split factor per date');
+  }
+  const dates = parseAscending(h.dates, where);
+
+  // Row returns over priced rows.
+  const rowDays: number[] = [];
+  const rowDates: typeof dates = [];
+  const rowGross: number[] = []; // NaN for the first priced row
+  let prevPrice = Number.NaN;
+  let factor = 1;
+  let carried = 0;
+  for (let i = 0; i < n; i++) {
+    const p = h.price[i];
+    const rawD = h.dividend[i];
+    const rawA = h.adjust ? h.adjust[i] : 1;
+    const d = Number.isNaN(rawD) ? 0 : rawD;
+    const a = Number.isNaN(rawA) ? 1 : rawA;
+    if (!Number.isFinite(d) || d < 0) throw invalid(h.asset, h.dates[i], `dividend ${rawD} is not a non-negative number`);
+    if (!Number.isFinite(a) || a <= 0) throw invalid(h.asset, h.dates[i], `split factor ${rawA} is not a positive number`);
+    factor *= a;
+    if (Number.isNaN(p)) {
+      carried += d * factor;
+      continue;
+    }
+    if (!Number.isFinite(p) || p <= 0) throw invalid(h.asset, h.dates[i], `price ${p} is not a positive number`);
+    let r = Number.NaN;
+    if (!Number.isNaN(prevPrice)) {
+      r = ((p + d) * factor + carried) / prevPrice;
+      if (!Number.isFinite(r) || r <= 0) throw invalid(h.asset, h.dates[i], `the return from the previous close is ${r}`);
+    }
+    rowDays.push(dates[i].day);
+    rowDates.push(dates[i]);
+    rowGross.push(r);
+    prevPrice = p;
+    factor = 1;
+    carried = 0;
+  }
+
+  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), gross: new Map(), lastDay: new Map() };
+  const f = cal.frequency;
+  if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
+    out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
+    return out;
+  }
+  if (rowDays.length === 0) {
+    out.unusable = 'no priced rows';
+    return out;
+  }
+
+  // Group rows by period (rows are ascending, so are their periods).
+  let value = 1;
+  let k: number | null = null;
+  let product = 1;
+  let prevClosedK: number | null = null;
+  let prevCloseDay: number | null = null;
+  const flush = (): void => {
+    if (k === null) return;
+    out.close.set(k, value);
+    if (prevClosedK !== null && prevClosedK === k - 1) out.gross.set(k, product);
+    prevClosedK = k;
+  };
+  let lastPeriodStartDay: number | null = null;
+  for (let j = 0; j < rowDays.length; j++) {
+    const idx = cal.indexOf(rowDates[j]);
+    if (idx === null) continue;
+    if (idx !== k) {
+      flush();
+      if (k !== null) prevCloseDay = out.lastDay.get(k) ?? null;
+      lastPeriodStartDay = prevCloseDay;
+      k = idx;
+      product = 1;
+    }
+    const r = rowGross[j];
+    if (!Number.isNaN(r)) {
+      value *= r;
+      product *= r;
+    }
+    out.lastDay.set(idx, rowDays[j]);
+  }
+  flush();
+
+  if (out.gross.size === 0) {
+    out.unusable = `no two consecutive ${f} periods with a close, so no ${f} return`;
+  }
+  if (k !== null && out.stored !== null && frequencyRank(out.stored) < frequencyRank(f)) {
+    const lastWeekday = cal.lastWeekday(k);
+    const lastDay = out.lastDay.get(k) as number;
+    if (lastWeekday !== null && lastDay < lastWeekday) {
+      out.cutShort = { index: k, from: out.gross.has(k) && lastPeriodStartDay !== null ? dateOfDay(lastPeriodStartDay) : null, to: dateOfDay(lastDay) };
+    }
+  }
+  return out;
+}
