@@ -1,0 +1,237 @@
+/**
+ * The model set-up form and the spec JSON it stands for: the same spec the CLI reads
+ * (shared/spec.ts), validated on every change, saved and loaded as JSON.
+ */
+import { defineStore } from 'pinia';
+import { DeflatorError } from '../../../shared/errors.js';
+import { FREQUENCIES } from '../../../shared/data.js';
+import type { Frequency } from '../../../shared/data.js';
+import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../../shared/spec.js';
+import type { FitSpec, FitSpecInput, CompareSpec } from '../../../shared/spec.js';
+import { fieldsOf } from '../lib/errors.js';
+
+export type ModelKind = 'linear' | 'linear-raw' | 'linear-gross' | 'consumption';
+export type Method = 'gmm' | 'time-series' | 'two-pass';
+export type Stage = 'first' | 'second' | 'iterated' | 'cue';
+
+export interface CompareEntry {
+  label: string;
+  model: FitSpec['model'];
+  estimator: FitSpec['estimator'];
+}
+
+function defaults() {
+  return {
+    label: '',
+    frequency: 'monthly' as Frequency,
+    start: '',
+    end: '',
+    assetsMode: 'list' as 'all' | 'list',
+    assets: [] as string[],
+    returns: 'excess' as 'excess' | 'gross',
+    riskfree: '',
+    includeRiskfree: false,
+    kind: 'linear' as ModelKind,
+    factors: [] as string[],
+    consumption: '',
+    delta: null as number | null,
+    method: 'gmm' as Method,
+    stage: 'second' as Stage,
+    weight: 'identity' as 'identity' | 'hj',
+    lagsAuto: true,
+    lags: 3,
+    centered: true,
+    backtestOn: true,
+    window: 60,
+    step: 1,
+    horizon: 1,
+    expanding: false,
+  };
+}
+
+export type ModelForm = ReturnType<typeof defaults>;
+
+export const useModelStore = defineStore('model', {
+  state: () => ({
+    form: defaults(),
+    compareSet: [] as CompareEntry[],
+    loadError: null as string | null,
+    touched: false,
+  }),
+  getters: {
+    /** The spec JSON for a fit or back-test (a back-test is a fit spec with a "backtest" key). */
+    spec(s): FitSpecInput {
+      const f = s.form;
+      const spec: FitSpecInput = {
+        frequency: f.frequency,
+        assets: f.assetsMode === 'all' ? 'all' : [...f.assets],
+        returns: f.returns,
+        model: { kind: f.kind, factors: f.kind === 'consumption' ? [] : [...f.factors] },
+        estimator: {
+          method: f.method,
+          stage: f.stage,
+          weight: f.weight,
+          lags: f.lagsAuto ? 'auto' : f.lags,
+          centered: f.centered,
+        },
+      };
+      if (f.label.trim()) spec.label = f.label.trim();
+      if (f.start) spec.start = f.start;
+      if (f.end) spec.end = f.end;
+      if (f.riskfree) spec.riskfree = f.riskfree;
+      if (f.includeRiskfree) spec.includeRiskfree = true;
+      if (f.kind === 'consumption' && f.consumption) spec.model.consumption = f.consumption;
+      if (f.kind === 'consumption' && f.delta !== null && f.returns === 'excess') spec.model.delta = f.delta;
+      if (f.backtestOn) spec.backtest = { window: f.window, step: f.step, horizon: f.horizon, expanding: f.expanding };
+      return spec;
+    },
+    /** The same spec without the back-test key, for a plain fit. */
+    fitSpec(): FitSpecInput {
+      const { backtest: _bt, ...rest } = this.spec;
+      return rest;
+    },
+    /** Spec key -> problem, from the shared spec validator; empty when the spec is valid. */
+    problems(): Record<string, string> {
+      try {
+        parseFitSpec(JSON.parse(JSON.stringify(this.spec)));
+        return {};
+      } catch (e) {
+        if (e instanceof DeflatorError) {
+          const f = fieldsOf(e.message);
+          return Object.keys(f).length ? f : { spec: e.message };
+        }
+        return { spec: String(e) };
+      }
+    },
+    valid(): boolean {
+      return Object.keys(this.problems).length === 0;
+    },
+    specText(): string {
+      return JSON.stringify(this.spec, null, 2);
+    },
+    /** Comparison spec: the set-up's sample with each saved model. */
+    compareSpec(s): Record<string, unknown> | null {
+      if (s.compareSet.length === 0) return null;
+      const base = this.spec;
+      const out: Record<string, unknown> = {
+        frequency: base.frequency,
+        assets: base.assets,
+        returns: base.returns,
+        compare: s.compareSet.map((e) => ({ label: e.label, model: e.model, estimator: e.estimator })),
+      };
+      if (base.start) out.start = base.start;
+      if (base.end) out.end = base.end;
+      if (base.riskfree) out.riskfree = base.riskfree;
+      if (base.backtest) out.backtest = base.backtest;
+      return out;
+    },
+    label(): string {
+      const f = this.form;
+      if (f.label.trim()) return f.label.trim();
+      return f.kind === 'consumption' ? `consumption(${f.consumption})` : `${f.kind}(${f.factors.join(',')})`;
+    },
+  },
+  actions: {
+    /** First sensible choices from what the project holds (only where the form is still empty). */
+    suggest(names: { testAssets: string[]; portfolios: string[]; factors: string[]; riskfree: string[]; consumption: string[] }): void {
+      const f = this.form;
+      if (this.touched) return;
+      if (f.assets.length === 0) f.assets = names.portfolios.length ? [...names.portfolios] : [...names.testAssets];
+      if (!f.riskfree && names.riskfree.length) f.riskfree = names.riskfree[0];
+      if (f.factors.length === 0 && names.factors.length) f.factors = [names.factors[0]];
+      if (!f.consumption && names.consumption.length) f.consumption = names.consumption[0];
+    },
+    setKind(kind: ModelKind): void {
+      const f = this.form;
+      f.kind = kind;
+      if (kind === 'linear-gross') f.returns = 'gross';
+      if (kind === 'linear' || kind === 'linear-raw') f.returns = 'excess';
+      if (kind !== 'linear') f.method = 'gmm';
+      if (kind !== 'consumption') f.delta = null;
+      this.touched = true;
+    },
+    toggle(list: 'assets' | 'factors', name: string): void {
+      const arr = this.form[list];
+      const i = arr.indexOf(name);
+      if (i >= 0) arr.splice(i, 1);
+      else arr.push(name);
+      this.touched = true;
+    },
+    addToComparison(): void {
+      const spec = parseFitSpec(JSON.parse(JSON.stringify(this.spec)));
+      const label = this.label;
+      const entry: CompareEntry = { label, model: spec.model, estimator: spec.estimator };
+      const i = this.compareSet.findIndex((e) => e.label === label);
+      if (i >= 0) this.compareSet.splice(i, 1, entry);
+      else this.compareSet.push(entry);
+    },
+    removeFromComparison(label: string): void {
+      this.compareSet = this.compareSet.filter((e) => e.label !== label);
+    },
+    /** Fills the form from spec JSON (a fit spec, or a comparison whose models join the comparison set). */
+    loadSpecText(text: string): boolean {
+      this.loadError = null;
+      let raw: unknown;
+      try {
+        raw = JSON.parse(text);
+      } catch (e) {
+        this.loadError = `not JSON: ${e instanceof Error ? e.message : String(e)}`;
+        return false;
+      }
+      try {
+        if (isCompareSpec(raw)) {
+          const { spec, fits } = parseCompareSpec(raw);
+          this.applySample(spec);
+          this.applyModel(fits[0]);
+          this.compareSet = fits.map((fs) => ({ label: fs.label ?? '', model: fs.model, estimator: fs.estimator }));
+        } else {
+          const spec = parseFitSpec(raw);
+          this.applySample(spec);
+          this.applyModel(spec);
+        }
+        this.touched = true;
+        return true;
+      } catch (e) {
+        this.loadError = e instanceof Error ? e.message : String(e);
+        return false;
+      }
+    },
+    applySample(spec: FitSpec | CompareSpec): void {
+      const f = this.form;
+      if (!FREQUENCIES.includes(spec.frequency)) return;
+      f.frequency = spec.frequency;
+      f.start = spec.start ?? '';
+      f.end = spec.end ?? '';
+      f.assetsMode = spec.assets === 'all' ? 'all' : 'list';
+      if (spec.assets !== 'all') f.assets = [...spec.assets];
+      f.returns = spec.returns;
+      f.riskfree = spec.riskfree ?? '';
+      f.includeRiskfree = spec.includeRiskfree;
+      if (spec.backtest) {
+        f.backtestOn = true;
+        f.window = spec.backtest.window;
+        f.step = spec.backtest.step;
+        f.horizon = spec.backtest.horizon;
+        f.expanding = spec.backtest.expanding;
+      }
+    },
+    applyModel(spec: FitSpec): void {
+      const f = this.form;
+      f.label = spec.label ?? '';
+      f.kind = spec.model.kind;
+      f.factors = [...spec.model.factors];
+      f.consumption = spec.model.consumption ?? f.consumption;
+      f.delta = spec.model.delta ?? null;
+      f.method = spec.estimator.method;
+      f.stage = spec.estimator.stage;
+      f.weight = spec.estimator.weight;
+      f.lagsAuto = spec.estimator.lags === 'auto';
+      if (spec.estimator.lags !== 'auto') f.lags = spec.estimator.lags;
+      f.centered = spec.estimator.centered;
+    },
+    reset(): void {
+      this.form = defaults();
+      this.touched = false;
+    },
+  },
+});

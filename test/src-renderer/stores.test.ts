@@ -1,0 +1,231 @@
+import { beforeEach, describe, expect, it, vi } from 'vitest';
+import { createPinia, setActivePinia } from 'pinia';
+import { BridgeError } from '../../shared/bridge/client.js';
+import type { BridgeClient, CallOptions } from '../../shared/bridge/client.js';
+import { parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
+import { setBridge } from '../../src-renderer/src/bridge/index.js';
+import { useProjectStore } from '../../src-renderer/src/stores/project.js';
+import { useModelStore } from '../../src-renderer/src/stores/model.js';
+import { useFitStore } from '../../src-renderer/src/stores/fit.js';
+import { useBacktestStore } from '../../src-renderer/src/stores/backtest.js';
+import { useCompareStore } from '../../src-renderer/src/stores/compare.js';
+import { tinyFit } from '../src-main/app/fakes.js';
+
+type Mocked = { [K in keyof BridgeClient]: ReturnType<typeof vi.fn> };
+
+function mockClient(overrides: Partial<Record<keyof BridgeClient, (...args: never[]) => unknown>> = {}): Mocked {
+  const coverage = {
+    assets: [{ name: 'A1', kind: 'asset', first: '2001-01-31', last: '2010-12-31', count: 120, gaps: 0 }],
+    series: [
+      { name: 'MKT', kind: 'factor', first: '2001-01-31', last: '2010-12-31', count: 120, gaps: 0 },
+      { name: 'RF', kind: 'riskfree', first: '2001-01-31', last: '2010-12-31', count: 120, gaps: 0 },
+    ],
+    portfolios: [{ name: 'S1', kind: 'portfolio', first: '2001-01-31', last: '2010-12-31', count: 120, gaps: 0 }],
+  };
+  const base: Record<string, (...args: never[]) => unknown> = {
+    info: async () => ({ version: '0', database: 'demo.db', caution: 'c', counts: { assets: 1, series: 2, portfolios: 1 } }),
+    coverage: async () => coverage,
+    history: async () => ({ asset: 'A1', frequency: 'stored', dates: [], price: [], totalReturn: [], dividends: 0 }),
+    importFile: async () => ({ file: 'x.csv', kind: 'prices', rows: 10, names: ['A1'], warnings: [], durationMs: 1 }),
+    checkSpec: async () => ({}),
+    fit: async () => tinyFit(),
+    backtest: async () => ({ kind: 'backtest' }),
+    compare: async () => ({ kind: 'compare' }),
+    cancel: async () => ({ cancelled: true }),
+    onEvent: () => () => undefined,
+    ...overrides,
+  };
+  const m = {} as Mocked;
+  for (const [k, f] of Object.entries(base)) (m as Record<string, unknown>)[k] = vi.fn(f);
+  setBridge(m as unknown as BridgeClient);
+  return m;
+}
+
+beforeEach(() => setActivePinia(createPinia()));
+
+describe('project store', () => {
+  it('loads info and coverage, and derives the name lists the set-up offers', async () => {
+    const m = mockClient();
+    const p = useProjectStore();
+    await p.load();
+    expect(m.info).toHaveBeenCalledTimes(1);
+    expect(p.info?.database).toBe('demo.db');
+    expect(p.factorNames).toEqual(['MKT']);
+    expect(p.riskfreeNames).toEqual(['RF']);
+    expect(p.testAssetNames).toEqual(['S1', 'A1']);
+    expect(p.historyAsset).toBe('A1');
+    expect(p.isEmpty).toBe(false);
+  });
+
+  it('keeps a failing load as a readable error with the hint', async () => {
+    mockClient({ coverage: async () => Promise.reject(new BridgeError('NOT_FOUND', 'database gone', 'open another')) });
+    const p = useProjectStore();
+    await p.load();
+    expect(p.error).toMatchObject({ code: 'NOT_FOUND', message: 'database gone', hint: 'open another' });
+    expect(p.loading).toBe(false);
+  });
+
+  it('imports with progress, logs the report and refreshes coverage', async () => {
+    const m = mockClient({
+      importFile: async (_req: never, opts: CallOptions) => {
+        opts.onProgress?.({ type: 'progress', taskId: 't', done: 1, total: 4 });
+        expect(useProjectStore().importProgress).toBe(0.25);
+        return { file: '/d/p.csv', kind: 'prices', rows: 3, names: ['A1'], warnings: [{ line: 2, message: 'duplicate date' }], durationMs: 2 };
+      },
+    });
+    const p = useProjectStore();
+    const r = await p.importFile({ path: '/d/p.csv' }, 'prices');
+    expect(r?.rows).toBe(3);
+    expect(m.importFile.mock.calls[0][0]).toEqual({ source: { path: '/d/p.csv' }, kind: 'prices' });
+    expect(p.importLog[0]).toMatchObject({ file: 'p.csv', kind: 'prices', report: { warnings: [{ line: 2 }] } });
+    expect(p.importProgress).toBe(1);
+    expect(m.coverage).toHaveBeenCalled();
+    expect(p.importing).toBe(false);
+  });
+
+  it('logs a failed import with its error', async () => {
+    mockClient({ importFile: async () => Promise.reject(new BridgeError('INPUT_INVALID', 'p.csv line 4: price "abc" is not a number', 'fix the cell')) });
+    const p = useProjectStore();
+    expect(await p.importFile({ name: 'p.csv', text: 'x' }, 'prices')).toBeUndefined();
+    expect(p.importError?.message).toContain('line 4');
+    expect(p.importLog[0].error?.hint).toBe('fix the cell');
+  });
+});
+
+describe('model set-up store', () => {
+  it('builds a spec the shared validator accepts, from suggestions', () => {
+    const s = useModelStore();
+    s.suggest({ testAssets: ['A1'], portfolios: ['S1', 'S2'], factors: ['MKT', 'SMB'], riskfree: ['RF'], consumption: [] });
+    expect(s.form.assets).toEqual(['S1', 'S2']);
+    expect(s.valid).toBe(true);
+    const spec = parseFitSpec(s.spec);
+    expect(spec.model).toEqual({ kind: 'linear', factors: ['MKT'] });
+    expect(spec.riskfree).toBe('RF');
+    expect(spec.backtest).toEqual({ window: 60, step: 1, horizon: 1, expanding: false });
+    expect('backtest' in s.fitSpec).toBe(false);
+  });
+
+  it('points problems at the spec key that caused them', () => {
+    const s = useModelStore();
+    s.form.assets = ['S1'];
+    s.form.factors = [];
+    expect(s.valid).toBe(false);
+    expect(Object.keys(s.problems)).toEqual(expect.arrayContaining(['riskfree', 'model.factors']));
+    s.form.riskfree = 'RF';
+    s.form.factors = ['MKT'];
+    s.form.lagsAuto = false;
+    s.form.lags = -1;
+    expect(Object.keys(s.problems)).toEqual(['estimator.lags']);
+  });
+
+  it('keeps returns consistent with the model kind', () => {
+    const s = useModelStore();
+    s.setKind('linear-gross');
+    expect(s.form.returns).toBe('gross');
+    s.setKind('linear');
+    expect(s.form.returns).toBe('excess');
+  });
+
+  it('saves and loads the spec JSON without loss', () => {
+    const s = useModelStore();
+    Object.assign(s.form, { assets: ['S1', 'S2'], riskfree: 'RF', factors: ['MKT', 'SMB'], stage: 'iterated', lagsAuto: false, lags: 4, start: '2002-01-31', label: 'two factor' });
+    const text = s.specText;
+    s.reset();
+    expect(s.form.factors).toEqual([]);
+    expect(s.loadSpecText(text)).toBe(true);
+    expect(s.specText).toBe(text);
+    expect(s.loadSpecText('{"model":')).toBe(false);
+    expect(s.loadError).toMatch(/not JSON/);
+    expect(s.loadSpecText('{"model":{"kind":"linear","factors":["M"]},"colour":1}')).toBe(false);
+    expect(s.loadError).toContain('colour');
+  });
+
+  it('collects models for a comparison spec that the shared validator accepts', () => {
+    const s = useModelStore();
+    Object.assign(s.form, { assets: ['S1', 'S2'], riskfree: 'RF', factors: ['MKT'] });
+    s.addToComparison();
+    s.form.factors = ['MKT', 'SMB'];
+    s.addToComparison();
+    s.addToComparison(); // same label replaces
+    expect(s.compareSet.map((e) => e.label)).toEqual(['linear(MKT)', 'linear(MKT,SMB)']);
+    const { fits } = parseCompareSpec(s.compareSpec);
+    expect(fits.map((f) => f.model.factors)).toEqual([['MKT'], ['MKT', 'SMB']]);
+    s.removeFromComparison('linear(MKT)');
+    expect(s.compareSet.length).toBe(1);
+  });
+});
+
+describe('fit store', () => {
+  it('runs a fit and keeps the result and the time the engine took', async () => {
+    const m = mockClient({ fit: async () => new Promise((r) => setTimeout(() => r(tinyFit('m1')), 20)) });
+    const f = useFitStore();
+    const spec = { riskfree: 'RF', model: { factors: ['MKT'] } };
+    const p = f.run(spec);
+    expect(f.running).toBe(true);
+    await p;
+    expect(m.fit.mock.calls[0][0]).toEqual({ spec });
+    expect(f.result?.label).toBe('m1');
+    expect(f.running).toBe(false);
+    expect(f.engineMs).toBeGreaterThanOrEqual(15);
+  });
+
+  it('keeps engine errors with the fields they name', async () => {
+    mockClient({ fit: async () => Promise.reject(new BridgeError('SINGULAR', 'spec.model.factors: factors MKT and MKT2 are collinear', 'drop one')) });
+    const f = useFitStore();
+    await f.run({ riskfree: 'RF', model: { factors: ['MKT', 'MKT2'] } });
+    expect(f.result).toBeNull();
+    expect(f.error).toMatchObject({ code: 'SINGULAR', hint: 'drop one', fields: { 'model.factors': 'factors MKT and MKT2 are collinear' } });
+  });
+
+  it('toggles the pricing-error sort', () => {
+    const f = useFitStore();
+    f.setSort('alpha');
+    expect([f.sort, f.descending]).toEqual(['alpha', false]);
+    f.setSort('alpha');
+    expect(f.descending).toBe(true);
+  });
+});
+
+describe('back-test store', () => {
+  it('reports progress up to 100%', async () => {
+    const seen: number[] = [];
+    mockClient({
+      backtest: async (_r: never, opts: CallOptions) => {
+        for (let i = 1; i <= 5; i++) {
+          opts.onProgress?.({ type: 'progress', taskId: 't', done: i, total: 5, stage: 'windows' });
+          seen.push(useBacktestStore().fraction);
+        }
+        return { kind: 'backtest', windows: 5 };
+      },
+    });
+    const b = useBacktestStore();
+    await b.run({ riskfree: 'RF', model: { factors: ['MKT'] }, backtest: { window: 24 } });
+    expect(seen).toEqual([0.2, 0.4, 0.6, 0.8, 1]);
+    expect(b.fraction).toBe(1);
+    expect(b.result).toMatchObject({ windows: 5 });
+  });
+
+  it('cancels through the abort signal, without showing an error', async () => {
+    mockClient({
+      backtest: (_r: never, opts: CallOptions) =>
+        new Promise((_, reject) => opts.signal?.addEventListener('abort', () => reject(new BridgeError('CANCELLED', 'cancelled')), { once: true })),
+    });
+    const b = useBacktestStore();
+    const p = b.run({ riskfree: 'RF', model: { factors: ['MKT'] }, backtest: { window: 24 } });
+    b.cancel();
+    await p;
+    expect(b.cancelled).toBe(true);
+    expect(b.error).toBeNull();
+    expect(b.running).toBe(false);
+  });
+});
+
+describe('comparison store', () => {
+  it('sends the comparison spec and keeps the result', async () => {
+    const m = mockClient();
+    const c = useCompareStore();
+    await c.run({ compare: [] });
+    expect(m.compare.mock.calls[0][0]).toEqual({ spec: { compare: [] } });
+    expect(c.result).toMatchObject({ kind: 'compare' });
+  });
+});
