@@ -33,6 +33,29 @@ export interface PricingErrorRow {
   meanReturn: number;
   /** Model-predicted mean return (meanReturn - alpha for excess-return models). */
   predicted: number;
+  /** Time-series regressions: Newey-West (HAC) s.e. of the intercept, with the spec's lags. */
+  seHac?: number;
+  /** Two-pass only: Shanken (1992) corrected s.e. of the average cross-sectional residual. */
+  seShanken?: number;
+}
+
+/** One slope of a time-series regression R^e_i = a_i + beta_i'f + e (time-series and two-pass fits). */
+export interface BetaEstimate {
+  asset: string;
+  factor: string;
+  estimate: number;
+  /** Classical OLS standard error. */
+  se: number;
+  t: number;
+}
+
+/** Per-asset summary of its time-series regression. */
+export interface AssetRegression {
+  asset: string;
+  /** Time-series R^2 (centered). */
+  r2: number;
+  /** Residual standard deviation sqrt(RSS / (T - K - 1)). */
+  residualSd: number;
 }
 
 /** A test statistic: chi-square style (df) or F style (df1, df2). */
@@ -106,6 +129,10 @@ export interface FitResult {
   sdf?: SdfSeries;
   bound?: VolatilityBound;
   convergence?: { iterations: number; converged: boolean; criterion: string };
+  /** Time-series and two-pass fits: the full-sample betas, asset by asset, factor by factor. */
+  betas?: BetaEstimate[];
+  /** Time-series and two-pass fits: per-asset regression R^2 and residual s.d. */
+  assetRegressions?: AssetRegression[];
   /** Statements the report must carry (e.g. how lambda s.e. were computed). */
   notes: string[];
 }
