@@ -145,6 +145,8 @@ export interface BacktestWindow {
   oosEnd: string;
   ok: boolean;
   reason?: string;
+  /** Root mean square across assets of this window's out-of-sample pricing errors. */
+  oosRmse?: number;
 }
 
 export interface BacktestResult {

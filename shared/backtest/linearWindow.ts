@@ -1,0 +1,465 @@
+/**
+ * GMM for the linear discount-factor models on one window, from the window's rolling
+ * cross-moments (crossMoments.ts), following METHODS 2-3 exactly:
+ *
+ * - linear (demeaned), m = 1 - b'(f - mu), moments (R^e m, f - mu). First stage:
+ *   mu = fbar (the factor-mean moments carry an infinite weight) and W = I or the HJ
+ *   weight (E[R R'])^{-1} on the N asset moments, so b = (C'WC)^{-1} C'W Rbar with
+ *   C = cov(R, f) (divide by n). Second stage: W = S^{-1} on all N + K moments with S
+ *   from the first-stage u_t; b and mu jointly minimise g'S^{-1}g (a quadratic in
+ *   g, which is bilinear in (b, mu), solved by Newton's method with the exact Hessian).
+ * - linear-raw, m = 1 - b'f; linear-gross, m = a - b'f with E[m R] = 1: g is linear in
+ *   the parameters, so each stage is a weighted least-squares solve.
+ *
+ * Inference: second stage (1/n)(d'S^{-1}d)^{-1}, S the weighting S. First stage: the
+ * sandwich (1/n)(d'Wd)^{-1} d'WSW d (d'Wd)^{-1}; for the demeaned model its limit as the
+ * weight on the factor-mean moments grows, i.e. (A d)^{-1} A S A' (A d)^{-T} / n with
+ * A = [d_b'W 0; 0 I] (Hansen, 1982, Theorem 3.1). Implied risk premia
+ * lambda = Sigma_f b with s.e. by the delta method, Sigma_f treated as known.
+ */
+import { DeflatorError } from '../errors.js';
+import type { CrossMoments, MomentMap } from './crossMoments.js';
+import { longRunCovarianceFromSums } from './crossMoments.js';
+import { backSolve, cholesky, cholSolveInPlace, forwardSolveInPlace, luSolve, qrThin } from './dense.js';
+
+export type LinearKind = 'linear' | 'linear-raw' | 'linear-gross';
+
+export interface LinearWindowConfig {
+  kind: LinearKind;
+  stage: 'first' | 'second';
+  weight: 'identity' | 'hj';
+  lags: number;
+  centered: boolean;
+  factorNames: string[];
+}
+
+export interface WindowParam {
+  name: string;
+  estimate: number;
+  se: number;
+}
+
+export interface LinearWindowFit {
+  params: WindowParam[];
+  /** In-sample pricing errors g_T (asset moments) at the estimate. */
+  alpha: Float64Array;
+  /** Parameter vectors for the out-of-sample m_t. */
+  b: Float64Array;
+  mu: Float64Array | null;
+  a: number | null;
+  iterations: number;
+}
+
+/** A weighting matrix as the solve it stands for. */
+type Weight = { kind: 'identity' } | { kind: 'chol'; L: Float64Array; n: number };
+
+function applyW(w: Weight, B: Float64Array, m: number): Float64Array {
+  const X = B.slice();
+  if (w.kind === 'chol') cholSolveInPlace(w.L, w.n, X, m);
+  return X;
+}
+
+/** X' Y for X (r x p), Y (r x q) row-major. */
+function atb(X: Float64Array, Y: Float64Array, r: number, p: number, q: number): Float64Array {
+  const out = new Float64Array(p * q);
+  for (let i = 0; i < r; i++) {
+    for (let a = 0; a < p; a++) {
+      const x = X[i * p + a];
+      if (x === 0) continue;
+      for (let b = 0; b < q; b++) out[a * q + b] += x * Y[i * q + b];
+    }
+  }
+  return out;
+}
+
+/** Window means and second moments read off the sums. */
+export interface WindowMoments {
+  n: number;
+  Rbar: Float64Array;
+  fbar: Float64Array;
+  /** E[R f'] (N x K). */
+  ERf: Float64Array;
+  /** E[f f'] (K x K). */
+  Eff: Float64Array;
+}
+
+export function windowMoments(cm: CrossMoments): WindowMoments {
+  const { N, K, Q, D } = cm;
+  const n = cm.n;
+  const sh = cm.shift;
+  const Rbar = new Float64Array(N);
+  const fbar = new Float64Array(K);
+  const ERf = new Float64Array(N * K);
+  const Eff = new Float64Array(K * K);
+  for (let i = 0; i < N; i++) Rbar[i] = sh + cm.m1[i] / n;
+  for (let k = 0; k < K; k++) fbar[k] = cm.m1[(k + 1) * Q + N] / n;
+  for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) ERf[i * K + k] = cm.m1[(k + 1) * Q + i] / n + sh * fbar[k];
+  const M0 = cm.M[0];
+  for (let k = 0; k < K; k++) for (let l = 0; l < K; l++) Eff[k * K + l] = M0[((k + 1) * Q + N) * D + (l + 1) * Q + N] / n;
+  return { n, Rbar, fbar, ERf, Eff };
+}
+
+function hjWeight(cm: CrossMoments): Weight {
+  const { N, D } = cm;
+  const n = cm.n;
+  const sh = cm.shift;
+  const ERR = new Float64Array(N * N);
+  const M0 = cm.M[0];
+  // E[R_i R_j] = E[(y_i + s)(y_j + s)]
+  for (let i = 0; i < N; i++) for (let j = 0; j < N; j++) ERR[i * N + j] = (M0[i * D + j] + sh * (cm.m1[i] + cm.m1[j])) / n + sh * sh;
+  return { kind: 'chol', L: cholesky(ERR, N, 'E[R R\'] (second moments of the test-asset returns, the HJ weight)'), n: N };
+}
+
+function firstStageWeight(cm: CrossMoments, weight: 'identity' | 'hj'): Weight {
+  return weight === 'hj' ? hjWeight(cm) : { kind: 'identity' };
+}
+
+/** L^{-1} B for a Cholesky-factored weight W = (L L')^{-1}; B itself for W = I. */
+function whiten(w: Weight, B: Float64Array, m: number): Float64Array {
+  const X = B.slice();
+  if (w.kind === 'chol') forwardSolveInPlace(w.L, w.n, X, m);
+  return X;
+}
+
+/**
+ * theta = (X'WX)^{-1} X'W y for g = X theta - y (r moments, p parameters), by QR of the
+ * whitened L^{-1}X (never the normal equations, which square the condition number).
+ */
+function weightedLeastSquares(X: Float64Array, y: Float64Array, r: number, p: number, w: Weight, what: string): { theta: Float64Array; Q: Float64Array; R: Float64Array } {
+  const Xw = whiten(w, X, p);
+  const yw = whiten(w, y, 1);
+  const { Q, R } = qrThin(Xw, r, p, what);
+  const qty = atb(Q, yw, r, p, 1);
+  return { theta: backSolve(R, p, qty, 1), Q, R };
+}
+
+/**
+ * Sandwich (1/n)(X'WX)^{-1} X'W S W X (X'WX)^{-1} from the QR of the whitened X:
+ * R^{-1} Q' (L^{-1} S L^{-T}) Q R^{-T} / n.
+ */
+function sandwich(fit: { Q: Float64Array; R: Float64Array }, r: number, p: number, w: Weight, S: Float64Array, n: number): Float64Array {
+  const Y = whiten(w, S, r); // L^{-1} S
+  const Z = whiten(w, transposeRect(Y, r, r), r); // L^{-1} S L^{-T}
+  const ZQ = matMul(Z, fit.Q, r, r, p);
+  const B = atb(fit.Q, ZQ, r, p, p);
+  const X1 = backSolve(fit.R, p, B, p); // R^{-1} B
+  const V = backSolve(fit.R, p, transposeSq(X1, p), p); // R^{-1} B R^{-T}
+  for (let i = 0; i < V.length; i++) V[i] /= n;
+  return V;
+}
+
+/** (R'R)^{-1} / n = R^{-1} R^{-T} / n. */
+function informationInverse(R: Float64Array, p: number, n: number): Float64Array {
+  const Rinv = backSolve(R, p, identityMat(p), p);
+  const V = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) for (let j = 0; j < p; j++) {
+    let s = 0;
+    for (let k = 0; k < p; k++) s += Rinv[i * p + k] * Rinv[j * p + k];
+    V[i * p + j] = s / n;
+  }
+  return V;
+}
+
+function transposeSq(X: Float64Array, p: number): Float64Array {
+  const t = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) for (let j = 0; j < p; j++) t[j * p + i] = X[i * p + j];
+  return t;
+}
+
+function se(V: Float64Array, p: number, i: number, what: string): number {
+  const v = V[i * p + i];
+  if (!(v >= 0) || !Number.isFinite(v)) throw new DeflatorError('NOT_POSITIVE_DEFINITE', `${what}: the parameter covariance has a negative or non-finite variance (${v}) on diagonal ${i + 1}`, 'the window is too short or the factors nearly collinear; use a longer window');
+  return Math.sqrt(v);
+}
+
+function demeanedMap(b: Float64Array, mu: Float64Array): MomentMap {
+  const K = b.length;
+  const beta = new Float64Array(K + 1);
+  let c = 1;
+  for (let k = 0; k < K; k++) c += b[k] * mu[k];
+  beta[0] = c;
+  for (let k = 0; k < K; k++) beta[k + 1] = -b[k];
+  const gamma: Float64Array[] = [];
+  for (let k = 0; k < K; k++) {
+    const g = new Float64Array(K + 1);
+    g[0] = -mu[k];
+    g[k + 1] = 1;
+    gamma.push(g);
+  }
+  return { beta, delta: null, gamma };
+}
+
+function rawMap(b: Float64Array): MomentMap {
+  const K = b.length;
+  const beta = new Float64Array(K + 1);
+  beta[0] = 1;
+  for (let k = 0; k < K; k++) beta[k + 1] = -b[k];
+  return { beta, delta: null, gamma: [] };
+}
+
+function grossMap(a: number, b: Float64Array): MomentMap {
+  const K = b.length;
+  const beta = new Float64Array(K + 1);
+  beta[0] = a;
+  for (let k = 0; k < K; k++) beta[k + 1] = -b[k];
+  const delta = new Float64Array(K + 1);
+  delta[0] = -1;
+  return { beta, delta, gamma: [] };
+}
+
+const S_WHAT = 'S (Newey-West long-run covariance of the moments)';
+
+/** Fits the configured linear model on the window the sums currently hold. */
+export function fitLinearWindow(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit {
+  if (cfg.lags >= cm.n) throw new DeflatorError('SAMPLE_TOO_SHORT', `window of ${cm.n} periods is too short for ${cfg.lags} Newey-West lags`, 'use fewer lags or a longer window');
+  switch (cfg.kind) {
+    case 'linear':
+      return fitDemeaned(cm, cfg);
+    case 'linear-raw':
+      return fitLinearInParams(cm, cfg, false);
+    case 'linear-gross':
+      return fitLinearInParams(cm, cfg, true);
+  }
+}
+
+function fitLinearInParams(cm: CrossMoments, cfg: LinearWindowConfig, gross: boolean): LinearWindowFit {
+  const { N, K } = cm;
+  const wm = windowMoments(cm);
+  const p = gross ? K + 1 : K;
+  // g = X theta - y
+  const X = new Float64Array(N * p);
+  const y = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    if (gross) {
+      X[i * p] = wm.Rbar[i];
+      for (let k = 0; k < K; k++) X[i * p + 1 + k] = -wm.ERf[i * K + k];
+      y[i] = 1;
+    } else {
+      for (let k = 0; k < K; k++) X[i * p + k] = -wm.ERf[i * K + k];
+      y[i] = -wm.Rbar[i];
+    }
+  }
+  const mapOf = (th: Float64Array): MomentMap => (gross ? grossMap(th[0], th.subarray(1)) : rawMap(th));
+  const W1 = firstStageWeight(cm, cfg.weight);
+  const normalWhat = "the first-stage moment Jacobian d (collinear or constant factors?)";
+  const first = weightedLeastSquares(X, y, N, p, W1, normalWhat);
+  let theta = first.theta;
+  const S1 = longRunCovarianceFromSums(cm, mapOf(theta), cfg.lags, cfg.centered);
+  let V: Float64Array;
+  if (cfg.stage === 'first') {
+    V = sandwich(first, N, p, W1, S1, cm.n);
+  } else {
+    const W2: Weight = { kind: 'chol', L: cholesky(S1, N, S_WHAT), n: N };
+    const second = weightedLeastSquares(X, y, N, p, W2, "S^{-1/2} d (the second-stage moment Jacobian)");
+    theta = second.theta;
+    V = informationInverse(second.R, p, cm.n);
+  }
+  const alpha = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    let s = -y[i];
+    for (let c = 0; c < p; c++) s += X[i * p + c] * theta[c];
+    alpha[i] = s;
+  }
+  const params: WindowParam[] = [];
+  if (gross) params.push({ name: 'a', estimate: theta[0], se: se(V, p, 0, 'a') });
+  const off = gross ? 1 : 0;
+  for (let k = 0; k < K; k++) params.push({ name: `b.${cfg.factorNames[k]}`, estimate: theta[off + k], se: se(V, p, off + k, `b.${cfg.factorNames[k]}`) });
+  return { params, alpha, b: theta.slice(off), mu: null, a: gross ? theta[0] : null, iterations: 1 };
+}
+
+function identityMat(p: number): Float64Array {
+  const I = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) I[i * p + i] = 1;
+  return I;
+}
+
+/** g(b, mu) and d = dg/d(b, mu)' for the demeaned model. */
+function demeanedMoments(wm: WindowMoments, b: Float64Array, mu: Float64Array, N: number, K: number): { g: Float64Array; d: Float64Array } {
+  const M = N + K;
+  const p = 2 * K;
+  const g = new Float64Array(M);
+  const d = new Float64Array(M * p);
+  let c = 1;
+  for (let k = 0; k < K; k++) c += b[k] * mu[k];
+  for (let i = 0; i < N; i++) {
+    let s = wm.Rbar[i] * c;
+    for (let k = 0; k < K; k++) {
+      s -= wm.ERf[i * K + k] * b[k];
+      d[i * p + k] = wm.Rbar[i] * mu[k] - wm.ERf[i * K + k];
+      d[i * p + K + k] = wm.Rbar[i] * b[k];
+    }
+    g[i] = s;
+  }
+  for (let k = 0; k < K; k++) {
+    g[N + k] = wm.fbar[k] - mu[k];
+    d[(N + k) * p + K + k] = -1;
+  }
+  return { g, d };
+}
+
+function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit {
+  const { N, K } = cm;
+  const n = cm.n;
+  const wm = windowMoments(cm);
+  // First stage: mu = fbar, b from the N asset moments with W1.
+  const C = new Float64Array(N * K);
+  for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) C[i * K + k] = wm.ERf[i * K + k] - wm.Rbar[i] * wm.fbar[k];
+  const W1 = firstStageWeight(cm, cfg.weight);
+  // g_R = Rbar - C b  ->  X = -C, y = -Rbar
+  const Xneg = new Float64Array(N * K);
+  const yneg = new Float64Array(N);
+  for (let i = 0; i < N * K; i++) Xneg[i] = -C[i];
+  for (let i = 0; i < N; i++) yneg[i] = -wm.Rbar[i];
+  const normalWhat = "C = cov(R, f') (the first-stage moment Jacobian; collinear or constant factors?)";
+  let b: Float64Array = weightedLeastSquares(Xneg, yneg, N, K, W1, normalWhat).theta;
+  let mu: Float64Array = wm.fbar.slice();
+  const M = N + K;
+  const p = 2 * K;
+  const S1 = longRunCovarianceFromSums(cm, demeanedMap(b, mu), cfg.lags, cfg.centered);
+  let V: Float64Array;
+  let iterations = 1;
+  if (cfg.stage === 'first') {
+    const { d } = demeanedMoments(wm, b, mu, N, K);
+    // A = [d_b' W1, 0; 0, I]  (p x M)
+    const db = new Float64Array(N * K);
+    for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) db[i * K + k] = d[i * p + k];
+    const W1db = applyW(W1, db, K); // N x K
+    const A = new Float64Array(p * M);
+    for (let k = 0; k < K; k++) for (let i = 0; i < N; i++) A[k * M + i] = W1db[i * K + k];
+    for (let k = 0; k < K; k++) A[(K + k) * M + N + k] = 1;
+    const Ad = matMul(A, d, p, M, p);
+    const ASAt = matMul(matMul(A, S1, p, M, M), transposeRect(A, p, M), p, M, p);
+    const X1 = luSolve(Ad, p, ASAt, p, normalWhat); // (Ad)^{-1} A S A'
+    const X1t = transposeSq(X1, p);
+    V = luSolve(Ad, p, X1t, p, normalWhat); // (Ad)^{-1} [(Ad)^{-1} A S A']' = (Ad)^{-1} A S A' (Ad)^{-T}
+    for (let i = 0; i < V.length; i++) V[i] /= n;
+  } else {
+    const L = cholesky(S1, M, S_WHAT);
+    const res = newtonDemeaned(wm, L, b, mu, N, K);
+    b = res.b;
+    mu = res.mu;
+    iterations = res.iterations;
+    const { d } = demeanedMoments(wm, b, mu, N, K);
+    const dw = d.slice();
+    forwardSolveInPlace(L, M, dw, p);
+    V = informationInverse(qrThin(dw, M, p, "S^{-1/2} d (the second-stage moment Jacobian)").R, p, n);
+  }
+  const { g } = demeanedMoments(wm, b, mu, N, K);
+  const alpha = g.slice(0, N);
+  // lambda = Sigma_f b, Sigma_f = E[ff'] - fbar fbar'
+  const Sf = new Float64Array(K * K);
+  for (let k = 0; k < K; k++) for (let l = 0; l < K; l++) Sf[k * K + l] = wm.Eff[k * K + l] - wm.fbar[k] * wm.fbar[l];
+  const lambda = new Float64Array(K);
+  for (let k = 0; k < K; k++) for (let l = 0; l < K; l++) lambda[k] += Sf[k * K + l] * b[l];
+  const params: WindowParam[] = [];
+  const names = cfg.factorNames;
+  for (let k = 0; k < K; k++) params.push({ name: `b.${names[k]}`, estimate: b[k], se: se(V, p, k, `b.${names[k]}`) });
+  for (let k = 0; k < K; k++) params.push({ name: `mu.${names[k]}`, estimate: mu[k], se: se(V, p, K + k, `mu.${names[k]}`) });
+  for (let k = 0; k < K; k++) {
+    let v = 0;
+    for (let a = 0; a < K; a++) for (let c = 0; c < K; c++) v += Sf[k * K + a] * V[a * p + c] * Sf[k * K + c];
+    params.push({ name: `lambda.${names[k]}`, estimate: lambda[k], se: Math.sqrt(Math.max(v, 0)) });
+  }
+  return { params, alpha, b, mu, a: null, iterations };
+}
+
+function matMul(A: Float64Array, B: Float64Array, r: number, k: number, c: number): Float64Array {
+  const out = new Float64Array(r * c);
+  for (let i = 0; i < r; i++) for (let l = 0; l < k; l++) {
+    const a = A[i * k + l];
+    if (a === 0) continue;
+    for (let j = 0; j < c; j++) out[i * c + j] += a * B[l * c + j];
+  }
+  return out;
+}
+
+function transposeRect(A: Float64Array, r: number, c: number): Float64Array {
+  const t = new Float64Array(r * c);
+  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) t[j * r + i] = A[i * c + j];
+  return t;
+}
+
+/**
+ * Minimises g(b, mu)' S^{-1} g(b, mu) from the first-stage estimate. Newton steps with
+ * the exact Hessian 2(d'S^{-1}d + rho [0 I; I 0]), rho = Rbar'S^{-1}_{RR.}g; a
+ * Gauss-Newton step with step halving whenever the Newton step does not lower the
+ * objective. Stops when the largest change is below 1e-12 x max(1, |theta|).
+ */
+function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu0: Float64Array, N: number, K: number): { b: Float64Array; mu: Float64Array; iterations: number } {
+  const M = N + K;
+  const p = 2 * K;
+  const b = b0.slice();
+  const mu = mu0.slice();
+  const objective = (bb: Float64Array, mm: Float64Array): number => {
+    const { g } = demeanedMoments(wm, bb, mm, N, K);
+    const y = g.slice();
+    cholSolveInPlace(L, M, y, 1);
+    let q = 0;
+    for (let i = 0; i < M; i++) q += g[i] * y[i];
+    return q;
+  };
+  let q = objective(b, mu);
+  for (let it = 1; it <= 100; it++) {
+    const { g, d } = demeanedMoments(wm, b, mu, N, K);
+    const Y = new Float64Array(M * (p + 1));
+    for (let i = 0; i < M; i++) {
+      for (let c = 0; c < p; c++) Y[i * (p + 1) + c] = d[i * p + c];
+      Y[i * (p + 1) + p] = g[i];
+    }
+    cholSolveInPlace(L, M, Y, p + 1);
+    const GN = new Float64Array(p * p);
+    const grad = new Float64Array(p);
+    let rho = 0;
+    for (let i = 0; i < M; i++) {
+      const yg = Y[i * (p + 1) + p];
+      if (i < N) rho += yg * wm.Rbar[i];
+      for (let a = 0; a < p; a++) {
+        const da = d[i * p + a];
+        grad[a] += da * yg;
+        for (let c = 0; c < p; c++) GN[a * p + c] += da * Y[i * (p + 1) + c];
+      }
+    }
+    const H = GN.slice();
+    for (let k = 0; k < K; k++) {
+      H[k * p + K + k] += rho;
+      H[(K + k) * p + k] += rho;
+    }
+    let step: Float64Array | null = null;
+    try {
+      step = luSolve(H, p, grad, 1, 'the Newton Hessian');
+    } catch {
+      step = null;
+    }
+    const tryStep = (s: Float64Array, t: number): { b: Float64Array; mu: Float64Array; q: number } => {
+      const nb = b.slice();
+      const nm = mu.slice();
+      for (let k = 0; k < K; k++) {
+        nb[k] -= t * s[k];
+        nm[k] -= t * s[K + k];
+      }
+      return { b: nb, mu: nm, q: objective(nb, nm) };
+    };
+    let next = step ? tryStep(step, 1) : null;
+    if (!next || !(next.q <= q * (1 + 1e-12) + 1e-300)) {
+      const gnStep = luSolve(GN, p, grad, 1, "d'S^{-1}d (the second-stage information matrix)");
+      let t = 1;
+      next = tryStep(gnStep, t);
+      while (!(next.q <= q * (1 + 1e-12) + 1e-300) && t > 1e-10) {
+        t /= 2;
+        next = tryStep(gnStep, t);
+      }
+      step = gnStep.map((v) => v * t);
+    }
+    let change = 0;
+    let scale = 1;
+    for (let k = 0; k < K; k++) {
+      change = Math.max(change, Math.abs(next.b[k] - b[k]), Math.abs(next.mu[k] - mu[k]));
+      scale = Math.max(scale, Math.abs(b[k]), Math.abs(mu[k]));
+    }
+    b.set(next.b);
+    mu.set(next.mu);
+    q = next.q;
+    if (change <= 1e-12 * scale) return { b, mu, iterations: it };
+  }
+  throw new DeflatorError('NO_CONVERGENCE', 'second-stage GMM (b and mu jointly) did not converge in 100 Newton iterations', 'the window may be too short for the number of moments; use a longer window or the first stage');
+}

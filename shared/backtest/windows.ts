@@ -1,0 +1,58 @@
+/**
+ * Back-test window schedule (METHODS 6): estimation windows of W periods, rolling
+ * (start moves by s) or expanding (start fixed at the first period, end moves by s),
+ * each followed by h held-out periods. A window is formed only when its whole
+ * held-out span lies inside the sample.
+ */
+import { DeflatorError } from '../errors.js';
+import type { BacktestSpec } from '../spec.js';
+import type { ReturnsPanel } from '../panel.js';
+
+export interface WindowBounds {
+  /** Estimation periods [start, end), panel indices. */
+  start: number;
+  end: number;
+  /** Held-out periods [oosStart, oosEnd). */
+  oosStart: number;
+  oosEnd: number;
+}
+
+export function windowSchedule(T: number, bt: BacktestSpec): WindowBounds[] {
+  const { window: W, step, horizon: h, expanding } = bt;
+  if (W + h > T) {
+    throw new DeflatorError(
+      'SAMPLE_TOO_SHORT',
+      `backtest: a window of ${W} periods plus ${h} held-out period(s) needs ${W + h} periods; the sample has ${T}`,
+      'shorten backtest.window or backtest.horizon, or widen the sample (start/end)',
+    );
+  }
+  const out: WindowBounds[] = [];
+  for (let k = 0; ; k++) {
+    const start = expanding ? 0 : k * step;
+    const end = expanding ? W + k * step : start + W;
+    if (end + h > T) break;
+    out.push({ start, end, oosStart: end, oosEnd: end + h });
+  }
+  return out;
+}
+
+/** The panel restricted to periods [start, end) (views, no copies). */
+export function slicePanel(panel: ReturnsPanel, start: number, end: number): ReturnsPanel {
+  const out: ReturnsPanel = {
+    frequency: panel.frequency,
+    periods: panel.periods.slice(start, end),
+    assets: panel.assets,
+    returnKind: panel.returnKind,
+    returns: panel.returns.map((r) => r.subarray(start, end)),
+    factors: panel.factors.map((f) => ({ name: f.name, values: f.values.subarray(start, end) })),
+    sampleNotes: panel.sampleNotes,
+  };
+  if (panel.riskfreeGross) out.riskfreeGross = panel.riskfreeGross.subarray(start, end);
+  if (panel.consumptionGrowth) out.consumptionGrowth = panel.consumptionGrowth.subarray(start, end);
+  return out;
+}
+
+/** Newey-West lags for a window of n periods: the spec's number, or floor(4 (n/100)^(2/9)) (METHODS 3). */
+export function windowLags(lags: number | 'auto', n: number): number {
+  return lags === 'auto' ? Math.floor(4 * Math.pow(n / 100, 2 / 9)) : lags;
+}

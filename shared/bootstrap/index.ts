@@ -1,0 +1,2 @@
+export { Xoshiro128 } from './rng.js';
+export { blockLength, movingBlockIndices, replicationIndices } from './blocks.js';
