@@ -22,6 +22,7 @@
  * -0 keeps its sign bit. sampleNotes are descriptive text, not data, and are left out.
  */
 import type { ReturnsPanel } from '../panel.js';
+import type { PanelFingerprint } from './run-record.js';
 import { DeflatorError } from '../errors.js';
 import { Sha256, toHex } from './sha256.js';
 import { utf8Encode } from './utf8.js';
@@ -124,4 +125,19 @@ export function encodePanel(panel: ReturnsPanel): Uint8Array {
 /** SHA-256 (hex) of the canonical encoding: the panel fingerprint stored with every run. */
 export function panelFingerprint(panel: ReturnsPanel): string {
   return toHex(new Sha256().update(encodePanel(panel)).digest());
+}
+
+/** The fingerprint stored with a run: the digest plus the panel's shape. */
+export function fingerprintPanel(panel: ReturnsPanel): PanelFingerprint {
+  const T = panel.periods.length;
+  return {
+    sha256: panelFingerprint(panel),
+    encoding: PANEL_ENCODING_VERSION,
+    frequency: panel.frequency,
+    start: panel.periods[0] ?? '',
+    end: panel.periods[T - 1] ?? '',
+    T,
+    N: panel.assets.length,
+    K: panel.factors.length,
+  };
 }

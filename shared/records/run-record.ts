@@ -21,6 +21,15 @@ export interface DataFileFingerprint {
   subjects: string[];
 }
 
+/** One asset, series or portfolio a run read, with a digest of its stored rows then. */
+export interface SubjectFingerprint {
+  kind: 'asset' | 'series' | 'portfolio';
+  name: string;
+  /** SHA-256 (hex) over the subject's stored rows in date order (docs/methods.md, "Run records"). */
+  sha256: string;
+  rows: number;
+}
+
 /** What the run's returns panel looked like: enough to recognise it without the data. */
 export interface PanelFingerprint {
   /** SHA-256 (hex) of the canonical encoding (shared/records/panel-encoding.ts). */
@@ -51,14 +60,18 @@ export interface RunRecord {
   spec: unknown;
   result: AnyResult;
   panel: PanelFingerprint;
+  /** A comparison whose models use different return panels (excess and gross) lists each; panel is the first. */
+  panels?: PanelFingerprint[];
   files: DataFileFingerprint[];
+  subjects: SubjectFingerprint[];
 }
 
-/** A data file whose current state differs from what the run recorded. */
-export interface StaleFile {
-  file: string;
+/** A data file or stored subject whose current state differs from what the run recorded. */
+export interface StaleItem {
+  /** e.g. `file prices.csv` or `asset Alder Works`. */
+  what: string;
   recorded: string;
-  /** Current SHA-256, or null when the file's data is no longer in the store. */
+  /** Current SHA-256, or null when the data is no longer in the store. */
   current: string | null;
   reason: string;
 }
@@ -78,7 +91,7 @@ export interface RunSummary {
   K: number;
   panelSha256: string;
   stale: boolean;
-  staleFiles: StaleFile[];
+  staleItems: StaleItem[];
 }
 
 /** Is this parsed JSON a run record's kind? */

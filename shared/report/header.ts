@@ -6,7 +6,7 @@ import type { SampleHeader } from '../results.js';
 import type { RunRecord } from '../records/run-record.js';
 
 /** What an export knows about the run it came from (absent for an unsaved result). */
-export type ExportRecord = Pick<RunRecord, 'id' | 'kind' | 'createdAt' | 'version' | 'spec' | 'panel' | 'files'>;
+export type ExportRecord = Pick<RunRecord, 'id' | 'kind' | 'createdAt' | 'version' | 'spec' | 'panel' | 'files'> & Partial<Pick<RunRecord, 'subjects' | 'panels'>>;
 
 export interface HeaderLine {
   key: string;
@@ -48,6 +48,8 @@ export function recordLines(r: ExportRecord): HeaderLine[] {
       value: `${r.panel.frequency} ${r.panel.start} to ${r.panel.end}, T=${r.panel.T} N=${r.panel.N} K=${r.panel.K}, encoding v${r.panel.encoding}`,
     },
   ];
+  for (const p of (r.panels ?? []).slice(1)) lines.push({ key: 'panel sha256', value: `${p.sha256} (${p.frequency} ${p.start} to ${p.end}, T=${p.T} N=${p.N} K=${p.K})` });
   for (const f of r.files) lines.push({ key: 'file sha256', value: `${f.sha256} ${f.file} (${f.subjects.join(', ')})` });
+  for (const s of r.subjects ?? []) lines.push({ key: 'data sha256', value: `${s.sha256} ${s.kind} ${s.name} (${s.rows} rows)` });
   return lines;
 }

@@ -6,6 +6,17 @@ import { niceTicks } from '../../../shared/report/svg.js';
 import { HAVE_CHROMIUM, launch } from './browser.js';
 import { ASSETS, sampleBacktest, sampleCompare, sampleFit, sampleRecord } from './sample-results.js';
 
+/** The little of the DOM the in-page checks use (the project's typings have no DOM lib). */
+interface El {
+  getAttribute(name: string): string | null;
+  textContent: string | null;
+  namespaceURI: string | null;
+  querySelector(sel: string): El | null;
+  querySelectorAll(sel: string): ArrayLike<El>;
+  getBoundingClientRect(): { width: number };
+}
+declare const document: El & { title: string };
+
 describe('HTML report: self-contained', () => {
   it.each([['fit', sampleFit()], ['backtest', sampleBacktest()], ['compare', sampleCompare()]] as [string, AnyResult][])('%s has no scripts or external references', (_k, r) => {
     const html = resultToHtml(r, sampleRecord());
