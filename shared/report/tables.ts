@@ -48,6 +48,8 @@ const testColumns: ReportColumn[] = [
 
 export function fitTables(r: FitResult): ReportTable[] {
   const shanken = r.params.some((p) => p.seShanken !== undefined);
+  const hac = r.pricingErrors.some((e) => e.seHac !== undefined);
+  const shankenAlpha = r.pricingErrors.some((e) => e.seShanken !== undefined);
   const paramCols: ReportColumn[] = [
     text('parameter', 'Parameter'),
     num('estimate', 'Estimate'),
@@ -76,8 +78,21 @@ export function fitTables(r: FitResult): ReportTable[] {
         num('seAnnual', 's.e. (annual)'),
         num('meanReturn', 'Mean return'),
         num('predicted', 'Predicted'),
+        ...(hac ? [num('seHac', 's.e. (HAC)')] : []),
+        ...(shankenAlpha ? [num('seShanken', 's.e. (Shanken)')] : []),
       ],
-      rows: r.pricingErrors.map((e) => [e.asset, e.alpha, e.se, e.t, e.alphaAnnual, e.seAnnual, e.meanReturn, e.predicted]),
+      rows: r.pricingErrors.map((e) => [
+        e.asset,
+        e.alpha,
+        e.se,
+        e.t,
+        e.alphaAnnual,
+        e.seAnnual,
+        e.meanReturn,
+        e.predicted,
+        ...(hac ? [opt(e.seHac)] : []),
+        ...(shankenAlpha ? [opt(e.seShanken)] : []),
+      ]),
     },
     { id: 'tests', title: 'Tests', columns: testColumns, rows: testRows([r.test, ...r.tests]) },
   ];
@@ -98,6 +113,22 @@ export function fitTables(r: FitResult): ReportTable[] {
     fitRows.push(['iterations', r.convergence.iterations, r.convergence.criterion], ['converged', r.convergence.converged ? 1 : 0, r.convergence.converged ? 'yes' : 'no']);
   }
   tables.push({ id: 'fit', title: 'Cross-sectional fit and distance', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: fitRows });
+  if (r.betas?.length) {
+    tables.push({
+      id: 'betas',
+      title: 'Full-sample betas',
+      columns: [text('asset', 'Asset'), text('factor', 'Factor'), num('estimate', 'Beta'), num('se', 's.e. (OLS)'), num('t', 't', 'stat')],
+      rows: r.betas.map((b) => [b.asset, b.factor, b.estimate, b.se, b.t]),
+    });
+  }
+  if (r.assetRegressions?.length) {
+    tables.push({
+      id: 'regressions',
+      title: 'Time-series regressions',
+      columns: [text('asset', 'Asset'), num('r2', 'R2'), num('residualSd', 'Residual s.d.')],
+      rows: r.assetRegressions.map((a) => [a.asset, a.r2, a.residualSd]),
+    });
+  }
   if (r.sdf) {
     tables.push({
       id: 'sdf',
