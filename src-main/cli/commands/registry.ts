@@ -3,7 +3,8 @@
  * Keep this list in the order `deflator --help` should show them.
  */
 import type { Command } from 'commander';
+import { register as demo } from './demo.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [];
+export const COMMANDS: RegisterCommand[] = [demo];

@@ -1,0 +1,75 @@
+/**
+ * `deflator demo`: builds the demo database from sample-data/ (an invented market) and
+ * prints what it holds. Each further demo step is one call in runDemo below.
+ */
+import type { Command } from 'commander';
+import { DeflatorError } from '../../../shared/errors.js';
+import { CAUTION } from '../../../shared/results.js';
+import { DEMO_SETS, buildDemo, type DemoSet } from '../../data/demo.js';
+import { formatImportReport, formatInfo } from '../../data/summary.js';
+import { Store } from '../../store/store.js';
+
+export const DEFAULT_DEMO_DB = 'deflator-demo.db';
+
+export interface DemoOptions {
+  db: string;
+  set: string;
+  json?: boolean;
+}
+
+/** What a demo step gets: the built database, the options, and where to write. */
+export interface DemoContext {
+  dbPath: string;
+  set: DemoSet;
+  options: DemoOptions;
+  /** Text output (ignored with --json). */
+  print: (text: string) => void;
+  /** Keys of the --json output. */
+  json: Record<string, unknown>;
+}
+
+export function register(program: Command): void {
+  program
+    .command('demo')
+    .description('build a demo database from the bundled, invented sample data and show what it holds')
+    .option('--db <path>', 'where to write the demo database (replaced if it is a deflator database)', DEFAULT_DEMO_DB)
+    .option('--set <name>', `sample set: ${DEMO_SETS.join(' | ')} (monthly: 30 assets over 24 years with factors, risk-free and consumption; daily: 4 assets over 2 years)`, 'monthly')
+    .option('--json', 'print the import reports and store contents as one JSON object')
+    .action(async (opts: DemoOptions) => {
+      await runDemo(opts);
+    });
+}
+
+/** Imports the sample set into a fresh database and describes it. */
+async function importStep(ctx: DemoContext): Promise<void> {
+  const built = await buildDemo(ctx.dbPath, { set: ctx.set });
+  const store = new Store(ctx.dbPath, { mustExist: true });
+  try {
+    const info = store.info();
+    ctx.json.db = ctx.dbPath;
+    ctx.json.set = ctx.set;
+    ctx.json.imports = built.reports;
+    ctx.json.info = info;
+    ctx.print(`Demo database ${ctx.dbPath} (${ctx.set} set; invented data, see sample-data/README.md)\n`);
+    for (const r of built.reports) ctx.print(formatImportReport(r));
+    ctx.print(`\n${formatInfo(info)}`);
+  } finally {
+    store.close();
+  }
+}
+
+export async function runDemo(options: DemoOptions): Promise<void> {
+  if (!(DEMO_SETS as readonly string[]).includes(options.set)) throw new DeflatorError('INPUT_INVALID', `unknown demo set "${options.set}"`, `use --set ${DEMO_SETS.join(' or --set ')}`);
+  const ctx: DemoContext = {
+    dbPath: options.db,
+    set: options.set as DemoSet,
+    options,
+    print: options.json ? () => {} : (s) => process.stdout.write(s.endsWith('\n') ? s : `${s}\n`),
+    json: {},
+  };
+  await importStep(ctx);
+  // Further demo steps (e.g. a model comparison on the demo data) go here, one call each:
+  //   await someStep(ctx);
+  if (options.json) process.stdout.write(`${JSON.stringify({ ...ctx.json, caution: CAUTION }, null, 2)}\n`);
+  else ctx.print(`\n${CAUTION}`);
+}

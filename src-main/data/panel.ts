@@ -1,0 +1,66 @@
+/**
+ * Store -> returns panel: reads exactly the histories, portfolios and series a spec names
+ * and hands them to the returns engine (shared/returns buildPanel). The fit, back-test and
+ * compare commands and the app all build their panel here.
+ */
+import type { NamedSeries, PriceHistory, ReturnSeries, SeriesKind } from '../../shared/data.js';
+import { DeflatorError } from '../../shared/errors.js';
+import type { ReturnsPanel } from '../../shared/panel.js';
+import { buildPanel, type BuildPanelInput } from '../../shared/returns/index.js';
+import type { FitSpec } from '../../shared/spec.js';
+import type { Store } from '../store/store.js';
+
+const list = (names: string[]) => (names.length ? names.join(', ') : '(none)');
+
+/** The series names a spec needs, with the kinds each may have. */
+export function seriesNeeded(spec: FitSpec): { name: string; role: string; key: string; kinds: SeriesKind[] }[] {
+  const out: { name: string; role: string; key: string; kinds: SeriesKind[] }[] = [];
+  if (spec.riskfree) out.push({ name: spec.riskfree, role: 'risk-free', key: 'spec.riskfree', kinds: ['riskfree'] });
+  for (const f of spec.model.factors) out.push({ name: f, role: 'factor', key: 'spec.model.factors', kinds: ['factor', 'other'] });
+  if (spec.model.consumption) out.push({ name: spec.model.consumption, role: 'consumption', key: 'spec.model.consumption', kinds: ['consumption'] });
+  return out;
+}
+
+/** What buildPanel needs for this spec, read from the store (no more than that). */
+export function loadPanelInput(store: Store, spec: FitSpec): BuildPanelInput {
+  let histories: PriceHistory[];
+  let portfolios: ReturnSeries[] = [];
+  if (spec.assets === 'all') {
+    histories = store.loadHistories();
+  } else {
+    const assets = new Set(store.assets());
+    const ports = new Set(store.portfolioNames());
+    const missing = spec.assets.filter((a) => !assets.has(a) && !ports.has(a));
+    if (missing.length) {
+      throw new DeflatorError(
+        'DATA_MISSING',
+        `test asset(s) ${missing.map((m) => `"${m}"`).join(', ')} (spec.assets) not in ${store.path}; stored assets: ${list([...assets].slice(0, 30))}${assets.size > 30 ? ', ...' : ''}; portfolios: ${list([...ports])}`,
+        'import them, or correct spec.assets; `deflator info --db DB` lists what is stored',
+      );
+    }
+    histories = store.loadHistories(spec.assets.filter((a) => assets.has(a)));
+    const wantedPorts = spec.assets.filter((a) => ports.has(a));
+    if (wantedPorts.length) portfolios = store.loadPortfolios(wantedPorts);
+  }
+  const stored = store.seriesList();
+  const names = new Set<string>();
+  for (const need of seriesNeeded(spec)) {
+    const hit = stored.find((s) => s.name === need.name);
+    if (!hit || !need.kinds.includes(hit.kind)) {
+      const available = stored.filter((s) => need.kinds.includes(s.kind)).map((s) => s.name);
+      throw new DeflatorError(
+        'DATA_MISSING',
+        `${need.role} series "${need.name}" (${need.key}) ${hit ? `is stored as kind "${hit.kind}"` : `is not in ${store.path}`}; stored ${need.kinds.join('/')} series: ${list(available)}`,
+        hit ? `re-import it with --kind ${need.kinds[0]}, or name another series` : 'import it with `deflator import series`, or correct the name',
+      );
+    }
+    names.add(need.name);
+  }
+  const series: NamedSeries[] = names.size ? store.loadSeries([...names]) : [];
+  return { histories, series, portfolios, spec };
+}
+
+/** The balanced panel a fit, back-test or comparison runs on. */
+export function loadPanel(store: Store, spec: FitSpec): ReturnsPanel {
+  return buildPanel(loadPanelInput(store, spec));
+}

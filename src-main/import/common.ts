@@ -1,0 +1,76 @@
+/** Pieces every importer shares: file hashing, header matching, the report it returns. */
+import { createHash } from 'node:crypto';
+import { createReadStream } from 'node:fs';
+import path from 'node:path';
+import type { Frequency } from '../../shared/data.js';
+import { DeflatorError } from '../../shared/errors.js';
+import type { ImportLogEntry, ImportWarning } from '../store/store.js';
+import type { CsvRow } from './csv.js';
+import { THOUSANDS_SEPARATORS, type ThousandsName } from './fields.js';
+
+/** SHA-256 of the file's bytes (hex). */
+export async function sha256File(file: string): Promise<string> {
+  const h = createHash('sha256');
+  await new Promise<void>((resolve, reject) => {
+    createReadStream(file, { highWaterMark: 1 << 20 })
+      .on('data', (b) => h.update(b))
+      .on('end', () => resolve())
+      .on('error', (e: NodeJS.ErrnoException) =>
+        reject(new DeflatorError('NOT_FOUND', `cannot read ${file}: ${e.code === 'ENOENT' ? 'no such file' : e.message}`, 'check the file name and path')),
+      );
+  });
+  return h.digest('hex');
+}
+
+export interface ImportReport {
+  /** 'imported', or 'already-imported' when a file with the same bytes was imported before (nothing changed). */
+  status: 'imported' | 'already-imported';
+  file: string;
+  sha256: string;
+  kind: ImportLogEntry['kind'];
+  /** The new log entry, or the earlier one for 'already-imported'. */
+  importId: number;
+  importedAt?: string;
+  rowsRead: number;
+  rowsStored: number;
+  rowsRejected: number;
+  /** Assets or series the file holds. */
+  subjects: string[];
+  frequency: Frequency | null;
+  first: string | null;
+  last: string | null;
+  warnings: ImportWarning[];
+  seconds: number;
+}
+
+export type ProgressCallback = (bytesRead: number, totalBytes: number) => void;
+
+/** The thousands separator's byte (0 = none). */
+export function thousandsByte(name: ThousandsName | undefined): number {
+  if (name === undefined) return 0;
+  const ch = THOUSANDS_SEPARATORS[name];
+  if (ch === undefined) throw new DeflatorError('INPUT_INVALID', `unknown thousands separator "${name}"`, `use one of ${Object.keys(THOUSANDS_SEPARATORS).join(', ')}`);
+  return ch.charCodeAt(0);
+}
+
+/** Header names as written (trimmed), with a lower-case index; duplicates and blanks are errors. */
+export function readHeader(row: CsvRow, file: string): { names: string[]; index: Map<string, number> } {
+  const names: string[] = [];
+  const index = new Map<string, number>();
+  for (let i = 0; i < row.count; i++) {
+    const name = row.text(i).trim();
+    if (name === '') {
+      throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${i + 1}: the header has an empty column name`, 'the first line must name every column');
+    }
+    const key = name.toLowerCase();
+    if (index.has(key)) {
+      throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${i + 1}: column "${name}" appears twice in the header (also column ${(index.get(key) ?? 0) + 1})`, 'give every column its own name');
+    }
+    index.set(key, i);
+    names.push(name);
+  }
+  return { names, index };
+}
+
+/** The file name the log records (the base name; the messages use the path as given). */
+export const logName = (file: string) => path.basename(file);

@@ -1,0 +1,293 @@
+/**
+ * A streaming CSV reader per RFC 4180: fields separated by commas, records by CRLF or LF
+ * (a lone CR is accepted too), fields optionally enclosed in double quotes, a quote inside
+ * a quoted field written as two quotes, and commas and line breaks allowed inside quotes.
+ * Reads the file in fixed-size chunks (memory does not grow with the file), checks that
+ * the bytes are UTF-8 (a leading byte-order mark is skipped), and hands each record to a
+ * callback as byte ranges into the chunk, so numbers and dates are parsed without
+ * building a string per field.
+ *
+ * Strict where RFC 4180 is: a quote inside an unquoted field, or text after a closing
+ * quote, is an error naming the line and column. Empty lines are skipped.
+ */
+import { open } from 'node:fs/promises';
+import { isUtf8 } from 'node:buffer';
+import { DeflatorError } from '../../shared/errors.js';
+
+const QUOTE = 0x22;
+const COMMA = 0x2c;
+const CR = 0x0d;
+const LF = 0x0a;
+
+/** One record. Valid only during the callback: the bytes are reused afterwards. */
+export class CsvRow {
+  /** Physical line (1-based) where the record starts. */
+  line = 0;
+  /** Number of fields. */
+  count = 0;
+  buf: Buffer = Buffer.alloc(0);
+  start = new Int32Array(16);
+  end = new Int32Array(16);
+  /** 0 unquoted, 1 quoted, 2 quoted with doubled quotes inside. */
+  quoted = new Uint8Array(16);
+  /** Physical line where the record's last field ends. */
+  endLine = 0;
+  /** Physical line where each field starts (differs from `line` after an embedded line break). */
+  fieldLine = new Int32Array(16);
+
+  grow(): void {
+    const n = this.start.length * 2;
+    const s = new Int32Array(n);
+    s.set(this.start);
+    this.start = s;
+    const e = new Int32Array(n);
+    e.set(this.end);
+    this.end = e;
+    const q = new Uint8Array(n);
+    q.set(this.quoted);
+    this.quoted = q;
+    const l = new Int32Array(n);
+    l.set(this.fieldLine);
+    this.fieldLine = l;
+  }
+
+  /** The field as text (quotes removed, doubled quotes undone). */
+  text(i: number): string {
+    if (i >= this.count) return '';
+    const s = this.buf.toString('utf8', this.start[i], this.end[i]);
+    return this.quoted[i] === 2 ? s.replaceAll('""', '"') : s;
+  }
+
+  /** True when the field is empty or only spaces/tabs. */
+  blank(i: number): boolean {
+    if (i >= this.count) return true;
+    for (let k = this.start[i]; k < this.end[i]; k++) {
+      const c = this.buf[k];
+      if (c !== 0x20 && c !== 0x09) return false;
+    }
+    return true;
+  }
+}
+
+export interface CsvReadOptions {
+  /** Called after each chunk with the bytes read so far and the file size. */
+  onProgress?: (bytesRead: number, totalBytes: number) => void;
+  /** Bytes per read (default 1 MiB). */
+  chunkSize?: number;
+}
+
+export interface CsvReadSummary {
+  bytes: number;
+  records: number;
+  lines: number;
+}
+
+/** Position of the first byte that is not valid UTF-8 in buf[from, to) (-1 when none). */
+function firstInvalidUtf8(buf: Buffer, from: number, to: number): number {
+  let i = from;
+  while (i < to) {
+    const c = buf[i];
+    if (c < 0x80) {
+      i++;
+      continue;
+    }
+    let need: number;
+    let min: number;
+    if (c >= 0xc2 && c <= 0xdf) (need = 1), (min = 0x80);
+    else if (c >= 0xe0 && c <= 0xef) (need = 2), (min = 0x800);
+    else if (c >= 0xf0 && c <= 0xf4) (need = 3), (min = 0x10000);
+    else return i;
+    let cp = c & (need === 1 ? 0x1f : need === 2 ? 0x0f : 0x07);
+    for (let k = 1; k <= need; k++) {
+      const b = buf[i + k];
+      if (i + k >= to || (b & 0xc0) !== 0x80) return i;
+      cp = (cp << 6) | (b & 0x3f);
+    }
+    if (cp < min || cp > 0x10ffff || (cp >= 0xd800 && cp <= 0xdfff)) return i;
+    i += need + 1;
+  }
+  return -1;
+}
+
+/** End of the last complete UTF-8 sequence in buf[from, to): bytes after it wait for the next chunk. */
+function completeUtf8End(buf: Buffer, from: number, to: number): number {
+  for (let k = 1; k <= 3 && to - k >= from; k++) {
+    const c = buf[to - k];
+    if ((c & 0xc0) === 0x80) continue; // continuation byte: keep looking for the lead
+    const len = c >= 0xf0 ? 4 : c >= 0xe0 ? 3 : c >= 0xc0 ? 2 : 1;
+    return len > k ? to - k : to;
+  }
+  return to;
+}
+
+/**
+ * Reads `file` record by record. `onRow` runs synchronously for each record; a thrown
+ * error stops the read and propagates.
+ */
+export async function readCsv(file: string, onRow: (row: CsvRow) => void, options: CsvReadOptions = {}): Promise<CsvReadSummary> {
+  const chunk = options.chunkSize ?? 1 << 20;
+  const fh = await open(file, 'r').catch((e: NodeJS.ErrnoException) => {
+    throw new DeflatorError('NOT_FOUND', `cannot read ${file}: ${e.code === 'ENOENT' ? 'no such file' : e.message}`, 'check the file name and path');
+  });
+  try {
+    const { size } = await fh.stat();
+    if (size === 0) throw new DeflatorError('INPUT_INVALID', `${file} is empty`, 'choose a CSV file with a header line and data rows');
+    let buf = Buffer.allocUnsafe(Math.max(chunk * 2, 1024));
+    let len = 0; // bytes in buf
+    let pos = 0; // start of the unparsed rest (a record boundary)
+    let checked = 0; // bytes validated as UTF-8
+    let line = 1; // line number at pos
+    let bytesRead = 0;
+    let records = 0;
+    let first = true;
+    const row = new CsvRow();
+
+    const fail = (at: number, atLine: number, what: string, hint: string): never => {
+      // column in characters from the start of the physical line
+      let ls = at;
+      while (ls > 0 && buf[ls - 1] !== LF && buf[ls - 1] !== CR) ls--;
+      if (ls < pos) ls = pos;
+      const col = buf.toString('utf8', ls, at).length + 1;
+      throw new DeflatorError('INPUT_INVALID', `${file}, line ${atLine}, column ${col}: ${what}`, hint);
+    };
+
+    const linesBetween = (from: number, to: number): number => {
+      let n = 0;
+      let k = buf.indexOf(LF, from);
+      while (k !== -1 && k < to) {
+        n++;
+        k = buf.indexOf(LF, k + 1);
+      }
+      return n;
+    };
+
+    /** Parses one record at p; returns the position after it, or -1 if it needs more bytes. */
+    const parseRecord = (p: number, eof: boolean): number => {
+      let i = p;
+      let f = 0;
+      let ln = line;
+      row.line = line;
+      for (;;) {
+        if (f === row.start.length) row.grow();
+        row.fieldLine[f] = ln;
+        if (i < len && buf[i] === QUOTE) {
+          let j = i + 1;
+          let escaped = false;
+          let k: number;
+          for (;;) {
+            k = buf.indexOf(QUOTE, j);
+            if (k === -1 || k >= len) {
+              if (!eof) return -1;
+              fail(i, ln, 'a quoted field is never closed (missing closing double quote)', 'close the quote, or write a quote inside a quoted field as two quotes ("")');
+            }
+            if (k + 1 >= len && !eof) return -1;
+            if (k + 1 < len && buf[k + 1] === QUOTE) {
+              escaped = true;
+              j = k + 2;
+              continue;
+            }
+            break;
+          }
+          row.start[f] = i + 1;
+          row.end[f] = k;
+          row.quoted[f] = escaped ? 2 : 1;
+          ln += linesBetween(i + 1, k);
+          i = k + 1;
+          if (i < len) {
+            const c = buf[i];
+            if (c !== COMMA && c !== LF && c !== CR) fail(i, ln, 'unexpected text after a closing double quote', 'a quoted field must be followed by a comma or the end of the line (RFC 4180)');
+          }
+        } else {
+          let j = i;
+          while (j < len) {
+            const c = buf[j];
+            if (c === COMMA || c === LF || c === CR || c === QUOTE) break;
+            j++;
+          }
+          if (j >= len && !eof) return -1;
+          if (j < len && buf[j] === QUOTE) fail(j, ln, 'a double quote inside an unquoted field', 'enclose the whole field in double quotes and write the quote as two quotes ("") (RFC 4180)');
+          row.start[f] = i;
+          row.end[f] = j;
+          row.quoted[f] = 0;
+          i = j;
+        }
+        f++;
+        if (i >= len) {
+          // end of file without a final line break
+          row.count = f;
+          row.endLine = ln;
+          return i;
+        }
+        const c = buf[i];
+        if (c === COMMA) {
+          i++;
+          continue;
+        }
+        if (c === CR) {
+          if (i + 1 >= len && !eof) return -1;
+          i += i + 1 < len && buf[i + 1] === LF ? 2 : 1;
+        } else i++; // LF
+        row.count = f;
+        row.endLine = ln;
+        return i;
+      }
+    };
+
+    for (;;) {
+      // keep the unparsed rest at the front, then read the next chunk behind it
+      if (pos > 0) {
+        buf.copy(buf, 0, pos, len);
+        len -= pos;
+        checked -= pos;
+        pos = 0;
+      }
+      if (len + chunk > buf.length) {
+        const bigger = Buffer.allocUnsafe(Math.max(buf.length * 2, len + chunk));
+        buf.copy(bigger, 0, 0, len);
+        buf = bigger;
+      }
+      const { bytesRead: n } = await fh.read(buf, len, chunk, null);
+      const eof = n === 0;
+      len += n;
+      bytesRead += n;
+      if (first && n > 0) {
+        first = false;
+        if (len >= 2 && ((buf[0] === 0xff && buf[1] === 0xfe) || (buf[0] === 0xfe && buf[1] === 0xff))) {
+          throw new DeflatorError('INPUT_INVALID', `${file}, line 1, column 1: the file is UTF-16 encoded, not UTF-8`, 'save the file as UTF-8 (CSV UTF-8) and import it again');
+        }
+        if (len >= 3 && buf[0] === 0xef && buf[1] === 0xbb && buf[2] === 0xbf) pos = checked = 3;
+      }
+      const upto = eof ? len : completeUtf8End(buf, checked, len);
+      if (upto > checked) {
+        if (!isUtf8(buf.subarray(checked, upto))) {
+          const bad = firstInvalidUtf8(buf, checked, upto);
+          const at = bad === -1 ? checked : bad;
+          fail(at, line + linesBetween(pos, at), `byte 0x${buf[at].toString(16).padStart(2, '0')} is not valid UTF-8`, 'save the file as UTF-8 (CSV UTF-8) and import it again');
+        }
+        checked = upto;
+      }
+      // parse the complete records in [pos, checked) (at the end of the file, everything)
+      const limit = eof ? len : checked;
+      const realLen = len;
+      len = limit;
+      while (pos < len) {
+        const next = parseRecord(pos, eof);
+        if (next === -1) break;
+        row.buf = buf;
+        const empty = row.count === 1 && row.quoted[0] === 0 && row.end[0] === row.start[0];
+        if (!empty) {
+          records++;
+          onRow(row);
+        }
+        line = row.endLine + 1;
+        pos = next;
+      }
+      len = realLen;
+      options.onProgress?.(bytesRead, size);
+      if (eof) break;
+    }
+    return { bytes: bytesRead, records, lines: line - 1 };
+  } finally {
+    await fh.close();
+  }
+}

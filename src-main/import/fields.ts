@@ -1,0 +1,219 @@
+/**
+ * Field parsers working on byte ranges: decimal numbers (point as the decimal mark,
+ * thousands separators only when asked for) and calendar dates (ISO 8601 YYYY-MM-DD by
+ * default; other orders only when the user names the format).
+ */
+import { DeflatorError } from '../../shared/errors.js';
+import { dayNumber, daysInMonth } from '../data/calendar.js';
+
+const SPACE = 0x20;
+const TAB = 0x09;
+const ZERO = 0x30;
+const NINE = 0x39;
+const DOT = 0x2e;
+const PLUS = 0x2b;
+const MINUS = 0x2d;
+
+/** Exactly representable powers of ten (10^0 .. 10^22). */
+const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
+const TWO53 = 2 ** 53;
+
+/** Separators the thousands option accepts (the decimal mark is always '.'). */
+export const THOUSANDS_SEPARATORS = { comma: ',', space: ' ', apostrophe: "'", underscore: '_' } as const;
+export type ThousandsName = keyof typeof THOUSANDS_SEPARATORS;
+
+/**
+ * Parses a decimal number in buf[s, e), spaces around it allowed; NaN if the text is not
+ * one. `sep` is the thousands separator's byte (0: none allowed). The result is the
+ * correctly rounded double: small cases by Clinger's exact fast path (an integer below
+ * 2^53 times or divided by an exact power of ten), the rest by Number().
+ */
+export function parseNumber(buf: Uint8Array, s: number, e: number, sep = 0): number {
+  while (s < e && (buf[s] === SPACE || buf[s] === TAB)) s++;
+  while (e > s && (buf[e - 1] === SPACE || buf[e - 1] === TAB)) e--;
+  if (s === e) return NaN;
+  let i = s;
+  let negative = false;
+  if (buf[i] === MINUS || buf[i] === PLUS) {
+    negative = buf[i] === MINUS;
+    i++;
+  }
+  let mant = 0;
+  let digits = 0;
+  let frac = 0;
+  let exact = true;
+  let groupLen = 0;
+  let sawSep = false;
+  // integer part
+  for (; i < e; i++) {
+    const c = buf[i];
+    if (c >= ZERO && c <= NINE) {
+      mant = mant * 10 + (c - ZERO);
+      digits++;
+      groupLen++;
+    } else if (sep !== 0 && c === sep) {
+      if (digits === 0 || (sawSep ? groupLen !== 3 : groupLen > 3)) return NaN;
+      sawSep = true;
+      groupLen = 0;
+    } else break;
+  }
+  if (sawSep && groupLen !== 3) return NaN;
+  if (i < e && buf[i] === DOT) {
+    i++;
+    for (; i < e; i++) {
+      const c = buf[i];
+      if (c < ZERO || c > NINE) break;
+      mant = mant * 10 + (c - ZERO);
+      digits++;
+      frac++;
+    }
+  }
+  if (digits === 0) return NaN;
+  if (mant >= TWO53) exact = false;
+  let exp = 0;
+  if (i < e && (buf[i] === 0x65 || buf[i] === 0x45)) {
+    i++;
+    let expNegative = false;
+    if (i < e && (buf[i] === MINUS || buf[i] === PLUS)) {
+      expNegative = buf[i] === MINUS;
+      i++;
+    }
+    const at = i;
+    for (; i < e; i++) {
+      const c = buf[i];
+      if (c < ZERO || c > NINE) break;
+      if (exp < 100000) exp = exp * 10 + (c - ZERO);
+    }
+    if (i === at) return NaN;
+    if (expNegative) exp = -exp;
+  }
+  if (i !== e) return NaN;
+  const p = exp - frac;
+  let v: number;
+  if (exact && p >= -22 && p <= 22) v = p < 0 ? mant / POW10[-p] : mant * POW10[p];
+  else {
+    let text = '';
+    for (let k = s; k < e; k++) if (buf[k] !== sep || sep === 0) text += String.fromCharCode(buf[k]);
+    v = Math.abs(Number(text));
+    if (Number.isNaN(v)) return NaN;
+  }
+  if (!Number.isFinite(v)) return NaN;
+  return negative ? -v : v;
+}
+
+/** A date layout: the order of year, month and day and the separator between them. */
+export interface DateFormat {
+  name: string;
+  order: ('Y' | 'M' | 'D')[];
+  /** Separator byte, 0 for none (YYYYMMDD). */
+  sep: number;
+}
+
+export const ISO_DATE: DateFormat = { name: 'YYYY-MM-DD', order: ['Y', 'M', 'D'], sep: MINUS };
+
+/** Layouts the --date-format option accepts. */
+export const DATE_FORMATS = ['YYYY-MM-DD', 'YYYY/MM/DD', 'YYYY.MM.DD', 'YYYYMMDD', 'DD/MM/YYYY', 'DD.MM.YYYY', 'DD-MM-YYYY', 'MM/DD/YYYY', 'MM.DD.YYYY', 'MM-DD-YYYY'] as const;
+
+export function dateFormat(name: string): DateFormat {
+  const upper = name.toUpperCase();
+  if (!(DATE_FORMATS as readonly string[]).includes(upper)) {
+    throw new DeflatorError('INPUT_INVALID', `unknown date format "${name}"`, `use one of ${DATE_FORMATS.join(', ')}`);
+  }
+  const sepChar = upper.replace(/[YMD]/g, '')[0];
+  const order = upper.replace(/[^YMD]/g, '').replace(/(.)\1+/g, '$1').split('') as DateFormat['order'];
+  return { name: upper, order, sep: sepChar ? sepChar.charCodeAt(0) : 0 };
+}
+
+const pad2 = (n: number) => (n < 10 ? `0${n}` : String(n));
+
+/**
+ * Parses dates of one layout from byte ranges, remembering the ISO text of each day seen
+ * (a price file repeats a few thousand dates millions of times).
+ */
+export class DateParser {
+  readonly format: DateFormat;
+  private readonly iso = new Map<number, string>();
+  private readonly isIso: boolean;
+  private readonly parts = [0, 0, 0, 0];
+  private readonly widths = [0, 0, 0, 0];
+
+  constructor(format: DateFormat = ISO_DATE) {
+    this.format = format;
+    this.isIso = format.name === 'YYYY-MM-DD';
+  }
+
+  /** ISO text of a day number this parser returned. */
+  text(day: number): string {
+    return this.iso.get(day) ?? '';
+  }
+
+  /**
+   * The day number of the date in buf[s, e), or a string saying what is wrong. ISO needs
+   * exactly YYYY-MM-DD; named layouts accept one- or two-digit days and months.
+   */
+  parse(buf: Uint8Array, s: number, e: number): number | string {
+    while (s < e && (buf[s] === SPACE || buf[s] === TAB)) s++;
+    while (e > s && (buf[e - 1] === SPACE || buf[e - 1] === TAB)) e--;
+    const fmt = this.format;
+    const bad = `expected ${fmt.name}`;
+    let y = 0;
+    let m = 0;
+    let d = 0;
+    const digit = (k: number) => {
+      const c = buf[k] - ZERO;
+      return c >= 0 && c <= 9 ? c : -1000;
+    };
+    if (this.isIso || fmt.sep === 0) {
+      const len = fmt.sep === 0 ? 8 : 10;
+      if (e - s !== len) return bad;
+      if (fmt.sep !== 0 && (buf[s + 4] !== fmt.sep || buf[s + 7] !== fmt.sep)) return bad;
+      const o = fmt.sep === 0 ? 0 : 1;
+      y = digit(s) * 1000 + digit(s + 1) * 100 + digit(s + 2) * 10 + digit(s + 3);
+      m = digit(s + 4 + o) * 10 + digit(s + 5 + o);
+      d = digit(s + 6 + 2 * o) * 10 + digit(s + 7 + 2 * o);
+      if (y < 0 || m < 0 || d < 0) return bad;
+    } else {
+      const parts = this.parts;
+      const widths = this.widths;
+      let n = 0;
+      let v = 0;
+      let w = 0;
+      for (let k = s; k <= e; k++) {
+        if (k === e || buf[k] === fmt.sep) {
+          if (w === 0 || n === 3) return bad;
+          parts[n] = v;
+          widths[n] = w;
+          n++;
+          v = 0;
+          w = 0;
+          continue;
+        }
+        const c = digit(k);
+        if (c < 0) return bad;
+        v = v * 10 + c;
+        w++;
+      }
+      if (n !== 3) return bad;
+      for (let k = 0; k < 3; k++) {
+        const want = fmt.order[k];
+        if (want === 'Y' ? widths[k] !== 4 : widths[k] > 2) return bad;
+        if (want === 'Y') y = parts[k];
+        else if (want === 'M') m = parts[k];
+        else d = parts[k];
+      }
+    }
+    if (m < 1 || m > 12) return `month ${m} does not exist`;
+    if (d < 1 || d > daysInMonth(y, m)) return `${y}-${pad2(m)} has no day ${d}`;
+    const day = dayNumber(y, m, d);
+    if (!this.iso.has(day)) this.iso.set(day, `${String(y).padStart(4, '0')}-${pad2(m)}-${pad2(d)}`);
+    return day;
+  }
+}
+
+/** A hint for a date that failed to parse in the default ISO layout. */
+export function dateHint(text: string, fmt: DateFormat): string {
+  if (fmt.name === 'YYYY-MM-DD' && /^\s*\d{1,2}[/.-]\d{1,2}[/.-]\d{4}\s*$/.test(text)) {
+    return 'this looks like a day-first or month-first date; deflator never guesses which: name the layout with --date-format (e.g. DD/MM/YYYY or MM/DD/YYYY)';
+  }
+  return `write dates as ${fmt.name}${fmt.name === 'YYYY-MM-DD' ? ' (ISO 8601), or name another layout with --date-format' : ''}`;
+}

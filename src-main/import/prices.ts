@@ -1,0 +1,394 @@
+/**
+ * Price and dividend import. Long layout: one row per (date, asset) with price and
+ * optional dividend, split/adjustment factor and shares outstanding. Wide layout: a date
+ * column and one price column per asset, with an optional second wide file of dividends.
+ * The whole import is one transaction: any error stores nothing.
+ */
+import { statSync } from 'node:fs';
+import { DeflatorError } from '../../shared/errors.js';
+import { ImportSession } from '../store/session.js';
+import type { ImportWarning, Store } from '../store/store.js';
+import { DEFAULT_THRESHOLDS, HistoryChecker, WarningSink, detectFrequency, type CheckThresholds } from './checks.js';
+import { logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
+import { readCsv, type CsvRow } from './csv.js';
+import { DateParser, ISO_DATE, dateFormat, dateHint, parseNumber, type ThousandsName } from './fields.js';
+
+export const PRICE_COLUMNS = ['date', 'asset', 'price', 'dividend', 'adjust', 'shares'] as const;
+export type PriceColumn = (typeof PRICE_COLUMNS)[number];
+
+export interface PriceImportOptions {
+  layout?: 'long' | 'wide';
+  /** Wide layout only: a second wide file of dividends per share (same date column, asset columns). */
+  dividends?: string;
+  /** Column names when they differ from date, asset, price, dividend, adjust, shares (matched case-insensitively). */
+  columns?: Partial<Record<PriceColumn, string>>;
+  /** A named date layout (fields.ts DATE_FORMATS); ISO YYYY-MM-DD when absent. */
+  dateFormat?: string;
+  thousands?: ThousandsName;
+  thresholds?: Partial<CheckThresholds>;
+  /** Rows with a bad value to skip (each listed as a warning) before the import fails; default 0. */
+  maxRejects?: number;
+  onProgress?: ProgressCallback;
+}
+
+interface Ctx {
+  file: string;
+  session: ImportSession;
+  dates: DateParser;
+  sep: number;
+  thresholds: CheckThresholds;
+  sink: WarningSink;
+  checkers: Map<number, HistoryChecker>;
+  maxRejects: number;
+  rejected: number;
+  read: number;
+  first: number;
+  last: number;
+}
+
+class RowError extends DeflatorError {}
+
+function fieldError(ctx: Ctx, row: CsvRow, i: number, names: string[], what: string, hint: string): never {
+  throw new RowError('INPUT_INVALID', `${ctx.file}, line ${row.fieldLine[i] ?? row.line}, column ${i + 1} (${names[i] ?? '?'}): ${what}`, hint);
+}
+
+function textOf(row: CsvRow, i: number): string {
+  const t = row.text(i);
+  return t.length > 40 ? `${t.slice(0, 40)}...` : t;
+}
+
+function readDate(ctx: Ctx, row: CsvRow, i: number, names: string[]): number {
+  const r = ctx.dates.parse(row.buf, row.start[i], row.end[i]);
+  if (typeof r === 'string') {
+    const text = textOf(row, i);
+    const impossible = !r.startsWith('expected');
+    fieldError(ctx, row, i, names, impossible ? `"${text}" is not a calendar date (${r})` : `"${text}" is not a date: ${r}`, impossible ? 'correct the date' : dateHint(text, ctx.dates.format));
+  }
+  if (r < ctx.first) ctx.first = r;
+  if (r > ctx.last) ctx.last = r;
+  return r;
+}
+
+function readNumber(ctx: Ctx, row: CsvRow, i: number, names: string[], what: string): number {
+  const v = parseNumber(row.buf, row.start[i], row.end[i], ctx.sep);
+  if (Number.isNaN(v)) {
+    fieldError(ctx, row, i, names, `"${textOf(row, i)}" is not a number (expected the ${what})`, ctx.sep ? 'write numbers with a point as the decimal mark' : 'write numbers with a point as the decimal mark and no thousands separators (or pass the thousands-separator option)');
+  }
+  return v;
+}
+
+function checkFieldCount(ctx: Ctx, row: CsvRow, header: number): void {
+  if (row.count !== header) {
+    throw new DeflatorError('INPUT_INVALID', `${ctx.file}, line ${row.line}: ${row.count} fields, but the header has ${header}`, 'every line needs one field per header column (quote fields that contain commas)');
+  }
+}
+
+/** Runs one row; a bad value either rejects the row (within maxRejects) or ends the import. */
+function guarded(ctx: Ctx, fn: () => void): void {
+  try {
+    fn();
+  } catch (e) {
+    if (!(e instanceof RowError) || ctx.rejected >= ctx.maxRejects) throw e;
+    ctx.rejected++;
+    ctx.sink.add({ kind: 'rejected-row', subject: '', message: `row skipped: ${e.message}` });
+  }
+}
+
+function checker(ctx: Ctx, id: number, name: string): HistoryChecker {
+  let c = ctx.checkers.get(id);
+  if (!c) {
+    c = new HistoryChecker(name, ctx.thresholds, ctx.sink);
+    ctx.checkers.set(id, c);
+  }
+  return c;
+}
+
+function ignoredColumns(ctx: Ctx, names: string[], used: Set<number>): void {
+  const extra = names.filter((_, i) => !used.has(i));
+  if (extra.length) ctx.sink.add({ kind: 'ignored-columns', subject: '', message: `${ctx.file}: column(s) ${extra.map((n) => `"${n}"`).join(', ')} not used (not a price-file column)` });
+}
+
+async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: ProgressCallback | undefined): Promise<void> {
+  const want = (c: PriceColumn) => (options.columns?.[c] ?? c).toLowerCase();
+  let names: string[] = [];
+  let col: Record<PriceColumn, number> = { date: -1, asset: -1, price: -1, dividend: -1, adjust: -1, shares: -1 };
+  let header = true;
+  let lastName = '';
+  let lastId = -1;
+  const { session } = ctx;
+  await readCsv(
+    ctx.file,
+    (row) => {
+      if (header) {
+        header = false;
+        const h = readHeader(row, ctx.file);
+        names = h.names;
+        const used = new Set<number>();
+        for (const c of PRICE_COLUMNS) {
+          const i = h.index.get(want(c));
+          if (i === undefined) {
+            if (c === 'date' || c === 'asset' || c === 'price' || options.columns?.[c]) {
+              throw new DeflatorError(
+                'INPUT_INVALID',
+                `${ctx.file}, line ${row.line}: no "${options.columns?.[c] ?? c}" column in the header (${names.join(', ')})`,
+                `a long price file needs date, asset and price columns (dividend, adjust, shares optional); map other names with the column options`,
+              );
+            }
+          } else {
+            col[c] = i;
+            used.add(i);
+          }
+        }
+        ignoredColumns(ctx, names, used);
+        return;
+      }
+      ctx.read++;
+      guarded(ctx, () => {
+        checkFieldCount(ctx, row, names.length);
+        const day = readDate(ctx, row, col.date, names);
+        const name = row.text(col.asset).trim();
+        if (name === '') fieldError(ctx, row, col.asset, names, 'the asset name is empty', 'name the asset on every row');
+        const price = readNumber(ctx, row, col.price, names, 'price');
+        if (!(price > 0)) fieldError(ctx, row, col.price, names, `price ${price} is not positive`, 'prices must be greater than zero; leave the row out when there is no price');
+        let dividend = 0;
+        if (col.dividend >= 0 && !row.blank(col.dividend)) {
+          dividend = readNumber(ctx, row, col.dividend, names, 'dividend');
+          if (dividend < 0) fieldError(ctx, row, col.dividend, names, `dividend ${dividend} is negative`, 'dividends are cash paid per share: zero or more');
+          if (Object.is(dividend, -0)) dividend = 0;
+        }
+        let adjust = 1;
+        if (col.adjust >= 0 && !row.blank(col.adjust)) {
+          adjust = readNumber(ctx, row, col.adjust, names, 'adjustment factor');
+          if (!(adjust > 0)) fieldError(ctx, row, col.adjust, names, `adjustment factor ${adjust} is not positive`, 'a 2-for-1 split has factor 2; leave the cell empty (or 1) where there is none');
+        }
+        let shares: number | null = null;
+        if (col.shares >= 0 && !row.blank(col.shares)) {
+          shares = readNumber(ctx, row, col.shares, names, 'shares outstanding');
+          if (shares < 0) fieldError(ctx, row, col.shares, names, `shares outstanding ${shares} is negative`, 'shares outstanding must be zero or more');
+        }
+        let id: number;
+        if (name === lastName) id = lastId;
+        else {
+          id = session.assetId(name);
+          lastName = name;
+          lastId = id;
+        }
+        const date = ctx.dates.text(day);
+        session.observation(id, date, price, dividend, adjust, shares, { file: ctx.file, line: row.line });
+        checker(ctx, id, name).push(date, day, price, dividend, adjust);
+      });
+    },
+    { onProgress },
+  );
+  if (header) throw new DeflatorError('INPUT_INVALID', `${ctx.file} has no header line`, 'the first line must name the columns');
+  session.flushObservations();
+}
+
+interface WideColumns {
+  names: string[];
+  dateCol: number;
+  assets: { col: number; id: number; name: string }[];
+}
+
+function wideHeader(ctx: Ctx, row: CsvRow, dateName: string, what: string): { names: string[]; dateCol: number; assetCols: number[] } {
+  const h = readHeader(row, ctx.file);
+  const dateCol = h.index.get(dateName.toLowerCase());
+  if (dateCol === undefined) {
+    throw new DeflatorError('INPUT_INVALID', `${ctx.file}, line ${row.line}: no "${dateName}" column in the header (${h.names.join(', ')})`, `a wide ${what} file needs a date column and one column per asset; map the date column's name with the date-column option`);
+  }
+  const assetCols = h.names.map((_, i) => i).filter((i) => i !== dateCol);
+  if (assetCols.length === 0) throw new DeflatorError('INPUT_INVALID', `${ctx.file}, line ${row.line}: the header has no asset columns`, `add one ${what} column per asset after the date column`);
+  return { names: h.names, dateCol, assetCols };
+}
+
+function orderCheck(ctx: Ctx, row: CsvRow, col: number, names: string[], day: number, prevDay: number): void {
+  if (prevDay === -Infinity || day > prevDay) return;
+  const what = day === prevDay ? `date ${ctx.dates.text(day)} appears twice` : `date ${ctx.dates.text(day)} comes after ${ctx.dates.text(prevDay)}: dates are out of order`;
+  fieldError(ctx, row, col, names, what, 'a wide file needs one line per date, dates ascending');
+}
+
+async function importWide(ctx: Ctx, options: PriceImportOptions, onProgress: ProgressCallback | undefined): Promise<void> {
+  const dateName = options.columns?.date ?? 'date';
+  const { session } = ctx;
+  let cols: WideColumns | null = null;
+  let prevDay = -Infinity;
+  await readCsv(
+    ctx.file,
+    (row) => {
+      if (!cols) {
+        const h = wideHeader(ctx, row, dateName, 'price');
+        cols = { names: h.names, dateCol: h.dateCol, assets: h.assetCols.map((col) => ({ col, name: h.names[col], id: session.assetId(h.names[col]) })) };
+        return;
+      }
+      const c = cols;
+      ctx.read++;
+      guarded(ctx, () => {
+        checkFieldCount(ctx, row, c.names.length);
+        const day = readDate(ctx, row, c.dateCol, c.names);
+        orderCheck(ctx, row, c.dateCol, c.names, day, prevDay);
+        prevDay = day;
+        const date = ctx.dates.text(day);
+        // validate the whole line before queueing any of it, so a rejected line stores nothing
+        const prices: number[] = [];
+        for (const a of c.assets) {
+          if (row.blank(a.col)) {
+            prices.push(NaN);
+            continue;
+          }
+          const price = readNumber(ctx, row, a.col, c.names, `price of ${a.name}`);
+          if (!(price > 0)) fieldError(ctx, row, a.col, c.names, `price ${price} is not positive`, 'prices must be greater than zero; leave the cell empty when there is no price');
+          prices.push(price);
+        }
+        c.assets.forEach((a, k) => {
+          const price = prices[k];
+          if (Number.isNaN(price)) return;
+          session.observation(a.id, date, price, 0, 1, null, { file: ctx.file, line: row.line });
+          checker(ctx, a.id, a.name).push(date, day, price, 0, 1);
+        });
+      });
+    },
+    { onProgress },
+  );
+  if (!cols) throw new DeflatorError('INPUT_INVALID', `${ctx.file} has no header line`, 'the first line must name the columns');
+  session.flushObservations();
+}
+
+/** Applies a wide dividends file to the rows this import stored. */
+async function importWideDividends(ctx: Ctx, file: string, options: PriceImportOptions, onProgress: ProgressCallback | undefined): Promise<{ read: number; stored: number }> {
+  const dateName = options.columns?.date ?? 'date';
+  const { session } = ctx;
+  const dctx: Ctx = { ...ctx, file, read: 0 };
+  let cols: WideColumns | null = null;
+  let prevDay = -Infinity;
+  let stored = 0;
+  await readCsv(
+    file,
+    (row) => {
+      if (!cols) {
+        const h = wideHeader(dctx, row, dateName, 'dividend');
+        const assets = h.assetCols.map((col) => {
+          const name = h.names[col];
+          if (!ctx.checkers.has(session.assetId(name))) {
+            throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${col + 1}: dividend column "${name}" has no price column in ${ctx.file}`, 'the dividends file may only have columns of assets in the prices file');
+          }
+          return { col, name, id: session.assetId(name) };
+        });
+        cols = { names: h.names, dateCol: h.dateCol, assets };
+        return;
+      }
+      const c = cols;
+      dctx.read++;
+      guarded(dctx, () => {
+        checkFieldCount(dctx, row, c.names.length);
+        const day = readDate(dctx, row, c.dateCol, c.names);
+        orderCheck(dctx, row, c.dateCol, c.names, day, prevDay);
+        prevDay = day;
+        const date = dctx.dates.text(day);
+        for (const a of c.assets) {
+          if (row.blank(a.col)) continue;
+          const d = readNumber(dctx, row, a.col, c.names, `dividend of ${a.name}`);
+          if (d < 0) fieldError(dctx, row, a.col, c.names, `dividend ${d} is negative`, 'dividends are cash paid per share: zero or more');
+          if (d === 0) continue;
+          if (!session.setDividend(a.id, date, d)) {
+            fieldError(dctx, row, a.col, c.names, `a dividend of ${a.name} on ${date}, but ${ctx.file} has no price for ${a.name} on that date`, 'a dividend needs a price on its ex-date in the prices file');
+          }
+          stored++;
+        }
+      });
+    },
+    { onProgress },
+  );
+  if (!cols) throw new DeflatorError('INPUT_INVALID', `${file} has no header line`, 'the first line must name the columns');
+  ctx.rejected = dctx.rejected;
+  return { read: dctx.read, stored };
+}
+
+/**
+ * Imports a price file (and, for the wide layout, its dividends file) into the store.
+ * Returns 'already-imported' without touching anything when a file with the same bytes
+ * was imported before.
+ */
+export async function importPrices(store: Store, file: string, options: PriceImportOptions = {}): Promise<ImportReport> {
+  const started = performance.now();
+  const layout = options.layout ?? 'long';
+  if (layout !== 'long' && layout !== 'wide') throw new DeflatorError('INPUT_INVALID', `unknown layout "${String(layout)}"`, 'use long or wide');
+  if (options.dividends && layout !== 'wide') throw new DeflatorError('INPUT_INVALID', 'a separate dividends file goes with the wide layout only', 'use --layout wide, or put a dividend column in the long file');
+  const dates = new DateParser(options.dateFormat ? dateFormat(options.dateFormat) : ISO_DATE);
+  const sep = thousandsByte(options.thousands);
+  const thresholds: CheckThresholds = { ...DEFAULT_THRESHOLDS, ...options.thresholds };
+  const maxRejects = options.maxRejects ?? 0;
+  if (!(maxRejects >= 0)) throw new DeflatorError('INPUT_INVALID', `maximum rejected rows must be zero or more, not ${maxRejects}`, 'pass a count of rows');
+
+  const sha256 = await sha256File(file);
+  const divSha = options.dividends ? await sha256File(options.dividends) : undefined;
+  const before = store.findImport(sha256, 'prices');
+  if (before) {
+    const divBefore = divSha ? store.findImport(divSha, 'dividends') : undefined;
+    if (!divSha || divBefore) {
+      return {
+        status: 'already-imported', file, sha256, kind: 'prices', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
+        rowsRejected: before.rowsRejected, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
+      };
+    }
+    throw new DeflatorError('CONFLICT', `${file} was already imported (${before.importedAt}) with another dividends file than ${options.dividends}`, 'import the new dividends with their prices into a new database, or remove the earlier import');
+  }
+
+  const total = statSync(file).size + (options.dividends ? statSync(options.dividends).size : 0);
+  let done = 0;
+  const progress = options.onProgress;
+  const onProgress: ProgressCallback | undefined = progress ? (read) => progress(done + read, total) : undefined;
+
+  const session = new ImportSession(store);
+  const sink = new WarningSink();
+  const ctx: Ctx = { file, session, dates, sep, thresholds, sink, checkers: new Map(), maxRejects, rejected: 0, read: 0, first: Infinity, last: -Infinity };
+  const recorded = {
+    layout,
+    ...(options.columns ? { columns: options.columns } : {}),
+    dateFormat: dates.format.name,
+    ...(options.thousands ? { thousands: options.thousands } : {}),
+    thresholds,
+    maxRejects,
+    ...(options.dividends ? { dividends: logName(options.dividends) } : {}),
+  };
+  try {
+    const logId = session.begin({ fileName: logName(file), sha256, kind: 'prices', options: recorded });
+    if (layout === 'long') await importLong(ctx, options, onProgress);
+    else await importWide(ctx, options, onProgress);
+    if (ctx.read === 0) throw new DeflatorError('INPUT_INVALID', `${file} has a header but no data rows`, 'add data rows below the header');
+    const priceRows = session.rowsStored;
+    const priceRejected = ctx.rejected;
+    let divLog = 0;
+    let divRead = 0;
+    let divStored = 0;
+    if (options.dividends) {
+      done = statSync(file).size;
+      divLog = session.addLog({ fileName: logName(options.dividends), sha256: divSha ?? '', kind: 'dividends', options: { layout: 'wide', prices: logName(file) } });
+      const d = await importWideDividends(ctx, options.dividends, options, onProgress);
+      divRead = d.read;
+      divStored = d.stored;
+    }
+    // checks: re-read the stored rows of assets whose rows came out of order, that had rows
+    // before this import, or that got dividends from a second file
+    for (const [id, c] of ctx.checkers) {
+      if (c.unordered || session.preexisting.has(id) || options.dividends) {
+        const fresh = new HistoryChecker(c.subject, thresholds, sink);
+        for (const r of session.storedHistory(id)) fresh.push(r[0], r[1], r[2], r[3], r[4]);
+        ctx.checkers.set(id, fresh);
+      }
+    }
+    const frequency = detectFrequency(ctx.checkers.values());
+    for (const c of ctx.checkers.values()) c.finish(frequency);
+    const warnings: ImportWarning[] = sink.final();
+    session.finishLog(logId, { read: ctx.read, stored: priceRows, rejected: priceRejected }, warnings);
+    if (divLog) session.finishLog(divLog, { read: divRead, stored: divStored, rejected: ctx.rejected - priceRejected }, []);
+    session.commit();
+    const subjects = [...ctx.checkers.values()].map((c) => c.subject).sort();
+    return {
+      status: 'imported', file, sha256, kind: 'prices', importId: logId, rowsRead: ctx.read, rowsStored: priceRows, rowsRejected: ctx.rejected, subjects, frequency,
+      first: Number.isFinite(ctx.first) ? dates.text(ctx.first) : null, last: Number.isFinite(ctx.last) ? dates.text(ctx.last) : null, warnings, seconds: (performance.now() - started) / 1000,
+    };
+  } catch (e) {
+    session.rollback();
+    throw e;
+  }
+}

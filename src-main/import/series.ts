@@ -1,0 +1,154 @@
+/**
+ * Named-series import: a wide CSV (a date column, then one column per series) of factor,
+ * risk-free, consumption or other series. Percent units are divided by 100 on the way in;
+ * the risk-free form (per-period rate, annualized yield of some compounding, account
+ * level, flow) is stored with the series so the returns engine converts it (METHODS 1).
+ * One transaction: any error stores nothing.
+ */
+import { statSync } from 'node:fs';
+import { RF_FORMS, SERIES_KINDS, type RiskfreeForm, type SeriesKind } from '../../shared/data.js';
+import { DeflatorError } from '../../shared/errors.js';
+import { ImportSession } from '../store/session.js';
+import type { Store } from '../store/store.js';
+import { HistoryChecker, WarningSink, detectFrequency } from './checks.js';
+import { logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
+import { readCsv } from './csv.js';
+import { DateParser, ISO_DATE, dateFormat, dateHint, parseNumber, type ThousandsName } from './fields.js';
+
+export const UNITS = ['decimal', 'percent'] as const;
+export type Units = (typeof UNITS)[number];
+
+export interface SeriesImportOptions {
+  kind: SeriesKind;
+  units?: Units;
+  /** Risk-free series only; default 'rate' (a per-period rate). */
+  rfForm?: RiskfreeForm;
+  /** Name of the date column (default "date", matched case-insensitively). */
+  dateColumn?: string;
+  dateFormat?: string;
+  thousands?: ThousandsName;
+  onProgress?: ProgressCallback;
+}
+
+/** Which values make sense for a series of this kind and form (in decimals). */
+function valueProblem(kind: SeriesKind, rfForm: RiskfreeForm | null, v: number): string | null {
+  if (kind === 'consumption' && !(v > 0)) return `a consumption level must be positive, not ${v}`;
+  if (kind === 'riskfree' && rfForm === 'account' && !(v > 0)) return `an account level must be positive, not ${v}`;
+  if (kind === 'riskfree' && rfForm !== 'account' && !(v > -1)) return `a risk-free rate or yield of ${v} (decimal) would lose all the money; check the units`;
+  return null;
+}
+
+export async function importSeries(store: Store, file: string, options: SeriesImportOptions): Promise<ImportReport> {
+  const started = performance.now();
+  const kind = options.kind;
+  if (!(SERIES_KINDS as readonly string[]).includes(kind)) throw new DeflatorError('INPUT_INVALID', `unknown series kind "${String(kind)}"`, `use one of ${SERIES_KINDS.join(', ')}`);
+  const units: Units = options.units ?? 'decimal';
+  if (!(UNITS as readonly string[]).includes(units)) throw new DeflatorError('INPUT_INVALID', `unknown units "${String(units)}"`, 'use decimal or percent');
+  if (options.rfForm !== undefined && kind !== 'riskfree') throw new DeflatorError('INPUT_INVALID', `a risk-free form was given for a ${kind} series`, 'the risk-free form applies to --kind riskfree only');
+  const rfForm: RiskfreeForm | null = kind === 'riskfree' ? (options.rfForm ?? 'rate') : null;
+  if (rfForm !== null && !(RF_FORMS as readonly string[]).includes(rfForm)) throw new DeflatorError('INPUT_INVALID', `unknown risk-free form "${rfForm}"`, `use one of ${RF_FORMS.join(', ')}`);
+  const dates = new DateParser(options.dateFormat ? dateFormat(options.dateFormat) : ISO_DATE);
+  const sep = thousandsByte(options.thousands);
+  const dateName = (options.dateColumn ?? 'date').toLowerCase();
+
+  const sha256 = await sha256File(file);
+  const before = store.findImport(sha256, 'series');
+  if (before) {
+    return {
+      status: 'already-imported', file, sha256, kind: 'series', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
+      rowsRejected: 0, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
+    };
+  }
+  const total = statSync(file).size;
+  const progress = options.onProgress;
+  const session = new ImportSession(store);
+  const sink = new WarningSink();
+  const checkers: HistoryChecker[] = [];
+  let names: string[] = [];
+  let dateCol = -1;
+  let columns: { col: number; id: number; checker: HistoryChecker }[] = [];
+  let header = true;
+  let read = 0;
+  let prevDay = -Infinity;
+  let first = Infinity;
+  let last = -Infinity;
+  const scale = units === 'percent' ? 100 : 1;
+  try {
+    const logId = session.begin({ fileName: logName(file), sha256, kind: 'series', options: { kind, units, ...(rfForm ? { rfForm } : {}), dateFormat: dates.format.name, ...(options.thousands ? { thousands: options.thousands } : {}) } });
+    await readCsv(
+      file,
+      (row) => {
+        const where = (i: number) => `${file}, line ${row.fieldLine[i] ?? row.line}, column ${i + 1} (${names[i] ?? '?'})`;
+        if (header) {
+          header = false;
+          const h = readHeader(row, file);
+          names = h.names;
+          const dc = h.index.get(dateName);
+          if (dc === undefined) {
+            throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}: no "${options.dateColumn ?? 'date'}" column in the header (${names.join(', ')})`, 'a series file needs a date column and one column per series; name the date column with the date-column option');
+          }
+          dateCol = dc;
+          columns = names
+            .map((name, col) => ({ name, col }))
+            .filter((c) => c.col !== dateCol)
+            .map((c) => {
+              const checker = new HistoryChecker(c.name, null, sink);
+              checkers.push(checker);
+              return { col: c.col, id: session.seriesId(c.name, kind, units, rfForm, { file, line: row.line }), checker };
+            });
+          if (columns.length === 0) throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}: the header has no series columns`, 'add one column per series after the date column');
+          return;
+        }
+        read++;
+        if (row.count !== names.length) {
+          throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}: ${row.count} fields, but the header has ${names.length}`, 'every line needs one field per header column (quote fields that contain commas)');
+        }
+        const day = dates.parse(row.buf, row.start[dateCol], row.end[dateCol]);
+        if (typeof day === 'string') {
+          const text = row.text(dateCol);
+          const impossible = !day.startsWith('expected');
+          throw new DeflatorError('INPUT_INVALID', `${where(dateCol)}: "${text}" is not ${impossible ? `a calendar date (${day})` : `a date: ${day}`}`, impossible ? 'correct the date' : dateHint(text, dates.format));
+        }
+        if (day <= prevDay) {
+          throw new DeflatorError(
+            'INPUT_INVALID',
+            `${where(dateCol)}: ${day === prevDay ? `date ${dates.text(day)} appears twice` : `date ${dates.text(day)} comes after ${dates.text(prevDay)}: dates are out of order`}`,
+            'a series file needs one line per date, dates ascending',
+          );
+        }
+        prevDay = day;
+        if (day < first) first = day;
+        if (day > last) last = day;
+        const date = dates.text(day);
+        for (const c of columns) {
+          if (row.blank(c.col)) continue;
+          const raw = parseNumber(row.buf, row.start[c.col], row.end[c.col], sep);
+          if (Number.isNaN(raw)) {
+            throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: "${row.text(c.col)}" is not a number`, 'write numbers with a point as the decimal mark; leave the cell empty where there is no value');
+          }
+          const v = raw / scale;
+          const problem = valueProblem(kind, rfForm, v);
+          if (problem) throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${problem}`, 'check the value and the --kind/--units/--rf-form options');
+          session.seriesValue(c.id, names[c.col], date, v, { file, line: row.line });
+          c.checker.pushDate(date, day);
+        }
+      },
+      { onProgress: progress ? (n) => progress(n, total) : undefined },
+    );
+    if (header) throw new DeflatorError('INPUT_INVALID', `${file} has no header line`, 'the first line must name the columns');
+    if (read === 0) throw new DeflatorError('INPUT_INVALID', `${file} has a header but no data rows`, 'add data rows below the header');
+    session.flushSeries(file);
+    const frequency = detectFrequency(checkers);
+    for (const c of checkers) c.finish(frequency);
+    const warnings = sink.final();
+    session.finishLog(logId, { read, stored: session.rowsStored, rejected: 0 }, warnings);
+    session.commit();
+    return {
+      status: 'imported', file, sha256, kind: 'series', importId: logId, rowsRead: read, rowsStored: session.rowsStored, rowsRejected: 0, subjects: columns.map((c) => names[c.col]),
+      frequency, first: Number.isFinite(first) ? dates.text(first) : null, last: Number.isFinite(last) ? dates.text(last) : null, warnings, seconds: (performance.now() - started) / 1000,
+    };
+  } catch (e) {
+    session.rollback();
+    throw e;
+  }
+}

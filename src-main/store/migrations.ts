@@ -1,0 +1,93 @@
+/**
+ * The store's schema as an ordered list of numbered migrations. `PRAGMA user_version`
+ * holds the number of the last one applied; each runs in its own transaction together
+ * with the version bump, so a database is always at exactly one version.
+ *
+ * To change the schema, APPEND a migration with the next number (never edit or reorder
+ * an applied one: databases in the field already ran it). Write it as SQL (or a function
+ * for data moves); a test opens a fresh database and checks that every version applies.
+ * Example for the run records:
+ *   { version: 2, name: 'run records', up: `CREATE TABLE run (...);` },
+ */
+import type Database from 'better-sqlite3';
+
+export interface Migration {
+  version: number;
+  name: string;
+  up: string | ((db: Database.Database) => void);
+}
+
+export const MIGRATIONS: Migration[] = [
+  {
+    version: 1,
+    name: 'history store: assets, observations, named series, portfolios, import log',
+    up: `
+      CREATE TABLE import_log (
+        id            INTEGER PRIMARY KEY,
+        file_name     TEXT    NOT NULL,
+        sha256        TEXT    NOT NULL,
+        kind          TEXT    NOT NULL CHECK (kind IN ('prices', 'dividends', 'series')),
+        rows_read     INTEGER NOT NULL DEFAULT 0,
+        rows_stored   INTEGER NOT NULL DEFAULT 0,
+        rows_rejected INTEGER NOT NULL DEFAULT 0,
+        warnings      TEXT    NOT NULL DEFAULT '[]',
+        options       TEXT    NOT NULL DEFAULT '{}',
+        imported_at   TEXT    NOT NULL
+      );
+      CREATE INDEX import_log_by_hash ON import_log (sha256);
+
+      CREATE TABLE asset (
+        id   INTEGER PRIMARY KEY,
+        name TEXT NOT NULL UNIQUE
+      );
+
+      -- One row per asset and date: the hot lookup is (asset_id, date), the primary key
+      -- of a clustered (WITHOUT ROWID) table, so one asset's history is one range scan.
+      CREATE TABLE observation (
+        asset_id  INTEGER NOT NULL REFERENCES asset (id),
+        date      TEXT    NOT NULL,
+        price     REAL    NOT NULL,
+        dividend  REAL    NOT NULL DEFAULT 0,
+        adjust    REAL    NOT NULL DEFAULT 1,
+        shares    REAL,
+        import_id INTEGER NOT NULL REFERENCES import_log (id),
+        PRIMARY KEY (asset_id, date)
+      ) WITHOUT ROWID;
+
+      CREATE TABLE series (
+        id        INTEGER PRIMARY KEY,
+        name      TEXT NOT NULL UNIQUE,
+        kind      TEXT NOT NULL CHECK (kind IN ('factor', 'riskfree', 'consumption', 'other')),
+        units     TEXT NOT NULL CHECK (units IN ('decimal', 'percent')),
+        rf_form   TEXT CHECK (rf_form IS NULL OR rf_form IN ('rate', 'yield-simple', 'yield-annual', 'yield-continuous', 'account', 'flow'))
+      );
+
+      CREATE TABLE series_observation (
+        series_id INTEGER NOT NULL REFERENCES series (id),
+        date      TEXT    NOT NULL,
+        value     REAL    NOT NULL,
+        import_id INTEGER NOT NULL REFERENCES import_log (id),
+        PRIMARY KEY (series_id, date)
+      ) WITHOUT ROWID;
+
+      CREATE TABLE portfolio (
+        id         INTEGER PRIMARY KEY,
+        name       TEXT NOT NULL UNIQUE,
+        frequency  TEXT NOT NULL CHECK (frequency IN ('daily', 'weekly', 'monthly', 'quarterly', 'annual')),
+        rules      TEXT,
+        created_at TEXT NOT NULL
+      );
+
+      -- net is NULL where the portfolio had no return (NaN in ReturnSeries).
+      CREATE TABLE portfolio_return (
+        portfolio_id INTEGER NOT NULL REFERENCES portfolio (id) ON DELETE CASCADE,
+        period       TEXT    NOT NULL,
+        net          REAL,
+        PRIMARY KEY (portfolio_id, period)
+      ) WITHOUT ROWID;
+    `,
+  },
+];
+
+/** The schema version this build writes. */
+export const SCHEMA_VERSION = MIGRATIONS[MIGRATIONS.length - 1].version;

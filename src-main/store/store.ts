@@ -1,0 +1,373 @@
+/**
+ * The history store: one SQLite file per user project (better-sqlite3, WAL, foreign keys
+ * on, a busy timeout). Reads hand out the domain core's plain types (shared/data.ts);
+ * writes of imported rows go through ImportSession (./session.ts) inside one transaction.
+ */
+import Database from 'better-sqlite3';
+import { createHash } from 'node:crypto';
+import { existsSync } from 'node:fs';
+import type { Frequency, NamedSeries, PriceHistory, ReturnSeries, RiskfreeForm, SeriesKind } from '../../shared/data.js';
+import { FREQUENCIES } from '../../shared/data.js';
+import { DeflatorError } from '../../shared/errors.js';
+import { coverage, type Coverage } from '../data/calendar.js';
+import { MIGRATIONS, SCHEMA_VERSION } from './migrations.js';
+
+export interface StoreOptions {
+  /** Refuse to create a new file (commands that only read: info, returns, fit). */
+  mustExist?: boolean;
+  readonly?: boolean;
+  /** Milliseconds to wait for another writer (default 5000). */
+  busyTimeout?: number;
+}
+
+export interface ImportWarning {
+  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'more';
+  /** Asset or series name; '' for file-level warnings. */
+  subject: string;
+  from?: string;
+  to?: string;
+  message: string;
+}
+
+export interface ImportLogEntry {
+  id: number;
+  fileName: string;
+  sha256: string;
+  kind: 'prices' | 'dividends' | 'series';
+  rowsRead: number;
+  rowsStored: number;
+  rowsRejected: number;
+  warnings: ImportWarning[];
+  options: Record<string, unknown>;
+  importedAt: string;
+}
+
+export interface AssetCoverage extends Coverage {
+  name: string;
+  dividends: number;
+  splits: number;
+}
+
+export interface SeriesCoverage extends Coverage {
+  name: string;
+  kind: SeriesKind;
+  units: 'decimal' | 'percent';
+  rfForm?: RiskfreeForm;
+}
+
+export interface PortfolioCoverage {
+  name: string;
+  frequency: Frequency;
+  rules?: string;
+  first: string | null;
+  last: string | null;
+  count: number;
+}
+
+export interface StoreInfo {
+  path: string;
+  schemaVersion: number;
+  assets: AssetCoverage[];
+  series: SeriesCoverage[];
+  portfolios: PortfolioCoverage[];
+  imports: ImportLogEntry[];
+}
+
+interface LogRow {
+  id: number;
+  file_name: string;
+  sha256: string;
+  kind: ImportLogEntry['kind'];
+  rows_read: number;
+  rows_stored: number;
+  rows_rejected: number;
+  warnings: string;
+  options: string;
+  imported_at: string;
+}
+
+interface SeriesRow {
+  id: number;
+  name: string;
+  kind: SeriesKind;
+  units: 'decimal' | 'percent';
+  rf_form: RiskfreeForm | null;
+}
+
+const toLogEntry = (r: LogRow): ImportLogEntry => ({
+  id: r.id,
+  fileName: r.file_name,
+  sha256: r.sha256,
+  kind: r.kind,
+  rowsRead: r.rows_read,
+  rowsStored: r.rows_stored,
+  rowsRejected: r.rows_rejected,
+  warnings: JSON.parse(r.warnings) as ImportWarning[],
+  options: JSON.parse(r.options) as Record<string, unknown>,
+  importedAt: r.imported_at,
+});
+
+function prepareStatements(db: Database.Database) {
+  return {
+    assetNames: db.prepare('SELECT id, name FROM asset ORDER BY name'),
+    assetByName: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
+    history: db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
+    historyDates: db.prepare('SELECT date FROM observation WHERE asset_id = ? ORDER BY date').pluck(),
+    assetEvents: db.prepare('SELECT sum(dividend <> 0), sum(adjust <> 1) FROM observation WHERE asset_id = ?').raw(),
+    seriesAll: db.prepare('SELECT id, name, kind, units, rf_form FROM series ORDER BY name'),
+    seriesByName: db.prepare('SELECT id, name, kind, units, rf_form FROM series WHERE name = ?'),
+    seriesObs: db.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw(),
+    seriesDates: db.prepare('SELECT date FROM series_observation WHERE series_id = ? ORDER BY date').pluck(),
+    portfolioAll: db.prepare('SELECT id, name, frequency, rules FROM portfolio ORDER BY name'),
+    portfolioByName: db.prepare('SELECT id, name, frequency, rules FROM portfolio WHERE name = ?'),
+    portfolioObs: db.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw(),
+    portfolioInsert: db.prepare('INSERT INTO portfolio (name, frequency, rules, created_at) VALUES (?, ?, ?, ?)'),
+    portfolioObsInsert: db.prepare('INSERT INTO portfolio_return (portfolio_id, period, net) VALUES (?, ?, ?)'),
+    portfolioDelete: db.prepare('DELETE FROM portfolio WHERE id = ?'),
+    log: db.prepare('SELECT * FROM import_log ORDER BY id'),
+    logByHash: db.prepare('SELECT * FROM import_log WHERE sha256 = ? AND kind = ? ORDER BY id LIMIT 1'),
+    logById: db.prepare('SELECT * FROM import_log WHERE id = ?'),
+  };
+}
+
+type Statements = ReturnType<typeof prepareStatements>;
+
+export class Store {
+  readonly db: Database.Database;
+  readonly path: string;
+  private readonly st: Statements;
+
+  constructor(file: string, options: StoreOptions = {}) {
+    this.path = file;
+    if (file !== ':memory:' && options.mustExist && !existsSync(file)) {
+      throw new DeflatorError('NOT_FOUND', `database ${file} does not exist`, 'import data first (deflator import prices FILE --db DB), or run `deflator demo`');
+    }
+    try {
+      this.db = new Database(file, { readonly: options.readonly ?? false, fileMustExist: options.mustExist ?? false });
+    } catch (e) {
+      throw new DeflatorError('INPUT_INVALID', `cannot open database ${file}: ${(e as Error).message}`, 'check the path and that the file is a deflator database');
+    }
+    try {
+      this.db.pragma(`busy_timeout = ${options.busyTimeout ?? 5000}`);
+      if (!options.readonly) this.db.pragma('journal_mode = WAL');
+      this.db.pragma('foreign_keys = ON');
+      this.migrate(options.readonly ?? false);
+    } catch (e) {
+      this.db.close();
+      if (e instanceof DeflatorError) throw e;
+      throw new DeflatorError('INPUT_INVALID', `cannot use ${file} as a deflator database: ${(e as Error).message}`, 'point --db at a deflator database, or at a new file name');
+    }
+    this.st = prepareStatements(this.db);
+  }
+
+  /** Applies the migrations this file has not seen yet, each in its own transaction. */
+  private migrate(readonly: boolean): void {
+    const current = Number(this.db.pragma('user_version', { simple: true }));
+    if (current > SCHEMA_VERSION) {
+      throw new DeflatorError(
+        'CONFLICT',
+        `database ${this.path} was written by a newer deflator (schema version ${current}; this build knows versions up to ${SCHEMA_VERSION})`,
+        'open it with the newer deflator that wrote it; this build will not change it',
+      );
+    }
+    const pending = MIGRATIONS.filter((m) => m.version > current);
+    if (pending.length && readonly) {
+      throw new DeflatorError('CONFLICT', `database ${this.path} is at schema version ${current} and needs migrating, but was opened read-only`, 'open it once without read-only');
+    }
+    for (const m of pending) {
+      this.db.transaction(() => {
+        if (typeof m.up === 'string') this.db.exec(m.up);
+        else m.up(this.db);
+        this.db.pragma(`user_version = ${m.version}`);
+      })();
+    }
+  }
+
+  close(): void {
+    if (this.db.open) this.db.close();
+  }
+
+  /** Stored asset names, sorted. */
+  assets(): string[] {
+    return (this.st.assetNames.all() as { name: string }[]).map((r) => r.name);
+  }
+
+  /** Stored named series (name, kind, units, rf form), sorted by name. */
+  seriesList(): { name: string; kind: SeriesKind; units: 'decimal' | 'percent'; rfForm?: RiskfreeForm }[] {
+    return (this.st.seriesAll.all() as SeriesRow[]).map((r) => ({ name: r.name, kind: r.kind, units: r.units, ...(r.rf_form ? { rfForm: r.rf_form } : {}) }));
+  }
+
+  portfolioNames(): string[] {
+    return (this.st.portfolioAll.all() as { name: string }[]).map((r) => r.name);
+  }
+
+  hasAsset(name: string): boolean {
+    return this.st.assetByName.get(name) !== undefined;
+  }
+
+  /**
+   * Price histories, dates ascending. Without `assets`, every stored asset (sorted by name);
+   * with it, exactly those in that order (NOT_FOUND names the first unknown one).
+   */
+  loadHistories(assets?: string[]): PriceHistory[] {
+    const wanted = assets ?? this.assets();
+    return wanted.map((name) => {
+      const id = this.st.assetByName.get(name) as number | undefined;
+      if (id === undefined) throw new DeflatorError('NOT_FOUND', `asset "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored assets');
+      const rows = this.st.history.all(id) as [string, number, number, number, number | null][];
+      const n = rows.length;
+      const h: PriceHistory = { asset: name, dates: new Array<string>(n), price: new Float64Array(n), dividend: new Float64Array(n) };
+      let adjusted = false;
+      let withShares = false;
+      const adjust = new Float64Array(n);
+      const shares = new Float64Array(n);
+      for (let i = 0; i < n; i++) {
+        const r = rows[i];
+        h.dates[i] = r[0];
+        h.price[i] = r[1];
+        h.dividend[i] = r[2];
+        adjust[i] = r[3];
+        if (r[3] !== 1) adjusted = true;
+        if (r[4] !== null) {
+          withShares = true;
+          shares[i] = r[4];
+        } else shares[i] = NaN;
+      }
+      if (adjusted) h.adjust = adjust;
+      if (withShares) h.shares = shares;
+      return h;
+    });
+  }
+
+  /** Named series in decimals, dates ascending; same selection rules as loadHistories. */
+  loadSeries(names?: string[]): NamedSeries[] {
+    const rows = names
+      ? names.map((name) => {
+          const r = this.st.seriesByName.get(name) as SeriesRow | undefined;
+          if (!r) throw new DeflatorError('NOT_FOUND', `series "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored series, or import it with `deflator import series`');
+          return r;
+        })
+      : (this.st.seriesAll.all() as SeriesRow[]);
+    return rows.map((r) => {
+      const obs = this.st.seriesObs.all(r.id) as [string, number][];
+      const s: NamedSeries = { name: r.name, kind: r.kind, dates: obs.map((o) => o[0]), values: Float64Array.from(obs, (o) => o[1]) };
+      if (r.rf_form) s.rfForm = r.rf_form;
+      return s;
+    });
+  }
+
+  /** Stored portfolio return series (NaN where a period had no return). */
+  loadPortfolios(names?: string[]): ReturnSeries[] {
+    type Row = { id: number; name: string; frequency: Frequency; rules: string | null };
+    const rows = names
+      ? names.map((name) => {
+          const r = this.st.portfolioByName.get(name) as Row | undefined;
+          if (!r) throw new DeflatorError('NOT_FOUND', `portfolio "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored portfolios');
+          return r;
+        })
+      : (this.st.portfolioAll.all() as Row[]);
+    return rows.map((r) => {
+      const obs = this.st.portfolioObs.all(r.id) as [string, number | null][];
+      const p: ReturnSeries = { name: r.name, frequency: r.frequency, periods: obs.map((o) => o[0]), net: Float64Array.from(obs, (o) => (o[1] === null ? NaN : o[1])) };
+      if (r.rules !== null) p.rules = r.rules;
+      return p;
+    });
+  }
+
+  /**
+   * Stores a built portfolio's returns under its name (usable as a test asset by name).
+   * An existing portfolio of that name is replaced only with { replace: true }.
+   */
+  savePortfolio(series: ReturnSeries, options: { replace?: boolean } = {}): void {
+    if (!series.name) throw new DeflatorError('INPUT_INVALID', 'a portfolio needs a name', 'give the portfolio a name');
+    if (!(FREQUENCIES as readonly string[]).includes(series.frequency)) throw new DeflatorError('INPUT_INVALID', `portfolio "${series.name}": unknown frequency ${series.frequency}`, `use one of ${FREQUENCIES.join(', ')}`);
+    if (series.periods.length !== series.net.length) {
+      throw new DeflatorError('INPUT_INVALID', `portfolio "${series.name}": ${series.periods.length} periods but ${series.net.length} returns`, 'pass one return per period');
+    }
+    if (this.hasAsset(series.name)) throw new DeflatorError('CONFLICT', `portfolio name "${series.name}" is already an asset's name`, 'choose another portfolio name');
+    for (let i = 0; i < series.net.length; i++) {
+      const v = series.net[i];
+      if (!Number.isNaN(v) && !Number.isFinite(v)) throw new DeflatorError('INPUT_INVALID', `portfolio "${series.name}": return at ${series.periods[i]} is ${v}`, 'returns must be finite (NaN marks a missing one)');
+    }
+    this.db.transaction(() => {
+      const old = this.st.portfolioByName.get(series.name) as { id: number } | undefined;
+      if (old && !options.replace) throw new DeflatorError('CONFLICT', `portfolio "${series.name}" already exists`, 'choose another name, or replace it');
+      if (old) this.st.portfolioDelete.run(old.id);
+      const id = Number(this.st.portfolioInsert.run(series.name, series.frequency, series.rules ?? null, new Date().toISOString()).lastInsertRowid);
+      for (let i = 0; i < series.periods.length; i++) {
+        const v = series.net[i];
+        this.st.portfolioObsInsert.run(id, series.periods[i], Number.isNaN(v) ? null : v);
+      }
+    })();
+  }
+
+  importLog(): ImportLogEntry[] {
+    return (this.st.log.all() as LogRow[]).map(toLogEntry);
+  }
+
+  /** The earlier import of a file with these bytes, if any. */
+  findImport(sha256: string, kind: ImportLogEntry['kind']): ImportLogEntry | undefined {
+    const r = this.st.logByHash.get(sha256, kind) as LogRow | undefined;
+    return r ? toLogEntry(r) : undefined;
+  }
+
+  importById(id: number): ImportLogEntry | undefined {
+    const r = this.st.logById.get(id) as LogRow | undefined;
+    return r ? toLogEntry(r) : undefined;
+  }
+
+  /** What is stored: coverage per asset, series and portfolio, and the import log. */
+  info(): StoreInfo {
+    const assets = (this.st.assetNames.all() as { id: number; name: string }[]).map((a) => {
+      const [dividends, splits] = this.st.assetEvents.get(a.id) as [number | null, number | null];
+      return { name: a.name, ...coverage(this.st.historyDates.all(a.id) as string[]), dividends: dividends ?? 0, splits: splits ?? 0 };
+    });
+    const series = (this.st.seriesAll.all() as SeriesRow[]).map((s) => ({
+      name: s.name,
+      kind: s.kind,
+      units: s.units,
+      ...(s.rf_form ? { rfForm: s.rf_form } : {}),
+      ...coverage(this.st.seriesDates.all(s.id) as string[]),
+    }));
+    const portfolios = this.loadPortfolios().map((p) => ({
+      name: p.name,
+      frequency: p.frequency,
+      ...(p.rules !== undefined ? { rules: p.rules } : {}),
+      first: p.periods[0] ?? null,
+      last: p.periods[p.periods.length - 1] ?? null,
+      count: p.periods.length,
+    }));
+    return { path: this.path, schemaVersion: Number(this.db.pragma('user_version', { simple: true })), assets, series, portfolios, imports: this.importLog() };
+  }
+
+  /**
+   * SHA-256 over every stored data row in a fixed order (doubles by their bit pattern):
+   * equal digests mean equal contents. Tests use it to show a failed import changed nothing.
+   */
+  contentDigest(): string {
+    const h = createHash('sha256');
+    const f = Buffer.alloc(8);
+    const put = (v: unknown) => {
+      if (v === null) h.update('\u0000N');
+      else if (typeof v === 'number') {
+        f.writeDoubleLE(v);
+        h.update('\u0000D').update(f);
+      } else if (typeof v === 'bigint') h.update(`\u0000I${v}`);
+      else h.update(`\u0000S${String(v)}`);
+    };
+    const tables = [
+      'SELECT id, name FROM asset ORDER BY id',
+      'SELECT asset_id, date, price, dividend, adjust, shares, import_id FROM observation ORDER BY asset_id, date',
+      'SELECT id, name, kind, units, rf_form FROM series ORDER BY id',
+      'SELECT series_id, date, value, import_id FROM series_observation ORDER BY series_id, date',
+      'SELECT id, name, frequency, rules FROM portfolio ORDER BY id',
+      'SELECT portfolio_id, period, net FROM portfolio_return ORDER BY portfolio_id, period',
+      'SELECT id, file_name, sha256, kind, rows_read, rows_stored, rows_rejected, warnings, options FROM import_log ORDER BY id',
+    ];
+    for (const sql of tables) {
+      h.update(`\u0001${sql}`);
+      for (const row of this.db.prepare(sql).raw().iterate() as Iterable<unknown[]>) for (const v of row) put(v);
+    }
+    return h.digest('hex');
+  }
+}
