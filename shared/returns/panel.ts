@@ -14,7 +14,7 @@ import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel, SampleNote } from '../panel.js';
 import type { FitSpec } from '../spec.js';
 import { frequencyRank, parseAscending, periodCalendar, parseDate, type PeriodCalendar } from './periods.js';
-import { historyPeriods } from './prices.js';
+import { historyPeriods, pricedDates } from './prices.js';
 import { consumptionPeriods, factorPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
 import { assetLastDates, periodLabels } from './table.js';
 import { commonWindow } from './window.js';
@@ -118,15 +118,15 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   let cal: PeriodCalendar;
   if (frequency === 'daily') {
     const days: number[] = [];
-    for (const h of chosenH) for (const d of h.dates) days.push(parseDate(d, `price history "${h.asset}"`).day);
+    for (const h of chosenH) for (const d of pricedDates(h)) days.push(parseDate(d, `price history "${h.asset}"`).day);
     for (const p of chosenP) for (const d of p.periods) days.push(parseDate(d, `portfolio "${p.name}"`).day);
     cal = periodCalendar('daily', days);
   } else cal = periodCalendar(frequency);
 
-  const assets: TestAsset[] = [];
+  const built = new Map<string, TestAsset>();
   for (const h of chosenH) {
     const a = historyPeriods(h, cal);
-    assets.push({
+    built.set(h.asset, {
       name: h.asset,
       gross: a.gross,
       lastDates: assetLastDates(a),
@@ -134,7 +134,10 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
       ...(a.cutShort ? { cutShort: { index: a.cutShort.index, note: `last ${frequency} period cut short by the end of the data: ${a.cutShort.from ? `from ${a.cutShort.from} ` : ''}to ${a.cutShort.to}` } } : {}),
     });
   }
-  for (const p of chosenP) assets.push(portfolioAsset(p, cal, frequency));
+  for (const p of chosenP) built.set(p.name, portfolioAsset(p, cal, frequency));
+  // In the order the spec lists them (histories in store order for "all").
+  const listed = spec.assets === 'all' ? chosenH.map((h) => h.asset) : spec.assets;
+  const assets = listed.map((name) => built.get(name) as TestAsset);
   const labels = periodLabels(assets.map((a) => a.lastDates));
   const describe = (k: number): string => labels.get(k) ?? cal.keyOf(k);
 

@@ -30,6 +30,11 @@ export interface AssetPeriods {
   unusable?: string;
 }
 
+/** Dates with a price (rows whose price is NaN are no observation): the history's trading dates. */
+export function pricedDates(h: PriceHistory): string[] {
+  return h.dates.filter((_, i) => !Number.isNaN(h.price[i]));
+}
+
 function invalid(asset: string, date: string, what: string): DeflatorError {
   return new DeflatorError('INPUT_INVALID', `price history "${asset}", ${date}: ${what}`, 'correct that row in the source file and import it again');
 }

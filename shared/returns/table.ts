@@ -5,7 +5,7 @@
 import type { Frequency, NamedSeries, PriceHistory } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { dateOfDay, parseDate, periodCalendar, type PeriodCalendar } from './periods.js';
-import { historyPeriods, type AssetPeriods } from './prices.js';
+import { historyPeriods, pricedDates, type AssetPeriods } from './prices.js';
 import { riskfreePeriods, type DayCount, type PeriodSeries } from './series.js';
 import { commonWindow } from './window.js';
 
@@ -97,7 +97,7 @@ export function returnsTable(histories: PriceHistory[], opts: ReturnsTableOption
     throw new DeflatorError('DATA_MISSING', 'excess returns need a risk-free series, and none was given', 'name a risk-free series (kind "riskfree"), or ask for gross, net, log or index returns');
   }
   checkNames(histories);
-  const cal = tradingCalendar(frequency, histories.map((h) => h.dates));
+  const cal = tradingCalendar(frequency, histories.map(pricedDates));
   const assets = histories.map((h) => historyPeriods(h, cal));
   const labels = periodLabels(assets.map(assetLastDates));
   let rf: PeriodSeries | undefined;
