@@ -67,6 +67,8 @@ const sampleShape = {
   returns: z.enum(['excess', 'gross']).default('excess'),
   riskfree: z.string().min(1).optional(),
   includeRiskfree: z.boolean().default(false),
+  /** Yield-quoted risk-free: dt = 1/periods-per-year (default) or actual days/365 (docs/methods.md, Returns). */
+  dayCount: z.enum(['periods', 'actual365']).optional(),
 };
 
 export const fitSpecSchema = z
@@ -163,6 +165,7 @@ export function parseCompareSpec(input: unknown, root = 'spec'): { spec: Compare
       returns: entry.returns ?? c.returns,
       riskfree: c.riskfree,
       includeRiskfree: entry.includeRiskfree ?? c.includeRiskfree,
+      dayCount: c.dayCount,
       label: entry.label ?? defaultLabel(entry.model.kind, entry.model.factors, entry.model.consumption),
       model: entry.model,
       estimator: entry.estimator ?? c.estimator ?? estimatorSchema.parse({}),

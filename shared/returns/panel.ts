@@ -149,7 +149,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   let rf: PeriodSeries | undefined;
   if (spec.riskfree) {
     const s = findSeries(input.series, spec.riskfree, ['riskfree'], 'risk-free', 'spec.riskfree');
-    rf = riskfreePeriods(s, cal, 'periods');
+    rf = riskfreePeriods(s, cal, spec.dayCount ?? 'periods');
     if (rf.values.size === 0) throw noValues(rf, 'risk-free');
     if (s.rfForm === undefined) notes.push({ subject: s.name, reason: 'the series does not say how it is quoted; read as a per-period rate, R^f_t = 1 + rf_t' });
     required.push({ role: 'risk-free', series: rf });

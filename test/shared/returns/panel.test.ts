@@ -136,6 +136,29 @@ describe('buildPanel windows and alignment', () => {
   });
 });
 
+describe('buildPanel with a yield-quoted risk-free series', () => {
+  // Expected R^f from numpy: the "monthly yield-annual" cases of fixtures/riskfree.json
+  // (fixtures/make_riskfree.py). The asset is a constant price (gross return 1), so its
+  // excess return is 1 - R^f exactly as numpy computed it.
+  const rfFixture = readJson<{ cases: { name: string; dates: string[]; values: number[]; expected: { periods: string[]; gross: number[] } }[] }>('riskfree.json');
+  for (const dayCount of ['periods', 'actual365'] as const) {
+    it(`spec.dayCount ${dayCount}`, () => {
+      const c = rfFixture.cases.find((x) => x.name === `monthly yield-annual ${dayCount}`);
+      if (!c) throw new Error('fixture case missing');
+      const flat = { asset: 'flat', dates: c.dates, price: new Float64Array(c.dates.length).fill(10), dividend: new Float64Array(c.dates.length) };
+      const rf: NamedSeries = { name: 'bill', kind: 'riskfree', rfForm: 'yield-annual', dates: c.dates, values: Float64Array.from(c.values) };
+      const f: NamedSeries = { name: 'zero', kind: 'factor', dates: c.dates, values: new Float64Array(c.dates.length) };
+      const panelSpec = parseFitSpec({ frequency: 'monthly', riskfree: 'bill', ...(dayCount === 'actual365' ? { dayCount } : {}), model: { kind: 'linear', factors: ['zero'] } });
+      const panel = buildPanel({ histories: [flat], series: [rf, f], spec: panelSpec });
+      expect(panel.periods).toEqual(c.expected.periods);
+      c.expected.gross.forEach((g, t) => {
+        expectClose(panel.riskfreeGross?.[t], g, `R^f ${c.expected.periods[t]}`);
+        expectClose(panel.returns[0][t], 1 - g, `excess ${c.expected.periods[t]}`, 1e-12, 1e-15);
+      });
+    });
+  }
+});
+
 describe('buildPanel errors', () => {
   it('a factor that is not there: DATA_MISSING naming it and listing the available ones', () => {
     const e = errorOf(() => buildPanel({ histories, series, spec: spec({ model: { kind: 'linear', factors: ['mkt_excess', 'value_spread'] } }) }));
