@@ -4,7 +4,10 @@
  */
 import type { Command } from 'commander';
 import { register as demo } from './demo.js';
+import { register as importData } from './import.js';
+import { register as info } from './info.js';
+import { register as returns } from './returns.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns];
