@@ -8,3 +8,4 @@ interface Window {
   /** Present only inside the Electron app (preload). */
   deflator?: import('../../shared/bridge/preload-api.js').PreloadApi;
 }
+declare module '*.css';

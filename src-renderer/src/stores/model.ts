@@ -230,7 +230,7 @@ export const useModelStore = defineStore('model', {
       f.centered = spec.estimator.centered;
     },
     reset(): void {
-      this.form = defaults();
+      Object.assign(this.form, defaults());
       this.touched = false;
     },
   },
