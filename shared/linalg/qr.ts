@@ -175,6 +175,32 @@ export function solveR(qr: QrFactorization, z: ArrayLike<number>): Float64Array 
   return b;
 }
 
+/**
+ * Solves R' z = a by forward substitution. With X = QR, a'(X'X)^{-1}a = ||z||^2: the
+ * quadratic form of the inverse cross-product matrix without forming it (used for
+ * a' Sigma^{-1} a with Sigma = E'E / T, E a residual matrix).
+ */
+export function solveRt(qr: QrFactorization, a: ArrayLike<number>): Float64Array {
+  const p = qr.cols;
+  if (a.length !== p) throw new RangeError(`solveRt: vector of ${a.length} for ${p} columns`);
+  const z = new Float64Array(p);
+  for (let i = 0; i < p; i++) {
+    let s = a[i];
+    const col = qr.columns[i];
+    for (let k = 0; k < i; k++) s -= col[k] * z[k];
+    z[i] = s / col[i];
+  }
+  return z;
+}
+
+/** a'(X'X)^{-1}a from the factorisation of X. */
+export function inverseQuadForm(qr: QrFactorization, a: ArrayLike<number>): number {
+  const z = solveRt(qr, a);
+  let s = 0;
+  for (let i = 0; i < z.length; i++) s += z[i] * z[i];
+  return s;
+}
+
 export interface LeastSquaresSolution {
   /** argmin ||y - X b||. */
   coefficients: Float64Array;

@@ -8,3 +8,28 @@ export function fromRowsDense(rows: number[][]): DenseMatrix {
   rows.forEach((row, i) => row.forEach((v, j) => (data[i * c + j] = v)));
   return { rows: r, cols: c, data };
 }
+
+import type { ReturnsPanel } from '../../../../shared/panel.js';
+
+export interface ComparatorData {
+  assets: string[];
+  factors: string[];
+  periods: string[];
+  /** returns[i][t], asset by asset. */
+  returns: number[][];
+  /** factor_values[k][t], factor by factor. */
+  factor_values: number[][];
+}
+
+/** A monthly excess-return panel straight from a fixture's data (no store, no returns engine). */
+export function panelFromFixture(d: ComparatorData): ReturnsPanel {
+  return {
+    frequency: 'monthly',
+    periods: [...d.periods],
+    assets: [...d.assets],
+    returnKind: 'excess',
+    returns: d.returns.map((r) => Float64Array.from(r)),
+    factors: d.factors.map((name, k) => ({ name, values: Float64Array.from(d.factor_values[k]) })),
+    sampleNotes: [],
+  };
+}
