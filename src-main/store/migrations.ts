@@ -10,6 +10,7 @@
  *   { version: 2, name: 'run records', up: `CREATE TABLE run (...);` },
  */
 import type Database from 'better-sqlite3';
+import { RUNS_MIGRATION_NAME, RUNS_MIGRATION_SQL } from '../runs/migration.js';
 
 export interface Migration {
   version: number;
@@ -87,6 +88,7 @@ export const MIGRATIONS: Migration[] = [
       ) WITHOUT ROWID;
     `,
   },
+  { version: 2, name: RUNS_MIGRATION_NAME, up: RUNS_MIGRATION_SQL },
 ];
 
 /** The schema version this build writes. */

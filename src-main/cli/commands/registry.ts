@@ -7,7 +7,10 @@ import { register as demo } from './demo.js';
 import { register as importData } from './import.js';
 import { register as info } from './info.js';
 import { register as returns } from './returns.js';
+import { register as runs } from './runs.js';
+import { register as show } from './show.js';
+import { register as exportRun } from './export.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, runs, show, exportRun];

@@ -1,0 +1,82 @@
+/**
+ * `deflator runs --db DB`: the recorded runs, newest first, with a STALE mark where the
+ * data a run read has changed since. Filters by model, kind and recording date;
+ * `--delete RUN` removes one record.
+ */
+import type { Command } from 'commander';
+import { DeflatorError } from '../../../shared/errors.js';
+import { isRunKind, type RunSummary } from '../../../shared/records/run-record.js';
+import { alignColumns } from '../../../shared/report/text.js';
+import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
+import { Store } from '../../store/store.js';
+
+interface RunsOptions {
+  db: string;
+  json?: boolean;
+  model?: string;
+  kind?: string;
+  from?: string;
+  to?: string;
+  delete?: string;
+}
+
+const DATE = /^\d{4}-\d{2}-\d{2}/;
+
+export function formatRuns(runs: RunSummary[]): string {
+  if (!runs.length) return 'No recorded runs.';
+  const rows = runs.map((r) => [
+    String(r.id),
+    r.kind,
+    r.createdAt.replace('T', ' ').slice(0, 19),
+    r.label,
+    `${r.start} to ${r.end}`,
+    String(r.T),
+    String(r.N),
+    String(r.K),
+    r.stale ? 'STALE' : 'ok',
+  ]);
+  const lines = alignColumns(['run', 'kind', 'recorded (UTC)', 'model', 'sample', 'T', 'N', 'K', 'data'], rows, [true, false, false, false, false, true, true, true, false]);
+  for (const r of runs.filter((x) => x.stale)) {
+    lines.push('', `run ${r.id} is stale:`);
+    for (const s of r.staleItems) lines.push(`  ${s.what}: ${s.reason}`);
+  }
+  return lines.join('\n');
+}
+
+export function register(program: Command): void {
+  program
+    .command('runs')
+    .description('list the recorded runs (fits, back-tests, comparisons), newest first; STALE where their data changed since')
+    .requiredOption('--db <path>', 'project database')
+    .option('--model <text>', 'only runs whose model label or kind contains this text')
+    .option('--kind <kind>', 'only fit | backtest | compare runs')
+    .option('--from <date>', 'only runs recorded on or after this date (YYYY-MM-DD)')
+    .option('--to <date>', 'only runs recorded on or before this date (YYYY-MM-DD)')
+    .option('--delete <run>', 'delete this run record (the data stays)')
+    .option('--json', 'print the list as JSON')
+    .action((opts: RunsOptions) => {
+      const store = new Store(opts.db, { mustExist: true });
+      try {
+        if (opts.delete !== undefined) {
+          const id = parseRunId(opts.delete);
+          deleteRun(store, id);
+          if (opts.json) process.stdout.write(`${JSON.stringify({ deleted: id })}\n`);
+          else process.stdout.write(`Deleted run ${id}.\n`);
+          return;
+        }
+        if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, 'use --kind fit, backtest or compare');
+        for (const [k, v] of [['--from', opts.from], ['--to', opts.to]] as const) {
+          if (v !== undefined && !DATE.test(v)) throw new DeflatorError('INPUT_INVALID', `${k} ${v}: expected a date as YYYY-MM-DD`, `e.g. ${k} 2026-01-31`);
+        }
+        const filter: RunFilter = {};
+        if (opts.model) filter.model = opts.model;
+        if (opts.kind && isRunKind(opts.kind)) filter.kind = opts.kind;
+        if (opts.from) filter.from = opts.from;
+        if (opts.to) filter.to = opts.to;
+        const runs = listRuns(store, filter);
+        process.stdout.write(opts.json ? `${JSON.stringify(runs, null, 2)}\n` : `${formatRuns(runs)}\n`);
+      } finally {
+        store.close();
+      }
+    });
+}

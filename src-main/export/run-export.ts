@@ -1,0 +1,73 @@
+/**
+ * Export of a recorded run to files: CSV (one file per table), XLSX, LaTeX, HTML, PDF.
+ * Every format is computed from the stored result and its record, so the numbers in an
+ * export are the stored ones.
+ */
+import { existsSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import { DeflatorError } from '../../shared/errors.js';
+import type { RunRecord } from '../../shared/records/run-record.js';
+import { resultToCsv } from '../../shared/report/csv.js';
+import { resultToHtml } from '../../shared/report/html.js';
+import { resultToLatex } from '../../shared/report/latex.js';
+import { htmlToPdf } from './pdf.js';
+import { resultToXlsx } from './xlsx.js';
+
+export const EXPORT_FORMATS = ['csv', 'xlsx', 'latex', 'html', 'pdf'] as const;
+export type ExportFormat = (typeof EXPORT_FORMATS)[number];
+
+export const EXPORT_EXTENSIONS: Record<ExportFormat, string> = { csv: 'csv', xlsx: 'xlsx', latex: 'tex', html: 'html', pdf: 'pdf' };
+
+export interface ExportFile {
+  /** File name without folder: `<table>.csv` for CSV, `run-<id>.<ext>` otherwise. */
+  name: string;
+  data: Buffer;
+}
+
+export function parseExportFormat(s: string): ExportFormat {
+  const f = s.toLowerCase() === 'tex' ? 'latex' : s.toLowerCase();
+  if (!(EXPORT_FORMATS as readonly string[]).includes(f)) {
+    throw new DeflatorError('INPUT_INVALID', `unknown export format "${s}"`, `use one of ${EXPORT_FORMATS.join(', ')}`);
+  }
+  return f as ExportFormat;
+}
+
+/** The export's bytes, in memory (the app saves them where the user chooses). */
+export async function renderExport(record: RunRecord, format: ExportFormat): Promise<ExportFile[]> {
+  const single = (data: Buffer): ExportFile[] => [{ name: `run-${record.id}.${EXPORT_EXTENSIONS[format]}`, data }];
+  switch (format) {
+    case 'csv':
+      return resultToCsv(record.result, record).map((f) => ({ name: `${f.table}.csv`, data: Buffer.from(f.text, 'utf8') }));
+    case 'xlsx':
+      return single(await resultToXlsx(record.result, record));
+    case 'latex':
+      return single(Buffer.from(resultToLatex(record.result, record), 'utf8'));
+    case 'html':
+      return single(Buffer.from(resultToHtml(record.result, record), 'utf8'));
+    case 'pdf':
+      return single(await htmlToPdf(resultToHtml(record.result, record)));
+  }
+}
+
+/**
+ * Where CSV files go for an --out value: an existing folder, or one written with a
+ * trailing slash, gets `<folder>/<table>.csv`; anything else is a prefix,
+ * `<prefix>-<table>.csv` (a trailing `.csv` on the prefix is dropped).
+ */
+export function csvTargets(out: string, tables: string[]): string[] {
+  const isDir = /[\\/]$/.test(out) || (existsSync(out) && statSync(out).isDirectory());
+  if (isDir) return tables.map((t) => path.join(out, `${t}.csv`));
+  const prefix = out.replace(/\.csv$/i, '');
+  return tables.map((t) => `${prefix}-${t}.csv`);
+}
+
+/** Writes the export and returns the paths written. */
+export async function exportRunToPath(record: RunRecord, format: ExportFormat, out: string): Promise<string[]> {
+  const files = await renderExport(record, format);
+  const targets = format === 'csv' ? csvTargets(out, files.map((f) => f.name.replace(/\.csv$/, ''))) : [out];
+  targets.forEach((target, i) => {
+    mkdirSync(path.dirname(path.resolve(target)), { recursive: true });
+    writeFileSync(target, files[i].data);
+  });
+  return targets;
+}

@@ -1,0 +1,36 @@
+/**
+ * The run-record tables, applied as one migration of the store's list
+ * (src-main/store/migrations.ts). A run row holds the spec and the result as exact JSON
+ * (shared/records/exact-json.ts) so every double reads back bit for bit.
+ */
+export const RUNS_MIGRATION_NAME = 'run records: spec, result, version, panel and data fingerprints';
+
+export const RUNS_MIGRATION_SQL = `
+  CREATE TABLE run (
+    id           INTEGER PRIMARY KEY AUTOINCREMENT,  -- never reused: an export names its run
+    kind         TEXT NOT NULL CHECK (kind IN ('fit', 'backtest', 'compare')),
+    label        TEXT NOT NULL,
+    models       TEXT NOT NULL DEFAULT '[]',
+    created_at   TEXT NOT NULL,
+    version      TEXT NOT NULL,
+    spec         TEXT NOT NULL,
+    result       TEXT NOT NULL,
+    panel        TEXT NOT NULL,
+    panel_sha256 TEXT NOT NULL,
+    panels       TEXT,
+    files        TEXT NOT NULL DEFAULT '[]',
+    subjects     TEXT NOT NULL DEFAULT '[]'
+  );
+  CREATE INDEX run_by_time ON run (created_at);
+
+  -- Which runs read which stored subject: lets the store say which runs a delete or a
+  -- re-import makes stale without opening every run.
+  CREATE TABLE run_subject (
+    run_id INTEGER NOT NULL REFERENCES run (id) ON DELETE CASCADE,
+    kind   TEXT NOT NULL CHECK (kind IN ('asset', 'series', 'portfolio')),
+    name   TEXT NOT NULL,
+    sha256 TEXT NOT NULL,
+    PRIMARY KEY (run_id, kind, name)
+  ) WITHOUT ROWID;
+  CREATE INDEX run_subject_by_name ON run_subject (kind, name);
+`;
