@@ -15,8 +15,32 @@
 import { FREQUENCIES, type Frequency } from '../data.js';
 import { DeflatorError } from '../errors.js';
 
-const ISO_DATE = /^(\d{4})-(\d{2})-(\d{2})$/;
 const MS_PER_DAY = 86_400_000;
+
+/** Days since 1970-01-01 of a proleptic Gregorian date (Hinnant's days_from_civil). */
+function daysFromCivil(year: number, month: number, dom: number): number {
+  const y = month <= 2 ? year - 1 : year;
+  const era = Math.floor(y / 400);
+  const yoe = y - era * 400;
+  const doy = Math.floor((153 * (month + (month > 2 ? -3 : 9)) + 2) / 5) + dom - 1;
+  const doe = yoe * 365 + Math.floor(yoe / 4) - Math.floor(yoe / 100) + doy;
+  return era * 146097 + doe - 719468;
+}
+
+function daysInMonth(year: number, month: number): number {
+  if (month === 2) return (year % 4 === 0 && year % 100 !== 0) || year % 400 === 0 ? 29 : 28;
+  return month === 4 || month === 6 || month === 9 || month === 11 ? 30 : 31;
+}
+
+function digits(s: string, from: number, to: number): number {
+  let v = 0;
+  for (let i = from; i < to; i++) {
+    const c = s.charCodeAt(i) - 48;
+    if (c < 0 || c > 9) return -1;
+    v = v * 10 + c;
+  }
+  return v;
+}
 
 /** A parsed calendar date. `day` counts days since 1970-01-01 (UTC, proleptic Gregorian). */
 export interface CalendarDate {
@@ -28,15 +52,12 @@ export interface CalendarDate {
 
 /** Parses an ISO date (YYYY-MM-DD); `where` names the field for the error message. */
 export function parseDate(date: string, where = 'date'): CalendarDate {
-  const m = ISO_DATE.exec(date);
-  if (m) {
-    const year = Number(m[1]);
-    const month = Number(m[2]);
-    const dom = Number(m[3]);
-    const t = Date.UTC(year, month - 1, dom);
-    const back = new Date(t);
-    if (back.getUTCFullYear() === year && back.getUTCMonth() === month - 1 && back.getUTCDate() === dom) {
-      return { day: Math.round(t / MS_PER_DAY), year, month, date };
+  if (typeof date === 'string' && date.length === 10 && date[4] === '-' && date[7] === '-') {
+    const year = digits(date, 0, 4);
+    const month = digits(date, 5, 7);
+    const dom = digits(date, 8, 10);
+    if (year >= 1 && month >= 1 && month <= 12 && dom >= 1 && dom <= daysInMonth(year, month)) {
+      return { day: daysFromCivil(year, month, dom), year, month, date };
     }
   }
   throw new DeflatorError('INPUT_INVALID', `${where}: "${date}" is not a calendar date written as YYYY-MM-DD`, 'write dates as YYYY-MM-DD, e.g. 2024-03-28');

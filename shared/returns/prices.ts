@@ -12,7 +12,7 @@
  */
 import type { Frequency, PriceHistory } from '../data.js';
 import { DeflatorError } from '../errors.js';
-import { frequencyRank, parseAscending, storedFrequency, dateOfDay, type PeriodCalendar } from './periods.js';
+import { frequencyRank, parseAscending, storedFrequency, type PeriodCalendar } from './periods.js';
 
 export interface AssetPeriods {
   asset: string;
@@ -24,6 +24,8 @@ export interface AssetPeriods {
   gross: Map<number, number>;
   /** Period index -> day number of the last close in the period. */
   lastDay: Map<number, number>;
+  /** Period index -> date of the last close in the period. */
+  lastDate: Map<number, string>;
   /** The asset's last period when the data end before that period's last weekday (kept, flagged). */
   cutShort?: { index: number; from: string | null; to: string };
   /** Why the asset yields no returns at this frequency, when it yields none. */
@@ -87,7 +89,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     carried = 0;
   }
 
-  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), gross: new Map(), lastDay: new Map() };
+  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
   const f = cal.frequency;
   if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
     out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
@@ -103,21 +105,21 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   let k: number | null = null;
   let product = 1;
   let prevClosedK: number | null = null;
-  let prevCloseDay: number | null = null;
+  let prevCloseDate: string | null = null;
   const flush = (): void => {
     if (k === null) return;
     out.close.set(k, value);
     if (prevClosedK !== null && prevClosedK === k - 1) out.gross.set(k, product);
     prevClosedK = k;
   };
-  let lastPeriodStartDay: number | null = null;
+  let lastPeriodStart: string | null = null;
   for (let j = 0; j < rowDays.length; j++) {
     const idx = cal.indexOf(rowDates[j]);
     if (idx === null) continue;
     if (idx !== k) {
       flush();
-      if (k !== null) prevCloseDay = out.lastDay.get(k) ?? null;
-      lastPeriodStartDay = prevCloseDay;
+      if (k !== null) prevCloseDate = out.lastDate.get(k) ?? null;
+      lastPeriodStart = prevCloseDate;
       k = idx;
       product = 1;
     }
@@ -127,6 +129,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
       product *= r;
     }
     out.lastDay.set(idx, rowDays[j]);
+    out.lastDate.set(idx, rowDates[j].date);
   }
   flush();
 
@@ -137,7 +140,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     const lastWeekday = cal.lastWeekday(k);
     const lastDay = out.lastDay.get(k) as number;
     if (lastWeekday !== null && lastDay < lastWeekday) {
-      out.cutShort = { index: k, from: out.gross.has(k) && lastPeriodStartDay !== null ? dateOfDay(lastPeriodStartDay) : null, to: dateOfDay(lastDay) };
+      out.cutShort = { index: k, from: out.gross.has(k) ? lastPeriodStart : null, to: out.lastDate.get(k) as string };
     }
   }
   return out;

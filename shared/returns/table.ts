@@ -4,7 +4,7 @@
  */
 import type { Frequency, NamedSeries, PriceHistory } from '../data.js';
 import { DeflatorError } from '../errors.js';
-import { dateOfDay, parseDate, periodCalendar, type PeriodCalendar } from './periods.js';
+import { parseDate, periodCalendar, type PeriodCalendar } from './periods.js';
 import { historyPeriods, pricedDates, type AssetPeriods } from './prices.js';
 import { riskfreePeriods, type DayCount, type PeriodSeries } from './series.js';
 import { commonWindow } from './window.js';
@@ -57,9 +57,7 @@ export function periodLabels(lastDates: readonly Map<number, string>[]): Map<num
 
 /** Label map of an asset's closes. */
 export function assetLastDates(a: AssetPeriods): Map<number, string> {
-  const m = new Map<number, string>();
-  for (const [k, day] of a.lastDay) m.set(k, dateOfDay(day));
-  return m;
+  return a.lastDate;
 }
 
 function checkNames(histories: readonly PriceHistory[]): void {

@@ -8,7 +8,7 @@
 import { describe, expect, it } from 'vitest';
 import type { Frequency } from '../../../shared/data.js';
 import { returnsTable, type ReturnKind } from '../../../shared/returns/index.js';
-import { expectClose, readJson, readPrices } from './helpers.js';
+import { expectClose, readJson, readPrices, readSeries } from './helpers.js';
 
 interface FreqEntry {
   periods: string[];
@@ -23,6 +23,7 @@ interface FreqEntry {
 interface Fixture {
   libraries: Record<string, string>;
   frequencies: Record<Frequency, FreqEntry>;
+  monthlySeries: { riskfreeGross: Record<string, number>; excess: Record<string, Record<string, number>> };
 }
 
 const fixture = readJson<Fixture>('aggregation.json');
@@ -79,6 +80,22 @@ describe('aggregation of daily prices against pandas (fixtures/make_aggregation.
       });
     }
   }
+
+  it('monthly excess returns over daily rates compounded within the month match pandas', () => {
+    const rf = readSeries().find((s) => s.name === 'cash_rate');
+    const table = returnsTable(histories, { frequency: 'monthly', kind: 'excess', riskfree: rf });
+    let checked = 0;
+    for (const [asset, byLabel] of Object.entries(fixture.monthlySeries.excess)) {
+      table.periods.forEach((p, t) => {
+        const expected = byLabel[p] ?? null;
+        expectClose(table.series[asset][t], expected, `excess ${asset} ${p}`, 1e-12, 1e-14);
+        if (expected !== null) checked += 1;
+      });
+    }
+    expect(checked).toBeGreaterThan(60);
+    // The daily rates end mid-month too: their last month is flagged beside the assets'.
+    expect(table.sample.flags.some((f) => f.asset === 'cash_rate' && f.period === '2023-04-21')).toBe(true);
+  });
 
   it('daily data asked at daily frequency is not flagged (no period is cut short)', () => {
     expect(returnsTable(histories, { frequency: 'daily', kind: 'gross' }).sample.flags).toEqual([]);
