@@ -105,7 +105,6 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   let k: number | null = null;
   let product = 1;
   let prevClosedK: number | null = null;
-  let prevCloseDate: string | null = null;
   const flush = (): void => {
     if (k === null) return;
     out.close.set(k, value);
@@ -118,8 +117,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     if (idx === null) continue;
     if (idx !== k) {
       flush();
-      if (k !== null) prevCloseDate = out.lastDate.get(k) ?? null;
-      lastPeriodStart = prevCloseDate;
+      lastPeriodStart = k !== null ? (out.lastDate.get(k) ?? null) : null;
       k = idx;
       product = 1;
     }
