@@ -54,6 +54,10 @@ export const importOptionsSchema = z
     rfForm: z.enum(RF_FORMS).optional(),
     /** Values are in percent (divide by 100). */
     percent: z.boolean().optional(),
+    /** Price files: one row per date and asset (long, default) or one column per asset (wide). */
+    layout: z.enum(['long', 'wide']).optional(),
+    /** A named date layout of the import pipeline; ISO YYYY-MM-DD when absent. */
+    dateFormat: z.string().min(1).max(40).optional(),
   })
   .strict();
 

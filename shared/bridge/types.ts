@@ -50,6 +50,10 @@ export interface AssetHistory {
 }
 
 export interface ImportWarning {
+  /** What kind of warning (gap, stale-price, large-return, rejected-row ...), where known. */
+  kind?: string;
+  /** The asset or series it is about. */
+  subject?: string;
   /** File line (1-based) where known. */
   line?: number;
   column?: string;
@@ -59,9 +63,14 @@ export interface ImportWarning {
 export interface ImportReport {
   file: string;
   kind: 'prices' | 'series';
+  /** Rows (observations or values) stored. */
   rows: number;
+  rowsRead?: number;
+  rowsRejected?: number;
   /** Asset or series names written. */
   names: string[];
+  first?: string | null;
+  last?: string | null;
   warnings: ImportWarning[];
   durationMs: number;
 }

@@ -1,0 +1,172 @@
+/**
+ * The app's services on the real program: the open project database (the store), the
+ * import pipeline, the returns engine for one asset's history, and the worker pool for
+ * every estimation. Built with plain constructor arguments by src-main/app/open.ts.
+ */
+import path from 'node:path';
+import type { Frequency, PriceHistory } from '../../shared/data.js';
+import { DeflatorError } from '../../shared/errors.js';
+import type { ReturnsPanel } from '../../shared/panel.js';
+import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
+import { parseAscending } from '../../shared/returns/periods.js';
+import { parseCompareSpec } from '../../shared/spec.js';
+import type { CompareSpec, FitSpec } from '../../shared/spec.js';
+import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import type { AssetHistory, Coverage, CoverageRow, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
+import { loadPanel } from '../data/panel.js';
+import { importPrices, importSeries } from '../import/index.js';
+import type { ImportReport as PipelineReport } from '../import/index.js';
+import type { Store } from '../store/store.js';
+import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from './ports.js';
+
+/** The slice of the worker pool (src-main/workers/pool.ts) the app uses. */
+export interface TaskRunner {
+  runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<FitResult>;
+  runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<BacktestResult>;
+  runTask(kind: 'compare', payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }, opts: RunOpts): Promise<CompareResult>;
+}
+interface RunOpts {
+  onProgress?: (done: number, total: number, stage?: string) => void;
+  signal?: AbortSignal;
+}
+
+const longest = (gaps: { days: number }[]): number | undefined => (gaps.length ? Math.max(...gaps.map((g) => g.days)) : undefined);
+
+export class StoreProject implements ProjectData, Importer {
+  constructor(private readonly store: Store) {}
+
+  get databaseName(): string {
+    return path.basename(this.store.path);
+  }
+
+  coverage(): Coverage {
+    const info = this.store.info();
+    const assets: CoverageRow[] = info.assets.map((a) => {
+      const row: CoverageRow = { name: a.name, kind: 'asset', first: a.first, last: a.last, count: a.count, gaps: a.gaps.length };
+      const l = longest(a.gaps);
+      if (l !== undefined) row.longestGapDays = l;
+      return row;
+    });
+    const series: CoverageRow[] = info.series.map((s) => {
+      const row: CoverageRow = { name: s.name, kind: s.kind, first: s.first, last: s.last, count: s.count, gaps: s.gaps.length };
+      const l = longest(s.gaps);
+      if (l !== undefined) row.longestGapDays = l;
+      if (s.rfForm) row.rfForm = s.rfForm;
+      return row;
+    });
+    const portfolios: CoverageRow[] = info.portfolios.map((p) => ({ name: p.name, kind: 'portfolio', first: p.first, last: p.last, count: p.count, gaps: 0 }));
+    return { assets, series, portfolios };
+  }
+
+  history(asset: string, frequency?: Frequency): AssetHistory {
+    if (!this.store.hasAsset(asset)) {
+      throw new DeflatorError('NOT_FOUND', `no price history named "${asset}" in ${this.databaseName}`, 'pick an asset from the coverage table');
+    }
+    const h = this.store.loadHistories([asset])[0];
+    return priceAndTotalReturn(h, frequency);
+  }
+
+  async importFile(file: string, kind: 'prices' | 'series', options: ImportOptions, ctx: TaskContext): Promise<ImportReport> {
+    const onProgress = (read: number, total: number) => ctx.onProgress(read, total, 'reading');
+    let r: PipelineReport;
+    if (kind === 'prices') {
+      r = await importPrices(this.store, file, {
+        ...(options.layout ? { layout: options.layout } : {}),
+        ...(options.dateFormat ? { dateFormat: options.dateFormat } : {}),
+        onProgress,
+      });
+    } else {
+      r = await importSeries(this.store, file, {
+        kind: options.seriesKind ?? 'factor',
+        units: options.percent ? 'percent' : 'decimal',
+        ...(options.seriesKind === 'riskfree' && options.rfForm ? { rfForm: options.rfForm } : {}),
+        ...(options.dateFormat ? { dateFormat: options.dateFormat } : {}),
+        onProgress,
+      });
+    }
+    ctx.onProgress(1, 1, 'done');
+    const warnings: ImportWarning[] = r.warnings.map((w) => {
+      const out: ImportWarning = { message: w.message, kind: w.kind };
+      if (w.subject) out.subject = w.subject;
+      return out;
+    });
+    if (r.status === 'already-imported') warnings.unshift({ kind: 'already-imported', message: `the same file was imported before (import #${r.importId}); nothing changed` });
+    return {
+      file: path.basename(r.file),
+      kind,
+      rows: r.rowsStored,
+      rowsRead: r.rowsRead,
+      rowsRejected: r.rowsRejected,
+      names: r.subjects,
+      first: r.first,
+      last: r.last,
+      warnings,
+      durationMs: Math.round(r.seconds * 1000),
+    };
+  }
+}
+
+/**
+ * Split-adjusted price (prices before a split divided by the product of later factors,
+ * METHODS section 1) and the total-return index V scaled to start at the first adjusted
+ * price, on the history's own period ends.
+ */
+export function priceAndTotalReturn(h: PriceHistory, frequency?: Frequency): AssetHistory {
+  const priced: number[] = [];
+  for (let i = 0; i < h.dates.length; i++) if (!Number.isNaN(h.price[i])) priced.push(i);
+  if (priced.length === 0) throw new DeflatorError('DATA_MISSING', `price history "${h.asset}" has no priced rows`, 'import its prices');
+  // adjusted price: walk backwards, dividing by the product of factors after each row
+  const adjusted = new Float64Array(h.dates.length);
+  let later = 1;
+  for (let i = h.dates.length - 1; i >= 0; i--) {
+    adjusted[i] = h.price[i] / later;
+    later *= h.adjust ? (Number.isNaN(h.adjust[i]) ? 1 : h.adjust[i]) : 1;
+  }
+  const pricedDates = priced.map((i) => h.dates[i]);
+  const f = frequency ?? storedFrequency(parseAscending(pricedDates, `price history "${h.asset}"`)) ?? 'daily';
+  const dividends = priced.reduce((n, i) => n + (h.dividend[i] > 0 ? 1 : 0), 0);
+  if (priced.length < 2) {
+    const p = adjusted[priced[0]];
+    return { asset: h.asset, frequency: frequency ?? 'stored', dates: pricedDates, price: [p], totalReturn: [p], dividends };
+  }
+  const table = returnsTable([h], { frequency: f, kind: 'index' });
+  const values = table.series[h.asset] ?? [];
+  const priceOn = new Map(priced.map((i) => [h.dates[i], adjusted[i]]));
+  const first = adjusted[priced[0]];
+  const dates: string[] = [];
+  const price: number[] = [];
+  const totalReturn: number[] = [];
+  table.periods.forEach((label, k) => {
+    const v = values[k];
+    const p = priceOn.get(label);
+    if (v === null || v === undefined || p === undefined || !Number.isFinite(v) || !Number.isFinite(p)) return;
+    dates.push(label);
+    price.push(p);
+    totalReturn.push(v * first);
+  });
+  return { asset: h.asset, frequency: frequency ?? 'stored', dates, price, totalReturn, dividends };
+}
+
+/** Every estimation goes to the worker pool; the panel is read from the store first. */
+export class PoolEngine implements Engine {
+  constructor(
+    private readonly pool: TaskRunner,
+    private readonly store: () => Store,
+  ) {}
+
+  fit(spec: FitSpec, ctx: TaskContext): Promise<FitResult> {
+    const panel = loadPanel(this.store(), spec);
+    return this.pool.runTask('fit', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal });
+  }
+
+  backtest(spec: FitSpec, ctx: TaskContext): Promise<BacktestResult> {
+    const panel = loadPanel(this.store(), spec);
+    return this.pool.runTask('backtest', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal });
+  }
+
+  compare(spec: CompareSpec, ctx: TaskContext): Promise<CompareResult> {
+    const { spec: parsed, fits } = parseCompareSpec(JSON.parse(JSON.stringify(spec)));
+    const panels = fits.map((f) => loadPanel(this.store(), f));
+    return this.pool.runTask('compare', { spec: parsed, fits, panels }, { onProgress: ctx.onProgress, signal: ctx.signal });
+  }
+}
