@@ -8,7 +8,7 @@ import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../res
 import { CAUTION } from '../results.js';
 import type { ExportRecord } from './header.js';
 import { fixed } from './numbers.js';
-import { resultTitle } from './tables.js';
+import { allTests, resultTitle } from './tables.js';
 
 const SPECIAL: Record<string, string> = {
   '\\': '\\textbackslash{}',
@@ -89,7 +89,7 @@ function fitLatex(r: FitResult, tag: string): string {
     (e) =>
       `${latexEscape(e.asset)} & ${latexNumber(100 * e.alpha, DEC.pct)} & ${latexNumber(e.t, DEC.t)} & ${latexNumber(100 * e.alphaAnnual, DEC.pctAnnual)} & ${latexNumber(100 * e.meanReturn, DEC.pct)} & ${latexNumber(100 * e.predicted, DEC.pct)} \\\\`,
   );
-  const tests = [r.test, ...r.tests].map(
+  const tests = allTests(r).map(
     (t) => `${latexEscape(t.name)} & ${latexNumber(t.stat, DEC.stat)} & ${t.df !== undefined ? String(t.df) : t.df1 !== undefined ? `${t.df1}, ${t.df2 ?? ''}` : ''} & ${latexNumber(t.p, DEC.p)} \\\\`,
   );
   if (r.hj) tests.push(`HJ distance & ${latexNumber(r.hj.distance, DEC.value)} & & ${latexNumber(r.hj.p, DEC.p)} \\\\`);

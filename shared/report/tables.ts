@@ -46,6 +46,11 @@ const testColumns: ReportColumn[] = [
   text('note', 'Note'),
 ];
 
+/** The main test, then the further tests, without repeating the main one when `tests` lists it too. */
+export function allTests(r: Pick<FitResult, 'test' | 'tests'>): TestResult[] {
+  return [r.test, ...r.tests.filter((t) => !(t.name === r.test.name && Object.is(t.stat, r.test.stat) && Object.is(t.p, r.test.p)))];
+}
+
 export function fitTables(r: FitResult): ReportTable[] {
   const shanken = r.params.some((p) => p.seShanken !== undefined);
   const hac = r.pricingErrors.some((e) => e.seHac !== undefined);
@@ -94,7 +99,7 @@ export function fitTables(r: FitResult): ReportTable[] {
         ...(shankenAlpha ? [opt(e.seShanken)] : []),
       ]),
     },
-    { id: 'tests', title: 'Tests', columns: testColumns, rows: testRows([r.test, ...r.tests]) },
+    { id: 'tests', title: 'Tests', columns: testColumns, rows: testRows(allTests(r)) },
   ];
   const fitRows: CellValue[][] = [
     ['MAPE (per period)', r.fit.mape, null],
