@@ -179,7 +179,26 @@ export interface CompareResult {
   sample: SampleHeader;
   models: CompareRow[];
   /** Pairwise bootstrap tests of equal squared HJ distance. */
-  hjTests: { a: string; b: string; diff: number; p: number; replications: number; block: number; seed: number }[];
+  hjTests: {
+    a: string;
+    b: string;
+    diff: number;
+    p: number;
+    replications: number;
+    block: number;
+    seed: number;
+    /** Replications on which both distances could be computed (the p-value's denominator less one). */
+    used?: number;
+  }[];
+  /**
+   * The best model per column: column key -> label. Keys: test.p, hj.distance, hj.p,
+   * fit.mape, fit.rmse, fit.r2, oos.rmse, oos.r2 (largest p and R^2, smallest distance and errors).
+   */
+  best?: Record<string, string>;
+  /** How the HJ bootstrap was run (absent when fewer than two models have an HJ distance). */
+  bootstrap?: { replications: number; block: number; blockRule: string; seed: number; method: string; failures: string[] };
+  /** Models whose fit failed, with the reason; they have no row in `models`. */
+  failures?: { label: string; error: string }[];
 }
 
 export type AnyResult = FitResult | BacktestResult | CompareResult;

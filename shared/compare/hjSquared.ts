@@ -1,0 +1,103 @@
+/**
+ * Squared Hansen-Jagannathan distance of a linear discount-factor model on a panel,
+ * optionally on resampled periods (the bootstrap's inner loop):
+ *
+ *   HJ^2 = min_theta g_A(theta)' (E[R R'])^{-1} g_A(theta)   (Hansen and Jagannathan, 1997)
+ *
+ * with g_A the N asset pricing errors and E[RR'] the second moments of the test-asset
+ * returns used. The asset errors are linear in the free parameters:
+ *   linear (demeaned, mu held at the sample mean fbar)   g_A = Rbar - cov(R, f) b
+ *   linear-raw                                           g_A = Rbar - E[R f'] b
+ *   linear-gross                                         g_A = a Rbar - E[R f'] b - 1
+ * so the minimum is a weighted least-squares problem, solved by QR of the whitened
+ * system C^{-1} X (E[RR'] = C C'). This is the same number the estimator reports as
+ * the HJ distance (squared); the test in test/shared/compare checks that.
+ */
+import { DeflatorError } from '../errors.js';
+import type { ReturnsPanel } from '../panel.js';
+import type { ModelSpec } from '../spec.js';
+import { backSolve, cholesky, forwardSolveInPlace, qrThin } from '../backtest/dense.js';
+
+export function linearHjApplies(model: ModelSpec): boolean {
+  return model.kind === 'linear' || model.kind === 'linear-raw' || model.kind === 'linear-gross';
+}
+
+/**
+ * HJ^2 of the model on the periods idx (all periods when idx is null). `assets` are the
+ * test-asset return series, `factors` the model's factor series, both on the panel's periods.
+ */
+export function linearHjSquared(kind: 'linear' | 'linear-raw' | 'linear-gross', assets: readonly Float64Array[], factors: readonly Float64Array[], idx: Int32Array | null): number {
+  const N = assets.length;
+  const K = factors.length;
+  const T = idx ? idx.length : assets[0].length;
+  const at = (s: Float64Array, t: number): number => s[idx ? idx[t] : t];
+  const Rbar = new Float64Array(N);
+  const fbar = new Float64Array(K);
+  const ERf = new Float64Array(N * K);
+  const ERR = new Float64Array(N * N);
+  const r = new Float64Array(N);
+  const f = new Float64Array(K);
+  for (let t = 0; t < T; t++) {
+    for (let i = 0; i < N; i++) r[i] = at(assets[i], t);
+    for (let k = 0; k < K; k++) f[k] = at(factors[k], t);
+    for (let i = 0; i < N; i++) {
+      const ri = r[i];
+      Rbar[i] += ri;
+      for (let k = 0; k < K; k++) ERf[i * K + k] += ri * f[k];
+      for (let j = 0; j <= i; j++) ERR[i * N + j] += ri * r[j];
+    }
+    for (let k = 0; k < K; k++) fbar[k] += f[k];
+  }
+  for (let i = 0; i < N; i++) {
+    Rbar[i] /= T;
+    for (let k = 0; k < K; k++) ERf[i * K + k] /= T;
+    for (let j = 0; j <= i; j++) {
+      ERR[i * N + j] /= T;
+      ERR[j * N + i] = ERR[i * N + j];
+    }
+  }
+  for (let k = 0; k < K; k++) fbar[k] /= T;
+  const p = kind === 'linear-gross' ? K + 1 : K;
+  if (N <= p) throw new DeflatorError('UNDERIDENTIFIED', `HJ distance: ${N} test assets for ${p} free parameters`, 'use more test assets');
+  const X = new Float64Array(N * p);
+  const y = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    if (kind === 'linear-gross') {
+      X[i * p] = Rbar[i];
+      for (let k = 0; k < K; k++) X[i * p + 1 + k] = -ERf[i * K + k];
+      y[i] = 1;
+    } else {
+      for (let k = 0; k < K; k++) X[i * p + k] = -(ERf[i * K + k] - (kind === 'linear' ? Rbar[i] * fbar[k] : 0));
+      y[i] = -Rbar[i];
+    }
+  }
+  const C = cholesky(ERR, N, "E[R R'] (second moments of the test-asset returns, the HJ weight)");
+  forwardSolveInPlace(C, N, X, p);
+  forwardSolveInPlace(C, N, y, 1);
+  const { Q, R } = qrThin(X, N, p, 'the HJ-weighted moment Jacobian');
+  const qty = new Float64Array(p);
+  for (let i = 0; i < N; i++) for (let c = 0; c < p; c++) qty[c] += Q[i * p + c] * y[i];
+  const theta = backSolve(R, p, qty, 1);
+  let q = 0;
+  for (let i = 0; i < N; i++) {
+    let e = -y[i];
+    for (let c = 0; c < p; c++) e += X[i * p + c] * theta[c];
+    q += e * e;
+  }
+  return q;
+}
+
+/** Test-asset and factor series of a model on a panel (the risk-free asset appended when the spec makes it a test asset). */
+export function modelSeries(model: ModelSpec, panel: ReturnsPanel, includeRiskfree: boolean): { assets: Float64Array[]; factors: Float64Array[] } {
+  const assets = panel.returns.slice();
+  if (includeRiskfree) {
+    if (!panel.riskfreeGross) throw new DeflatorError('DATA_MISSING', 'includeRiskfree is set but the panel has no risk-free series', 'name the risk-free series in "riskfree"');
+    assets.push(panel.riskfreeGross);
+  }
+  const factors = model.factors.map((name) => {
+    const f = panel.factors.find((x) => x.name === name);
+    if (!f) throw new DeflatorError('DATA_MISSING', `factor "${name}" is not in the panel`, 'import the factor series or fix model.factors');
+    return f.values;
+  });
+  return { assets, factors };
+}
