@@ -12,6 +12,9 @@ import { FREQUENCIES, RF_FORMS, SERIES_KINDS } from '../data.js';
 import { compareSpecSchema, fitSpecSchema } from '../spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../results.js';
 import type { AppInfo, AssetHistory, Coverage, ImportReport } from './types.js';
+import { RUN_KINDS, type RunRecord, type RunSummary, type RunTag, type StaleItem } from '../records/run-record.js';
+import type { ReplayReport } from '../records/replay-report.js';
+import { EXPORT_FORMATS } from '../report/formats.js';
 
 export interface CallDef<Req extends z.ZodType, Rep> {
   request: Req;
@@ -82,18 +85,41 @@ export const CALLS = {
     z.object({ spec: z.unknown() }).strict(),
     { summary: 'validate a spec (fit or comparison) and return it with defaults filled in' },
   ),
-  fit: call<FitResult>()(z.object({ spec: fitSpecSchema }).strict(), { summary: 'fit one model', task: true }),
-  backtest: call<BacktestResult>()(z.object({ spec: fitSpecSchema }).strict(), {
+  fit: call<FitResult & RunTag>()(z.object({ spec: fitSpecSchema }).strict(), { summary: 'fit one model', task: true }),
+  backtest: call<BacktestResult & RunTag>()(z.object({ spec: fitSpecSchema }).strict(), {
     summary: 'rolling or expanding back-test of one model (spec.backtest required)',
     task: true,
   }),
-  compare: call<CompareResult>()(z.object({ spec: compareSpecSchema }).strict(), {
+  compare: call<CompareResult & RunTag>()(z.object({ spec: compareSpecSchema }).strict(), {
     summary: 'fit several models on one sample, side by side',
     task: true,
   }),
   cancel: call<{ cancelled: boolean }>()(
     z.object({ taskId: z.string().regex(/^[A-Za-z0-9_-]{1,64}$/) }).strict(),
     { summary: 'cancel a running task' },
+  ),
+  runs: call<RunSummary[]>()(
+    z
+      .object({
+        model: z.string().max(200).optional(),
+        kind: z.enum(RUN_KINDS).optional(),
+        from: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+        to: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+      })
+      .strict(),
+    { summary: 'recorded runs, newest first, with stale flags; filter by model text, kind, recording date' },
+  ),
+  run: call<{ record: RunRecord; staleItems: StaleItem[] }>()(z.object({ id: z.number().int().min(1) }).strict(), {
+    summary: 'one recorded run: spec, result, version, fingerprints, and what changed in its data',
+  }),
+  deleteRun: call<{ deleted: number }>()(z.object({ id: z.number().int().min(1) }).strict(), { summary: 'delete a run record (the data stays)' }),
+  replayRun: call<ReplayReport>()(z.object({ id: z.number().int().min(1) }).strict(), {
+    summary: 'recompute a recorded run and compare every number bit for bit',
+    task: true,
+  }),
+  exportRun: call<{ files: { name: string; mime: string; base64: string }[] }>()(
+    z.object({ id: z.number().int().min(1), format: z.enum(EXPORT_FORMATS) }).strict(),
+    { summary: 'a recorded run as CSV files, XLSX, LaTeX, HTML or PDF, for the user to save', task: true },
   ),
 } as const;
 

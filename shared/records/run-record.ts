@@ -94,6 +94,11 @@ export interface RunSummary {
   staleItems: StaleItem[];
 }
 
+/** A reply that was recorded as a run carries its id (never part of the stored result). */
+export interface RunTag {
+  runId?: number;
+}
+
 /** Is this parsed JSON a run record's kind? */
 export function isRunKind(x: unknown): x is RunKind {
   return typeof x === 'string' && (RUN_KINDS as readonly string[]).includes(x);

@@ -8,6 +8,7 @@ import { EventHub } from './events.js';
 import { createHandlers } from './handlers.js';
 import type { Engine, FilePolicy, Importer, ProjectData } from './ports.js';
 import { TaskRegistry } from './tasks.js';
+import type { RunService } from '../runs/service.js';
 
 export interface AppParts {
   version: string;
@@ -15,6 +16,7 @@ export interface AppParts {
   importer: () => Importer;
   engine: Engine;
   files: FilePolicy;
+  runs?: RunService;
 }
 
 export interface AppCore {

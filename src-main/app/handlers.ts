@@ -8,6 +8,7 @@ import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../shared/spec
 import type { Handlers } from './dispatch.js';
 import type { Engine, FilePolicy, Importer, ProjectData } from './ports.js';
 import type { TaskRegistry } from './tasks.js';
+import type { RunService } from '../runs/service.js';
 
 export interface AppServices {
   version: string;
@@ -17,6 +18,13 @@ export interface AppServices {
   engine: Engine;
   files: FilePolicy;
   tasks: TaskRegistry;
+  /** Run history (src-main/runs/service.ts); absent in set-ups without a project database. */
+  runs?: RunService;
+}
+
+function runService(s: AppServices): RunService {
+  if (!s.runs) throw new DeflatorError('NOT_FOUND', 'run history is not available in this session', 'open a project database');
+  return s.runs;
 }
 
 export function createHandlers(s: AppServices): Handlers {
@@ -52,5 +60,10 @@ export function createHandlers(s: AppServices): Handlers {
     },
     compare: async (req, ctx) => s.engine.compare(parseCompareSpec(req.spec).spec, ctx),
     cancel: async (req) => ({ cancelled: s.tasks.cancel(req.taskId) }),
+    runs: async (req) => runService(s).list(req),
+    run: async (req) => runService(s).get(req.id),
+    deleteRun: async (req) => runService(s).delete(req.id),
+    replayRun: async (req) => runService(s).replay(req.id),
+    exportRun: async (req) => runService(s).export(req.id, req.format),
   };
 }

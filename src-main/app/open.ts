@@ -14,6 +14,8 @@ import type { AppCore } from './compose.js';
 import { ImportFilePolicy } from './files.js';
 import { PoolEngine, StoreProject } from './project.js';
 import type { TaskRunner } from './project.js';
+import { poolRecompute } from '../runs/replay.js';
+import { RunService } from '../runs/service.js';
 
 export interface OpenOptions {
   /** The project database; created empty when missing (or as the demo, see `demo`). */
@@ -25,6 +27,8 @@ export interface OpenOptions {
   /** Folders whose files an import may read (see files.ts). */
   fileRoots?: string[];
   pool: TaskRunner;
+  /** HTML -> PDF for run exports (Electron: pdfFromHtmlWithWebContents); default headless Chromium. */
+  pdf?: (html: string) => Promise<Buffer>;
 }
 
 export interface OpenedApp extends AppCore {
@@ -51,6 +55,7 @@ export async function openApp(opts: OpenOptions): Promise<OpenedApp> {
     importer: () => project,
     engine: new PoolEngine(opts.pool, () => store),
     files,
+    runs: new RunService(() => store, poolRecompute(opts.pool), opts.pdf),
   });
   return {
     ...core,

@@ -17,6 +17,7 @@ import { loadPanel } from '../data/panel.js';
 import { importPrices, importSeries } from '../import/index.js';
 import type { ImportReport as PipelineReport } from '../import/index.js';
 import type { Store } from '../store/store.js';
+import { keepRun } from '../runs/runs.js';
 import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from './ports.js';
 
 /** The slice of the worker pool (src-main/workers/pool.ts) the app uses. */
@@ -156,17 +157,17 @@ export class PoolEngine implements Engine {
 
   fit(spec: FitSpec, ctx: TaskContext): Promise<FitResult> {
     const panel = loadPanel(this.store(), spec);
-    return this.pool.runTask('fit', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal });
+    return this.pool.runTask('fit', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel }));
   }
 
   backtest(spec: FitSpec, ctx: TaskContext): Promise<BacktestResult> {
     const panel = loadPanel(this.store(), spec);
-    return this.pool.runTask('backtest', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal });
+    return this.pool.runTask('backtest', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel }));
   }
 
   compare(spec: CompareSpec, ctx: TaskContext): Promise<CompareResult> {
     const { spec: parsed, fits } = parseCompareSpec(JSON.parse(JSON.stringify(spec)));
     const panels = fits.map((f) => loadPanel(this.store(), f));
-    return this.pool.runTask('compare', { spec: parsed, fits, panels }, { onProgress: ctx.onProgress, signal: ctx.signal });
+    return this.pool.runTask('compare', { spec: parsed, fits, panels }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec: parsed, result, panel: panels }));
   }
 }

@@ -8,15 +8,13 @@ import path from 'node:path';
 import { DeflatorError } from '../../shared/errors.js';
 import type { RunRecord } from '../../shared/records/run-record.js';
 import { resultToCsv } from '../../shared/report/csv.js';
+import { EXPORT_EXTENSIONS, EXPORT_FORMATS, type ExportFormat } from '../../shared/report/formats.js';
 import { resultToHtml } from '../../shared/report/html.js';
 import { resultToLatex } from '../../shared/report/latex.js';
 import { htmlToPdf } from './pdf.js';
 import { resultToXlsx } from './xlsx.js';
 
-export const EXPORT_FORMATS = ['csv', 'xlsx', 'latex', 'html', 'pdf'] as const;
-export type ExportFormat = (typeof EXPORT_FORMATS)[number];
-
-export const EXPORT_EXTENSIONS: Record<ExportFormat, string> = { csv: 'csv', xlsx: 'xlsx', latex: 'tex', html: 'html', pdf: 'pdf' };
+export { EXPORT_FORMATS, EXPORT_EXTENSIONS, type ExportFormat };
 
 export interface ExportFile {
   /** File name without folder: `<table>.csv` for CSV, `run-<id>.<ext>` otherwise. */
@@ -33,7 +31,7 @@ export function parseExportFormat(s: string): ExportFormat {
 }
 
 /** The export's bytes, in memory (the app saves them where the user chooses). */
-export async function renderExport(record: RunRecord, format: ExportFormat): Promise<ExportFile[]> {
+export async function renderExport(record: RunRecord, format: ExportFormat, pdf: (html: string) => Promise<Buffer> = htmlToPdf): Promise<ExportFile[]> {
   const single = (data: Buffer): ExportFile[] => [{ name: `run-${record.id}.${EXPORT_EXTENSIONS[format]}`, data }];
   switch (format) {
     case 'csv':
@@ -45,7 +43,7 @@ export async function renderExport(record: RunRecord, format: ExportFormat): Pro
     case 'html':
       return single(Buffer.from(resultToHtml(record.result, record), 'utf8'));
     case 'pdf':
-      return single(await htmlToPdf(resultToHtml(record.result, record)));
+      return single(await pdf(resultToHtml(record.result, record)));
   }
 }
 

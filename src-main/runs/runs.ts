@@ -8,7 +8,7 @@ import type { AnyResult } from '../../shared/results.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { parseExact, stringifyExact } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
-import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSummary, StaleItem, SubjectFingerprint } from '../../shared/records/run-record.js';
+import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSummary, RunTag, StaleItem, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
 import { DataFingerprinter, runSubjects } from './dependencies.js';
@@ -100,7 +100,7 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
         createdAt,
         VERSION,
         stringifyExact(input.spec),
-        stringifyExact(input.result),
+        stringifyExact(untagged(input.result)),
         JSON.stringify(panels[0]),
         panels[0].sha256,
         panels.length > 1 ? JSON.stringify(panels) : null,
@@ -112,6 +112,22 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
     return runId;
   })();
   return getRun(store, id);
+}
+
+function untagged(result: AnyResult & RunTag): AnyResult {
+  if (!('runId' in result)) return result;
+  const { runId: _drop, ...rest } = result;
+  return rest as AnyResult;
+}
+
+/**
+ * Records the run and returns the same result tagged with its run id: the one-line
+ * addition after a fit, back-test or comparison, e.g.
+ * `.then((result) => keepRun(store, { spec, result, panel }))`.
+ */
+export function keepRun<R extends AnyResult>(store: Store, input: RecordRunInput & { result: R }): R & RunTag {
+  const rec = recordRun(store, input);
+  return Object.assign(input.result, { runId: rec.id });
 }
 
 function toRecord(r: RunRow): RunRecord {

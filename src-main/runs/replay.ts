@@ -1,0 +1,152 @@
+/**
+ * Replay: recompute a recorded run from the data now in the store and its stored spec,
+ * and compare every number of the new result with the stored one bit for bit. The
+ * report also says whether the run is stale (its data changed since it was recorded)
+ * and whether the returns panel rebuilt today has the recorded fingerprint. A stale run
+ * is never reported as fine, even where its numbers happen to agree.
+ */
+import type { ReturnsPanel } from '../../shared/panel.js';
+import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import { describeError, isDeflatorError } from '../../shared/errors.js';
+import { diffExact } from '../../shared/records/exact-json.js';
+import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
+import type { PanelFingerprint, RunRecord } from '../../shared/records/run-record.js';
+import type { ReplayReport } from '../../shared/records/replay-report.js';
+import { parseCompareSpec, parseFitSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
+import { loadPanel } from '../data/panel.js';
+import type { Store } from '../store/store.js';
+import { VERSION } from '../version.js';
+import { getRun, staleItems } from './runs.js';
+
+export type { ReplayReport };
+
+/** How to compute each kind of run: the same code paths the commands use. */
+export interface Recompute {
+  fit(spec: FitSpec, panel: ReturnsPanel): Promise<FitResult>;
+  backtest(spec: FitSpec, panel: ReturnsPanel): Promise<BacktestResult>;
+  compare(spec: CompareSpec, fits: FitSpec[], panels: ReturnsPanel[]): Promise<CompareResult>;
+}
+
+export interface RecomputeOptions {
+  onProgress?: (done: number, total: number, stage?: string) => void;
+  signal?: AbortSignal;
+}
+
+/** The slice of the worker pool (src-main/workers/pool.ts) replay uses. */
+export interface RecomputeRunner {
+  runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RecomputeOptions): Promise<FitResult>;
+  runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RecomputeOptions): Promise<BacktestResult>;
+  runTask(kind: 'compare', payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }, opts: RecomputeOptions): Promise<CompareResult>;
+}
+
+/** Recompute in the worker pool (the compiled dist/worker.js the CLI and the app use). */
+export function poolRecompute(pool: RecomputeRunner): Recompute {
+  return {
+    fit: (spec, panel) => pool.runTask('fit', { spec, panel }, {}),
+    backtest: (spec, panel) => pool.runTask('backtest', { spec, panel }, {}),
+    compare: (spec, fits, panels) => pool.runTask('compare', { spec, fits, panels }, {}),
+  };
+}
+
+function countNumbers(x: unknown): number {
+  if (typeof x === 'number') return 1;
+  if (x instanceof Float64Array) return x.length;
+  if (Array.isArray(x)) return x.reduce((n: number, v) => n + countNumbers(v), 0);
+  if (x !== null && typeof x === 'object') return Object.values(x).reduce((n: number, v) => n + countNumbers(v), 0);
+  return 0;
+}
+
+function recordedPanels(r: RunRecord): PanelFingerprint[] {
+  return r.panels?.length ? r.panels : [r.panel];
+}
+
+/** Recomputes one run and compares it with the stored result. */
+export async function replayRun(store: Store, id: number, recompute: Recompute, opts: { limit?: number } = {}): Promise<ReplayReport> {
+  const record = getRun(store, id);
+  const stale = staleItems(store, record);
+  const report: ReplayReport = {
+    run: record.id,
+    kind: record.kind,
+    label: record.label,
+    recordedVersion: record.version,
+    currentVersion: VERSION,
+    stale: stale.length > 0,
+    staleItems: stale,
+    panels: recordedPanels(record).map((p) => ({ recorded: p.sha256, current: null, matches: false })),
+    compared: 0,
+    differing: 0,
+    differences: [],
+    ok: false,
+  };
+  let result: AnyResult;
+  let panels: ReturnsPanel[];
+  try {
+    if (record.kind === 'compare') {
+      const { spec, fits } = parseCompareSpec(record.spec);
+      panels = fits.map((f) => loadPanel(store, f));
+      result = await recompute.compare(spec, fits, panels);
+    } else {
+      const spec = parseFitSpec(record.spec);
+      panels = [loadPanel(store, spec)];
+      result = record.kind === 'fit' ? await recompute.fit(spec, panels[0]) : await recompute.backtest(spec, panels[0]);
+    }
+  } catch (e) {
+    report.error = isDeflatorError(e) ? `${e.code}: ${describeError(e)}` : describeError(e);
+    return report;
+  }
+  const current = uniqueFingerprints(panels);
+  const recorded = recordedPanels(record);
+  report.panels = recorded.map((p, i) => {
+    const now = current[i]?.sha256 ?? null;
+    return { recorded: p.sha256, current: now, matches: now === p.sha256 };
+  });
+  if (current.length > recorded.length) {
+    for (const extra of current.slice(recorded.length)) report.panels.push({ recorded: '(none)', current: extra.sha256, matches: false });
+  }
+  const d = diffExact(record.result, result, opts.limit ?? 200);
+  report.compared = countNumbers(record.result);
+  report.differing = d.count;
+  report.differences = d.differences;
+  report.ok = !report.stale && report.panels.every((p) => p.matches) && d.count === 0;
+  return report;
+}
+
+/** Fingerprints of the distinct panels, in first-seen order (how recordRun stores them). */
+export function uniqueFingerprints(panels: ReturnsPanel[]): PanelFingerprint[] {
+  const seen = new Set<string>();
+  const out: PanelFingerprint[] = [];
+  for (const p of panels) {
+    const fp = fingerprintPanel(p);
+    if (seen.has(fp.sha256)) continue;
+    seen.add(fp.sha256);
+    out.push(fp);
+  }
+  return out;
+}
+
+const show = (v: unknown): string => (typeof v === 'number' ? (Object.is(v, -0) ? '-0' : String(v)) : JSON.stringify(v) ?? String(v));
+
+export function formatReplay(r: ReplayReport): string {
+  const lines = [`Replay of run ${r.run} (${r.kind}: ${r.label})`];
+  if (r.recordedVersion !== r.currentVersion) lines.push(`  note: recorded by deflator ${r.recordedVersion}, recomputed by ${r.currentVersion}`);
+  if (r.stale) {
+    lines.push('  STALE: the data this run read has changed since it was recorded:');
+    for (const s of r.staleItems) lines.push(`    ${s.what}: ${s.reason}`);
+  } else lines.push('  data: every recorded file and subject digest matches the store');
+  r.panels.forEach((p, i) => {
+    const tag = r.panels.length > 1 ? ` ${i + 1}` : '';
+    if (p.matches) lines.push(`  panel${tag}: fingerprint matches (${p.recorded})`);
+    else lines.push(`  panel${tag}: fingerprint MISMATCH: recorded ${p.recorded}, now ${p.current ?? '(could not rebuild)'}`);
+  });
+  if (r.error) {
+    lines.push(`  recompute FAILED: ${r.error}`);
+  } else if (r.differing === 0) {
+    lines.push(`  numbers: all ${r.compared} stored numbers reproduced bit for bit`);
+  } else {
+    lines.push(`  numbers: ${r.differing} value(s) differ (of ${r.compared} stored numbers):`);
+    for (const d of r.differences) lines.push(`    ${d.path}: stored ${show(d.stored)}, recomputed ${show(d.recomputed)}`);
+    if (r.differing > r.differences.length) lines.push(`    ... and ${r.differing - r.differences.length} more`);
+  }
+  lines.push(r.ok ? 'REPLAY OK' : 'REPLAY MISMATCH');
+  return lines.join('\n');
+}
