@@ -229,3 +229,14 @@ describe('comparison store', () => {
     expect(c.result).toMatchObject({ kind: 'compare' });
   });
 });
+
+describe('error fields', () => {
+  it('finds the spec key an engine message names in passing', async () => {
+    const { fieldsOf } = await import('../../src-renderer/src/lib/errors.js');
+    expect(fieldsOf('risk-free series "rf" (spec.riskfree) is not in demo.db; stored riskfree series: bill_yield')).toEqual({
+      riskfree: 'risk-free series "rf" (spec.riskfree) is not in demo.db; stored riskfree series: bill_yield',
+    });
+    expect(fieldsOf('spec.compare.1.model.factors: needs a factor\nfit.spec.start: bad date')).toEqual({ 'model.factors': 'needs a factor', start: 'bad date' });
+    expect(fieldsOf('the matrix S is singular')).toEqual({});
+  });
+});

@@ -10,7 +10,8 @@ import { register as returns } from './returns.js';
 import { register as runs } from './runs.js';
 import { register as show } from './show.js';
 import { register as exportRun } from './export.js';
+import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, runs, show, exportRun];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, runs, show, exportRun, serve];

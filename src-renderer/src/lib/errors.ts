@@ -13,11 +13,18 @@ export interface UiError {
 /** "fit.spec.model.factors: needs ..." or "spec.model.factors: ..." -> { "model.factors": "needs ..." }. */
 export function fieldsOf(message: string): Record<string, string> {
   const out: Record<string, string> = {};
+  const add = (key: string, text: string) => {
+    out[key] = out[key] ? `${out[key]}; ${text}` : text;
+  };
   for (const line of message.split('\n')) {
     const m = /^\s*(?:[A-Za-z]+\.)?spec(?:\.compare\.\d+)?\.([A-Za-z0-9_.]+):\s*(.+)$/.exec(line);
-    if (!m) continue;
-    const key = m[1];
-    out[key] = out[key] ? `${out[key]}; ${m[2]}` : m[2];
+    if (m) {
+      add(m[1], m[2]);
+      continue;
+    }
+    // engine messages name the key in passing: 'factor series "x" (spec.model.factors) is not stored'
+    const inner = /\((?:[A-Za-z]+\.)?spec(?:\.compare\.\d+)?\.([A-Za-z0-9_.]+)\)/.exec(line);
+    if (inner) add(inner[1], line.trim());
   }
   return out;
 }
