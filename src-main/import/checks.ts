@@ -45,7 +45,9 @@ export class HistoryChecker {
   /** Set when a row arrived with an earlier date: checks must re-read the stored rows. */
   unordered = false;
   rows = 0;
-  readonly spacing = new Map<number, number>();
+  /** Counts of spacings in days: below 64 in an array, longer ones in a map. */
+  private readonly spacingSmall = new Float64Array(64);
+  private readonly spacingLarge = new Map<number, number>();
   private readonly largest: { days: number; from: string; to: string }[] = [];
   private lastDay = NaN;
   private lastDate = '';
@@ -58,6 +60,12 @@ export class HistoryChecker {
     private readonly thresholds: CheckThresholds | null,
     private readonly sink: WarningSink,
   ) {}
+
+  /** (spacing in days, count) pairs. */
+  *spacing(): Generator<[number, number]> {
+    for (let d = 0; d < 64; d++) if (this.spacingSmall[d] > 0) yield [d, this.spacingSmall[d]];
+    yield* this.spacingLarge;
+  }
 
   /** Price rows: the return and dividend checks run here; `adjust` is the split factor on that date. */
   push(date: string, day: number, price: number, dividend: number, adjust: number): void {
@@ -104,7 +112,8 @@ export class HistoryChecker {
 
   private space(day: number, date: string): void {
     const s = day - this.lastDay;
-    this.spacing.set(s, (this.spacing.get(s) ?? 0) + 1);
+    if (s < 64) this.spacingSmall[s]++;
+    else this.spacingLarge.set(s, (this.spacingLarge.get(s) ?? 0) + 1);
     const big = this.largest;
     if (big.length < KEEP_GAPS || s > big[big.length - 1].days) {
       let k = big.length;
@@ -128,7 +137,7 @@ export class HistoryChecker {
     if (!frequency) return;
     const limit = GAP_DAYS[frequency];
     let count = 0;
-    for (const [days, n] of this.spacing) if (days > limit) count += n;
+    for (const [days, n] of this.spacing()) if (days > limit) count += n;
     if (count === 0) return;
     const listed = this.largest.filter((g) => g.days > limit).sort((a, b) => (a.from < b.from ? -1 : 1));
     for (const g of listed) {
@@ -143,6 +152,6 @@ export class HistoryChecker {
 /** The data's frequency from the median spacing over all checkers' rows. */
 export function detectFrequency(checkers: Iterable<HistoryChecker>): Frequency | null {
   const all = new Map<number, number>();
-  for (const c of checkers) for (const [days, n] of c.spacing) all.set(days, (all.get(days) ?? 0) + n);
+  for (const c of checkers) for (const [days, n] of c.spacing()) all.set(days, (all.get(days) ?? 0) + n);
   return all.size ? frequencyFromSpacing(histogramMedian(all)) : null;
 }

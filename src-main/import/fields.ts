@@ -136,10 +136,16 @@ export class DateParser {
   private readonly isIso: boolean;
   private readonly parts = [0, 0, 0, 0];
   private readonly widths = [0, 0, 0, 0];
+  private readonly bad: string;
+  /** The bytes of the last date parsed and its day (a long file repeats each date once per asset). */
+  private readonly lastBytes = new Uint8Array(16);
+  private lastLen = -1;
+  private lastDay = 0;
 
   constructor(format: DateFormat = ISO_DATE) {
     this.format = format;
     this.isIso = format.name === 'YYYY-MM-DD';
+    this.bad = `expected ${format.name}`;
   }
 
   /** ISO text of a day number this parser returned. */
@@ -154,8 +160,29 @@ export class DateParser {
   parse(buf: Uint8Array, s: number, e: number): number | string {
     while (s < e && (buf[s] === SPACE || buf[s] === TAB)) s++;
     while (e > s && (buf[e - 1] === SPACE || buf[e - 1] === TAB)) e--;
+    const len = e - s;
+    if (len === this.lastLen) {
+      let same = true;
+      for (let k = 0; k < len; k++) {
+        if (buf[s + k] !== this.lastBytes[k]) {
+          same = false;
+          break;
+        }
+      }
+      if (same) return this.lastDay;
+    }
+    const day = this.parseNew(buf, s, e);
+    if (typeof day === 'number' && len <= 16) {
+      this.lastBytes.set(buf.subarray(s, e));
+      this.lastLen = len;
+      this.lastDay = day;
+    }
+    return day;
+  }
+
+  private parseNew(buf: Uint8Array, s: number, e: number): number | string {
     const fmt = this.format;
-    const bad = `expected ${fmt.name}`;
+    const bad = this.bad;
     let y = 0;
     let m = 0;
     let d = 0;
@@ -165,6 +192,7 @@ export class DateParser {
     };
     if (this.isIso || fmt.sep === 0) {
       const len = fmt.sep === 0 ? 8 : 10;
+
       if (e - s !== len) return bad;
       if (fmt.sep !== 0 && (buf[s + 4] !== fmt.sep || buf[s + 7] !== fmt.sep)) return bad;
       const o = fmt.sep === 0 ? 0 : 1;

@@ -48,6 +48,36 @@ interface Ctx {
 
 class RowError extends DeflatorError {}
 
+/**
+ * Asset names seen in a long file, looked up by their bytes (FNV-1a hash, then a byte
+ * compare), so a row costs no string unless its name is new.
+ */
+class NameTable<T> {
+  private readonly buckets = new Map<number, { bytes: Uint8Array; quoted: number; value: T }[]>();
+  private static hash(buf: Uint8Array, s: number, e: number): number {
+    let h = 0x811c9dc5;
+    for (let k = s; k < e; k++) h = Math.imul(h ^ buf[k], 0x01000193);
+    return h >>> 0;
+  }
+  get(buf: Uint8Array, s: number, e: number, quoted: number): T | undefined {
+    const list = this.buckets.get(NameTable.hash(buf, s, e));
+    if (!list) return undefined;
+    outer: for (const entry of list) {
+      const b = entry.bytes;
+      if (b.length !== e - s || entry.quoted !== quoted) continue;
+      for (let k = 0; k < b.length; k++) if (b[k] !== buf[s + k]) continue outer;
+      return entry.value;
+    }
+    return undefined;
+  }
+  set(buf: Uint8Array, s: number, e: number, quoted: number, value: T): void {
+    const h = NameTable.hash(buf, s, e);
+    const list = this.buckets.get(h) ?? [];
+    list.push({ bytes: Uint8Array.from(buf.subarray(s, e)), quoted, value });
+    this.buckets.set(h, list);
+  }
+}
+
 function fieldError(ctx: Ctx, row: CsvRow, i: number, names: string[], what: string, hint: string): never {
   throw new RowError('INPUT_INVALID', `${ctx.file}, line ${row.fieldLine[i] ?? row.line}, column ${i + 1} (${names[i] ?? '?'}): ${what}`, hint);
 }
@@ -83,14 +113,19 @@ function checkFieldCount(ctx: Ctx, row: CsvRow, header: number): void {
   }
 }
 
+/** A bad value either rejects the row (within maxRejects) or ends the import. */
+function rejectOrThrow(ctx: Ctx, e: unknown): void {
+  if (!(e instanceof RowError) || ctx.rejected >= ctx.maxRejects) throw e;
+  ctx.rejected++;
+  ctx.sink.add({ kind: 'rejected-row', subject: '', message: `row skipped: ${e.message}` });
+}
+
 /** Runs one row; a bad value either rejects the row (within maxRejects) or ends the import. */
 function guarded(ctx: Ctx, fn: () => void): void {
   try {
     fn();
   } catch (e) {
-    if (!(e instanceof RowError) || ctx.rejected >= ctx.maxRejects) throw e;
-    ctx.rejected++;
-    ctx.sink.add({ kind: 'rejected-row', subject: '', message: `row skipped: ${e.message}` });
+    rejectOrThrow(ctx, e);
   }
 }
 
@@ -113,9 +148,43 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
   let names: string[] = [];
   let col: Record<PriceColumn, number> = { date: -1, asset: -1, price: -1, dividend: -1, adjust: -1, shares: -1 };
   let header = true;
-  let lastName = '';
-  let lastId = -1;
+  const seen = new NameTable<{ id: number; checker: HistoryChecker }>();
   const { session } = ctx;
+  /** One data row (a named function, not a closure per row: this runs millions of times). */
+  const handle = (row: CsvRow): void => {
+    checkFieldCount(ctx, row, names.length);
+    const day = readDate(ctx, row, col.date, names);
+    const a = col.asset;
+    let known = seen.get(row.buf, row.start[a], row.end[a], row.quoted[a]);
+    const name = known ? '' : row.text(a).trim();
+    if (!known && name === '') fieldError(ctx, row, a, names, 'the asset name is empty', 'name the asset on every row');
+    const price = readNumber(ctx, row, col.price, names, 'price');
+    if (!(price > 0)) fieldError(ctx, row, col.price, names, `price ${price} is not positive`, 'prices must be greater than zero; leave the row out when there is no price');
+    let dividend = 0;
+    if (col.dividend >= 0 && !row.blank(col.dividend)) {
+      dividend = readNumber(ctx, row, col.dividend, names, 'dividend');
+      if (dividend < 0) fieldError(ctx, row, col.dividend, names, `dividend ${dividend} is negative`, 'dividends are cash paid per share: zero or more');
+      if (Object.is(dividend, -0)) dividend = 0;
+    }
+    let adjust = 1;
+    if (col.adjust >= 0 && !row.blank(col.adjust)) {
+      adjust = readNumber(ctx, row, col.adjust, names, 'adjustment factor');
+      if (!(adjust > 0)) fieldError(ctx, row, col.adjust, names, `adjustment factor ${adjust} is not positive`, 'a 2-for-1 split has factor 2; leave the cell empty (or 1) where there is none');
+    }
+    let shares: number | null = null;
+    if (col.shares >= 0 && !row.blank(col.shares)) {
+      shares = readNumber(ctx, row, col.shares, names, 'shares outstanding');
+      if (shares < 0) fieldError(ctx, row, col.shares, names, `shares outstanding ${shares} is negative`, 'shares outstanding must be zero or more');
+    }
+    if (!known) {
+      const id = session.assetId(name);
+      known = { id, checker: checker(ctx, id, name) };
+      seen.set(row.buf, row.start[a], row.end[a], row.quoted[a], known);
+    }
+    const date = ctx.dates.text(day);
+    session.observation(known.id, date, price, dividend, adjust, shares, ctx.file, row.line);
+    known.checker.push(date, day, price, dividend, adjust);
+  };
   await readCsv(
     ctx.file,
     (row) => {
@@ -143,40 +212,11 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
         return;
       }
       ctx.read++;
-      guarded(ctx, () => {
-        checkFieldCount(ctx, row, names.length);
-        const day = readDate(ctx, row, col.date, names);
-        const name = row.text(col.asset).trim();
-        if (name === '') fieldError(ctx, row, col.asset, names, 'the asset name is empty', 'name the asset on every row');
-        const price = readNumber(ctx, row, col.price, names, 'price');
-        if (!(price > 0)) fieldError(ctx, row, col.price, names, `price ${price} is not positive`, 'prices must be greater than zero; leave the row out when there is no price');
-        let dividend = 0;
-        if (col.dividend >= 0 && !row.blank(col.dividend)) {
-          dividend = readNumber(ctx, row, col.dividend, names, 'dividend');
-          if (dividend < 0) fieldError(ctx, row, col.dividend, names, `dividend ${dividend} is negative`, 'dividends are cash paid per share: zero or more');
-          if (Object.is(dividend, -0)) dividend = 0;
-        }
-        let adjust = 1;
-        if (col.adjust >= 0 && !row.blank(col.adjust)) {
-          adjust = readNumber(ctx, row, col.adjust, names, 'adjustment factor');
-          if (!(adjust > 0)) fieldError(ctx, row, col.adjust, names, `adjustment factor ${adjust} is not positive`, 'a 2-for-1 split has factor 2; leave the cell empty (or 1) where there is none');
-        }
-        let shares: number | null = null;
-        if (col.shares >= 0 && !row.blank(col.shares)) {
-          shares = readNumber(ctx, row, col.shares, names, 'shares outstanding');
-          if (shares < 0) fieldError(ctx, row, col.shares, names, `shares outstanding ${shares} is negative`, 'shares outstanding must be zero or more');
-        }
-        let id: number;
-        if (name === lastName) id = lastId;
-        else {
-          id = session.assetId(name);
-          lastName = name;
-          lastId = id;
-        }
-        const date = ctx.dates.text(day);
-        session.observation(id, date, price, dividend, adjust, shares, { file: ctx.file, line: row.line });
-        checker(ctx, id, name).push(date, day, price, dividend, adjust);
-      });
+      try {
+        handle(row);
+      } catch (e) {
+        rejectOrThrow(ctx, e);
+      }
     },
     { onProgress },
   );
@@ -242,7 +282,7 @@ async function importWide(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
         c.assets.forEach((a, k) => {
           const price = prices[k];
           if (Number.isNaN(price)) return;
-          session.observation(a.id, date, price, 0, 1, null, { file: ctx.file, line: row.line });
+          session.observation(a.id, date, price, 0, 1, null, ctx.file, row.line);
           checker(ctx, a.id, a.name).push(date, day, price, 0, 1);
         });
       });
