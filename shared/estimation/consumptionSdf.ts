@@ -1,0 +1,116 @@
+/**
+ * Consumption-based discount factor with power utility (Hansen and Singleton 1982,
+ * "Generalized instrumental variables estimation of nonlinear rational expectations
+ * models", Econometrica 50, 1269-1286; METHODS 2):
+ *
+ *   m_t = delta (C_t / C_{t-1})^(-gamma).
+ *
+ * On gross returns the moments are R_i,t m_t - 1 and (delta, gamma) are free; on excess
+ * returns they are R^e_i,t m_t, delta is fixed (scale is not identified) and gamma is free.
+ * The moments are nonlinear in gamma, so the stages are solved numerically
+ * (Levenberg-Marquardt in gmmEstimate), started from a profile grid over gamma.
+ */
+import { DeflatorError } from '../errors.js';
+import { SdfMomentModel, type SdfModelKind } from './momentModel.js';
+
+/** Grid of risk-aversion values scanned for a starting value (common practice: a coarse scan before a local solver). */
+const GAMMA_GRID = { from: -20, to: 200, step: 0.5 };
+
+export class ConsumptionModel extends SdfMomentModel {
+  readonly kind: SdfModelKind = 'consumption';
+  readonly q: number;
+  readonly p: number;
+  readonly paramNames: readonly string[];
+  readonly momentNames: readonly string[];
+  readonly affine = false;
+  /** Fixed delta (excess returns), or undefined when delta is estimated. */
+  readonly fixedDelta?: number;
+  private readonly logGrowth: Float64Array;
+
+  /**
+   * @param returns gross returns (delta free) or excess returns (delta fixed at `fixedDelta`).
+   * @param growth consumption growth C_t / C_{t-1}, positive.
+   */
+  constructor(returns: readonly Float64Array[], assetNames: readonly string[], growth: Float64Array, returnKind: 'gross' | 'excess', fixedDelta = 1) {
+    super(returns, returnKind === 'gross' ? 1 : 0);
+    if (growth.length !== this.T) throw new RangeError(`ConsumptionModel: consumption growth has ${growth.length} periods, returns ${this.T}`);
+    this.logGrowth = new Float64Array(this.T);
+    for (let t = 0; t < this.T; t++) {
+      const x = growth[t];
+      if (!(x > 0) || !Number.isFinite(x))
+        throw new DeflatorError('INPUT_INVALID', `consumption growth C_t/C_(t-1) is ${x} at period ${t + 1}; power utility needs positive growth`, 'check the consumption series: levels must be positive');
+      this.logGrowth[t] = Math.log(x);
+    }
+    if (returnKind === 'excess') this.fixedDelta = fixedDelta;
+    this.q = this.nAssets;
+    this.p = returnKind === 'gross' ? 2 : 1;
+    this.paramNames = returnKind === 'gross' ? ['delta', 'gamma'] : ['gamma'];
+    this.momentNames = [...assetNames];
+  }
+
+  private split(theta: Float64Array): { delta: number; gamma: number } {
+    return this.fixedDelta === undefined ? { delta: theta[0], gamma: theta[1] } : { delta: this.fixedDelta, gamma: theta[0] };
+  }
+
+  private power(gamma: number): Float64Array {
+    const T = this.T;
+    const out = new Float64Array(T);
+    for (let t = 0; t < T; t++) out[t] = Math.exp(-gamma * this.logGrowth[t]);
+    return out;
+  }
+
+  sdf(theta: Float64Array): Float64Array {
+    const { delta, gamma } = this.split(theta);
+    const m = this.power(gamma);
+    for (let t = 0; t < this.T; t++) m[t] *= delta;
+    return m;
+  }
+
+  protected sdfDerivatives(theta: Float64Array): (Float64Array | number)[] {
+    const { delta, gamma } = this.split(theta);
+    const x = this.power(gamma);
+    const dGamma = new Float64Array(this.T);
+    for (let t = 0; t < this.T; t++) dGamma[t] = -delta * this.logGrowth[t] * x[t];
+    return this.fixedDelta === undefined ? [x, dGamma] : [dGamma];
+  }
+
+  /** Best gamma on a grid (identity weight); with delta free, delta is profiled out in closed form. */
+  start(): Float64Array {
+    const { T, nAssets } = this;
+    let best = Infinity;
+    let bestTheta = this.fixedDelta === undefined ? Float64Array.of(1, 0) : Float64Array.of(0);
+    const h = new Float64Array(nAssets);
+    for (let gamma = GAMMA_GRID.from; gamma <= GAMMA_GRID.to + 1e-9; gamma += GAMMA_GRID.step) {
+      const x = this.power(gamma);
+      for (let i = 0; i < nAssets; i++) {
+        const r = this.returns[i];
+        let s = 0;
+        for (let t = 0; t < T; t++) s += r[t] * x[t];
+        h[i] = s / T;
+      }
+      let obj: number;
+      let delta: number;
+      if (this.fixedDelta === undefined) {
+        // min_delta sum_i (delta h_i - 1)^2  =>  delta = sum h / sum h^2.
+        let sh = 0;
+        let shh = 0;
+        for (let i = 0; i < nAssets; i++) {
+          sh += h[i];
+          shh += h[i] * h[i];
+        }
+        if (!(shh > 0) || !Number.isFinite(shh)) continue;
+        delta = sh / shh;
+        obj = nAssets - (sh * sh) / shh;
+      } else {
+        delta = this.fixedDelta;
+        obj = 0;
+        for (let i = 0; i < nAssets; i++) obj += delta * delta * h[i] * h[i];
+      }
+      if (Number.isFinite(obj) && obj < best) {
+        best = obj;
+        bestTheta = this.fixedDelta === undefined ? Float64Array.of(delta, gamma) : Float64Array.of(gamma);
+      }
+    }
+    return bestTheta;
+  }
+}

@@ -1,0 +1,181 @@
+/**
+ * Linear discount factors (METHODS 2; Cochrane, Asset Pricing, rev. ed. 2005, ch. 13):
+ *
+ * - demeaned (default): m_t = 1 - b'(f_t - mu), moments R^e_t m_t (N) and f_t - mu (K);
+ *   parameters (b, mu). At the first stage the K factor-mean moments are held at zero
+ *   (mu = fbar); later stages estimate b and mu jointly.
+ * - raw: m_t = 1 - b'f_t, moments R^e_t m_t; parameters b.
+ * - gross: m_t = a - b'f_t, moments R_t m_t - 1; parameters (a, b).
+ */
+import { SdfMomentModel, mean, type PinnedBlock, type SdfModelKind } from './momentModel.js';
+
+export interface NamedFactor {
+  name: string;
+  values: Float64Array;
+}
+
+/** m_t = 1 - b'(f_t - mu) with the factor means estimated jointly. */
+export class DemeanedLinearModel extends SdfMomentModel {
+  readonly kind: SdfModelKind = 'linear';
+  readonly q: number;
+  readonly p: number;
+  readonly paramNames: readonly string[];
+  readonly momentNames: readonly string[];
+  readonly affine = false;
+  override readonly pinned: PinnedBlock;
+  readonly factors: readonly Float64Array[];
+  private readonly K: number;
+
+  constructor(excessReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
+    super(excessReturns, 0);
+    const K = factors.length;
+    this.K = K;
+    this.factors = factors.map((f) => f.values);
+    this.q = this.nAssets + K;
+    this.p = 2 * K;
+    this.paramNames = [...factors.map((f) => `b.${f.name}`), ...factors.map((f) => `mu.${f.name}`)];
+    this.momentNames = [...assetNames, ...factors.map((f) => `mean ${f.name}`)];
+    const fbar = Float64Array.from(this.factors, (f) => mean(f));
+    this.pinned = {
+      params: Array.from({ length: K }, (_, j) => K + j),
+      moments: Array.from({ length: K }, (_, j) => this.nAssets + j),
+      solve: () => fbar.slice(),
+    };
+  }
+
+  sdf(theta: Float64Array): Float64Array {
+    const { T, K } = this;
+    const m = new Float64Array(T);
+    let c = 1;
+    for (let k = 0; k < K; k++) c += theta[k] * theta[K + k];
+    m.fill(c);
+    for (let k = 0; k < K; k++) {
+      const b = theta[k];
+      if (b === 0) continue;
+      const f = this.factors[k];
+      for (let t = 0; t < T; t++) m[t] -= b * f[t];
+    }
+    return m;
+  }
+
+  protected sdfDerivatives(theta: Float64Array): (Float64Array | number)[] {
+    const { T, K } = this;
+    const out: (Float64Array | number)[] = [];
+    for (let k = 0; k < K; k++) {
+      const f = this.factors[k];
+      const mu = theta[K + k];
+      const s = new Float64Array(T);
+      for (let t = 0; t < T; t++) s[t] = mu - f[t];
+      out.push(s);
+    }
+    for (let k = 0; k < K; k++) out.push(theta[k]);
+    return out;
+  }
+
+  protected override auxMoments(theta: Float64Array): Float64Array[] {
+    const { T, K } = this;
+    return this.factors.map((f, k) => {
+      const mu = theta[K + k];
+      const u = new Float64Array(T);
+      for (let t = 0; t < T; t++) u[t] = f[t] - mu;
+      return u;
+    });
+  }
+
+  protected override auxJacobian(): Float64Array[] {
+    const { K, p } = this;
+    return Array.from({ length: K }, (_, k) => {
+      const row = new Float64Array(p);
+      row[K + k] = -1;
+      return row;
+    });
+  }
+
+  protected override auxDirectional(_theta: Float64Array, vAux: Float64Array): number[] {
+    const out = new Array<number>(this.p).fill(0);
+    for (let k = 0; k < this.K; k++) out[this.K + k] = -vAux[k];
+    return out;
+  }
+
+  start(): Float64Array {
+    const theta = new Float64Array(this.p);
+    theta.set(this.pinned.solve(), this.K);
+    return theta;
+  }
+}
+
+/** m_t = 1 - b'f_t (the factor means are not estimated). */
+export class RawLinearModel extends SdfMomentModel {
+  readonly kind: SdfModelKind = 'linear-raw';
+  readonly q: number;
+  readonly p: number;
+  readonly paramNames: readonly string[];
+  readonly momentNames: readonly string[];
+  readonly affine = true;
+  readonly factors: readonly Float64Array[];
+
+  constructor(excessReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
+    super(excessReturns, 0);
+    this.factors = factors.map((f) => f.values);
+    this.q = this.nAssets;
+    this.p = factors.length;
+    this.paramNames = factors.map((f) => `b.${f.name}`);
+    this.momentNames = [...assetNames];
+  }
+
+  sdf(theta: Float64Array): Float64Array {
+    const m = new Float64Array(this.T).fill(1);
+    this.factors.forEach((f, k) => {
+      const b = theta[k];
+      for (let t = 0; t < this.T; t++) m[t] -= b * f[t];
+    });
+    return m;
+  }
+
+  protected sdfDerivatives(): (Float64Array | number)[] {
+    return this.factors.map((f) => Float64Array.from(f, (x) => -x));
+  }
+
+  start(): Float64Array {
+    return new Float64Array(this.p);
+  }
+}
+
+/** m_t = a - b'f_t pricing gross returns, E[m R] = 1. */
+export class GrossLinearModel extends SdfMomentModel {
+  readonly kind: SdfModelKind = 'linear-gross';
+  readonly q: number;
+  readonly p: number;
+  readonly paramNames: readonly string[];
+  readonly momentNames: readonly string[];
+  readonly affine = true;
+  readonly factors: readonly Float64Array[];
+
+  constructor(grossReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
+    super(grossReturns, 1);
+    this.factors = factors.map((f) => f.values);
+    this.q = this.nAssets;
+    this.p = factors.length + 1;
+    this.paramNames = ['a', ...factors.map((f) => `b.${f.name}`)];
+    this.momentNames = [...assetNames];
+  }
+
+  sdf(theta: Float64Array): Float64Array {
+    const m = new Float64Array(this.T).fill(theta[0]);
+    this.factors.forEach((f, k) => {
+      const b = theta[k + 1];
+      for (let t = 0; t < this.T; t++) m[t] -= b * f[t];
+    });
+    return m;
+  }
+
+  protected sdfDerivatives(): (Float64Array | number)[] {
+    return [1, ...this.factors.map((f) => Float64Array.from(f, (x) => -x))];
+  }
+
+  start(): Float64Array {
+    const theta = new Float64Array(this.p);
+    theta[0] = 1;
+    return theta;
+  }
+}

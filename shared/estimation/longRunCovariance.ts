@@ -1,0 +1,91 @@
+/**
+ * Long-run covariance of a vector series by Newey and West (1987), Bartlett weights:
+ *
+ *   S = G_0 + sum_{j=1..L} (1 - j/(L+1)) (G_j + G_j'),   G_j = (1/T) sum_{t>j} u_t u_{t-j}',
+ *
+ * with u_t demeaned first (centered, the default) or used as given. Divide by T, no
+ * degrees-of-freedom correction, no pre-whitening (METHODS 3). Bartlett lag L is
+ * bandwidth L + 1 in kernel notation (Andrews 1991), so R's
+ * sandwich::NeweyWest(lag = L, prewhite = FALSE, adjust = FALSE) and
+ * gmm(kernel = "Bartlett", bw = L + 1, prewhite = FALSE) compute the same matrix.
+ *
+ * References: Newey, W. and West, K. (1987), "A simple, positive semi-definite,
+ * heteroskedasticity and autocorrelation consistent covariance matrix", Econometrica
+ * 55, 703-708; Newey and West (1994), "Automatic lag selection in covariance matrix
+ * estimation", Review of Economic Studies 61, 631-653 (the automatic lag rule).
+ *
+ * Computation: S_ab = (1/T) sum_t u_b,t v_a,t with v_a,t = u_a,t + sum_j w_j (u_a,t+j + u_a,t-j)
+ * (terms outside 0..T-1 dropped), which is the formula above regrouped: O(q T L + q^2 T / 2).
+ */
+import { DeflatorError } from '../errors.js';
+import type { Mat } from '../linalg/matrix.js';
+
+/** The automatic lag rule L = floor(4 (T/100)^(2/9)) (Newey and West 1994). */
+export function autoLags(T: number): number {
+  return Math.floor(4 * Math.pow(T / 100, 2 / 9));
+}
+
+/** Bartlett weights w_j = 1 - j/(L+1), j = 1..L (index 0 holds w_0 = 1). */
+export function bartlettWeights(lags: number): Float64Array {
+  const w = new Float64Array(lags + 1);
+  for (let j = 0; j <= lags; j++) w[j] = 1 - j / (lags + 1);
+  return w;
+}
+
+/**
+ * S for the q series `u` (each of length T; u[a][t] is moment a at period t).
+ * Throws SAMPLE_TOO_SHORT when T <= lags + 1.
+ */
+export function longRunCovariance(u: readonly Float64Array[], lags: number, centered = true): Mat {
+  const q = u.length;
+  const T = q > 0 ? u[0].length : 0;
+  if (!Number.isInteger(lags) || lags < 0) throw new DeflatorError('SPEC_INVALID', `lags must be a whole number >= 0, got ${lags}`, 'set estimator.lags to 0, a positive whole number or "auto"');
+  if (T <= lags + 1)
+    throw new DeflatorError('SAMPLE_TOO_SHORT', `${T} periods are too few for ${lags} Newey-West lags (need more than ${lags + 1})`, 'use fewer lags (estimator.lags) or a longer sample');
+  const w = bartlettWeights(lags);
+  const series: Float64Array[] = new Array(q);
+  for (let a = 0; a < q; a++) {
+    const x = u[a];
+    if (x.length !== T) throw new RangeError(`longRunCovariance: series ${a} has ${x.length} periods, expected ${T}`);
+    if (centered) {
+      let m = 0;
+      for (let t = 0; t < T; t++) m += x[t];
+      m /= T;
+      const c = new Float64Array(T);
+      for (let t = 0; t < T; t++) c[t] = x[t] - m;
+      series[a] = c;
+    } else series[a] = x;
+  }
+  // v_a = u_a + sum_j w_j (lead_j + lag_j).
+  const filtered: Float64Array[] = new Array(q);
+  for (let a = 0; a < q; a++) {
+    const x = series[a];
+    if (lags === 0) {
+      filtered[a] = x;
+      continue;
+    }
+    const v = Float64Array.from(x);
+    for (let j = 1; j <= lags; j++) {
+      const wj = w[j];
+      for (let t = 0; t + j < T; t++) {
+        v[t] += wj * x[t + j];
+        v[t + j] += wj * x[t];
+      }
+    }
+    filtered[a] = v;
+  }
+  const S = new Float64Array(q * q);
+  const invT = 1 / T;
+  for (let a = 0; a < q; a++) {
+    const va = filtered[a];
+    for (let b = a; b < q; b++) {
+      const ub = series[b];
+      let s = 0;
+      for (let t = 0; t < T; t++) s += va[t] * ub[t];
+      s *= invT;
+      S[a * q + b] = s;
+      S[b * q + a] = s;
+    }
+  }
+  return { rows: q, cols: q, data: S };
+}

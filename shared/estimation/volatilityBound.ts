@@ -1,0 +1,114 @@
+/**
+ * Hansen-Jagannathan volatility bound (Hansen and Jagannathan 1991, "Implications of
+ * security market data for models of dynamic economies", J. Political Economy 99,
+ * 225-262; METHODS 5).
+ *
+ * Gross returns: for each candidate mean E[m] = v, the smallest standard deviation of a
+ * discount factor that prices the assets is
+ *   sigma_min(v) = sqrt( (1 - v mu_R)' Sigma_R^{-1} (1 - v mu_R) ),
+ * mu_R and Sigma_R the sample mean and covariance (divide by T) of the gross returns.
+ * Excess returns: sigma(m)/E(m) >= max Sharpe ratio = sqrt(mu_e' Sigma_e^{-1} mu_e).
+ * For gross returns `maxSharpe` is the largest Sharpe ratio of a zero-cost portfolio of
+ * the assets, sqrt(mu'S^-1 mu - (1'S^-1 mu)^2 / 1'S^-1 1), which bounds sigma(m)/E(m) the
+ * same way (the minimum of sigma_min(v)/v over v).
+ */
+import { cholesky, cholSolveVec } from '../linalg/cholesky.js';
+import type { VolatilityBound } from '../results.js';
+
+export interface BoundInput {
+  returns: readonly Float64Array[];
+  assetNames: readonly string[];
+  kind: 'gross' | 'excess';
+  /** The model's fitted m_t: gives the point (E m, sigma m). */
+  sdf?: Float64Array;
+  /** Points on the curve (gross returns). */
+  points?: number;
+}
+
+export interface BoundOutput extends VolatilityBound {
+  /** Gross returns: the E[m] at which sigma_min is smallest, and that minimum. */
+  minimum?: { mean: number; sigma: number };
+  /** Assets left out because their return never varies (a riskless asset in the gross set). */
+  riskless: string[];
+}
+
+function meanAndCov(x: readonly Float64Array[]): { mu: Float64Array; cov: Float64Array } {
+  const n = x.length;
+  const T = n ? x[0].length : 0;
+  const mu = new Float64Array(n);
+  for (let i = 0; i < n; i++) {
+    let s = 0;
+    for (let t = 0; t < T; t++) s += x[i][t];
+    mu[i] = s / T;
+  }
+  const cov = new Float64Array(n * n);
+  for (let i = 0; i < n; i++)
+    for (let j = i; j < n; j++) {
+      let s = 0;
+      for (let t = 0; t < T; t++) s += (x[i][t] - mu[i]) * (x[j][t] - mu[j]);
+      s /= T;
+      cov[i * n + j] = s;
+      cov[j * n + i] = s;
+    }
+  return { mu, cov };
+}
+
+export function sdfMoments(m: Float64Array): { mean: number; sigma: number } {
+  const T = m.length;
+  let s = 0;
+  for (let t = 0; t < T; t++) s += m[t];
+  const mean = s / T;
+  let v = 0;
+  for (let t = 0; t < T; t++) v += (m[t] - mean) ** 2;
+  return { mean, sigma: Math.sqrt(v / T) };
+}
+
+export function volatilityBound(input: BoundInput): BoundOutput {
+  // Leave out assets whose return is constant (a riskless asset): they pin E[m] but carry no variance.
+  const keep: number[] = [];
+  const riskless: string[] = [];
+  input.returns.forEach((r, i) => {
+    let lo = Infinity;
+    let hi = -Infinity;
+    for (const x of r) {
+      lo = Math.min(lo, x);
+      hi = Math.max(hi, x);
+    }
+    if (hi - lo > 1e-12 * Math.max(1, Math.abs(hi))) keep.push(i);
+    else riskless.push(input.assetNames[i]);
+  });
+  const x = keep.map((i) => input.returns[i]);
+  const names = keep.map((i) => input.assetNames[i]);
+  const { mu, cov } = meanAndCov(x);
+  const n = x.length;
+  const L = cholesky({ rows: n, cols: n, data: cov }, { name: 'the covariance matrix of the test-asset returns (volatility bound)', labels: names, hint: 'two test assets are (almost) the same portfolio; drop one of them' });
+  const model = input.sdf ? sdfMoments(input.sdf) : undefined;
+  const sMu = cholSolveVec(L, mu);
+  let muSmu = 0;
+  for (let i = 0; i < n; i++) muSmu += mu[i] * sMu[i];
+  const maxSharpe = Math.sqrt(Math.max(0, muSmu));
+  if (input.kind === 'excess') return { maxSharpe, model, riskless };
+  // sigma^2(v) = 1'S^-1 1 - 2 v 1'S^-1 mu + v^2 mu'S^-1 mu.
+  const ones = new Float64Array(n).fill(1);
+  const sOne = cholSolveVec(L, ones);
+  let oSo = 0;
+  let oSm = 0;
+  for (let i = 0; i < n; i++) {
+    oSo += sOne[i];
+    oSm += sMu[i];
+  }
+  // Gross returns: the largest Sharpe ratio of a zero-cost portfolio of the assets,
+  // mu'S^-1 mu - (1'S^-1 mu)^2 / 1'S^-1 1, bounds sigma(m)/E(m) from below.
+  const grossSharpe = Math.sqrt(Math.max(0, muSmu - (oSm * oSm) / oSo));
+  const sigmaAt = (v: number) => Math.sqrt(Math.max(0, oSo - 2 * v * oSm + v * v * muSmu));
+  const vStar = muSmu > 0 ? oSm / muSmu : 1;
+  const centre = model ? (vStar + model.mean) / 2 : vStar;
+  const half = 1.5 * Math.max(model ? Math.abs(model.mean - vStar) / 2 : 0, 0.02 * Math.abs(vStar), 0.01);
+  const points = Math.max(3, input.points ?? 61);
+  const curve: { mean: number; sigma: number }[] = [];
+  for (let k = 0; k < points; k++) {
+    const v = centre - half + (2 * half * k) / (points - 1);
+    curve.push({ mean: v, sigma: sigmaAt(v) });
+  }
+  return { curve, maxSharpe: grossSharpe, model, minimum: { mean: vStar, sigma: sigmaAt(vStar) }, riskless };
+}

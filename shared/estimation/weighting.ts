@@ -1,0 +1,63 @@
+/**
+ * GMM weighting matrices as operators: W X and W x without forming W when W is the
+ * inverse of a symmetric positive definite matrix (S^{-1}, or (E[RR'])^{-1} for the
+ * Hansen-Jagannathan weight), applied through the Cholesky factor instead.
+ */
+import { cholesky, cholSolveMat, cholSolveVec, type CholeskyOptions } from '../linalg/cholesky.js';
+import { type Mat, clone } from '../linalg/matrix.js';
+
+export interface Weighting {
+  readonly q: number;
+  /** W X. */
+  apply(x: Mat): Mat;
+  /** W x. */
+  applyVec(x: ArrayLike<number>): Float64Array;
+  /** Set when W = A^{-1}: the Cholesky factor of A. */
+  readonly inverseOf?: { a: Mat; chol: Mat };
+}
+
+export function identityWeighting(q: number): Weighting {
+  return {
+    q,
+    apply: (x) => clone(x),
+    applyVec: (x) => Float64Array.from(x),
+  };
+}
+
+/** W = A^{-1} for a symmetric positive definite A (throws naming A if it is not). */
+export function inverseWeighting(a: Mat, opts: CholeskyOptions): Weighting {
+  const chol = cholesky(a, opts);
+  return {
+    q: a.rows,
+    apply: (x) => cholSolveMat(chol, x),
+    applyVec: (x) => cholSolveVec(chol, x),
+    inverseOf: { a, chol },
+  };
+}
+
+/** Second-moment matrix E[R R'] = (1/T) sum_t R_t R_t' of the given return series. */
+export function secondMomentMatrix(returns: readonly Float64Array[]): Mat {
+  const n = returns.length;
+  const T = n ? returns[0].length : 0;
+  const out = new Float64Array(n * n);
+  for (let i = 0; i < n; i++)
+    for (let j = i; j < n; j++) {
+      const a = returns[i];
+      const b = returns[j];
+      let s = 0;
+      for (let t = 0; t < T; t++) s += a[t] * b[t];
+      s /= T;
+      out[i * n + j] = s;
+      out[j * n + i] = s;
+    }
+  return { rows: n, cols: n, data: out };
+}
+
+/** The Hansen-Jagannathan weight W = (E[RR'])^{-1} on the test-asset moments (METHODS 3). */
+export function hjWeighting(returns: readonly Float64Array[], assetNames: readonly string[]): Weighting {
+  return inverseWeighting(secondMomentMatrix(returns), {
+    name: "the second-moment matrix E[RR'] of the test-asset returns (Hansen-Jagannathan weight)",
+    labels: assetNames,
+    hint: 'two test assets are (almost) the same portfolio; drop one of them',
+  });
+}

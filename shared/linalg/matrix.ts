@@ -1,0 +1,198 @@
+/**
+ * Small dense matrices for the estimators: row-major Float64Array storage and the few
+ * products GMM needs. Sizes here are moments x parameters (at most a few hundred), so
+ * plain loops with contiguous inner strides are fast enough and allocation is explicit.
+ */
+
+/** A dense row-major matrix: entry (i, j) is data[i * cols + j]. */
+export interface Mat {
+  readonly rows: number;
+  readonly cols: number;
+  readonly data: Float64Array;
+}
+
+export function zeros(rows: number, cols: number): Mat {
+  return { rows, cols, data: new Float64Array(rows * cols) };
+}
+
+export function identity(n: number): Mat {
+  const m = zeros(n, n);
+  for (let i = 0; i < n; i++) m.data[i * n + i] = 1;
+  return m;
+}
+
+/** Builds a matrix from an array of equal-length rows. */
+export function fromRows(rows: ArrayLike<number>[]): Mat {
+  const r = rows.length;
+  const c = r === 0 ? 0 : rows[0].length;
+  const m = zeros(r, c);
+  for (let i = 0; i < r; i++) {
+    if (rows[i].length !== c) throw new RangeError(`fromRows: row ${i} has ${rows[i].length} entries, expected ${c}`);
+    for (let j = 0; j < c; j++) m.data[i * c + j] = rows[i][j];
+  }
+  return m;
+}
+
+/** The rows as plain arrays (for JSON and tests). */
+export function toRows(a: Mat): number[][] {
+  const out: number[][] = [];
+  for (let i = 0; i < a.rows; i++) out.push(Array.from(a.data.subarray(i * a.cols, (i + 1) * a.cols)));
+  return out;
+}
+
+export function get(a: Mat, i: number, j: number): number {
+  return a.data[i * a.cols + j];
+}
+
+export function clone(a: Mat): Mat {
+  return { rows: a.rows, cols: a.cols, data: a.data.slice() };
+}
+
+export function transpose(a: Mat): Mat {
+  const t = zeros(a.cols, a.rows);
+  for (let i = 0; i < a.rows; i++) for (let j = 0; j < a.cols; j++) t.data[j * a.rows + i] = a.data[i * a.cols + j];
+  return t;
+}
+
+/** A B. */
+export function mul(a: Mat, b: Mat): Mat {
+  if (a.cols !== b.rows) throw new RangeError(`mul: ${a.rows}x${a.cols} times ${b.rows}x${b.cols}`);
+  const n = a.rows;
+  const m = b.cols;
+  const k = a.cols;
+  const c = zeros(n, m);
+  const A = a.data;
+  const B = b.data;
+  const C = c.data;
+  for (let i = 0; i < n; i++) {
+    const ci = i * m;
+    for (let l = 0; l < k; l++) {
+      const ail = A[i * k + l];
+      if (ail === 0) continue;
+      const bl = l * m;
+      for (let j = 0; j < m; j++) C[ci + j] += ail * B[bl + j];
+    }
+  }
+  return c;
+}
+
+/** A' B, without forming A'. */
+export function mulAtB(a: Mat, b: Mat): Mat {
+  if (a.rows !== b.rows) throw new RangeError(`mulAtB: (${a.rows}x${a.cols})' times ${b.rows}x${b.cols}`);
+  const n = a.cols;
+  const m = b.cols;
+  const c = zeros(n, m);
+  const A = a.data;
+  const B = b.data;
+  const C = c.data;
+  for (let l = 0; l < a.rows; l++) {
+    const al = l * n;
+    const bl = l * m;
+    for (let i = 0; i < n; i++) {
+      const ali = A[al + i];
+      if (ali === 0) continue;
+      const ci = i * m;
+      for (let j = 0; j < m; j++) C[ci + j] += ali * B[bl + j];
+    }
+  }
+  return c;
+}
+
+/** A x. */
+export function mulVec(a: Mat, x: ArrayLike<number>): Float64Array {
+  if (a.cols !== x.length) throw new RangeError(`mulVec: ${a.rows}x${a.cols} times vector of ${x.length}`);
+  const y = new Float64Array(a.rows);
+  for (let i = 0; i < a.rows; i++) {
+    let s = 0;
+    const o = i * a.cols;
+    for (let j = 0; j < a.cols; j++) s += a.data[o + j] * x[j];
+    y[i] = s;
+  }
+  return y;
+}
+
+/** A' x. */
+export function mulTVec(a: Mat, x: ArrayLike<number>): Float64Array {
+  if (a.rows !== x.length) throw new RangeError(`mulTVec: (${a.rows}x${a.cols})' times vector of ${x.length}`);
+  const y = new Float64Array(a.cols);
+  for (let i = 0; i < a.rows; i++) {
+    const xi = x[i];
+    if (xi === 0) continue;
+    const o = i * a.cols;
+    for (let j = 0; j < a.cols; j++) y[j] += a.data[o + j] * xi;
+  }
+  return y;
+}
+
+/** x' A x for a square A. */
+export function quadForm(a: Mat, x: ArrayLike<number>): number {
+  let s = 0;
+  for (let i = 0; i < a.rows; i++) {
+    let r = 0;
+    const o = i * a.cols;
+    for (let j = 0; j < a.cols; j++) r += a.data[o + j] * x[j];
+    s += x[i] * r;
+  }
+  return s;
+}
+
+export function add(a: Mat, b: Mat): Mat {
+  const c = clone(a);
+  for (let i = 0; i < c.data.length; i++) c.data[i] += b.data[i];
+  return c;
+}
+
+export function sub(a: Mat, b: Mat): Mat {
+  const c = clone(a);
+  for (let i = 0; i < c.data.length; i++) c.data[i] -= b.data[i];
+  return c;
+}
+
+export function scale(a: Mat, s: number): Mat {
+  const c = clone(a);
+  for (let i = 0; i < c.data.length; i++) c.data[i] *= s;
+  return c;
+}
+
+/** (A + A') / 2, to remove rounding asymmetry before a symmetric factorisation. */
+export function symmetrize(a: Mat): Mat {
+  const n = a.rows;
+  const c = clone(a);
+  for (let i = 0; i < n; i++)
+    for (let j = i + 1; j < n; j++) {
+      const v = 0.5 * (a.data[i * n + j] + a.data[j * n + i]);
+      c.data[i * n + j] = v;
+      c.data[j * n + i] = v;
+    }
+  return c;
+}
+
+export function diag(a: Mat): Float64Array {
+  const n = Math.min(a.rows, a.cols);
+  const d = new Float64Array(n);
+  for (let i = 0; i < n; i++) d[i] = a.data[i * a.cols + i];
+  return d;
+}
+
+/** The sub-block rows r0..r1-1, cols c0..c1-1. */
+export function block(a: Mat, r0: number, r1: number, c0: number, c1: number): Mat {
+  const b = zeros(r1 - r0, c1 - c0);
+  for (let i = r0; i < r1; i++) for (let j = c0; j < c1; j++) b.data[(i - r0) * b.cols + (j - c0)] = a.data[i * a.cols + j];
+  return b;
+}
+
+export function dot(x: ArrayLike<number>, y: ArrayLike<number>): number {
+  let s = 0;
+  for (let i = 0; i < x.length; i++) s += x[i] * y[i];
+  return s;
+}
+
+/** Largest absolute entry (0 for an empty matrix). */
+export function maxAbs(x: ArrayLike<number>): number {
+  let m = 0;
+  for (let i = 0; i < x.length; i++) {
+    const v = Math.abs(x[i]);
+    if (v > m) m = v;
+  }
+  return m;
+}
