@@ -46,8 +46,8 @@ export function parameterPathsOption(bt: BacktestResult, names: string[] = pathP
     const color = SERIES_COLORS[i % SERIES_COLORS.length];
     const stack = `band-${i}`;
     series.push(
-      { type: 'line', name: `${name} lower`, data: lo, xAxisIndex: i, yAxisIndex: i, stack, lineStyle: { opacity: 0 }, showSymbol: false, silent: true, tooltip: { show: false } },
-      { type: 'line', name: `${name} ±2 s.e.`, data: width, xAxisIndex: i, yAxisIndex: i, stack, lineStyle: { opacity: 0 }, showSymbol: false, silent: true, areaStyle: { color, opacity: 0.16 }, tooltip: { show: false } },
+      { type: 'line', name: `${name} lower`, data: lo, xAxisIndex: i, yAxisIndex: i, stack, stackStrategy: 'all', lineStyle: { opacity: 0 }, showSymbol: false, silent: true, tooltip: { show: false } },
+      { type: 'line', name: `${name} ±2 s.e.`, data: width, xAxisIndex: i, yAxisIndex: i, stack, stackStrategy: 'all', lineStyle: { opacity: 0 }, showSymbol: false, silent: true, areaStyle: { color, opacity: 0.16 }, tooltip: { show: false } },
       { type: 'line', name, data: est, xAxisIndex: i, yAxisIndex: i, showSymbol: ends.length < 40, symbolSize: 4, lineStyle: { color, width: 1.6 }, itemStyle: { color } },
     );
   });
@@ -72,7 +72,7 @@ export function oosErrorsOption(bt: BacktestResult, opts: { annual?: boolean } =
   return {
     id: 'oos-errors',
     ...baseOption(),
-    legend: { top: 0, right: 8, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
+    legend: { top: 0, left: 56, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
     grid: { left: 64, right: 16, top: 28, bottom: assets.length > 24 ? 84 : assets.length > 10 ? 64 : 36 },
     tooltip: { ...(baseOption().tooltip as Record<string, unknown>), axisPointer: { type: 'shadow' }, valueFormatter: (v: number) => `${num(v, 3)} ${unit}` },
     xAxis: categoryAxis(assets),

@@ -15,6 +15,8 @@ export interface CompareColumn {
   decimals: number;
   /** Percent columns are shown x100. */
   percent?: boolean;
+  /** Per-period values shown a year (x periods per year). */
+  annualise?: boolean;
   value(row: CompareRow): number | undefined;
 }
 
@@ -26,9 +28,14 @@ export const COMPARE_COLUMNS: CompareColumn[] = [
   { key: 'mape', label: 'MAPE %/yr', better: 'lower', decimals: 2, percent: true, value: (r) => r.fit?.mapeAnnual },
   { key: 'rmse', label: 'RMSE %/yr', better: 'lower', decimals: 2, percent: true, value: (r) => r.fit?.rmseAnnual },
   { key: 'r2', label: 'R² (cs)', better: 'higher', decimals: 3, value: (r) => r.fit?.r2 },
-  { key: 'oosRmse', label: 'OOS RMSE', better: 'lower', decimals: 4, value: (r) => r.oos?.rmse },
+  { key: 'oosRmse', label: 'OOS RMSE %/yr', better: 'lower', decimals: 2, percent: true, annualise: true, value: (r) => r.oos?.rmse },
   { key: 'oosR2', label: 'OOS R²', better: 'higher', decimals: 3, value: (r) => r.oos?.r2 },
 ];
+
+/** The number a column shows for a value (percent and annualised as the column says). */
+export function compareDisplayValue(c: CompareColumn, v: number, periodsPerYear: number): number {
+  return v * (c.percent ? 100 : 1) * (c.annualise ? periodsPerYear : 1);
+}
 
 /** Columns with a value for at least one model. */
 export function compareColumnsFor(result: CompareResult): CompareColumn[] {
@@ -69,7 +76,7 @@ export function compareChartOption(result: CompareResult): ChartOption {
   return {
     id: 'comparison',
     ...baseOption(),
-    legend: { top: 0, right: 8, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
+    legend: { top: 0, left: 56, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
     grid: { left: 64, right: 16, top: 30, bottom: labels.length > 6 ? 72 : 36 },
     tooltip: { ...(baseOption().tooltip as Record<string, unknown>), axisPointer: { type: 'shadow' }, valueFormatter: (v: number) => `${num(v, 2)} % a year` },
     xAxis: categoryAxis(labels, { axisLabel: { color: PALETTE.ink, fontSize: 10, rotate: labels.length > 6 ? 25 : 0 } }),

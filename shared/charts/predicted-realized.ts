@@ -8,16 +8,23 @@ import { baseOption, num, valueAxis } from './common.js';
 import { PALETTE } from './palette.js';
 import type { ChartOption } from './types.js';
 
+/** A common range for both axes, padded and rounded to a step of 1, 2 or 5 x 10^k. */
+export function niceRange(min: number, max: number, ticks = 5): { lo: number; hi: number; step: number } {
+  const span = max - min || Math.abs(max) || 1;
+  const raw = span / ticks;
+  const mag = 10 ** Math.floor(Math.log10(raw));
+  const step = [1, 2, 5, 10].map((m) => m * mag).find((s) => s >= raw) ?? 10 * mag;
+  const lo = Math.floor((min - span * 0.04) / step) * step;
+  const hi = Math.ceil((max + span * 0.04) / step) * step;
+  return { lo, hi, step };
+}
+
 export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean } = {}): ChartOption {
   const annual = opts.annual ?? true;
   const k = (annual ? fit.sample.periodsPerYear : 1) * 100;
   const pts = fit.pricingErrors.map((r) => ({ name: r.asset, value: [r.predicted * k, r.meanReturn * k] }));
   const all = pts.flatMap((p) => p.value).filter(Number.isFinite);
-  let lo = all.length ? Math.min(...all, 0) : 0;
-  let hi = all.length ? Math.max(...all, 0) : 1;
-  const pad = (hi - lo) * 0.08 || 1;
-  lo -= pad;
-  hi += pad;
+  const { lo, hi, step } = niceRange(all.length ? Math.min(...all, 0) : 0, all.length ? Math.max(...all, 0) : 1);
   const unit = annual ? '% a year' : '% per period';
   const labels = pts.length <= 30;
   return {
@@ -30,8 +37,8 @@ export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean
       formatter: (p: { name?: string; value?: number[]; seriesName?: string }) =>
         p.seriesName === '45°' || !p.value ? '' : `<b>${p.name ?? ''}</b><br/>predicted ${num(p.value[0], 2)}<br/>realised ${num(p.value[1], 2)} ${unit}`,
     },
-    xAxis: valueAxis(`predicted mean ${fit.sample.returns} return, ${unit}`, { min: lo, max: hi, nameGap: 30, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
-    yAxis: valueAxis(`realised mean, ${unit}`, { min: lo, max: hi, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
+    xAxis: valueAxis(`predicted mean ${fit.sample.returns} return, ${unit}`, { min: lo, max: hi, interval: step, nameGap: 30, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
+    yAxis: valueAxis(`realised mean, ${unit}`, { min: lo, max: hi, interval: step, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
     series: [
       {
         type: 'line',
@@ -51,6 +58,7 @@ export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean
         symbolSize: pts.length > 50 ? 5 : 8,
         itemStyle: { color: PALETTE.primary, opacity: 0.85 },
         label: { show: labels, position: 'right', formatter: '{b}', fontSize: 9, color: PALETTE.muted },
+        labelLayout: { hideOverlap: true },
       },
     ],
   };

@@ -14,7 +14,7 @@ export function priceHistoryOption(h: AssetHistory, opts: { log?: boolean } = {}
   return {
     id: `history-${h.asset}`,
     ...baseOption(),
-    legend: { top: 0, right: 8, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
+    legend: { top: 0, left: 56, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
     grid: { left: 64, right: 24, top: 28, bottom: many ? 64 : 36 },
     tooltip: {
       ...(baseOption().tooltip as Record<string, unknown>),

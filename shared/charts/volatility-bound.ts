@@ -61,7 +61,7 @@ export function volatilityBoundOption(fit: FitResult): ChartOption {
   return {
     id: 'volatility-bound',
     ...baseOption(),
-    legend: { top: 0, right: 8, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
+    legend: { top: 0, left: 56, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
     grid: { left: 64, right: 24, top: 28, bottom: 48 },
     tooltip: {
       ...(baseOption().tooltip as Record<string, unknown>),

@@ -16,7 +16,8 @@ export const useBacktestStore = defineStore('backtest', {
     error: null as UiError | null,
     cancelled: false,
     controller: null as AbortController | null,
-    param: '',
+    /** Parameters whose paths are drawn (empty: the first six). */
+    shown: [] as string[],
   }),
   getters: {
     fraction: (s): number => (s.total > 0 ? Math.min(1, s.done / s.total) : 0),
@@ -63,6 +64,13 @@ export const useBacktestStore = defineStore('backtest', {
           this.controller = null;
         }
       }
+    },
+    /** Shows or hides one parameter's path; `current` is what is drawn now (the default six when none were chosen). */
+    toggleParam(name: string, current: string[]): void {
+      if (this.shown.length === 0) this.shown = [...current];
+      const i = this.shown.indexOf(name);
+      if (i >= 0) this.shown.splice(i, 1);
+      else this.shown.push(name);
     },
     cancel(): void {
       if (this.controller) {
