@@ -8,12 +8,13 @@
  *   raw       u_i = (1 - b'f_t) R_it
  *   gross     u_i = (a - b'f_t) R_it - 1
  * so with z_t = x_t (x) y_t (length D = (K+1)(N+1)) every u_t = C(theta) z_t, and the
- * Newey-West autocovariances are C (sum_t z_t z_{t-j}') C'. The sums
- * M_j = sum_{t, t-j in window} z_t z_{t-j}' (j = 0..maxLag) and m1 = sum_t z_t do not
- * depend on theta, so they are updated when the window moves (add the entering period,
- * remove the leaving one) and S is assembled for any theta in O(K^2 N^2) per lag,
- * without revisiting the window's periods. At the window's edges the centred
- * autocovariances need a few u_t directly (j of them per lag).
+ * Newey-West S of u_t is C [sum_j w_j (M_j + M_j')] C' / n plus centring terms, with
+ * M_j = sum_{t, t-j in window} z_t z_{t-j}', w_0 = 1/2 and w_j = 1 - j/(L+1). The
+ * weighted sum Mw = sum_j w_j M_j does not depend on theta, and moving the window
+ * changes it by two rank-one terms: adding period t adds z_t (sum_j w_j z_{t-j})',
+ * removing period s subtracts (sum_j w_j z_{s+j}) z_s'. So S is assembled for any theta
+ * in O(K^2 N^2) without revisiting the window's periods. The centring terms need the
+ * window sums of z_t and, per lag, the j periods at each edge.
  *
  * Gross returns are stored shifted, y_i = R_i - 1 (net returns), so that the products
  * stay of the size of the moments themselves rather than of R_i R_j ~ 1; the moment map
@@ -27,23 +28,29 @@ export class CrossMoments {
   readonly P: number;
   readonly Q: number;
   readonly D: number;
-  readonly maxLag: number;
   readonly T: number;
   /** z_t for every period of the panel, T x D row-major. */
   readonly z: Float64Array;
-  /** M_j, one D x D row-major matrix per lag j = 0..maxLag. */
-  readonly M: Float64Array[];
-  /** sum of z_t over the window. */
+  /** Mw = sum_j w_j M_j over the window (D x D row-major) for the current lag count. */
+  readonly Mw: Float64Array;
+  /** Sum of z_t over the window. */
   readonly m1: Float64Array;
-  /** Current window [start, end) in panel periods. */
+  /** Sum of y_t y_t' over the window (Q x Q). */
+  readonly yy: Float64Array;
+  /** Sum of x_t x_t' over the window (P x P). */
+  readonly xx: Float64Array;
+  /** Current window [start, end) in panel periods, and its Newey-West lag count. */
   start = 0;
   end = 0;
+  lags = -1;
   /** Rank-one updates since the sums were last rebuilt from scratch. */
   updatesSinceRebuild = 0;
   /** The constant subtracted from every return before the products are formed (1 for gross returns, else 0). */
   readonly shift: number;
+  private w: Float64Array = new Float64Array(1);
+  private readonly v: Float64Array;
 
-  constructor(panel: ReturnsPanel, maxLag: number) {
+  constructor(panel: ReturnsPanel) {
     const N = panel.assets.length;
     const K = panel.factors.length;
     const T = panel.periods.length;
@@ -53,7 +60,6 @@ export class CrossMoments {
     this.Q = N + 1;
     this.D = this.P * this.Q;
     this.T = T;
-    this.maxLag = maxLag;
     this.shift = panel.returnKind === 'gross' ? 1 : 0;
     const shift = this.shift;
     const D = this.D;
@@ -69,32 +75,35 @@ export class CrossMoments {
       }
     }
     this.z = z;
-    this.M = [];
-    for (let j = 0; j <= maxLag; j++) this.M.push(new Float64Array(D * D));
+    this.Mw = new Float64Array(D * D);
     this.m1 = new Float64Array(D);
+    this.yy = new Float64Array(Q * Q);
+    this.xx = new Float64Array(this.P * this.P);
+    this.v = new Float64Array(D);
   }
 
-  /** Rebuilds the sums for the window [start, end) from scratch. */
-  reset(start: number, end: number): void {
-    for (const m of this.M) m.fill(0);
+  /** Rebuilds the sums for the window [start, end) with L lags from scratch. */
+  reset(start: number, end: number, lags: number): void {
+    this.Mw.fill(0);
     this.m1.fill(0);
+    this.yy.fill(0);
+    this.xx.fill(0);
+    this.lags = lags;
+    this.w = new Float64Array(lags + 1);
+    this.w[0] = 0.5;
+    for (let j = 1; j <= lags; j++) this.w[j] = 1 - j / (lags + 1);
     this.start = start;
     this.end = start;
     for (let t = start; t < end; t++) this.pushEnd();
     this.updatesSinceRebuild = 0;
   }
 
-  /** Moves the window to [start, end) (start and end not before the current ones). */
-  moveTo(start: number, end: number): void {
-    if (start < this.start || end < this.end || start >= end) {
-      this.reset(start, end);
-      return;
-    }
-    // Cheaper to rebuild when the new window shares few periods with the old one.
-    const kept = Math.max(0, this.end - start);
-    const incremental = (start - this.start) + (end - this.end);
-    if (kept === 0 || incremental >= end - start) {
-      this.reset(start, end);
+  /** Moves the window to [start, end) with L lags, updating the sums when that is cheaper than rebuilding them. */
+  moveTo(start: number, end: number, lags: number): void {
+    const kept = Math.max(0, Math.min(this.end, end) - Math.max(this.start, start));
+    const steps = Math.abs(start - this.start) + Math.abs(end - this.end);
+    if (lags !== this.lags || start < this.start || end < this.end || kept === 0 || steps >= end - start) {
+      this.reset(start, end, lags);
       return;
     }
     while (this.start < start) this.popStart();
@@ -104,16 +113,18 @@ export class CrossMoments {
   /** Adds period `end` to the window. */
   private pushEnd(): void {
     const t = this.end;
-    const D = this.D;
-    const z = this.z;
+    const { D, z, v, w } = this;
     const zt = t * D;
-    const m1 = this.m1;
-    for (let a = 0; a < D; a++) m1[a] += z[zt + a];
-    for (let j = 0; j <= this.maxLag; j++) {
+    v.fill(0);
+    for (let j = 0; j <= this.lags; j++) {
       const s = t - j;
       if (s < this.start) break;
-      rankOne(this.M[j], z, zt, s * D, D, 1);
+      const wj = w[j];
+      const zs = s * D;
+      for (let b = 0; b < D; b++) v[b] += wj * z[zs + b];
     }
+    this.rankOne(zt, 1);
+    this.secondMoments(t, 1);
     this.end = t + 1;
     this.updatesSinceRebuild++;
   }
@@ -121,18 +132,57 @@ export class CrossMoments {
   /** Removes period `start` from the window. */
   private popStart(): void {
     const s = this.start;
-    const D = this.D;
-    const z = this.z;
+    const { D, z, v, w } = this;
     const zs = s * D;
-    const m1 = this.m1;
-    for (let a = 0; a < D; a++) m1[a] -= z[zs + a];
-    for (let j = 0; j <= this.maxLag; j++) {
+    // u = sum_j w_j z_{s+j}, then Mw -= u z_s'
+    v.fill(0);
+    for (let j = 0; j <= this.lags; j++) {
       const t = s + j;
       if (t >= this.end) break;
-      rankOne(this.M[j], z, t * D, zs, D, -1);
+      const wj = w[j];
+      const zt = t * D;
+      for (let b = 0; b < D; b++) v[b] += wj * z[zt + b];
     }
+    const M = this.Mw;
+    for (let a = 0; a < D; a++) {
+      const va = v[a];
+      if (va === 0) continue;
+      const row = a * D;
+      for (let b = 0; b < D; b++) M[row + b] -= va * z[zs + b];
+    }
+    this.secondMoments(s, -1);
     this.start = s + 1;
     this.updatesSinceRebuild++;
+  }
+
+  /** Mw += sign * z_t v'. */
+  private rankOne(zt: number, sign: number): void {
+    const { D, z, v } = this;
+    const M = this.Mw;
+    for (let a = 0; a < D; a++) {
+      const za = sign * z[zt + a];
+      if (za === 0) continue;
+      const row = a * D;
+      for (let b = 0; b < D; b++) M[row + b] += za * v[b];
+    }
+  }
+
+  private secondMoments(t: number, sign: number): void {
+    const { D, Q, P, N, z } = this;
+    const o = t * D;
+    for (let a = 0; a < D; a++) this.m1[a] += sign * z[o + a];
+    // y_t is the x_0 = 1 block of z_t; x_t is the p = N (y = 1) column of each block.
+    const yy = this.yy;
+    for (let p = 0; p < Q; p++) {
+      const yp = sign * z[o + p];
+      if (yp === 0) continue;
+      for (let q = 0; q < Q; q++) yy[p * Q + q] += yp * z[o + q];
+    }
+    const xx = this.xx;
+    for (let k = 0; k < P; k++) {
+      const xk = sign * z[o + k * Q + N];
+      for (let l = 0; l < P; l++) xx[k * P + l] += xk * z[o + l * Q + N];
+    }
   }
 
   /** Window length. */
@@ -144,26 +194,10 @@ export class CrossMoments {
   meanReturn(i: number): number {
     return this.shift + this.m1[i] / this.n;
   }
-}
 
-/**
- * The map for shifted data: u_i = (x'beta) R_i + x'delta = (x'beta)(y_i + s) + x'delta,
- * so on y the asset moments have delta' = delta + s beta.
- */
-export function shiftMap(map: MomentMap, s: number): MomentMap {
-  if (s === 0) return map;
-  const delta = new Float64Array(map.beta.length);
-  for (let k = 0; k < delta.length; k++) delta[k] = (map.delta ? map.delta[k] : 0) + s * map.beta[k];
-  return { beta: map.beta, delta, gamma: map.gamma };
-}
-
-/** M += sign * z[a0..a0+D) z[b0..b0+D)'. */
-function rankOne(M: Float64Array, z: Float64Array, a0: number, b0: number, D: number, sign: number): void {
-  for (let a = 0; a < D; a++) {
-    const za = sign * z[a0 + a];
-    if (za === 0) continue;
-    const row = a * D;
-    for (let b = 0; b < D; b++) M[row + b] += za * z[b0 + b];
+  /** Newey-West weights w_0 = 1/2, w_j = 1 - j/(L+1) of the current lag count. */
+  get weights(): Float64Array {
+    return this.w;
   }
 }
 
@@ -179,99 +213,110 @@ export interface MomentMap {
 }
 
 /**
- * Newey-West S = G_0 + sum_{j=1..L} (1 - j/(L+1)) (G_j + G_j') of u_t = C z_t over the
- * current window, G_j = (1/n) sum_{t>j} (u_t - c)(u_{t-j} - c)', c the window mean of
- * u_t when centred, else 0 (METHODS 3). Returned as an M x M row-major matrix,
- * M = N + number of factor moments.
+ * The map for shifted data: u_i = (x'beta) R_i + x'delta = (x'beta)(y_i + s) + x'delta,
+ * so on y the asset moments have delta' = delta + s beta.
  */
-export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap, lags: number, centered: boolean): Float64Array {
+export function shiftMap(map: MomentMap, s: number): MomentMap {
+  if (s === 0) return map;
+  const delta = new Float64Array(map.beta.length);
+  for (let k = 0; k < delta.length; k++) delta[k] = (map.delta ? map.delta[k] : 0) + s * map.beta[k];
+  return { beta: map.beta, delta, gamma: map.gamma };
+}
+
+/**
+ * Newey-West S = G_0 + sum_{j=1..L} (1 - j/(L+1)) (G_j + G_j') of u_t = C z_t over the
+ * current window with the window's lag count, G_j = (1/n) sum_{t>j} (u_t - c)(u_{t-j} - c)',
+ * c the window mean of u_t when centred, else 0 (METHODS 3). Returned as an M x M
+ * row-major matrix, M = N + number of factor moments.
+ */
+export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap, centered: boolean): Float64Array {
   const { N, P, Q, D } = cm;
   const map = shiftMap(unshifted, cm.shift);
   const G = map.gamma.length;
   const Mm = N + G;
   const n = cm.n;
-  const S = new Float64Array(Mm * Mm);
-  const H = new Float64Array(D * Mm);
   const beta = map.beta;
   const delta = map.delta;
-  // window mean of u and, per lag, the edge corrections
-  const ubar = applyShifted(cm, map, cm.m1);
-  for (let i = 0; i < Mm; i++) ubar[i] /= n;
-  const headSum = new Float64Array(D); // sum of z over the first j periods
-  const tailSum = new Float64Array(D); // sum of z over the last j periods
-  const Gj = new Float64Array(Mm * Mm);
-  for (let j = 0; j <= lags; j++) {
-    const Mj = cm.M[j];
-    // H[a, m'] = sum_b M_j[a, b] C[m', b]
-    for (let a = 0; a < D; a++) {
-      const row = a * D;
-      const h = a * Mm;
-      for (let i = 0; i < N; i++) {
-        let s = 0;
-        for (let l = 0; l < P; l++) s += beta[l] * Mj[row + l * Q + i];
-        if (delta) for (let l = 0; l < P; l++) s += delta[l] * Mj[row + l * Q + N];
-        H[h + i] = s;
+  const Mw = cm.Mw;
+  // H = Mw C' (D x Mm), inner loops contiguous
+  const H = new Float64Array(D * Mm);
+  for (let a = 0; a < D; a++) {
+    const row = a * D;
+    const h = a * Mm;
+    for (let l = 0; l < P; l++) {
+      const bl = beta[l];
+      const o = row + l * Q;
+      for (let i = 0; i < N; i++) H[h + i] += bl * Mw[o + i];
+      const mN = Mw[o + N];
+      if (delta) {
+        const dl = delta[l] * mN;
+        for (let i = 0; i < N; i++) H[h + i] += dl;
       }
-      for (let g = 0; g < G; g++) {
-        const gam = map.gamma[g];
-        let s = 0;
-        for (let l = 0; l < P; l++) s += gam[l] * Mj[row + l * Q + N];
-        H[h + N + g] = s;
+      for (let g = 0; g < G; g++) H[h + N + g] += map.gamma[g][l] * mN;
+    }
+  }
+  // R = C H (Mm x Mm)
+  const R = new Float64Array(Mm * Mm);
+  for (let i = 0; i < N; i++) {
+    const ri = i * Mm;
+    for (let k = 0; k < P; k++) {
+      const bk = beta[k];
+      const hrow = (k * Q + i) * Mm;
+      for (let c = 0; c < Mm; c++) R[ri + c] += bk * H[hrow + c];
+      if (delta) {
+        const dk = delta[k];
+        const hN = (k * Q + N) * Mm;
+        for (let c = 0; c < Mm; c++) R[ri + c] += dk * H[hN + c];
       }
     }
-    // G_j = C H
-    for (let i = 0; i < N; i++) {
-      const gi = i * Mm;
-      for (let c = 0; c < Mm; c++) {
-        let s = 0;
-        for (let k = 0; k < P; k++) {
-          s += beta[k] * H[(k * Q + i) * Mm + c];
-          if (delta) s += delta[k] * H[(k * Q + N) * Mm + c];
-        }
-        Gj[gi + c] = s;
-      }
+  }
+  for (let g = 0; g < G; g++) {
+    const ri = (N + g) * Mm;
+    for (let k = 0; k < P; k++) {
+      const gk = map.gamma[g][k];
+      if (gk === 0) continue;
+      const hN = (k * Q + N) * Mm;
+      for (let c = 0; c < Mm; c++) R[ri + c] += gk * H[hN + c];
     }
-    for (let g = 0; g < G; g++) {
-      const gam = map.gamma[g];
-      const gi = (N + g) * Mm;
-      for (let c = 0; c < Mm; c++) {
-        let s = 0;
-        for (let k = 0; k < P; k++) s += gam[k] * H[(k * Q + N) * Mm + c];
-        Gj[gi + c] = s;
-      }
-    }
-    if (centered) {
+  }
+  const S = new Float64Array(Mm * Mm);
+  for (let r = 0; r < Mm; r++) for (let c = 0; c < Mm; c++) S[r * Mm + c] = R[r * Mm + c] + R[c * Mm + r];
+  if (centered) {
+    // sum_j w_j [ -ubar b_j' - a_j ubar' + (n - j) ubar ubar' ], plus its transpose, with
+    // a_j = sum_{t>=j} u_t = C(m1 - head_j), b_j = sum_{t>=j} u_{t-j} = C(m1 - tail_j).
+    const w = cm.weights;
+    const L = cm.lags;
+    const head = new Float64Array(D);
+    const tail = new Float64Array(D);
+    const aSum = new Float64Array(D);
+    const bSum = new Float64Array(D);
+    let c = 0;
+    for (let j = 0; j <= L; j++) {
       if (j > 0) {
         const zh = (cm.start + j - 1) * D;
         const zt = (cm.end - j) * D;
         for (let a = 0; a < D; a++) {
-          headSum[a] += cm.z[zh + a];
-          tailSum[a] += cm.z[zt + a];
+          head[a] += cm.z[zh + a];
+          tail[a] += cm.z[zt + a];
         }
       }
-      // a_j = sum_{t>=j} u_t = C (m1 - head), b_j = sum_{t>=j} u_{t-j} = C (m1 - tail)
-      const ah = new Float64Array(D);
-      const bt = new Float64Array(D);
       for (let a = 0; a < D; a++) {
-        ah[a] = cm.m1[a] - headSum[a];
-        bt[a] = cm.m1[a] - tailSum[a];
+        aSum[a] += w[j] * (cm.m1[a] - head[a]);
+        bSum[a] += w[j] * (cm.m1[a] - tail[a]);
       }
-      const aj = applyShifted(cm, map, ah);
-      const bj = applyShifted(cm, map, bt);
-      const w = n - j;
-      for (let r = 0; r < Mm; r++) {
-        const gr = r * Mm;
-        for (let c = 0; c < Mm; c++) Gj[gr + c] += -ubar[r] * bj[c] - aj[r] * ubar[c] + w * ubar[r] * ubar[c];
-      }
+      c += w[j] * (n - j);
     }
-    const wj = j === 0 ? 1 : 1 - j / (lags + 1);
-    const f = wj / n;
-    if (j === 0) {
-      for (let r = 0; r < Mm; r++) for (let c = 0; c < Mm; c++) S[r * Mm + c] += f * 0.5 * (Gj[r * Mm + c] + Gj[c * Mm + r]);
-    } else {
-      for (let r = 0; r < Mm; r++) for (let c = 0; c < Mm; c++) S[r * Mm + c] += f * (Gj[r * Mm + c] + Gj[c * Mm + r]);
+    const ubar = applyShifted(cm, map, cm.m1);
+    for (let i = 0; i < Mm; i++) ubar[i] /= n;
+    const A = applyShifted(cm, map, aSum);
+    const B = applyShifted(cm, map, bSum);
+    for (let r = 0; r < Mm; r++) {
+      for (let q = 0; q < Mm; q++) {
+        S[r * Mm + q] += -(ubar[r] * B[q] + B[r] * ubar[q]) - (A[r] * ubar[q] + ubar[r] * A[q]) + 2 * c * ubar[r] * ubar[q];
+      }
     }
   }
+  for (let i = 0; i < S.length; i++) S[i] /= n;
   return S;
 }
 

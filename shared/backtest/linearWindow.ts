@@ -84,7 +84,7 @@ export interface WindowMoments {
 }
 
 export function windowMoments(cm: CrossMoments): WindowMoments {
-  const { N, K, Q, D } = cm;
+  const { N, K, Q } = cm;
   const n = cm.n;
   const sh = cm.shift;
   const Rbar = new Float64Array(N);
@@ -94,19 +94,18 @@ export function windowMoments(cm: CrossMoments): WindowMoments {
   for (let i = 0; i < N; i++) Rbar[i] = sh + cm.m1[i] / n;
   for (let k = 0; k < K; k++) fbar[k] = cm.m1[(k + 1) * Q + N] / n;
   for (let i = 0; i < N; i++) for (let k = 0; k < K; k++) ERf[i * K + k] = cm.m1[(k + 1) * Q + i] / n + sh * fbar[k];
-  const M0 = cm.M[0];
-  for (let k = 0; k < K; k++) for (let l = 0; l < K; l++) Eff[k * K + l] = M0[((k + 1) * Q + N) * D + (l + 1) * Q + N] / n;
+  const P = cm.P;
+  for (let k = 0; k < K; k++) for (let l = 0; l < K; l++) Eff[k * K + l] = cm.xx[(k + 1) * P + (l + 1)] / n;
   return { n, Rbar, fbar, ERf, Eff };
 }
 
 function hjWeight(cm: CrossMoments): Weight {
-  const { N, D } = cm;
+  const { N, Q } = cm;
   const n = cm.n;
   const sh = cm.shift;
   const ERR = new Float64Array(N * N);
-  const M0 = cm.M[0];
   // E[R_i R_j] = E[(y_i + s)(y_j + s)]
-  for (let i = 0; i < N; i++) for (let j = 0; j < N; j++) ERR[i * N + j] = (M0[i * D + j] + sh * (cm.m1[i] + cm.m1[j])) / n + sh * sh;
+  for (let i = 0; i < N; i++) for (let j = 0; j < N; j++) ERR[i * N + j] = (cm.yy[i * Q + j] + sh * (cm.m1[i] + cm.m1[j])) / n + sh * sh;
   return { kind: 'chol', L: cholesky(ERR, N, 'E[R R\'] (second moments of the test-asset returns, the HJ weight)'), n: N };
 }
 
@@ -212,6 +211,7 @@ const S_WHAT = 'S (Newey-West long-run covariance of the moments)';
 /** Fits the configured linear model on the window the sums currently hold. */
 export function fitLinearWindow(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit {
   if (cfg.lags >= cm.n) throw new DeflatorError('SAMPLE_TOO_SHORT', `window of ${cm.n} periods is too short for ${cfg.lags} Newey-West lags`, 'use fewer lags or a longer window');
+  if (cfg.lags !== cm.lags) throw new DeflatorError('INPUT_INVALID', `the window sums hold ${cm.lags} lags, the fit asks for ${cfg.lags}`, 'move the sums with the same lag count');
   switch (cfg.kind) {
     case 'linear':
       return fitDemeaned(cm, cfg);
@@ -244,7 +244,7 @@ function fitLinearInParams(cm: CrossMoments, cfg: LinearWindowConfig, gross: boo
   const normalWhat = "the first-stage moment Jacobian d (collinear or constant factors?)";
   const first = weightedLeastSquares(X, y, N, p, W1, normalWhat);
   let theta = first.theta;
-  const S1 = longRunCovarianceFromSums(cm, mapOf(theta), cfg.lags, cfg.centered);
+  const S1 = longRunCovarianceFromSums(cm, mapOf(theta), cfg.centered);
   let V: Float64Array;
   if (cfg.stage === 'first') {
     V = sandwich(first, N, p, W1, S1, cm.n);
@@ -315,7 +315,7 @@ function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit
   let mu: Float64Array = wm.fbar.slice();
   const M = N + K;
   const p = 2 * K;
-  const S1 = longRunCovarianceFromSums(cm, demeanedMap(b, mu), cfg.lags, cfg.centered);
+  const S1 = longRunCovarianceFromSums(cm, demeanedMap(b, mu), cfg.centered);
   let V: Float64Array;
   let iterations = 1;
   if (cfg.stage === 'first') {
@@ -339,10 +339,7 @@ function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit
     b = res.b;
     mu = res.mu;
     iterations = res.iterations;
-    const { d } = demeanedMoments(wm, b, mu, N, K);
-    const dw = d.slice();
-    forwardSolveInPlace(L, M, dw, p);
-    V = informationInverse(qrThin(dw, M, p, "S^{-1/2} d (the second-stage moment Jacobian)").R, p, n);
+    V = informationInverse(qrThin(res.dw, M, p, "S^{-1/2} d (the second-stage moment Jacobian)").R, p, n);
   }
   const { g } = demeanedMoments(wm, b, mu, N, K);
   const alpha = g.slice(0, N);
@@ -380,46 +377,87 @@ function transposeRect(A: Float64Array, r: number, c: number): Float64Array {
 }
 
 /**
- * Minimises g(b, mu)' S^{-1} g(b, mu) from the first-stage estimate. Newton steps with
- * the exact Hessian 2(d'S^{-1}d + rho [0 I; I 0]), rho = Rbar'S^{-1}_{RR.}g; a
- * Gauss-Newton step with step halving whenever the Newton step does not lower the
- * objective. Stops when the largest change is below 1e-12 x max(1, |theta|).
+ * Minimises g(b, mu)' S^{-1} g(b, mu) from the first-stage estimate. With S = L L' and
+ * tilde x = L^{-1} x, the whitened moments are affine in the parameter pieces:
+ *   tilde g = (1 + b'mu) tilde r - tilde E b + tilde f - tilde F mu,
+ * r = (Rbar, 0), E = (E[Rf'], 0), f = (0, fbar), F = (0, I), so each step costs O(M p^2)
+ * after 2K + 2 triangular solves. Newton steps with the exact Hessian
+ * 2(tilde d' tilde d + rho [0 I; I 0]), rho = tilde g' tilde r; a Gauss-Newton step with
+ * step halving whenever the Newton step does not lower the objective. Stops when the
+ * largest change is below 1e-12 x max(1, |theta|).
  */
-function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu0: Float64Array, N: number, K: number): { b: Float64Array; mu: Float64Array; iterations: number } {
+function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu0: Float64Array, N: number, K: number): { b: Float64Array; mu: Float64Array; iterations: number; dw: Float64Array } {
   const M = N + K;
   const p = 2 * K;
-  const b = b0.slice();
-  const mu = mu0.slice();
-  const objective = (bb: Float64Array, mm: Float64Array): number => {
-    const { g } = demeanedMoments(wm, bb, mm, N, K);
-    const y = g.slice();
-    cholSolveInPlace(L, M, y, 1);
+  // whitened basis, columns: [r | E_1..E_K | f | F_1..F_K], M x (2K + 2)
+  const nc = 2 * K + 2;
+  const Bm = new Float64Array(M * nc);
+  for (let i = 0; i < N; i++) {
+    Bm[i * nc] = wm.Rbar[i];
+    for (let k = 0; k < K; k++) Bm[i * nc + 1 + k] = wm.ERf[i * K + k];
+  }
+  for (let k = 0; k < K; k++) {
+    Bm[(N + k) * nc + K + 1] = wm.fbar[k];
+    Bm[(N + k) * nc + K + 2 + k] = 1;
+  }
+  forwardSolveInPlace(L, M, Bm, nc);
+  const gw = new Float64Array(M);
+  const dw = new Float64Array(M * p);
+  const whitenedG = (bb: Float64Array, mm: Float64Array, out: Float64Array): number => {
+    let c = 1;
+    for (let k = 0; k < K; k++) c += bb[k] * mm[k];
     let q = 0;
-    for (let i = 0; i < M; i++) q += g[i] * y[i];
+    for (let i = 0; i < M; i++) {
+      const o = i * nc;
+      let v = c * Bm[o] + Bm[o + K + 1];
+      for (let k = 0; k < K; k++) v -= Bm[o + 1 + k] * bb[k] + Bm[o + K + 2 + k] * mm[k];
+      out[i] = v;
+      q += v * v;
+    }
     return q;
   };
-  let q = objective(b, mu);
-  for (let it = 1; it <= 100; it++) {
-    const { g, d } = demeanedMoments(wm, b, mu, N, K);
-    const Y = new Float64Array(M * (p + 1));
+  const whitenedD = (bb: Float64Array, mm: Float64Array): void => {
     for (let i = 0; i < M; i++) {
-      for (let c = 0; c < p; c++) Y[i * (p + 1) + c] = d[i * p + c];
-      Y[i * (p + 1) + p] = g[i];
-    }
-    cholSolveInPlace(L, M, Y, p + 1);
-    const GN = new Float64Array(p * p);
-    const grad = new Float64Array(p);
-    let rho = 0;
-    for (let i = 0; i < M; i++) {
-      const yg = Y[i * (p + 1) + p];
-      if (i < N) rho += yg * wm.Rbar[i];
-      for (let a = 0; a < p; a++) {
-        const da = d[i * p + a];
-        grad[a] += da * yg;
-        for (let c = 0; c < p; c++) GN[a * p + c] += da * Y[i * (p + 1) + c];
+      const o = i * nc;
+      const r = Bm[o];
+      for (let k = 0; k < K; k++) {
+        dw[i * p + k] = mm[k] * r - Bm[o + 1 + k];
+        dw[i * p + K + k] = bb[k] * r - Bm[o + K + 2 + k];
       }
     }
-    const H = GN.slice();
+  };
+  const b = b0.slice();
+  const mu = mu0.slice();
+  const nb = new Float64Array(K);
+  const nm = new Float64Array(K);
+  const trial = new Float64Array(M);
+  let q = whitenedG(b, mu, gw);
+  const GN = new Float64Array(p * p);
+  const H = new Float64Array(p * p);
+  const grad = new Float64Array(p);
+  const accept = (qNew: number): boolean => qNew <= q * (1 + 1e-12) + 1e-300;
+  const tryStep = (st: Float64Array, t: number): number => {
+    for (let k = 0; k < K; k++) {
+      nb[k] = b[k] - t * st[k];
+      nm[k] = mu[k] - t * st[K + k];
+    }
+    return whitenedG(nb, nm, trial);
+  };
+  for (let it = 1; it <= 100; it++) {
+    whitenedD(b, mu);
+    GN.fill(0);
+    grad.fill(0);
+    let rho = 0;
+    for (let i = 0; i < M; i++) {
+      const g = gw[i];
+      rho += g * Bm[i * nc];
+      for (let a = 0; a < p; a++) {
+        const da = dw[i * p + a];
+        grad[a] += da * g;
+        for (let c = 0; c < p; c++) GN[a * p + c] += da * dw[i * p + c];
+      }
+    }
+    H.set(GN);
     for (let k = 0; k < K; k++) {
       H[k * p + K + k] += rho;
       H[(K + k) * p + k] += rho;
@@ -430,36 +468,30 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
     } catch {
       step = null;
     }
-    const tryStep = (s: Float64Array, t: number): { b: Float64Array; mu: Float64Array; q: number } => {
-      const nb = b.slice();
-      const nm = mu.slice();
-      for (let k = 0; k < K; k++) {
-        nb[k] -= t * s[k];
-        nm[k] -= t * s[K + k];
-      }
-      return { b: nb, mu: nm, q: objective(nb, nm) };
-    };
-    let next = step ? tryStep(step, 1) : null;
-    if (!next || !(next.q <= q * (1 + 1e-12) + 1e-300)) {
-      const gnStep = luSolve(GN, p, grad, 1, "d'S^{-1}d (the second-stage information matrix)");
+    let qNew = step ? tryStep(step, 1) : Number.POSITIVE_INFINITY;
+    if (!accept(qNew)) {
+      step = luSolve(GN, p, grad, 1, "d'S^{-1}d (the second-stage information matrix)");
       let t = 1;
-      next = tryStep(gnStep, t);
-      while (!(next.q <= q * (1 + 1e-12) + 1e-300) && t > 1e-10) {
+      qNew = tryStep(step, t);
+      while (!accept(qNew) && t > 1e-10) {
         t /= 2;
-        next = tryStep(gnStep, t);
+        qNew = tryStep(step, t);
       }
-      step = gnStep.map((v) => v * t);
     }
     let change = 0;
     let scale = 1;
     for (let k = 0; k < K; k++) {
-      change = Math.max(change, Math.abs(next.b[k] - b[k]), Math.abs(next.mu[k] - mu[k]));
+      change = Math.max(change, Math.abs(nb[k] - b[k]), Math.abs(nm[k] - mu[k]));
       scale = Math.max(scale, Math.abs(b[k]), Math.abs(mu[k]));
     }
-    b.set(next.b);
-    mu.set(next.mu);
-    q = next.q;
-    if (change <= 1e-12 * scale) return { b, mu, iterations: it };
+    b.set(nb);
+    mu.set(nm);
+    gw.set(trial);
+    q = qNew;
+    if (change <= 1e-12 * scale) {
+      whitenedD(b, mu);
+      return { b, mu, iterations: it, dw: dw.slice() };
+    }
   }
   throw new DeflatorError('NO_CONVERGENCE', 'second-stage GMM (b and mu jointly) did not converge in 100 Newton iterations', 'the window may be too short for the number of moments; use a longer window or the first stage');
 }

@@ -79,12 +79,7 @@ export function backtestWindows(spec: FitSpec, panel: ReturnsPanel, opts: Backte
   if (!useIncremental && !opts.fit) throw new DeflatorError('SPEC_INVALID', 'this back-test needs the estimator to fit each window', 'pass the fit function (the worker does this)');
   const total = to - from;
   const records: WindowRecord[] = [];
-  let cm: CrossMoments | null = null;
-  if (useIncremental) {
-    let maxLag = 0;
-    for (let w = from; w < to; w++) maxLag = Math.max(maxLag, windowLags(spec.estimator.lags, schedule[w].end - schedule[w].start));
-    cm = new CrossMoments(panel, maxLag);
-  }
+  const cm = useIncremental ? new CrossMoments(panel) : null;
   for (let w = from; w < to; w++) {
     if (opts.signal?.aborted) throw cancelled();
     const win = schedule[w];
@@ -104,8 +99,8 @@ export function backtestWindows(spec: FitSpec, panel: ReturnsPanel, opts: Backte
 const REBUILD_AFTER_WINDOWS = 64;
 
 function runIncremental(spec: FitSpec, panel: ReturnsPanel, cm: CrossMoments, win: WindowBounds, index: number, lags: number, fresh: boolean): WindowRecord {
-  if (fresh || cm.updatesSinceRebuild > REBUILD_AFTER_WINDOWS * (win.end - win.start)) cm.reset(win.start, win.end);
-  else cm.moveTo(win.start, win.end);
+  if (fresh || cm.updatesSinceRebuild > REBUILD_AFTER_WINDOWS * (win.end - win.start)) cm.reset(win.start, win.end, lags);
+  else cm.moveTo(win.start, win.end, lags);
   const stage = spec.estimator.stage === 'first' ? 'first' : 'second';
   const fit = fitLinearWindow(cm, {
     kind: spec.model.kind as LinearKind,

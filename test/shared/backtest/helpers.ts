@@ -30,3 +30,5 @@ export function panelFromFixture(fx: FixturePanelInput, kind: 'excess' | 'gross'
     sampleNotes: [],
   };
 }
+
+export { seededPanel } from './seeded.js';
