@@ -59,7 +59,7 @@ export function parseExact<T = unknown>(text: string): T {
 
 /** One number (or value) that differs between a stored result and a recomputed one. */
 export interface ValueDifference {
-  /** Where, e.g. `params[1].se` or `models[0].test.stat`. */
+  /** Where, e.g. `params[1:b.MKT].se` or `models[0:linear(MKT)].test.stat` (index, then the row's name). */
   path: string;
   stored: unknown;
   recomputed: unknown;
@@ -68,6 +68,14 @@ export interface ValueDifference {
 /** Are two doubles the same bits (NaN equals NaN, -0 differs from 0)? */
 export function sameDouble(a: number, b: number): boolean {
   return Object.is(a, b);
+}
+
+/** `:name` of a row that has a name (name, asset, label, end), to make a path readable. */
+function tagOf(x: unknown): string {
+  if (x === null || typeof x !== 'object') return '';
+  const o = x as Record<string, unknown>;
+  for (const k of ['name', 'asset', 'label', 'end']) if (typeof o[k] === 'string') return `:${o[k] as string}`;
+  return '';
 }
 
 /**
@@ -92,7 +100,7 @@ export function diffExact(stored: unknown, recomputed: unknown, limit = 1000): {
     if (aList && bList) {
       if (aList.length !== bList.length) note(`${path}.length`, aList.length, bList.length);
       const n = Math.min(aList.length, bList.length);
-      for (let i = 0; i < n; i++) walk(aList[i], bList[i], `${path}[${i}]`);
+      for (let i = 0; i < n; i++) walk(aList[i], bList[i], `${path}[${i}${tagOf(aList[i])}]`);
       return;
     }
     if (a !== null && b !== null && typeof a === 'object' && typeof b === 'object' && !aList && !bList) {

@@ -9,9 +9,10 @@ import { register as info } from './info.js';
 import { register as returns } from './returns.js';
 import { register as runs } from './runs.js';
 import { register as show } from './show.js';
+import { register as replay } from './replay.js';
 import { register as exportRun } from './export.js';
 import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, runs, show, exportRun, serve];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, runs, show, replay, exportRun, serve];

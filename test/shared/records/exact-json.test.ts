@@ -27,7 +27,7 @@ describe('exact JSON', () => {
     const d = diffExact(stored, recomputed);
     expect(d.count).toBe(3);
     expect(d.differences).toEqual([
-      { path: 'params[0].estimate', stored: 1.5, recomputed: 1.5000000000000002 },
+      { path: 'params[0:b.MKT].estimate', stored: 1.5, recomputed: 1.5000000000000002 },
       { path: 'test.p', stored: '(absent)', recomputed: 0.2 },
       { path: 'notes.length', stored: 1, recomputed: 2 },
     ]);

@@ -1,0 +1,179 @@
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { backtest } from '../../../shared/backtest/index.js';
+import { fit } from '../../../shared/estimation/fit.js';
+import { diffExact } from '../../../shared/records/exact-json.js';
+import { encodePanel, fingerprintPanel } from '../../../shared/records/panel-encoding.js';
+import type { FitResult } from '../../../shared/results.js';
+import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
+import { importPrices } from '../../../src-main/import/index.js';
+import { loadPanel } from '../../../src-main/data/panel.js';
+import { replayRun, formatReplay, type Recompute } from '../../../src-main/runs/replay.js';
+import { deleteRun, getRun, listRuns, parseRunId, recordRun, staleItems } from '../../../src-main/runs/runs.js';
+import { Store } from '../../../src-main/store/store.js';
+import { VERSION } from '../../../src-main/version.js';
+import { editPrice, forgetImport, makeProject, type Project } from './helpers.js';
+
+/** In-process recompute with the same estimator entry points the worker calls. */
+const inProcess: Recompute = {
+  fit: async (spec, panel) => fit(spec, panel),
+  backtest: async (spec, panel) => backtest(spec, panel, { fit }),
+  compare: async () => {
+    throw new Error('compare is replayed in test/src-main/runs/replay-cli.test.ts');
+  },
+};
+
+const sha256 = (file: string) => createHash('sha256').update(readFileSync(file)).digest('hex');
+
+let p: Project;
+const ASSETS = ['brinemoor-ferries', 'corvane-saltworks', 'greyhallow-banking', 'lanternfold-power'];
+let spec: FitSpec;
+let btSpec: FitSpec;
+
+beforeAll(async () => {
+  p = await makeProject();
+  spec = parseFitSpec({ riskfree: 'bill_yield', assets: ASSETS, model: { factors: ['harbor', 'ember'] } });
+  btSpec = parseFitSpec({ riskfree: 'bill_yield', assets: ASSETS, model: { factors: ['harbor'] }, backtest: { window: 60, step: 24 } });
+});
+afterAll(() => p?.store.close());
+
+describe('run records', () => {
+  it('stores spec, result, version and fingerprints; the result reads back bit for bit', () => {
+    const panel = loadPanel(p.store, spec);
+    const result = fit(spec, panel);
+    const rec = recordRun(p.store, { spec, result, panel, createdAt: new Date('2030-05-06T07:08:09.000Z') });
+    expect(rec.id).toBe(1);
+    expect(rec.kind).toBe('fit');
+    expect(rec.version).toBe(VERSION);
+    expect(rec.createdAt).toBe('2030-05-06T07:08:09.000Z');
+    expect(rec.spec).toEqual(spec);
+    const back = getRun(p.store, rec.id);
+    expect(diffExact(back.result, result)).toEqual({ count: 0, differences: [] });
+    // Reference: node:crypto SHA-256 over the canonical bytes.
+    expect(back.panel.sha256).toBe(createHash('sha256').update(encodePanel(panel)).digest('hex'));
+    expect(back.panel).toMatchObject({ encoding: 1, frequency: 'monthly', T: panel.periods.length, N: 4, K: 2, start: panel.periods[0] });
+    // Reference: node:crypto SHA-256 of each imported file's bytes, as the import log recorded them.
+    const files = Object.fromEntries(back.files.map((f) => [f.file, f]));
+    expect(Object.keys(files).sort()).toEqual(['bill_yield.csv', 'factors.csv', 'prices.csv']);
+    expect(files['prices.csv'].sha256).toBe(sha256(p.file('prices.csv')));
+    expect(files['factors.csv'].sha256).toBe(sha256(p.file('factors.csv')));
+    expect(files['bill_yield.csv'].sha256).toBe(sha256(p.file('bill_yield.csv')));
+    expect(files['prices.csv'].subjects.sort()).toEqual([...ASSETS].sort());
+    expect(files['factors.csv'].subjects.sort()).toEqual(['ember', 'harbor']);
+    expect(back.subjects.map((s) => `${s.kind}:${s.name}`)).toEqual([...ASSETS.map((a) => `asset:${a}`), 'series:bill_yield', 'series:ember', 'series:harbor']);
+    expect(back.models).toEqual([result.label, 'linear']);
+    expect(back.label).toBe(result.label);
+    expect(staleItems(p.store, back)).toEqual([]);
+  });
+
+  it('keeps -0, typed arrays and every awkward double exactly', () => {
+    const panel = loadPanel(p.store, spec);
+    const result = structuredClone(fit(spec, panel)) as FitResult & { extra?: unknown };
+    result.params[0].estimate = -0;
+    result.params[1].se = 5e-324;
+    result.extra = { path: Float64Array.of(0.1, -0, 1 / 3) };
+    const rec = recordRun(p.store, { spec, result, panel });
+    const back = getRun(p.store, rec.id).result as FitResult & { extra?: { path: Float64Array } };
+    expect(Object.is(back.params[0].estimate, -0)).toBe(true);
+    expect(back.params[1].se).toBe(5e-324);
+    expect(back.extra?.path).toBeInstanceOf(Float64Array);
+    expect(diffExact(back, result).count).toBe(0);
+    deleteRun(p.store, rec.id);
+    expect(() => getRun(p.store, rec.id)).toThrow(/run 2 is not in/);
+  });
+
+  it('lists runs newest first and filters by model, kind and date', () => {
+    const panel = loadPanel(p.store, btSpec);
+    recordRun(p.store, { spec: btSpec, result: backtest(btSpec, panel, { fit }), panel, createdAt: new Date('2030-06-01T00:00:00Z') });
+    const all = listRuns(p.store);
+    expect(all.map((r) => [r.id, r.kind])).toEqual([
+      [3, 'backtest'],
+      [1, 'fit'],
+    ]);
+    expect(all.every((r) => !r.stale)).toBe(true);
+    expect(listRuns(p.store, { kind: 'fit' }).map((r) => r.id)).toEqual([1]);
+    expect(listRuns(p.store, { model: 'HARBOR,EMBER' }).map((r) => r.id)).toEqual([1]);
+    expect(listRuns(p.store, { model: 'linear' }).map((r) => r.id)).toEqual([3, 1]);
+    expect(listRuns(p.store, { from: '2030-05-07' }).map((r) => r.id)).toEqual([3]);
+    expect(listRuns(p.store, { to: '2030-05-06' }).map((r) => r.id)).toEqual([1]);
+    expect(parseRunId('run3')).toBe(3);
+    expect(() => parseRunId('x')).toThrow(/not a run id/);
+  });
+
+  it('replays a fit and a back-test bit for bit', async () => {
+    for (const id of [1, 3]) {
+      const r = await replayRun(p.store, id, inProcess);
+      expect(r.stale).toBe(false);
+      expect(r.panels.every((x) => x.matches)).toBe(true);
+      expect(r.compared).toBeGreaterThan(50);
+      expect(r.differences, formatReplay(r)).toEqual([]);
+      expect(r.ok).toBe(true);
+      expect(formatReplay(r)).toMatch(/REPLAY OK$/);
+    }
+  });
+
+  it('reports a changed number with its path, stored and recomputed values', async () => {
+    const off: Recompute = {
+      ...inProcess,
+      fit: async (s, panel) => {
+        const r = fit(s, panel);
+        r.pricingErrors[2].alpha += 2 ** -60;
+        return r;
+      },
+    };
+    const r = await replayRun(p.store, 1, off);
+    expect(r.ok).toBe(false);
+    expect(r.differing).toBe(1);
+    expect(r.differences[0].path).toBe(`pricingErrors[2:${ASSETS[2]}].alpha`);
+    expect(r.differences[0].stored).not.toBe(r.differences[0].recomputed);
+    expect(formatReplay(r)).toContain(`pricingErrors[2:${ASSETS[2]}].alpha: stored `);
+  });
+
+  it('flags a run stale when a data file is re-imported with a change, and replay says so', async () => {
+    // Re-import a corrected prices file: one close of a test asset changes by 1%.
+    forgetImport(p.store, 'prices.csv');
+    editPrice(p.file('prices.csv'), 'corvane-saltworks', '2010-06-30', 1.01);
+    await importPrices(p.store, p.file('prices.csv'), { layout: 'long' });
+    const [bt, f] = listRuns(p.store);
+    for (const run of [bt, f]) {
+      expect(run.stale).toBe(true);
+      const what = run.staleItems.map((s) => s.what);
+      expect(what).toContain('asset corvane-saltworks');
+      expect(what).toContain('file prices.csv');
+      expect(what).not.toContain('asset brinemoor-ferries');
+    }
+    const item = f.staleItems.find((s) => s.what === 'file prices.csv')!;
+    expect(item.current).toBe(sha256(p.file('prices.csv')));
+    expect(item.recorded).not.toBe(item.current);
+    const r = await replayRun(p.store, 1, inProcess);
+    expect(r.stale).toBe(true);
+    expect(r.ok).toBe(false);
+    expect(r.panels[0].matches).toBe(false);
+    expect(r.differing).toBeGreaterThan(0);
+    const text = formatReplay(r);
+    expect(text).toContain('STALE');
+    expect(text).toContain('fingerprint MISMATCH');
+    expect(text).toMatch(/REPLAY MISMATCH$/);
+  });
+
+  it('a run whose series was deleted is stale and its replay fails with the cause', async () => {
+    forgetImport(p.store, 'factors.csv');
+    const run = listRuns(p.store, { kind: 'fit' })[0];
+    expect(run.staleItems.find((s) => s.what === 'series harbor')).toMatchObject({ current: expect.any(String), reason: expect.stringContaining('0 now') });
+    expect(run.staleItems.find((s) => s.what === 'file factors.csv')?.reason).toMatch(/no longer in the store/);
+    const r = await replayRun(p.store, 1, inProcess);
+    expect(r.ok).toBe(false);
+    expect(r.error).toMatch(/DATA_MISSING|SAMPLE_TOO_SHORT|harbor/);
+    expect(formatReplay(r)).toContain('recompute FAILED');
+  });
+
+  it('lists the runs of a database opened read-only', () => {
+    const ro = new Store(p.dbPath, { mustExist: true, readonly: true });
+    try {
+      expect(listRuns(ro).length).toBe(2);
+    } finally {
+      ro.close();
+    }
+  });
+});
