@@ -241,12 +241,15 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
         checked -= pos;
         pos = 0;
       }
-      if (len + chunk > buf.length) {
-        const bigger = Buffer.allocUnsafe(Math.max(buf.length * 2, len + chunk));
+      // a record longer than a chunk is parsed again from its start after every read: read
+      // as many bytes as are pending, so a 64 MB line is re-parsed a few times, not 64
+      const want = Math.max(chunk, len);
+      if (len + want > buf.length) {
+        const bigger = Buffer.allocUnsafe(Math.max(buf.length * 2, len + want));
         buf.copy(bigger, 0, 0, len);
         buf = bigger;
       }
-      const { bytesRead: n } = await fh.read(buf, len, chunk, null);
+      const { bytesRead: n } = await fh.read(buf, len, want, null);
       const eof = n === 0;
       len += n;
       bytesRead += n;
@@ -263,6 +266,12 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
           const bad = firstInvalidUtf8(buf, checked, upto);
           const at = bad === -1 ? checked : bad;
           fail(at, line + linesBetween(pos, at), `byte 0x${buf[at].toString(16).padStart(2, '0')} is not valid UTF-8`, 'save the file as UTF-8 (CSV UTF-8) and import it again');
+        }
+        // NUL is valid UTF-8 but never in a text file: UTF-16 without a byte-order mark, or binary
+        const nul = buf.subarray(checked, upto).indexOf(0);
+        if (nul !== -1) {
+          const at = checked + nul;
+          fail(at, line + linesBetween(pos, at), 'byte 0x00 (NUL) is not text: the file looks UTF-16 encoded (without a byte-order mark) or binary', 'save the file as UTF-8 (CSV UTF-8) and import it again');
         }
         checked = upto;
       }
