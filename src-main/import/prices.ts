@@ -11,7 +11,7 @@ import type { ImportWarning, Store } from '../store/store.js';
 import { DEFAULT_THRESHOLDS, HistoryChecker, WarningSink, detectFrequency, type CheckThresholds } from './checks.js';
 import { logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
 import { readCsv, type CsvRow } from './csv.js';
-import { DateParser, ISO_DATE, dateFormat, dateHint, parseNumber, type ThousandsName } from './fields.js';
+import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
 
 export const PRICE_COLUMNS = ['date', 'asset', 'price', 'dividend', 'adjust', 'shares'] as const;
 export type PriceColumn = (typeof PRICE_COLUMNS)[number];
@@ -102,7 +102,7 @@ function readDate(ctx: Ctx, row: CsvRow, i: number, names: string[]): number {
 function readNumber(ctx: Ctx, row: CsvRow, i: number, names: string[], what: string): number {
   const v = parseNumber(row.buf, row.start[i], row.end[i], ctx.sep);
   if (Number.isNaN(v)) {
-    fieldError(ctx, row, i, names, `"${textOf(row, i)}" is not a number (expected the ${what})`, ctx.sep ? 'write numbers with a point as the decimal mark' : 'write numbers with a point as the decimal mark and no thousands separators (or pass the thousands-separator option)');
+    fieldError(ctx, row, i, names, `"${textOf(row, i)}" ${numberProblem(row.text(i))} (expected the ${what})`, ctx.sep ? 'write numbers with a point as the decimal mark' : 'write numbers with a point as the decimal mark and no thousands separators (or pass the thousands-separator option)');
   }
   return v;
 }

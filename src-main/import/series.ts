@@ -13,7 +13,7 @@ import type { Store } from '../store/store.js';
 import { HistoryChecker, WarningSink, detectFrequency } from './checks.js';
 import { logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
 import { readCsv } from './csv.js';
-import { DateParser, ISO_DATE, dateFormat, dateHint, parseNumber, type ThousandsName } from './fields.js';
+import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
 
 export const UNITS = ['decimal', 'percent'] as const;
 export type Units = (typeof UNITS)[number];
@@ -124,7 +124,8 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
           if (row.blank(c.col)) continue;
           const raw = parseNumber(row.buf, row.start[c.col], row.end[c.col], sep);
           if (Number.isNaN(raw)) {
-            throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: "${row.text(c.col)}" is not a number`, 'write numbers with a point as the decimal mark; leave the cell empty where there is no value');
+            const text = row.text(c.col);
+            throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: "${text.length > 40 ? `${text.slice(0, 40)}...` : text}" ${numberProblem(text)}`, 'write numbers with a point as the decimal mark; leave the cell empty where there is no value');
           }
           const v = raw / scale;
           const problem = valueProblem(kind, rfForm, v);
