@@ -57,6 +57,15 @@ export function thousandsByte(name: ThousandsName | undefined): number {
 export function readHeader(row: CsvRow, file: string): { names: string[]; index: Map<string, number> } {
   const names: string[] = [];
   const index = new Map<string, number>();
+  if (row.count === 1) {
+    // one column holding semicolons or tabs: a file separated by another character
+    const only = row.text(0);
+    const at = only.search(/[;\t|]/);
+    if (at >= 0) {
+      const what = only[at] === ';' ? 'semicolons' : only[at] === '|' ? 'vertical bars' : 'tabs';
+      throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${at + 1}: the header is one column separated by ${what}, not commas`, 'deflator reads comma-separated files (RFC 4180): save the file as CSV with commas (CSV UTF-8)');
+    }
+  }
   for (let i = 0; i < row.count; i++) {
     const name = row.text(i).trim();
     if (name === '') {
