@@ -33,6 +33,8 @@ export interface PreparedGmm {
   lagsRule: string;
   options: GmmOptions;
   notes: string[];
+  /** Notes on the sample itself (alignment, added test assets) for the header. */
+  sampleNotes: string[];
 }
 
 /** Default label of a fit, e.g. "linear(mkt,size)". */
@@ -44,6 +46,7 @@ export function defaultFitLabel(spec: FitSpec): string {
 /** Spec + panel -> the moment model, with every input check (METHODS 7). */
 export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
   const notes: string[] = [];
+  const sampleNotes: string[] = panel.sampleNotes.map((s) => `${s.subject}: ${s.reason}`);
   const T = panel.periods.length;
   if (panel.returnKind !== spec.returns)
     throw new DeflatorError('INPUT_INVALID', `the panel holds ${panel.returnKind} returns but the spec asks for ${spec.returns} returns`, 'rebuild the panel from the same spec');
@@ -61,7 +64,7 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
       assertFiniteSeries(`risk-free series "${name}"`, panel.riskfreeGross, panel.periods);
       assets.push(name);
       returns.push(panel.riskfreeGross);
-      notes.push(`The risk-free asset "${name}" is one of the test assets.`);
+      sampleNotes.push(`The risk-free asset "${name}" is one of the test assets.`);
     }
   }
   const kind = spec.model.kind;
@@ -109,6 +112,7 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
     lagsRule,
     options: { stage: e.stage, firstWeight: e.weight, lags, centered: e.centered, inferenceS: e.inferenceS, maxIterations: e.maxIterations },
     notes,
+    sampleNotes,
   };
 }
 
@@ -205,7 +209,6 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
     notes.push(`Volatility bound not drawn: ${e.message}.`);
   }
   notes.push('Pricing errors are the sample moments g_T at the estimate, per period; annualised figures multiply by the periods per year.');
-  for (const s of panel.sampleNotes) notes.push(`${s.subject}: ${s.reason}`);
 
   const result: FitResult = {
     kind: 'fit',
@@ -228,7 +231,7 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
       lagsRule: prep.lagsRule,
       assets,
       factors: prep.factorNames,
-      notes: [...notes],
+      notes: prep.sampleNotes,
     },
     params,
     pricingErrors,

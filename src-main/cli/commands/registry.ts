@@ -7,6 +7,7 @@ import { register as demo } from './demo.js';
 import { register as importData } from './import.js';
 import { register as info } from './info.js';
 import { register as returns } from './returns.js';
+import { register as fit } from './fit.js';
 import { register as runs } from './runs.js';
 import { register as show } from './show.js';
 import { register as replay } from './replay.js';
@@ -15,4 +16,4 @@ import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, runs, show, replay, exportRun, serve];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, fit, runs, show, replay, exportRun, serve];

@@ -1,0 +1,63 @@
+/**
+ * `deflator fit SPEC --db DB [--json]`: estimates one model as the spec file says, on the
+ * returns panel built from the project database, in the worker pool; prints the readable
+ * report (shared/report/fit-text.ts) or the result as JSON, and records the run in the
+ * database (unless --no-record) so that `deflator show`, `export` and `replay` find it.
+ */
+import { readFileSync } from 'node:fs';
+import type { Command } from 'commander';
+import { DeflatorError } from '../../../shared/errors.js';
+import { fitText } from '../../../shared/report/fit-text.js';
+import { CAUTION, type FitResult } from '../../../shared/results.js';
+import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
+import { loadPanel } from '../../data/panel.js';
+import { recordRun } from '../../runs/runs.js';
+import { Store } from '../../store/store.js';
+import { withPool } from '../../workers/pool.js';
+
+interface FitOptions {
+  db: string;
+  json?: boolean;
+  record: boolean;
+}
+
+/** Reads and validates a fit spec file (SPEC_INVALID names the key or the JSON position). */
+export function readFitSpec(file: string): FitSpec {
+  let text: string;
+  try {
+    text = readFileSync(file, 'utf8');
+  } catch (e) {
+    const code = (e as { code?: string }).code;
+    throw new DeflatorError('NOT_FOUND', `spec file ${file}: ${code === 'ENOENT' ? 'no such file' : (e as Error).message}`, 'pass the path of a JSON spec (sample-data/specs/ has examples)');
+  }
+  let json: unknown;
+  try {
+    json = JSON.parse(text);
+  } catch (e) {
+    throw new DeflatorError('SPEC_INVALID', `spec file ${file} is not valid JSON: ${(e as Error).message}`, 'fix the JSON syntax (a missing comma or quote)');
+  }
+  return parseFitSpec(json, 'spec');
+}
+
+export function register(program: Command): void {
+  program
+    .command('fit')
+    .description('estimate one model (GMM, time-series or two-pass regressions) as a JSON spec says, and print the report')
+    .argument('<spec>', 'JSON spec file (see sample-data/specs/)')
+    .requiredOption('--db <path>', 'project database')
+    .option('--json', 'print the result as JSON (every number in full precision)')
+    .option('--no-record', 'do not record the run in the database')
+    .action(async (specFile: string, opts: FitOptions) => {
+      const spec = readFitSpec(specFile);
+      const store = new Store(opts.db, { mustExist: true });
+      try {
+        const panel = loadPanel(store, spec);
+        const result: FitResult = await withPool((pool) => pool.runTask('fit', { spec, panel }), { threads: 1 });
+        const run = opts.record ? recordRun(store, { spec, result, panel }) : undefined;
+        if (opts.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
+        else process.stdout.write(`${fitText(result)}${run ? `\nRecorded as run ${run.id} (deflator show ${run.id} --db ${opts.db}).\n` : ''}`);
+      } finally {
+        store.close();
+      }
+    });
+}
