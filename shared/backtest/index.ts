@@ -1,4 +1,4 @@
-export { backtest, backtestWindows, summarizeBacktest, incrementalApplies, engineName, backtestHeader } from './run.js';
+export { backtest, backtestPanel, backtestWindows, summarizeBacktest, incrementalApplies, engineName, backtestHeader } from './run.js';
 export type { BacktestOptions, BacktestEngine, CancelToken, FitFunction, WindowRecord } from './run.js';
 export { windowSchedule, slicePanel, windowLags } from './windows.js';
 export type { WindowBounds } from './windows.js';

@@ -66,8 +66,21 @@ function cancelled(): DeflatorError {
   return new DeflatorError('CANCELLED', 'the back-test was cancelled', 'nothing was saved; run it again to get results');
 }
 
+/**
+ * The panel the back-test prices: with "includeRiskfree" the risk-free asset is one of
+ * the test assets (appended under the spec's riskfree name), in and out of sample.
+ */
+export function backtestPanel(spec: FitSpec, panel: ReturnsPanel): ReturnsPanel {
+  if (!spec.includeRiskfree) return panel;
+  const name = spec.riskfree ?? 'riskfree';
+  if (panel.assets.includes(name)) return panel;
+  if (!panel.riskfreeGross) throw new DeflatorError('DATA_MISSING', `includeRiskfree is set but the panel has no risk-free series "${name}"`, 'name the risk-free series in "riskfree"');
+  return { ...panel, assets: [...panel.assets, name], returns: [...panel.returns, panel.riskfreeGross] };
+}
+
 /** Runs the windows of the schedule (or of opts.range) and returns one record per window. */
-export function backtestWindows(spec: FitSpec, panel: ReturnsPanel, opts: BacktestOptions = {}): WindowRecord[] {
+export function backtestWindows(spec: FitSpec, rawPanel: ReturnsPanel, opts: BacktestOptions = {}): WindowRecord[] {
+  const panel = backtestPanel(spec, rawPanel);
   if (!spec.backtest) throw new DeflatorError('SPEC_INVALID', 'spec.backtest: a back-test needs a "backtest" block ({"window": W, "step": s, "horizon": h})', 'add the backtest block to the spec');
   const schedule = windowSchedule(panel.periods.length, spec.backtest);
   const [from, to] = opts.range ?? [0, schedule.length];
@@ -123,6 +136,8 @@ function runWithFit(spec: FitSpec, panel: ReturnsPanel, fit: FitFunction, win: W
   const windowSpec: FitSpec = { ...spec, estimator: { ...spec.estimator, lags }, backtest: undefined };
   const res = fit(windowSpec, sub);
   const params = res.params.map((p) => ({ name: p.name, estimate: p.estimate, se: p.se }));
+  // the beta-representation fits report their betas apart from the parameters
+  const oosParams = [...params, ...(res.betas ?? []).map((b) => ({ name: `beta.${b.asset}.${b.factor}`, estimate: b.estimate }))];
   const N = panel.assets.length;
   const alphaIn = new Float64Array(N);
   const benchIn = new Float64Array(N);
@@ -135,7 +150,7 @@ function runWithFit(spec: FitSpec, panel: ReturnsPanel, fit: FitFunction, win: W
     for (let t = win.start; t < win.end; t++) s += panel.returns[i][t];
     benchIn[i] = s / (win.end - win.start) - (gross ? 1 : 0);
   }
-  const oos = heldOutErrors(spec, panel, params, win.oosStart, win.oosEnd);
+  const oos = heldOutErrors(spec, panel, oosParams, win.oosStart, win.oosEnd);
   checkFinite(params, alphaIn, oos.alpha);
   return { index, ok: true, lags, params, alphaIn, benchIn, alphaOos: oos.alpha, benchOos: oos.benchmark, meanOos: oos.meanReturn };
 }
@@ -188,8 +203,9 @@ export function backtestHeader(spec: FitSpec, panel: ReturnsPanel, firstLags: nu
 }
 
 /** Summaries over the successful windows (METHODS 6). */
-export function summarizeBacktest(spec: FitSpec, panel: ReturnsPanel, records: WindowRecord[], engineUsed: string): BacktestResult {
+export function summarizeBacktest(spec: FitSpec, rawPanel: ReturnsPanel, records: WindowRecord[], engineUsed: string): BacktestResult {
   if (!spec.backtest) throw new DeflatorError('SPEC_INVALID', 'spec.backtest is missing', 'add the backtest block');
+  const panel = backtestPanel(spec, rawPanel);
   const schedule = windowSchedule(panel.periods.length, spec.backtest);
   const sorted = records.slice().sort((a, b) => a.index - b.index);
   const ok = sorted.filter((r) => r.ok);

@@ -1,0 +1,107 @@
+/**
+ * The worker pool runs the compiled dist/worker.js (built by the test setup): results
+ * equal the same computation in this thread, progress reaches the total, errors keep
+ * their code, and a cancelled run rejects with CANCELLED and leaves nothing behind.
+ */
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { createPool, type DeflatorPool } from '../../../src-main/workers/pool.js';
+import { backtest } from '../../../shared/backtest/index.js';
+import { compareModels } from '../../../shared/compare/index.js';
+import { fit } from '../../../shared/estimation/fit.js';
+import { isDeflatorError } from '../../../shared/errors.js';
+import { parseCompareSpec, parseFitSpec } from '../../../shared/spec.js';
+import { seededPanel } from '../../shared/backtest/seeded.js';
+
+let pool: DeflatorPool;
+beforeAll(() => {
+  pool = createPool({ threads: 2 });
+});
+afterAll(async () => {
+  await pool.close();
+});
+
+const panel = seededPanel(300, 8, 2, 41);
+const btSpec = parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: ['f1', 'f2'] }, estimator: { lags: 2 }, backtest: { window: 60, step: 2, horizon: 1 } });
+
+describe('worker pool', () => {
+  it('a back-test split across two threads equals the same back-test in this thread', async () => {
+    const seen: number[] = [];
+    let total = 0;
+    const res = await pool.runTask('backtest', { spec: btSpec, panel }, { onProgress: (d, t) => { seen.push(d); total = t; } });
+    const local = backtest(btSpec, panel, { fit });
+    expect(res.windows).toBe(local.windows);
+    expect(res.windows).toBe(120);
+    // chunks rebuild their sums at their first window: same numbers to rounding
+    expect(Math.abs(res.oos.rmse - local.oos.rmse)).toBeLessThan(1e-14);
+    expect(Math.abs(res.oos.r2 - local.oos.r2)).toBeLessThan(1e-12);
+    res.paths.forEach((p, w) => p.params.forEach((q, k) => expect(Math.abs(q.estimate - local.paths[w].params[k].estimate)).toBeLessThanOrEqual(1e-10 * Math.max(1, Math.abs(q.estimate)))));
+    expect(total).toBe(120);
+    expect(seen[seen.length - 1]).toBe(120);
+    for (let i = 1; i < seen.length; i++) expect(seen[i]).toBeGreaterThanOrEqual(seen[i - 1]);
+  });
+
+  it('a fit in a worker equals fit() here', async () => {
+    const spec = parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: ['f1', 'f2'] } });
+    const res = await pool.runTask('fit', { spec, panel });
+    expect(res).toEqual(fit(spec, panel));
+  });
+
+  it('a DeflatorError in a worker arrives with its code, message and hint', async () => {
+    const spec = parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: ['nope'] } });
+    const err = await pool.runTask('fit', { spec, panel }).catch((e: unknown) => e);
+    expect(isDeflatorError(err)).toBe(true);
+    expect((err as { code: string }).code).toBe('DATA_MISSING');
+    expect((err as Error).message).toMatch(/factor "nope"/);
+  });
+
+  it('a comparison in the pool equals the comparison in this thread, bootstrap included', async () => {
+    const { spec, fits } = parseCompareSpec({
+      riskfree: 'rf',
+      bootstrap: { replications: 40, seed: 99 },
+      compare: [{ model: { kind: 'linear', factors: ['f1'] } }, { model: { kind: 'linear', factors: ['f1', 'f2'] } }],
+    });
+    const panels = fits.map(() => panel);
+    const res = await pool.runTask('compare', { spec, fits, panels });
+    const local = compareModels(spec, fits, panels, { fit });
+    expect(res.models.map((m) => m.label)).toEqual(local.models.map((m) => m.label));
+    expect(res.hjTests).toEqual(local.hjTests);
+    expect(res.best).toEqual(local.best);
+    expect(res.hjTests[0].replications).toBe(40);
+  });
+
+  it('cancel: the run rejects with CANCELLED, the caller saves nothing, the pool keeps working', async () => {
+    const long = parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: ['f1', 'f2'] }, estimator: { lags: 2 }, backtest: { window: 60, step: 1, horizon: 1 } });
+    const ctl = new AbortController();
+    const saved: unknown[] = [];
+    let progressAfterAbort = 0;
+    let abortedAt = 0;
+    const run = pool
+      .runTask('backtest', { spec: long, panel, engine: 'fit' }, {
+        signal: ctl.signal,
+        onProgress: (d) => {
+          if (ctl.signal.aborted) progressAfterAbort++;
+          if (d >= 3 && !ctl.signal.aborted) {
+            abortedAt = Date.now();
+            ctl.abort();
+          }
+        },
+      })
+      .then((r) => {
+        saved.push(r); // what a caller does on success only
+        return r;
+      });
+    const err = await run.catch((e: unknown) => e);
+    expect(isDeflatorError(err) && err.code).toBe('CANCELLED');
+    expect(Date.now() - abortedAt).toBeLessThan(2000);
+    expect(saved).toEqual([]);
+    expect(progressAfterAbort).toBeLessThanOrEqual(2);
+    const again = await pool.runTask('backtest', { spec: btSpec, panel });
+    expect(again.windows).toBe(120);
+  });
+
+  it('an already aborted signal never starts the task', async () => {
+    const ctl = new AbortController();
+    ctl.abort();
+    await expect(pool.runTask('fit', { spec: btSpec, panel }, { signal: ctl.signal })).rejects.toMatchObject({ code: 'CANCELLED' });
+  });
+});
