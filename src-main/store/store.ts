@@ -10,7 +10,7 @@ import type { Frequency, NamedSeries, PriceHistory, ReturnSeries, RiskfreeForm, 
 import { FREQUENCIES } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { coverage, type Coverage } from '../data/calendar.js';
-import { MIGRATIONS, SCHEMA_VERSION } from './migrations.js';
+import { MIGRATIONS, type Migration } from './migrations.js';
 
 export interface StoreOptions {
   /** Refuse to create a new file (commands that only read: info, returns, fit). */
@@ -132,6 +132,38 @@ function prepareStatements(db: Database.Database) {
 
 type Statements = ReturnType<typeof prepareStatements>;
 
+/**
+ * Brings a database up to the last of `migrations`, each migration and its version bump
+ * in one transaction. Refuses a file written by a newer build, and a non-empty SQLite file
+ * that is not a deflator database.
+ */
+export function applyMigrations(db: Database.Database, file: string, migrations: readonly Migration[] = MIGRATIONS, readonly = false): void {
+  const latest = migrations[migrations.length - 1]?.version ?? 0;
+  const current = Number(db.pragma('user_version', { simple: true }));
+  if (current > latest) {
+    throw new DeflatorError(
+      'CONFLICT',
+      `database ${file} was written by a newer deflator (schema version ${current}; this build knows versions up to ${latest})`,
+      'open it with the newer deflator that wrote it; this build will not change it',
+    );
+  }
+  if (current === 0) {
+    const tables = db.prepare("SELECT count(*) FROM sqlite_master WHERE type = 'table'").pluck().get() as number;
+    if (tables > 0) throw new DeflatorError('CONFLICT', `${file} is an SQLite database, but not a deflator one (it has tables and no deflator schema version)`, 'point --db at a deflator database, or at a new file name');
+  }
+  const pending = migrations.filter((m) => m.version > current);
+  if (pending.length && readonly) {
+    throw new DeflatorError('CONFLICT', `database ${file} is at schema version ${current} and needs migrating, but was opened read-only`, 'open it once without read-only');
+  }
+  for (const m of pending) {
+    db.transaction(() => {
+      if (typeof m.up === 'string') db.exec(m.up);
+      else m.up(db);
+      db.pragma(`user_version = ${m.version}`);
+    })();
+  }
+}
+
 export class Store {
   readonly db: Database.Database;
   readonly path: string;
@@ -160,27 +192,8 @@ export class Store {
     this.st = prepareStatements(this.db);
   }
 
-  /** Applies the migrations this file has not seen yet, each in its own transaction. */
   private migrate(readonly: boolean): void {
-    const current = Number(this.db.pragma('user_version', { simple: true }));
-    if (current > SCHEMA_VERSION) {
-      throw new DeflatorError(
-        'CONFLICT',
-        `database ${this.path} was written by a newer deflator (schema version ${current}; this build knows versions up to ${SCHEMA_VERSION})`,
-        'open it with the newer deflator that wrote it; this build will not change it',
-      );
-    }
-    const pending = MIGRATIONS.filter((m) => m.version > current);
-    if (pending.length && readonly) {
-      throw new DeflatorError('CONFLICT', `database ${this.path} is at schema version ${current} and needs migrating, but was opened read-only`, 'open it once without read-only');
-    }
-    for (const m of pending) {
-      this.db.transaction(() => {
-        if (typeof m.up === 'string') this.db.exec(m.up);
-        else m.up(this.db);
-        this.db.pragma(`user_version = ${m.version}`);
-      })();
-    }
+    applyMigrations(this.db, this.path, MIGRATIONS, readonly);
   }
 
   close(): void {
