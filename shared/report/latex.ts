@@ -84,7 +84,9 @@ function fitLatex(r: FitResult, tag: string): string {
   const params = r.params.flatMap((p) => [
     `${latexEscape(p.name)} & ${withStars(latexNumber(p.estimate, DEC.value), p.p)} & ${latexNumber(p.t, DEC.t)} & ${latexNumber(p.p, DEC.p)} \\\\`,
     ` & (${latexNumber(p.se, DEC.se)}) & & \\\\`,
+    ...(p.seShanken !== undefined ? [` & [${latexNumber(p.seShanken, DEC.se)}] & & \\\\`] : []),
   ]);
+  const shanken = r.params.some((p) => p.seShanken !== undefined) ? 'Shanken (1992) corrected standard errors in brackets; $t$ and $p$ use the first. ' : '';
   const pe = r.pricingErrors.map(
     (e) =>
       `${latexEscape(e.asset)} & ${latexNumber(100 * e.alpha, DEC.pct)} & ${latexNumber(e.t, DEC.t)} & ${latexNumber(100 * e.alphaAnnual, DEC.pctAnnual)} & ${latexNumber(100 * e.meanReturn, DEC.pct)} & ${latexNumber(100 * e.predicted, DEC.pct)} \\\\`,
@@ -101,7 +103,7 @@ function fitLatex(r: FitResult, tag: string): string {
       'lrrr',
       'Parameter & Estimate & $t$ & $p$',
       params,
-      `Standard errors in parentheses. ${rounding} Significance (common practice): $^{*}$ 10\\%, $^{**}$ 5\\%, $^{***}$ 1\\%. ${sampleNote(r)}`,
+      `Standard errors in parentheses. ${shanken}${rounding} Significance (common practice): $^{*}$ 10\\%, $^{**}$ 5\\%, $^{***}$ 1\\%. ${sampleNote(r)}`,
     ),
     table(
       `Pricing errors: ${resultTitle(r)}`,
