@@ -1,0 +1,74 @@
+/** The app in Debian's Chromium against `deflator serve` on the demo database. */
+import { expect, test } from '@playwright/test';
+import { mkdirSync, writeFileSync } from 'node:fs';
+import path from 'node:path';
+import type { FitResult } from '../../shared/results.js';
+import { barsOf, checkBars, runDemoFlow, shot, specOnScreen } from './flow.js';
+
+const root = path.resolve(import.meta.dirname, '../..');
+
+test('demo: histories, fit, pricing-error bars equal to the engine result, back-test to 100 %, comparison', async ({ page }) => {
+  const errors: string[] = [];
+  page.on('pageerror', (e) => errors.push(e.message));
+  page.on('console', (m) => {
+    if (m.type() === 'error') errors.push(m.text());
+  });
+  await page.goto('/');
+  await runDemoFlow(page, '');
+  expect(errors).toEqual([]);
+});
+
+test('the bars show the very reply the screen received', async ({ page }) => {
+  await page.goto('/');
+  await page.click('[data-screen=setup]');
+  await expect(page.locator('.ok-line')).toBeVisible();
+  const spec = await specOnScreen(page);
+  const replied = page.waitForResponse((r) => r.url().endsWith('/api/fit'));
+  await page.click('[data-testid=run-fit]');
+  const body = (await (await replied).json()) as { ok: boolean; value: FitResult };
+  expect(body.ok).toBe(true);
+  expect(body.value.sample.assets.length).toBe((spec.assets as string[]).length);
+  await expect(page.locator('[data-testid=pricing-error-chart]')).toHaveAttribute('data-drawn', /[1-9]/);
+  checkBars(await barsOf(page, '[data-testid=pricing-error-chart]'), body.value.pricingErrors.map((r) => r.alphaAnnual * 100));
+  // per-period view: the same bars scaled by 1/12
+  await page.locator('label:has-text("annualised") input').uncheck();
+  await expect.poll(async () => (await barsOf(page, '[data-testid=pricing-error-chart]')).length).toBe(body.value.pricingErrors.length);
+  await expect(page.locator('.panel-sub', { hasText: 'per period' })).toBeVisible();
+  checkBars(await barsOf(page, '[data-testid=pricing-error-chart]'), body.value.pricingErrors.map((r) => r.alpha * 100));
+});
+
+test('an engine error appears as a readable message with its hint', async ({ page }) => {
+  await page.goto('/');
+  await page.click('[data-screen=setup]');
+  await expect(page.locator('.ok-line')).toBeVisible();
+  // one test asset, two factors: fewer moments than parameters
+  await page.locator('.checkgroup-head >> text=none').first().click();
+  await page.locator('[data-testid=asset-list] label.check').first().click();
+  await page.locator('[data-testid=factor-list] label').nth(1).click();
+  await page.click('[data-testid=run-fit]');
+  const note = page.locator('.error-note');
+  await expect(note).toBeVisible({ timeout: 30_000 });
+  await expect(note.locator('.code')).not.toHaveText('INTERNAL');
+  await expect(note.locator('.error-hint')).toContainText('→');
+  await shot(page, 'fit-error');
+});
+
+test('import: a file chosen in the page is uploaded, logged with its warnings, and covered', async ({ page }) => {
+  const dir = path.join(root, 'test-output', 'e2e');
+  mkdirSync(dir, { recursive: true });
+  const file = path.join(dir, 'extra_factor.csv');
+  const lines = ['date,upload_factor'];
+  for (let k = 0; k < 36; k++) {
+    const d = new Date(Date.UTC(2010, k + 1, 0)).toISOString().slice(0, 10);
+    if (k === 20) continue; // one month missing: a gap the import reports
+    lines.push(`${d},${(0.001 * ((k % 7) - 3)).toFixed(4)}`);
+  }
+  writeFileSync(file, `${lines.join('\n')}\n`);
+  await page.goto('/');
+  await page.locator('.seg label', { hasText: 'Series' }).click();
+  await page.setInputFiles('[data-testid=file-input]', file);
+  await expect(page.locator('.log > li').first()).toContainText('extra_factor.csv');
+  await expect(page.locator('.panel .progress').first()).toHaveAttribute('data-percent', '100');
+  await expect(page.locator('.datatable tbody tr', { hasText: 'upload_factor' })).toBeVisible();
+  await shot(page, 'histories-import');
+});

@@ -1,0 +1,173 @@
+/**
+ * The end-to-end flow, written once for the browser (loopback server) and the Electron
+ * app: load the demo, fit a model, check the pricing-error bars against the engine's
+ * result, run a short back-test to 100%, compare models; a screenshot of each screen.
+ */
+import { expect } from '@playwright/test';
+import type { Page } from '@playwright/test';
+import { mkdirSync } from 'node:fs';
+import path from 'node:path';
+import type { FitResult } from '../../shared/results.js';
+import { PALETTE } from '../../shared/charts/palette.js';
+
+const root = path.resolve(import.meta.dirname, '../..');
+export const SCREENSHOTS = path.join(root, 'test-output', 'screenshots');
+mkdirSync(SCREENSHOTS, { recursive: true });
+
+export async function shot(page: Page, name: string): Promise<void> {
+  await page.screenshot({ path: path.join(SCREENSHOTS, `${name}.png`), fullPage: true });
+}
+
+/** One bar of the SVG: its left edge, and its top and bottom in pixels. */
+export interface Bar {
+  x: number;
+  top: number;
+  bottom: number;
+  fill: string;
+}
+
+/** Parses the bars of a chart's SVG (paths filled with the positive or negative colour). */
+export async function barsOf(page: Page, selector: string): Promise<Bar[]> {
+  const paths = await page.$$eval(`${selector} svg path`, (els) => els.map((e) => ({ d: e.getAttribute('d') ?? '', fill: (e.getAttribute('fill') ?? '').toLowerCase() })));
+  const colors = new Set([PALETTE.primary.toLowerCase(), PALETTE.negative.toLowerCase()]);
+  const bars: Bar[] = [];
+  for (const p of paths) {
+    if (!colors.has(p.fill)) continue;
+    // zrender writes rectangles as M x y l dx dy ... Z (relative) or with absolute L
+    const tokens = p.d.match(/[MLmlZz]|-?\d*\.?\d+(?:e-?\d+)?/g) ?? [];
+    let cmd = '';
+    let x = 0;
+    let y = 0;
+    const pts: [number, number][] = [];
+    for (let i = 0; i < tokens.length; ) {
+      const t = tokens[i];
+      if (/[MLmlZz]/.test(t)) {
+        cmd = t;
+        i += 1;
+        continue;
+      }
+      const a = Number(tokens[i]);
+      const b = Number(tokens[i + 1]);
+      i += 2;
+      if (cmd === 'M' || cmd === 'L') {
+        x = a;
+        y = b;
+      } else {
+        x += a;
+        y += b;
+      }
+      pts.push([x, y]);
+    }
+    if (pts.length < 3) continue;
+    const ys = pts.map((q) => q[1]);
+    bars.push({ x: Math.min(...pts.map((q) => q[0])), top: Math.min(...ys), bottom: Math.max(...ys), fill: p.fill });
+  }
+  return bars.sort((a, b) => a.x - b.x);
+}
+
+/**
+ * Bars against values: one bar per value, left to right in the values' order, all on one
+ * baseline, positive bars above it and negative below, heights proportional to |value|
+ * (one pixel scale for all, fitted by least squares; each bar within 1 px of it).
+ */
+export function checkBars(bars: Bar[], values: number[]): { scale: number; worstPx: number } {
+  expect(bars.length, 'one bar per test asset').toBe(values.length);
+  const baseline = (i: number) => (values[i] >= 0 ? bars[i].bottom : bars[i].top);
+  const y0 = baseline(values.findIndex((v) => Math.abs(v) > 0));
+  let num = 0;
+  let den = 0;
+  values.forEach((v, i) => {
+    const h = bars[i].bottom - bars[i].top;
+    num += h * Math.abs(v);
+    den += v * v;
+    expect(Math.abs(baseline(i) - y0), `bar ${i} sits on the zero line`).toBeLessThan(1);
+    expect(bars[i].fill, `bar ${i} colour follows its sign`).toBe((v >= 0 ? PALETTE.primary : PALETTE.negative).toLowerCase());
+  });
+  const scale = num / den;
+  let worstPx = 0;
+  values.forEach((v, i) => {
+    const h = bars[i].bottom - bars[i].top;
+    worstPx = Math.max(worstPx, Math.abs(h - scale * Math.abs(v)));
+  });
+  expect(worstPx, `bar heights proportional to the pricing errors (scale ${scale.toFixed(3)} px per %)`).toBeLessThan(1);
+  return { scale, worstPx };
+}
+
+/** The fit request as the set-up shows it (the spec JSON without its back-test key). */
+export async function specOnScreen(page: Page): Promise<Record<string, unknown>> {
+  const text = await page.locator('[data-testid=spec-json]').textContent({ timeout: 10_000 });
+  const spec = JSON.parse(text ?? '{}') as Record<string, unknown>;
+  delete spec.backtest;
+  return spec;
+}
+
+/** Sends a fit through the page's own transport (IPC in Electron, HTTP in a browser). */
+export async function fitThroughPage(page: Page, spec: Record<string, unknown>): Promise<FitResult> {
+  const env = (await page.evaluate(async (s) => {
+    const w = window as unknown as { deflator?: { invoke(n: string, r: unknown): Promise<unknown> } };
+    if (w.deflator) return w.deflator.invoke('fit', { spec: s });
+    const r = await fetch('./api/fit', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ spec: s }) });
+    return r.json();
+  }, spec)) as { ok: boolean; value: FitResult };
+  expect(env.ok).toBe(true);
+  return env.value;
+}
+
+export async function drawnCount(page: Page, selector: string): Promise<number> {
+  return Number((await page.locator(`${selector}`).first().getAttribute('data-drawn')) ?? '0');
+}
+
+export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
+  // Histories: the demo's coverage and one asset's price against its total-return index
+  await expect(page.locator('.nav-foot .db')).toHaveText(/\.db$/);
+  const rows = page.locator('.datatable tbody tr');
+  await expect(rows.first()).toBeVisible();
+  expect(await rows.count()).toBeGreaterThanOrEqual(30);
+  await expect(page.locator('[data-chart-id^="history-"]')).toHaveAttribute('data-drawn', /[1-9]/);
+  await shot(page, `${prefix}histories`);
+
+  // Model set-up
+  await page.click('[data-screen=setup]');
+  await expect(page.locator('.ok-line')).toBeVisible();
+  await shot(page, `${prefix}model-setup`);
+  const spec = await specOnScreen(page);
+
+  // Fit: bars against the engine's own result
+  await page.click('[data-testid=run-fit]');
+  const chart = '[data-testid=pricing-error-chart]';
+  await expect(page.locator(chart)).toHaveAttribute('data-drawn', /[1-9]/, { timeout: 60_000 });
+  const result = await fitThroughPage(page, spec);
+  const bars = await barsOf(page, chart);
+  checkBars(bars, result.pricingErrors.map((r) => r.alphaAnnual * 100));
+  await expect(page.locator('[data-caution]')).toContainText('not investment advice');
+  await expect(page.locator('body')).not.toContainText('NaN');
+  await shot(page, `${prefix}fit-results`);
+
+  // Sorting by alpha redraws the bars in ascending order of alpha
+  const before = await drawnCount(page, chart);
+  await page.click('[data-sort=alpha]');
+  await expect.poll(() => drawnCount(page, chart)).toBeGreaterThan(before);
+  const sorted = [...result.pricingErrors].map((r) => r.alphaAnnual * 100).sort((a, b) => a - b);
+  checkBars(await barsOf(page, chart), sorted);
+
+  // Back-test: short (step 12), progress to 100 %
+  await page.click('[data-screen=setup]');
+  await page.locator('label:has-text("step") input').fill('12');
+  await page.click('[data-testid=run-backtest]');
+  const progress = page.locator('[data-testid=backtest-progress]');
+  await expect(progress).toHaveAttribute('data-percent', '100', { timeout: 60_000 });
+  await expect(page.locator('[data-chart-id=parameter-paths]')).toHaveAttribute('data-drawn', /[1-9]/);
+  await expect(page.locator('[data-chart-id=oos-errors]')).toHaveAttribute('data-drawn', /[1-9]/);
+  await shot(page, `${prefix}back-test`);
+
+  // Comparison of two models, best in each column marked
+  await page.click('[data-screen=setup]');
+  await page.click('[data-testid=add-compare]');
+  await page.locator('[data-testid=factor-list] label').nth(1).click();
+  await page.click('[data-testid=add-compare]');
+  await page.click('[data-testid=run-compare]');
+  await expect(page.locator('[data-testid=compare-table] tbody tr')).toHaveCount(2, { timeout: 60_000 });
+  expect(await page.locator('[data-testid=compare-table] td.best').count()).toBeGreaterThanOrEqual(4);
+  await expect(page.locator('body')).not.toContainText('NaN');
+  await shot(page, `${prefix}comparison`);
+}
