@@ -253,7 +253,9 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
       const eof = n === 0;
       len += n;
       bytesRead += n;
-      if (first && n > 0) {
+      if (first) {
+        // the byte-order marks need the first three bytes: read on until there are three
+        if (len < 3 && !eof) continue;
         first = false;
         if (len >= 2 && ((buf[0] === 0xff && buf[1] === 0xfe) || (buf[0] === 0xfe && buf[1] === 0xff))) {
           throw new DeflatorError('INPUT_INVALID', `${file}, line 1, column 1: the file is UTF-16 encoded, not UTF-8`, 'save the file as UTF-8 (CSV UTF-8) and import it again');

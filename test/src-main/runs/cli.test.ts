@@ -1,5 +1,5 @@
 import { spawnSync } from 'node:child_process';
-import { existsSync, readdirSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { parse } from 'csv-parse/sync';
 import ExcelJS from 'exceljs';
@@ -29,6 +29,9 @@ beforeAll(async () => {
   const panel = loadPanel(p.store, spec);
   result = fit(spec, panel);
   recordRun(p.store, { spec, result, panel });
+  const twoPass = parseFitSpec({ riskfree: 'bill_yield', assets: 'all', model: { factors: ['harbor', 'ember', 'ledger'] }, estimator: { method: 'two-pass' } });
+  const tpPanel = loadPanel(p.store, twoPass);
+  recordRun(p.store, { spec: twoPass, result: fit(twoPass, tpPanel), panel: tpPanel });
   p.store.close();
 });
 afterAll(() => p?.store.close());
@@ -38,11 +41,12 @@ describe('deflator runs / show / export (built CLI)', () => {
     const t = cli(['runs', '--db', p.dbPath]);
     expect(t.code, t.err).toBe(0);
     expect(t.out).toMatch(/^run\s+kind/);
+    expect(t.out).toMatch(/\n\s*2\s+fit\s+.*two-pass/);
     expect(t.out).toMatch(/\n\s*1\s+fit\s+\d{4}-\d{2}-\d{2} \d{2}:\d{2}:\d{2}\s+linear\(harbor\)/);
     const j = cli(['runs', '--db', p.dbPath, '--json']);
     const list = JSON.parse(j.out) as { id: number; stale: boolean; panelSha256: string }[];
-    expect(list).toHaveLength(1);
-    expect(list[0].stale).toBe(false);
+    expect(list).toHaveLength(2);
+    expect(list[1].stale).toBe(false);
     expect(list[0].panelSha256).toMatch(/^[0-9a-f]{64}$/);
     expect(cli(['runs', '--db', p.dbPath, '--kind', 'nope']).err).toMatch(/not a run kind/);
   });
@@ -100,6 +104,24 @@ describe('deflator runs / show / export (built CLI)', () => {
     expect(doc).toContain('<svg');
 
     expect(cli(['export', '1', '--db', p.dbPath, '--format', 'docx', '--out', html]).err).toMatch(/unknown export format "docx"/);
+  });
+
+  // Compiler check: Debian's texlive (pdflatex) where installed; skipped with the reason otherwise.
+  it('export latex of a two-pass fit (Shanken s.e. in brackets) compiles with pdflatex', () => {
+    const tex = path.join(p.dir, 'run2.tex');
+    expect(cli(['export', '2', '--db', p.dbPath, '--format', 'latex', '--out', tex]).code).toBe(0);
+    const body = readFileSync(tex, 'utf8');
+    expect(body).toContain('Shanken (1992) corrected standard errors in brackets');
+    expect(body).toMatch(/ & \[\d\.\d{4}\] & & \\\\/);
+    const which = spawnSync('sh', ['-c', 'command -v pdflatex'], { encoding: 'utf8' });
+    if (which.status !== 0) {
+      console.log('pdflatex check skipped: pdflatex not on PATH (Debian: apt-get install texlive-latex-recommended)');
+      return;
+    }
+    writeFileSync(path.join(p.dir, 'doc.tex'), '\\documentclass{article}\n\\usepackage[T1]{fontenc}\n\\usepackage{booktabs}\n\\begin{document}\n\\input{run2.tex}\n\\end{document}\n');
+    const r = spawnSync(which.stdout.trim(), ['-interaction=nonstopmode', '-halt-on-error', 'doc.tex'], { cwd: p.dir, encoding: 'utf8' });
+    expect(r.status, r.stdout.slice(-2000)).toBe(0);
+    expect(existsSync(path.join(p.dir, 'doc.pdf'))).toBe(true);
   });
 
   it.runIf(HAVE_CHROMIUM)('export pdf through headless Chromium', () => {
