@@ -39,8 +39,14 @@ export interface HjBootstrapDraws {
   models: number;
   /** (to - from) x models, row-major: HJ^2 of each model on each replication; NaN where it could not be computed. */
   values: Float64Array;
-  /** Why replications failed, one line per distinct reason. */
-  failures: string[];
+  /** Why replications failed: per error code, how many model fits and the first message. */
+  failures: BootstrapFailure[];
+}
+
+export interface BootstrapFailure {
+  code: string;
+  count: number;
+  example: string;
 }
 
 export interface HjBootstrapDeps {
@@ -91,7 +97,7 @@ export function hjBootstrapDraws(chunk: HjBootstrapChunk, deps: HjBootstrapDeps 
   }
   const count = chunk.to - chunk.from;
   const values = new Float64Array(count * M);
-  const reasons = new Set<string>();
+  const reasons = new Map<string, BootstrapFailure>();
   for (let r = chunk.from; r < chunk.to; r++) {
     if (deps.signal?.aborted) throw new DeflatorError('CANCELLED', 'the bootstrap was cancelled', 'nothing was saved; run it again');
     const idx = replicationIndices(T, chunk.block, chunk.seed, r);
@@ -100,25 +106,36 @@ export function hjBootstrapDraws(chunk: HjBootstrapChunk, deps: HjBootstrapDeps 
       try {
         v = modelHjSquared(chunk.fits[m], chunk.panels[m], idx, deps);
       } catch (e) {
-        if (e instanceof DeflatorError && e.code !== 'CANCELLED' && e.code !== 'SPEC_INVALID') reasons.add(`${e.code}: ${e.message}`);
-        else throw e;
+        if (!(e instanceof DeflatorError) || e.code === 'CANCELLED' || e.code === 'SPEC_INVALID') throw e;
+        const f = reasons.get(e.code);
+        if (f) f.count++;
+        else reasons.set(e.code, { code: e.code, count: 1, example: e.message });
       }
       values[(r - chunk.from) * M + m] = Number.isFinite(v) ? v : Number.NaN;
     }
     deps.onProgress?.(r - chunk.from + 1, count);
   }
-  return { from: chunk.from, to: chunk.to, models: M, values, failures: [...reasons] };
+  return { from: chunk.from, to: chunk.to, models: M, values, failures: [...reasons.values()] };
 }
 
-/** Joins chunk draws (any order) into one (replications x models) array. */
+/** Joins chunk draws (any order) into one (replications x models) array; failure counts added up by code. */
 export function mergeDraws(chunks: HjBootstrapDraws[], replications: number, models: number): { values: Float64Array; failures: string[] } {
   const values = new Float64Array(replications * models).fill(Number.NaN);
-  const failures = new Set<string>();
-  for (const c of chunks) {
+  const byCode = new Map<string, BootstrapFailure>();
+  for (const c of [...chunks].sort((a, b) => a.from - b.from)) {
     values.set(c.values, c.from * models);
-    for (const f of c.failures) failures.add(f);
+    for (const f of c.failures) {
+      const g = byCode.get(f.code);
+      if (g) g.count += f.count;
+      else byCode.set(f.code, { ...f });
+    }
   }
-  return { values, failures: [...failures] };
+  return { values, failures: describeFailures([...byCode.values()]) };
+}
+
+/** "NO_CONVERGENCE in 10 model fits, e.g.: <first message>". */
+export function describeFailures(failures: BootstrapFailure[]): string[] {
+  return failures.map((f) => `${f.code} in ${f.count} model fit(s), e.g.: ${f.example}`);
 }
 
 /** The two-sided bootstrap p-value of HJ_a^2 = HJ_b^2 (see the file comment). */

@@ -14,7 +14,7 @@ import type { CompareSpec, FitSpec } from '../spec.js';
 import type { BacktestResult, CompareResult, CompareRow, FitResult } from '../results.js';
 import { blockLength } from '../bootstrap/blocks.js';
 import type { CancelToken, FitFunction } from '../backtest/run.js';
-import { hjBootstrapDraws, hjDifferenceTest, type HjBootstrapChunk, type HjBootstrapDeps } from './bootstrap.js';
+import { describeFailures, hjBootstrapDraws, hjDifferenceTest, type HjBootstrapChunk, type HjBootstrapDeps } from './bootstrap.js';
 
 export const BLOCK_RULE = 'auto: ceil(T^(1/3)) periods (common practice; Hall, Horowitz and Jing, 1995)';
 export const HJ_TEST_METHOD =
@@ -206,7 +206,7 @@ export function compareModels(spec: CompareSpec, fits: FitSpec[], rawPanels: Ret
       signal: deps.signal,
       onProgress: (d, t) => deps.onStage?.('bootstrap', d, t),
     });
-    bootstrap = { members, values: draws.values, failures: draws.failures };
+    bootstrap = { members, values: draws.values, failures: describeFailures(draws.failures) };
   }
   return assembleCompare(spec, fits, panels, outcomes, bootstrap);
 }

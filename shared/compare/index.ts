@@ -1,5 +1,5 @@
 export { alignPanels, assembleCompare, bestPerColumn, bootstrapChunk, bootstrapMembers, bootstrapSettings, compareModels, BLOCK_RULE, HJ_TEST_METHOD } from './compare.js';
 export type { CompareDeps, ModelOutcome } from './compare.js';
-export { hjBootstrapDraws, hjDifferenceTest, mergeDraws, modelHjSquared, resamplePanel } from './bootstrap.js';
-export type { HjBootstrapChunk, HjBootstrapDeps, HjBootstrapDraws } from './bootstrap.js';
+export { describeFailures, hjBootstrapDraws, hjDifferenceTest, mergeDraws, modelHjSquared, resamplePanel } from './bootstrap.js';
+export type { BootstrapFailure, HjBootstrapChunk, HjBootstrapDeps, HjBootstrapDraws } from './bootstrap.js';
 export { linearHjSquared, linearHjApplies, modelSeries } from './hjSquared.js';

@@ -133,7 +133,7 @@ export function sortRules(spec: SortSpec): string {
           : 'market value (price x latest shares outstanding) at the sort date';
   return [
     `Characteristic sort "${spec.name}": ${spec.groups} groups on ${what}.`,
-    `Returns ${spec.frequency}; sorted at the last ${spec.frequency} period of each ${spec.rebalance} period.`,
+    spec.rebalance === spec.frequency ? `Returns ${spec.frequency}; sorted at the end of every period.` : `Returns ${spec.frequency}; sorted at the last ${spec.frequency} period of each ${spec.rebalance} period.`,
     'Eligible: a price at the sort date and a finite characteristic' + (spec.weight === 'value' ? ' and market value (shares outstanding imported).' : '.'),
     `Breakpoints: the g/${spec.groups} quantiles of the characteristic over all eligible assets at the sort date (linear interpolation, Hyndman-Fan definition 7); bucket g holds b(g-1) < c <= b(g), the first bucket also the minimum.`,
     `Weights: ${spec.weight === 'value' ? 'market value at the sort date' : 'equal'}, bought at the sort date and held (weights drift with returns) until the next sort.`,

@@ -8,6 +8,9 @@ import { register as importData } from './import.js';
 import { register as info } from './info.js';
 import { register as returns } from './returns.js';
 import { register as fit } from './fit.js';
+import { register as backtest } from './backtest.js';
+import { register as compare } from './compare.js';
+import { register as portfolio } from './portfolio.js';
 import { register as runs } from './runs.js';
 import { register as show } from './show.js';
 import { register as replay } from './replay.js';
@@ -16,4 +19,4 @@ import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, fit, runs, show, replay, exportRun, serve];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, portfolio, fit, backtest, compare, runs, show, replay, exportRun, serve];

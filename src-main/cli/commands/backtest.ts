@@ -1,0 +1,89 @@
+/**
+ * `deflator backtest SPEC --db DB [--json]`: fits the spec's model on rolling or
+ * expanding windows and prices the held-out periods (docs/methods.md, back-testing), in
+ * the worker pool with a progress bar on stderr when it is a terminal. The window rules
+ * come from the spec's "backtest" block, or from --window/--step/--horizon/--expanding.
+ * Prints the readable summary or the result as JSON; records the run (unless
+ * --no-record) only after the whole back-test succeeded.
+ */
+import type { Command } from 'commander';
+import { DeflatorError } from '../../../shared/errors.js';
+import { backtestText } from '../../../shared/backtest/text.js';
+import { CAUTION } from '../../../shared/results.js';
+import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
+import { loadPanel } from '../../data/panel.js';
+import { recordRun } from '../../runs/runs.js';
+import { Store } from '../../store/store.js';
+import { defaultThreads, withPool } from '../../workers/pool.js';
+import { progressBar } from '../progress.js';
+import { readFitSpec } from './fit.js';
+
+interface BacktestFlags {
+  db: string;
+  json?: boolean;
+  record: boolean;
+  threads?: string;
+  engine: string;
+  window?: string;
+  step?: string;
+  horizon?: string;
+  expanding?: boolean;
+}
+
+export function positiveInt(flag: string, v: string | undefined): number | undefined {
+  if (v === undefined) return undefined;
+  const n = Number(v);
+  if (!Number.isInteger(n) || n < 1) throw new DeflatorError('INPUT_INVALID', `${flag}: "${v}" is not a positive whole number`, `pass ${flag} N with N >= 1`);
+  return n;
+}
+
+/** The spec with the window flags applied (they override the spec's backtest block). */
+export function withWindowFlags(spec: FitSpec, o: Pick<BacktestFlags, 'window' | 'step' | 'horizon' | 'expanding'>): FitSpec {
+  const window = positiveInt('--window', o.window);
+  const step = positiveInt('--step', o.step);
+  const horizon = positiveInt('--horizon', o.horizon);
+  if (window === undefined && step === undefined && horizon === undefined && !o.expanding) {
+    if (!spec.backtest) {
+      throw new DeflatorError('SPEC_INVALID', 'spec.backtest: the spec has no "backtest" block and no --window was given', 'add "backtest": {"window": 120, "step": 1, "horizon": 1} to the spec, or pass --window N');
+    }
+    return spec;
+  }
+  const block = { ...(spec.backtest ?? {}), ...(window !== undefined ? { window } : {}), ...(step !== undefined ? { step } : {}), ...(horizon !== undefined ? { horizon } : {}), ...(o.expanding ? { expanding: true } : {}) };
+  if (!('window' in block)) throw new DeflatorError('SPEC_INVALID', 'the back-test needs a window length', 'pass --window N or add "backtest": {"window": N} to the spec');
+  return parseFitSpec(JSON.parse(JSON.stringify({ ...spec, backtest: block })));
+}
+
+export function register(program: Command): void {
+  program
+    .command('backtest')
+    .description('back-test a model on rolling or expanding windows: out-of-sample pricing errors, RMSE, R^2 and parameter paths')
+    .argument('<spec>', 'JSON spec file with a "backtest" block (see sample-data/specs/)')
+    .requiredOption('--db <path>', 'project database')
+    .option('--window <n>', 'estimation window in periods (overrides the spec)')
+    .option('--step <n>', 'periods the window moves each time (overrides the spec)')
+    .option('--horizon <n>', 'held-out periods after each window (overrides the spec)')
+    .option('--expanding', 'expanding windows from the first period (overrides the spec)')
+    .option('--engine <engine>', 'auto (incremental for linear GMM at the first or second stage) | fit (fit every window afresh)', 'auto')
+    .option('--threads <n>', `worker threads (default: the ${defaultThreads()} cores)`)
+    .option('--json', 'print the result as JSON (every number in full precision)')
+    .option('--no-record', 'do not record the run in the database')
+    .action(async (specFile: string, o: BacktestFlags) => {
+      if (o.engine !== 'auto' && o.engine !== 'fit') throw new DeflatorError('INPUT_INVALID', `--engine: "${o.engine}" is not auto or fit`, 'pass --engine auto or --engine fit');
+      const spec = withWindowFlags(readFitSpec(specFile), o);
+      const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
+      const store = new Store(o.db, { mustExist: true });
+      try {
+        const panel = loadPanel(store, spec);
+        const bar = progressBar('windows');
+        const result = await withPool(
+          (pool) => pool.runTask('backtest', { spec, panel, engine: o.engine === 'fit' ? 'fit' : 'auto' }, { onProgress: (d, t) => bar.update(d, t, 'windows') }),
+          { threads },
+        ).finally(() => bar.finish());
+        const run = o.record ? recordRun(store, { spec, result, panel }) : undefined;
+        if (o.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
+        else process.stdout.write(`${backtestText(result)}${run ? `Recorded as run ${run.id} (deflator show ${run.id} --db ${o.db}).\n` : ''}`);
+      } finally {
+        store.close();
+      }
+    });
+}

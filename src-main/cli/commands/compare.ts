@@ -1,0 +1,86 @@
+/**
+ * `deflator compare SPEC --db DB [--json]`: fits every model of a {"compare": [...]}
+ * spec on the same sample, tabulates J, HJ distance, MAPE, RMSE and R^2 (and the
+ * out-of-sample RMSE and R^2 when the spec has a "backtest" block), marks the best per
+ * column, and tests equal squared HJ distances by a seeded block bootstrap. Runs in the
+ * worker pool (fits side by side, bootstrap in chunks) with a progress bar on stderr
+ * when it is a terminal; records the run (unless --no-record) after success only.
+ */
+import { readFileSync } from 'node:fs';
+import type { Command } from 'commander';
+import { DeflatorError } from '../../../shared/errors.js';
+import { compareText } from '../../../shared/compare/text.js';
+import { CAUTION } from '../../../shared/results.js';
+import { isCompareSpec, parseCompareSpec } from '../../../shared/spec.js';
+import { loadPanel } from '../../data/panel.js';
+import { recordRun } from '../../runs/runs.js';
+import { Store } from '../../store/store.js';
+import { defaultThreads, withPool } from '../../workers/pool.js';
+import { progressBar } from '../progress.js';
+import { positiveInt } from './backtest.js';
+
+interface CompareFlags {
+  db: string;
+  json?: boolean;
+  record: boolean;
+  threads?: string;
+  replications?: string;
+  seed?: string;
+  block?: string;
+}
+
+function readJson(file: string): unknown {
+  let text: string;
+  try {
+    text = readFileSync(file, 'utf8');
+  } catch (e) {
+    const code = (e as { code?: string }).code;
+    throw new DeflatorError('NOT_FOUND', `spec file ${file}: ${code === 'ENOENT' ? 'no such file' : (e as Error).message}`, 'pass the path of a JSON comparison spec (sample-data/specs/compare-*.json)');
+  }
+  try {
+    return JSON.parse(text);
+  } catch (e) {
+    throw new DeflatorError('SPEC_INVALID', `spec file ${file} is not valid JSON: ${(e as Error).message}`, 'fix the JSON syntax (a missing comma or quote)');
+  }
+}
+
+export function register(program: Command): void {
+  program
+    .command('compare')
+    .description('compare models on the same sample: tests, HJ distance, fit, out-of-sample fit, bootstrap test of equal HJ distances')
+    .argument('<spec>', 'JSON spec with a "compare": [...] list of models (see sample-data/specs/)')
+    .requiredOption('--db <path>', 'project database')
+    .option('--replications <n>', 'bootstrap replications (overrides spec.bootstrap.replications)')
+    .option('--seed <n>', 'bootstrap seed (overrides spec.bootstrap.seed)')
+    .option('--block <n>', 'bootstrap block length in periods, or auto = ceil(T^(1/3)) (overrides spec.bootstrap.block)')
+    .option('--threads <n>', `worker threads (default: the ${defaultThreads()} cores)`)
+    .option('--json', 'print the result as JSON: {models: [{label, test, hj, fit, oos}], hjTests, best, ...}')
+    .option('--no-record', 'do not record the run in the database')
+    .action(async (specFile: string, o: CompareFlags) => {
+      const raw = readJson(specFile);
+      if (!isCompareSpec(raw)) throw new DeflatorError('SPEC_INVALID', `spec file ${specFile} has no "compare" list`, 'list the models under "compare": [{"model": ...}, ...]; for one model use deflator fit');
+      const input = raw as Record<string, unknown>;
+      const bs = { ...((input.bootstrap as Record<string, unknown> | undefined) ?? {}) };
+      const reps = positiveInt('--replications', o.replications);
+      if (reps !== undefined) bs.replications = reps;
+      if (o.seed !== undefined) {
+        const seed = Number(o.seed);
+        if (!Number.isInteger(seed) || seed < 0) throw new DeflatorError('INPUT_INVALID', `--seed: "${o.seed}" is not a whole number >= 0`, 'pass --seed N');
+        bs.seed = seed;
+      }
+      if (o.block !== undefined) bs.block = o.block === 'auto' ? 'auto' : positiveInt('--block', o.block);
+      const { spec, fits } = parseCompareSpec(Object.keys(bs).length ? { ...input, bootstrap: bs } : input);
+      const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
+      const store = new Store(o.db, { mustExist: true });
+      try {
+        const panels = fits.map((f) => loadPanel(store, f));
+        const bar = progressBar('compare');
+        const result = await withPool((pool) => pool.runTask('compare', { spec, fits, panels }, { onProgress: (d, t, stage) => bar.update(d, t, stage) }), { threads }).finally(() => bar.finish());
+        const run = o.record ? recordRun(store, { spec, result, panel: panels }) : undefined;
+        if (o.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
+        else process.stdout.write(`${compareText(result)}${run ? `Recorded as run ${run.id} (deflator show ${run.id} --db ${o.db}).\n` : ''}`);
+      } finally {
+        store.close();
+      }
+    });
+}
