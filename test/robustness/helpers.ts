@@ -1,0 +1,166 @@
+/**
+ * Shared pieces of the robustness tests: temporary folders, a seeded project database
+ * (an earlier import that must survive everything), a canonical digest of a database's
+ * whole content, and the compiled CLI run as a child process.
+ *
+ * The digest is independent of the store's own code: a separate better-sqlite3
+ * connection lists every table in sqlite_master, reads each one ordered by its primary
+ * key (rowid where there is none), and hashes every value with its SQLite storage class
+ * (INTEGER as a 64-bit integer, REAL by its IEEE 754 bit pattern, TEXT, BLOB, NULL),
+ * together with the schema text and PRAGMA user_version. Equal digests mean equal content,
+ * the import log (timestamps included) as much as the price rows.
+ */
+import Database from 'better-sqlite3';
+import { spawn, spawnSync } from 'node:child_process';
+import { createHash } from 'node:crypto';
+import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { importPrices, importSeries } from '../../src-main/import/index.js';
+import { Store } from '../../src-main/store/store.js';
+
+export const ROOT = path.resolve(import.meta.dirname, '..', '..');
+export const CLI = path.join(ROOT, 'dist', 'cli.js');
+export const CORPUS = path.join(import.meta.dirname, 'corpus');
+
+const made: string[] = [];
+export function tempDir(prefix = 'deflator-robust-'): string {
+  const d = mkdtempSync(path.join(tmpdir(), prefix));
+  made.push(d);
+  return d;
+}
+/** Removes every folder tempDir made (call in afterAll). */
+export function cleanTempDirs(): void {
+  for (const d of made.splice(0)) rmSync(d, { recursive: true, force: true });
+}
+
+export const SEED_PRICES = 'date,asset,price,dividend\n2020-01-31,alder-hollow,10.00,\n2020-02-28,alder-hollow,11.00,0.25\n2020-03-31,alder-hollow,10.50,\n2020-01-31,birch-lane,20.00,\n2020-02-28,birch-lane,20.40,\n2020-03-31,birch-lane,21.10,\n';
+export const SEED_SERIES = 'date,gale_factor\n2020-01-31,0.0100\n2020-02-28,-0.0050\n2020-03-31,0.0075\n';
+
+/** A database holding one price import and one factor import (the data that must survive). */
+export async function seedDatabase(dir: string, name = 'seed.db'): Promise<string> {
+  const db = path.join(dir, name);
+  const prices = path.join(dir, `${name}.prices.csv`);
+  const series = path.join(dir, `${name}.series.csv`);
+  writeFileSync(prices, SEED_PRICES);
+  writeFileSync(series, SEED_SERIES);
+  const store = new Store(db);
+  try {
+    await importPrices(store, prices);
+    await importSeries(store, series, { kind: 'factor' });
+  } finally {
+    store.close();
+  }
+  return db;
+}
+
+function put(h: ReturnType<typeof createHash>, v: unknown): void {
+  if (v === null) h.update('\u0000N');
+  else if (typeof v === 'bigint') h.update(`\u0000I${v}`);
+  else if (typeof v === 'number') {
+    const b = Buffer.alloc(8);
+    b.writeDoubleLE(v);
+    h.update('\u0000R').update(b);
+  } else if (typeof v === 'string') h.update(`\u0000T${v.length}:`).update(v, 'utf8');
+  else if (Buffer.isBuffer(v)) h.update(`\u0000B${v.length}:`).update(v);
+  else throw new Error(`unexpected SQLite value ${String(v)}`);
+}
+
+export interface DatabaseState {
+  /** SHA-256 over the schema, user_version and every row of every table. */
+  digest: string;
+  /** Rows per table. */
+  rows: Record<string, number>;
+  /** PRAGMA integrity_check (SQLite's own consistency check of b-trees, indices and pages). */
+  integrity: string;
+}
+
+/** Reads a database through its own connection (the file may be in use by a child process). */
+export function databaseState(file: string, options: { busyTimeout?: number } = {}): DatabaseState {
+  const db = new Database(file, { readonly: true, fileMustExist: true });
+  try {
+    db.pragma(`busy_timeout = ${options.busyTimeout ?? 10_000}`);
+    db.defaultSafeIntegers(true);
+    const h = createHash('sha256');
+    const rows: Record<string, number> = {};
+    // one read transaction: the whole digest sees one snapshot
+    db.transaction(() => {
+      put(h, db.pragma('user_version', { simple: true }) as bigint);
+      const schema = db.prepare("SELECT type, name, tbl_name, sql FROM sqlite_master WHERE name NOT LIKE 'sqlite_autoindex%' ORDER BY type, name").raw().all() as unknown[][];
+      for (const r of schema) for (const v of r) put(h, v);
+      const tables = schema.filter((r) => r[0] === 'table').map((r) => String(r[1]));
+      for (const t of tables) {
+        const q = `"${t.replaceAll('"', '""')}"`;
+        const info = db.prepare(`PRAGMA table_info(${q})`).all() as { name: string; pk: bigint }[];
+        const pk = info.filter((c) => Number(c.pk) > 0).sort((a, b) => Number(a.pk) - Number(b.pk)).map((c) => `"${c.name}"`);
+        const order = pk.length ? pk.join(', ') : 'rowid';
+        h.update(`\u0001${t}`);
+        let n = 0;
+        for (const r of db.prepare(`SELECT * FROM ${q} ORDER BY ${order}`).raw().iterate() as Iterable<unknown[]>) {
+          n++;
+          for (const v of r) put(h, v);
+        }
+        rows[t] = n;
+      }
+    })();
+    const integrity = (db.pragma('integrity_check') as { integrity_check: string }[]).map((r) => r.integrity_check).join('; ');
+    return { digest: h.digest('hex'), rows, integrity };
+  } finally {
+    db.close();
+  }
+}
+
+export interface CliResult {
+  status: number | null;
+  signal: NodeJS.Signals | null;
+  stdout: string;
+  stderr: string;
+  ms: number;
+}
+
+/** Runs `node dist/cli.js ...args` to the end. */
+export function runCli(args: string[], options: { timeoutMs?: number; env?: NodeJS.ProcessEnv } = {}): CliResult {
+  const t0 = performance.now();
+  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', timeout: options.timeoutMs ?? 120_000, env: options.env ?? process.env, maxBuffer: 1 << 26 });
+  return { status: r.status, signal: r.signal, stdout: r.stdout ?? '', stderr: r.stderr ?? '', ms: performance.now() - t0 };
+}
+
+/** Same, without blocking the test's event loop (for two processes at once). */
+export function runCliAsync(args: string[], options: { timeoutMs?: number } = {}): Promise<CliResult> {
+  const t0 = performance.now();
+  return new Promise((resolve, reject) => {
+    const child = spawn(process.execPath, [CLI, ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    let stdout = '';
+    let stderr = '';
+    child.stdout.on('data', (c: Buffer) => (stdout += c.toString('utf8')));
+    child.stderr.on('data', (c: Buffer) => (stderr += c.toString('utf8')));
+    const timer = setTimeout(() => child.kill('SIGKILL'), options.timeoutMs ?? 120_000);
+    child.on('error', reject);
+    child.on('close', (status, signal) => {
+      clearTimeout(timer);
+      resolve({ status, signal, stdout, stderr, ms: performance.now() - t0 });
+    });
+  });
+}
+
+/** Seeded pseudo-random numbers in [0, 1) (mulberry32; the same sequence on every run). */
+export function seeded(seed: number): () => number {
+  let a = seed >>> 0;
+  return () => {
+    a = (a + 0x6d2b79f5) >>> 0;
+    let t = a;
+    t = Math.imul(t ^ (t >>> 15), t | 1);
+    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
+    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
+  };
+}
+
+/** Wall-clock budget bookkeeping: each suite prints what it spent. */
+export function stopwatch(label: string): () => number {
+  const t0 = performance.now();
+  return () => {
+    const s = (performance.now() - t0) / 1000;
+    console.log(`[robustness] ${label}: ${s.toFixed(1)} s`);
+    return s;
+  };
+}
