@@ -46,6 +46,25 @@ export interface GmmInference {
  */
 export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat, w: WeightingForInference): GmmInference {
   const { q, p, T } = model;
+  const { covTheta, covG, LS } = gmmCovariances(model, d, S, w);
+  const df = q - p;
+  const pinv = symmetricPinv(covG, { name: 'the covariance of the pricing errors Var(g)', rank: df });
+  let stat = 0;
+  for (let i = 0; i < q; i++) {
+    let r = 0;
+    for (let j = 0; j < q; j++) r += pinv.pinv.data[i * q + j] * g[j];
+    stat += g[i] * r;
+  }
+  const Sg = cholSolveVec(LS, g);
+  let J = 0;
+  for (let i = 0; i < q; i++) J += g[i] * Sg[i];
+  J *= T;
+  return { covTheta, covG, pricingErrorStat: Math.max(0, stat), df, J };
+}
+
+/** Var(theta) and Var(g_T) only (and the Cholesky factor of S), without the tests. */
+export function gmmCovariances(model: MomentModel, d: Mat, S: Mat, w: WeightingForInference): { covTheta: Mat; covG: Mat; LS: Mat } {
+  const { q, p, T } = model;
   const names = model.paramNames;
   const LS = cholesky(S, {
     name: 'the long-run covariance S of the moments',
@@ -85,19 +104,7 @@ export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat
       }
     covG = sandwich(M, S, T);
   }
-  const df = q - p;
-  const pinv = symmetricPinv(covG, { name: 'the covariance of the pricing errors Var(g)', rank: df });
-  let stat = 0;
-  for (let i = 0; i < q; i++) {
-    let r = 0;
-    for (let j = 0; j < q; j++) r += pinv.pinv.data[i * q + j] * g[j];
-    stat += g[i] * r;
-  }
-  const Sg = cholSolveVec(LS, g);
-  let J = 0;
-  for (let i = 0; i < q; i++) J += g[i] * Sg[i];
-  J *= T;
-  return { covTheta, covG, pricingErrorStat: Math.max(0, stat), df, J };
+  return { covTheta, covG, LS };
 }
 
 /** H = (d'Wd)^{-1} d'W. */

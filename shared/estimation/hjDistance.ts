@@ -23,7 +23,7 @@ import { symmetricEigen } from '../linalg/eigen.js';
 import { type Mat, zeros } from '../linalg/matrix.js';
 import { weightedChiSquareSf } from '../stats/distributions.js';
 import { firstStage, momentCovariance } from './gmm.js';
-import { gmmInference } from './gmmInference.js';
+import { gmmCovariances } from './gmmInference.js';
 import type { MomentModel } from './momentModel.js';
 import { hjWeighting } from './weighting.js';
 
@@ -48,10 +48,9 @@ export function hjDistance(model: MomentModel, lags: number, centered: boolean, 
   const W = hjWeighting(model.returns, assetNames);
   const est = firstStage(model, W, 'Hansen-Jagannathan distance', maxIterations);
   const theta = est.theta;
-  const g = model.meanMoments(theta);
   const d = model.jacobian(theta);
   const S = momentCovariance(model, theta, lags, centered);
-  const inf = gmmInference(model, g, d, S, model.pinned ? { kind: 'pinned', weight: W } : { kind: 'fixed', weight: W });
+  const inf = gmmCovariances(model, d, S, model.pinned ? { kind: 'pinned', weight: W } : { kind: 'fixed', weight: W });
   // T Var(g_A), the asset block.
   const q = model.q;
   const V: Mat = zeros(N, N);
