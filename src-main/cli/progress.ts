@@ -28,7 +28,7 @@ export function formatBar(label: string, done: number, total: number, elapsedMs:
 export function progressBar(label: string, stream: Tty = process.stderr, now: () => number = Date.now): ProgressBar {
   if (!stream.isTTY) return { update: () => {}, finish: () => {} };
   const started = now();
-  let last = 0;
+  let last = Number.NEGATIVE_INFINITY;
   let drawn = false;
   return {
     update(done, total, stage) {
