@@ -7,6 +7,7 @@ import type { FitResult } from '../results.js';
 import { baseOption, num, valueAxis } from './common.js';
 import { PALETTE } from './palette.js';
 import type { ChartOption } from './types.js';
+import { niceRange } from './predicted-realized.js';
 
 export function hasVolatilityBound(fit: FitResult): boolean {
   const b = fit.bound;
@@ -31,11 +32,9 @@ export function volatilityBoundOption(fit: FitResult): ChartOption {
     });
   }
   const ys = [...line.map((p) => p[1]), ...(model ? [model.sigma] : [])];
-  const ymax = ys.length ? Math.max(...ys) * 1.15 : 1;
+  const y = niceRange(0, ys.length ? Math.max(...ys) * 1.08 : 1, 5);
   const xs = [...line.map((p) => p[0]), ...(model ? [model.mean] : [])];
-  const xmin = Math.min(...xs);
-  const xmax = Math.max(...xs);
-  const xpad = (xmax - xmin) * 0.04 || 0.01;
+  const x = niceRange(Math.min(...xs), Math.max(...xs), 4);
   const series: ChartOption['series'] = [
     {
       type: 'line',
@@ -68,8 +67,8 @@ export function volatilityBoundOption(fit: FitResult): ChartOption {
       trigger: 'item',
       formatter: (p: { value?: number[]; seriesName?: string }) => (p.value ? `${p.seriesName ?? ''}<br/>E[m] ${num(p.value[0], 4)}<br/>σ(m) ${num(p.value[1], 4)}` : ''),
     },
-    xAxis: valueAxis('E[m]', { min: xmin - xpad, max: xmax + xpad, nameGap: 28, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 3) } }),
-    yAxis: valueAxis('σ(m)', { min: 0, max: ymax, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 2) } }),
+    xAxis: valueAxis('E[m]', { min: x.lo, max: x.hi, interval: x.step, nameGap: 28, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 3) } }),
+    yAxis: valueAxis('σ(m)', { min: 0, max: y.hi, interval: y.step, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 2) } }),
     series,
   };
 }

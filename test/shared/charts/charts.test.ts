@@ -175,3 +175,17 @@ describe('comparison', () => {
     expect((o.xAxis as { data: string[] }).data).toEqual(['one', 'two']);
   });
 });
+
+describe('axis ranges', () => {
+  it('rounds to steps of 1, 2 or 5 x 10^k that cover the data', async () => {
+    const { niceRange } = await import('../../../shared/charts/predicted-realized.js');
+    const r = niceRange(-1.9, 23.9);
+    expect(r.step).toBe(5);
+    expect(r.lo).toBe(-5);
+    expect(r.hi).toBe(25);
+    const s = niceRange(0.8, 1.2, 4);
+    expect(s.step).toBeCloseTo(0.1, 12);
+    expect(s.lo).toBeLessThanOrEqual(0.8);
+    expect(s.hi).toBeGreaterThanOrEqual(1.2);
+  });
+});
