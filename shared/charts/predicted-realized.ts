@@ -8,12 +8,17 @@ import { baseOption, num, valueAxis } from './common.js';
 import { PALETTE } from './palette.js';
 import type { ChartOption } from './types.js';
 
-/** A common range for both axes, padded and rounded to a step of 1, 2 or 5 x 10^k. */
+/**
+ * An axis range padded by 4% and rounded to a "nice" step of 1, 2 or 5 x 10^k, the step
+ * nearest span/ticks by Heckbert's rounding rule (Graphics Gems, 1990, "Nice numbers for
+ * graph labels"): fractions below 1.5 -> 1, below 3 -> 2, below 7 -> 5, else 10.
+ */
 export function niceRange(min: number, max: number, ticks = 5): { lo: number; hi: number; step: number } {
   const span = max - min || Math.abs(max) || 1;
   const raw = span / ticks;
   const mag = 10 ** Math.floor(Math.log10(raw));
-  const step = [1, 2, 5, 10].map((m) => m * mag).find((s) => s >= raw) ?? 10 * mag;
+  const f = raw / mag;
+  const step = (f < 1.5 ? 1 : f < 3 ? 2 : f < 7 ? 5 : 10) * mag;
   const lo = Math.floor((min - span * 0.04) / step) * step;
   const hi = Math.ceil((max + span * 0.04) / step) * step;
   return { lo, hi, step };
