@@ -23,8 +23,9 @@ export function volatilityBoundOption(fit: FitResult): ChartOption {
   } else {
     const s = b && Number.isFinite(b.maxSharpe) ? b.maxSharpe : 0;
     const center = model?.mean ?? 1;
-    const lo = Math.max(0, center - 0.2);
-    const hi = center + 0.2;
+    const range = niceRange(Math.max(0, center - 0.2), center + 0.2, 4);
+    const lo = Math.max(0, range.lo);
+    const hi = range.hi;
     const n = 41;
     line = Array.from({ length: n }, (_, i) => {
       const v = lo + ((hi - lo) * i) / (n - 1);

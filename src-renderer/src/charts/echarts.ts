@@ -7,8 +7,9 @@ import type { ECharts, EChartsCoreOption } from 'echarts/core';
 import { BarChart, CustomChart, LineChart, ScatterChart } from 'echarts/charts';
 import { AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TooltipComponent } from 'echarts/components';
 import { SVGRenderer } from 'echarts/renderers';
+import { LabelLayout } from 'echarts/features';
 
-use([BarChart, CustomChart, LineChart, ScatterChart, AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TooltipComponent, SVGRenderer]);
+use([BarChart, CustomChart, LineChart, ScatterChart, AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TooltipComponent, LabelLayout, SVGRenderer]);
 
 export type { ECharts, EChartsCoreOption };
 
