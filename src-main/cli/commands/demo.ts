@@ -3,6 +3,7 @@
  * prints what it holds. Each further demo step is one call in runDemo below.
  */
 import type { Command } from 'commander';
+import path from 'node:path';
 import { DeflatorError } from '../../../shared/errors.js';
 import { CAUTION } from '../../../shared/results.js';
 import { DEMO_SETS, buildDemo, type DemoSet } from '../../data/demo.js';
@@ -51,7 +52,7 @@ async function importStep(ctx: DemoContext): Promise<void> {
     ctx.json.imports = built.reports;
     ctx.json.info = info;
     ctx.print(`Demo database ${ctx.dbPath} (${ctx.set} set; invented data, see sample-data/README.md)\n`);
-    for (const r of built.reports) ctx.print(formatImportReport(r));
+    for (const r of built.reports) ctx.print(formatImportReport({ ...r, file: path.relative(process.cwd(), r.file) || r.file }));
     ctx.print(`\n${formatInfo(info)}`);
   } finally {
     store.close();
