@@ -19,6 +19,9 @@ export interface ReplayReport {
   stale: boolean;
   staleItems: StaleItem[];
   panels: PanelCheck[];
+  /** Worker threads the run was recorded with, and those the replay used (when known). */
+  recordedThreads?: number;
+  usedThreads?: number;
   /** Number of numeric values compared. */
   compared: number;
   /** Values (numbers, texts, missing keys) that differ; at most a limit of them listed. */

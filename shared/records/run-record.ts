@@ -64,6 +64,12 @@ export interface RunRecord {
   panels?: PanelFingerprint[];
   files: DataFileFingerprint[];
   subjects: SubjectFingerprint[];
+  /**
+   * How it was computed, where it matters for the bits: the worker threads (a back-test
+   * split into chunks of windows sums in a different order per chunking) and the
+   * back-test engine asked for ('auto' when absent). Replay uses both.
+   */
+  compute?: { threads?: number; engine?: string };
 }
 
 /** A data file or stored subject whose current state differs from what the run recorded. */

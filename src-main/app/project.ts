@@ -22,6 +22,8 @@ import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from '
 
 /** The slice of the worker pool (src-main/workers/pool.ts) the app uses. */
 export interface TaskRunner {
+  /** Worker threads (recorded with each run: a chunked back-test's numbers follow them). */
+  readonly threads?: number;
   runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<FitResult>;
   runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<BacktestResult>;
   runTask(kind: 'compare', payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }, opts: RunOpts): Promise<CompareResult>;
@@ -157,17 +159,17 @@ export class PoolEngine implements Engine {
 
   fit(spec: FitSpec, ctx: TaskContext): Promise<FitResult> {
     const panel = loadPanel(this.store(), spec);
-    return this.pool.runTask('fit', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel }));
+    return this.pool.runTask('fit', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel, threads: this.pool.threads }));
   }
 
   backtest(spec: FitSpec, ctx: TaskContext): Promise<BacktestResult> {
     const panel = loadPanel(this.store(), spec);
-    return this.pool.runTask('backtest', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel }));
+    return this.pool.runTask('backtest', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel, threads: this.pool.threads }));
   }
 
   compare(spec: CompareSpec, ctx: TaskContext): Promise<CompareResult> {
     const { spec: parsed, fits } = parseCompareSpec(JSON.parse(JSON.stringify(spec)));
     const panels = fits.map((f) => loadPanel(this.store(), f));
-    return this.pool.runTask('compare', { spec: parsed, fits, panels }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec: parsed, result, panel: panels }));
+    return this.pool.runTask('compare', { spec: parsed, fits, panels }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec: parsed, result, panel: panels, threads: this.pool.threads }));
   }
 }

@@ -34,3 +34,8 @@ export const RUNS_MIGRATION_SQL = `
   ) WITHOUT ROWID;
   CREATE INDEX run_subject_by_name ON run_subject (kind, name);
 `;
+
+export const RUNS_COMPUTE_MIGRATION_NAME = 'run records: how a run was computed (worker threads)';
+
+/** A chunked back-test's numbers depend on its chunks, so replay needs the thread count it ran with. */
+export const RUNS_COMPUTE_MIGRATION_SQL = `ALTER TABLE run ADD COLUMN compute TEXT;`;

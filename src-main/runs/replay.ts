@@ -13,6 +13,7 @@ import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { PanelFingerprint, RunRecord } from '../../shared/records/run-record.js';
 import type { ReplayReport } from '../../shared/records/replay-report.js';
 import { parseCompareSpec, parseFitSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
+import type { BacktestEngine } from '../../shared/backtest/index.js';
 import { loadPanel } from '../data/panel.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
@@ -23,7 +24,7 @@ export type { ReplayReport };
 /** How to compute each kind of run: the same code paths the commands use. */
 export interface Recompute {
   fit(spec: FitSpec, panel: ReturnsPanel): Promise<FitResult>;
-  backtest(spec: FitSpec, panel: ReturnsPanel): Promise<BacktestResult>;
+  backtest(spec: FitSpec, panel: ReturnsPanel, engine?: BacktestEngine): Promise<BacktestResult>;
   compare(spec: CompareSpec, fits: FitSpec[], panels: ReturnsPanel[]): Promise<CompareResult>;
 }
 
@@ -35,7 +36,7 @@ export interface RecomputeOptions {
 /** The slice of the worker pool (src-main/workers/pool.ts) replay uses. */
 export interface RecomputeRunner {
   runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RecomputeOptions): Promise<FitResult>;
-  runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RecomputeOptions): Promise<BacktestResult>;
+  runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel; engine?: BacktestEngine }, opts: RecomputeOptions): Promise<BacktestResult>;
   runTask(kind: 'compare', payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }, opts: RecomputeOptions): Promise<CompareResult>;
 }
 
@@ -43,10 +44,13 @@ export interface RecomputeRunner {
 export function poolRecompute(pool: RecomputeRunner): Recompute {
   return {
     fit: (spec, panel) => pool.runTask('fit', { spec, panel }, {}),
-    backtest: (spec, panel) => pool.runTask('backtest', { spec, panel }, {}),
+    backtest: (spec, panel, engine) => pool.runTask('backtest', engine ? { spec, panel, engine } : { spec, panel }, {}),
     compare: (spec, fits, panels) => pool.runTask('compare', { spec, fits, panels }, {}),
   };
 }
+
+const ENGINES: readonly BacktestEngine[] = ['auto', 'incremental', 'fresh', 'fit'];
+const isEngine = (e: string | undefined): e is BacktestEngine => e !== undefined && (ENGINES as readonly string[]).includes(e);
 
 function countNumbers(x: unknown): number {
   if (typeof x === 'number') return 1;
@@ -61,7 +65,7 @@ function recordedPanels(r: RunRecord): PanelFingerprint[] {
 }
 
 /** Recomputes one run and compares it with the stored result. */
-export async function replayRun(store: Store, id: number, recompute: Recompute, opts: { limit?: number } = {}): Promise<ReplayReport> {
+export async function replayRun(store: Store, id: number, recompute: Recompute, opts: { limit?: number; threads?: number } = {}): Promise<ReplayReport> {
   const record = getRun(store, id);
   const stale = staleItems(store, record);
   const report: ReplayReport = {
@@ -78,6 +82,8 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
     differences: [],
     ok: false,
   };
+  if (record.compute) report.recordedThreads = record.compute.threads;
+  if (opts.threads !== undefined) report.usedThreads = opts.threads;
   let result: AnyResult;
   let panels: ReturnsPanel[];
   try {
@@ -88,7 +94,8 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
     } else {
       const spec = parseFitSpec(record.spec);
       panels = [loadPanel(store, spec)];
-      result = record.kind === 'fit' ? await recompute.fit(spec, panels[0]) : await recompute.backtest(spec, panels[0]);
+      const engine = record.compute?.engine;
+      result = record.kind === 'fit' ? await recompute.fit(spec, panels[0]) : await recompute.backtest(spec, panels[0], isEngine(engine) ? engine : undefined);
     }
   } catch (e) {
     report.error = isDeflatorError(e) ? `${e.code}: ${describeError(e)}` : describeError(e);
@@ -129,6 +136,9 @@ const show = (v: unknown): string => (typeof v === 'number' ? (Object.is(v, -0) 
 export function formatReplay(r: ReplayReport): string {
   const lines = [`Replay of run ${r.run} (${r.kind}: ${r.label})`];
   if (r.recordedVersion !== r.currentVersion) lines.push(`  note: recorded by deflator ${r.recordedVersion}, recomputed by ${r.currentVersion}`);
+  if (r.recordedThreads !== undefined && r.usedThreads !== undefined && r.recordedThreads !== r.usedThreads) {
+    lines.push(`  note: recorded with ${r.recordedThreads} worker thread(s), replayed with ${r.usedThreads}; a back-test split into chunks sums in another order`);
+  }
   if (r.stale) {
     lines.push('  STALE: the data this run read has changed since it was recorded:');
     for (const s of r.staleItems) lines.push(`    ${s.what}: ${s.reason}`);

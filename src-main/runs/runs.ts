@@ -25,6 +25,10 @@ export interface RecordRunInput {
   panel: ReturnsPanel | PanelFingerprint | (ReturnsPanel | PanelFingerprint)[];
   /** Defaults to now. */
   createdAt?: Date;
+  /** Worker threads of the pool that computed it (replay uses the same; see RunRecord.compute). */
+  threads?: number;
+  /** Back-tests: the engine asked for, when not 'auto' (e.g. 'fit'). */
+  engine?: string;
 }
 
 interface RunRow {
@@ -41,6 +45,7 @@ interface RunRow {
   panels: string | null;
   files: string;
   subjects: string;
+  compute: string | null;
 }
 
 const isPanel = (p: ReturnsPanel | PanelFingerprint): p is ReturnsPanel => 'returns' in p && Array.isArray((p as ReturnsPanel).returns);
@@ -87,8 +92,11 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
   const createdAt = (input.createdAt ?? new Date()).toISOString();
   const label = runLabel(input.result);
   const models = runModels(input.spec, input.result);
+  if (input.threads !== undefined && !(Number.isInteger(input.threads) && input.threads >= 1)) {
+    throw new DeflatorError('INPUT_INVALID', `recordRun: threads ${input.threads} is not a whole number of at least 1`, 'pass the pool\'s thread count');
+  }
   const insert = store.db.prepare(
-    'INSERT INTO run (kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
+    'INSERT INTO run (kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects, compute) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
   );
   const insertSubject = store.db.prepare('INSERT INTO run_subject (run_id, kind, name, sha256) VALUES (?, ?, ?, ?)');
   const id = store.db.transaction(() => {
@@ -106,6 +114,9 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
         panels.length > 1 ? JSON.stringify(panels) : null,
         JSON.stringify(files),
         JSON.stringify(subjects),
+        input.threads !== undefined || input.engine !== undefined
+          ? JSON.stringify({ ...(input.threads !== undefined ? { threads: input.threads } : {}), ...(input.engine !== undefined ? { engine: input.engine } : {}) })
+          : null,
       ).lastInsertRowid,
     );
     for (const s of subjects) insertSubject.run(runId, s.kind, s.name, s.sha256);
@@ -145,6 +156,7 @@ function toRecord(r: RunRow): RunRecord {
     subjects: JSON.parse(r.subjects) as SubjectFingerprint[],
   };
   if (r.panels) rec.panels = JSON.parse(r.panels) as PanelFingerprint[];
+  if (r.compute) rec.compute = JSON.parse(r.compute) as { threads?: number; engine?: string };
   return rec;
 }
 

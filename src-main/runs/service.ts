@@ -7,7 +7,7 @@ import type { ReplayReport } from '../../shared/records/replay-report.js';
 import { EXPORT_MIME, type ExportFormat } from '../../shared/report/formats.js';
 import { renderExport } from '../export/run-export.js';
 import type { Store } from '../store/store.js';
-import { replayRun, type Recompute } from './replay.js';
+import { poolRecompute, replayRun, type Recompute, type RecomputeRunner } from './replay.js';
 import { deleteRun, getRun, listRuns, staleItems, type RunFilter } from './runs.js';
 
 export interface ExportedFile {
@@ -22,11 +22,13 @@ export class RunService {
    * @param store the open project database (a getter: the app can switch databases)
    * @param recompute how replay recomputes (the app's worker pool: poolRecompute)
    * @param pdf HTML -> PDF bytes; in Electron, pdfFromHtmlWithWebContents on a hidden window
+   * @param poolFor a fresh pool of n threads, so a run replays with the thread count it was computed with
    */
   constructor(
     private readonly store: () => Store,
     private readonly recompute: Recompute,
     private readonly pdf?: (html: string) => Promise<Buffer>,
+    private readonly poolFor?: (threads: number) => RecomputeRunner & { close(): Promise<void> },
   ) {}
 
   list(filter: RunFilter = {}): RunSummary[] {
@@ -44,8 +46,16 @@ export class RunService {
     return { deleted: id };
   }
 
-  replay(id: number): Promise<ReplayReport> {
-    return replayRun(this.store(), id, this.recompute);
+  async replay(id: number): Promise<ReplayReport> {
+    const threads = getRun(this.store(), id).compute?.threads;
+    // The app's own pool when the run recorded no thread count, else one of that many threads.
+    if (threads === undefined || !this.poolFor) return replayRun(this.store(), id, this.recompute);
+    const pool = this.poolFor(threads);
+    try {
+      return await replayRun(this.store(), id, poolRecompute(pool), { threads });
+    } finally {
+      await pool.close();
+    }
   }
 
   async export(id: number, format: ExportFormat): Promise<{ files: ExportedFile[] }> {

@@ -10,7 +10,7 @@
  *   { version: 2, name: 'run records', up: `CREATE TABLE run (...);` },
  */
 import type Database from 'better-sqlite3';
-import { RUNS_MIGRATION_NAME, RUNS_MIGRATION_SQL } from '../runs/migration.js';
+import { RUNS_COMPUTE_MIGRATION_NAME, RUNS_COMPUTE_MIGRATION_SQL, RUNS_MIGRATION_NAME, RUNS_MIGRATION_SQL } from '../runs/migration.js';
 
 export interface Migration {
   version: number;
@@ -89,6 +89,7 @@ export const MIGRATIONS: Migration[] = [
     `,
   },
   { version: 2, name: RUNS_MIGRATION_NAME, up: RUNS_MIGRATION_SQL },
+  { version: 3, name: RUNS_COMPUTE_MIGRATION_NAME, up: RUNS_COMPUTE_MIGRATION_SQL },
 ];
 
 /** The schema version this build writes. */

@@ -79,7 +79,7 @@ export function register(program: Command): void {
           (pool) => pool.runTask('backtest', { spec, panel, engine: o.engine === 'fit' ? 'fit' : 'auto' }, { onProgress: (d, t) => bar.update(d, t, 'windows') }),
           { threads },
         ).finally(() => bar.finish());
-        const run = o.record ? recordRun(store, { spec, result, panel }) : undefined;
+        const run = o.record ? recordRun(store, { spec, result, panel, threads, ...(o.engine === 'fit' ? { engine: 'fit' } : {}) }) : undefined;
         if (o.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
         else process.stdout.write(`${backtestText(result)}${run ? `Recorded as run ${run.id} (deflator show ${run.id} --db ${o.db}).\n` : ''}`);
       } finally {

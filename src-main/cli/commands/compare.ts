@@ -76,7 +76,7 @@ export function register(program: Command): void {
         const panels = fits.map((f) => loadPanel(store, f));
         const bar = progressBar('compare');
         const result = await withPool((pool) => pool.runTask('compare', { spec, fits, panels }, { onProgress: (d, t, stage) => bar.update(d, t, stage) }), { threads }).finally(() => bar.finish());
-        const run = o.record ? recordRun(store, { spec, result, panel: panels }) : undefined;
+        const run = o.record ? recordRun(store, { spec, result, panel: panels, threads }) : undefined;
         if (o.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
         else process.stdout.write(`${compareText(result)}${run ? `Recorded as run ${run.id} (deflator show ${run.id} --db ${o.db}).\n` : ''}`);
       } finally {

@@ -9,9 +9,9 @@ import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { toExactJson } from '../../../shared/records/exact-json.js';
 import { formatReplay, poolRecompute, replayRun } from '../../runs/replay.js';
-import { parseRunId } from '../../runs/runs.js';
+import { getRun, parseRunId } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
-import { withPool } from '../../workers/pool.js';
+import { defaultThreads, withPool } from '../../workers/pool.js';
 
 export const REPLAY_MISMATCH_EXIT = 4;
 
@@ -28,18 +28,20 @@ export function register(program: Command): void {
     .description('recompute a recorded run and check that every number matches the stored result bit for bit (exit 4 if not, or if its data changed)')
     .argument('<run>', 'run id (see `deflator runs`)')
     .requiredOption('--db <path>', 'project database')
-    .option('--threads <n>', 'worker threads (default: the number of cores)')
+    .option('--threads <n>', 'worker threads (default: as many as the run was computed with)')
     .option('--limit <n>', 'list at most this many differing values', '50')
     .option('--json', 'print the replay report as JSON')
     .action(async (run: string, opts: ReplayOptions) => {
       const id = parseRunId(run);
       const limit = Number(opts.limit);
       if (!Number.isInteger(limit) || limit < 1) throw new DeflatorError('INPUT_INVALID', `--limit ${opts.limit}: expected a whole number of at least 1`, 'e.g. --limit 50');
-      const threads = opts.threads === undefined ? undefined : Number(opts.threads);
-      if (threads !== undefined && !(Number.isInteger(threads) && threads >= 1)) throw new DeflatorError('INPUT_INVALID', `--threads ${opts.threads}: expected a whole number of at least 1`, 'e.g. --threads 2');
+      const given = opts.threads === undefined ? undefined : Number(opts.threads);
+      if (given !== undefined && !(Number.isInteger(given) && given >= 1)) throw new DeflatorError('INPUT_INVALID', `--threads ${opts.threads}: expected a whole number of at least 1`, 'e.g. --threads 2');
       const store = new Store(opts.db, { mustExist: true });
       try {
-        const report = await withPool((pool) => replayRun(store, id, poolRecompute(pool), { limit }), threads === undefined ? {} : { threads });
+        // The same thread count as the run: a back-test's chunks of windows follow it.
+        const threads = given ?? getRun(store, id).compute?.threads ?? defaultThreads();
+        const report = await withPool((pool) => replayRun(store, id, poolRecompute(pool), { limit, threads }), { threads });
         process.stdout.write(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
         if (!report.ok) process.exitCode = REPLAY_MISMATCH_EXIT;
       } finally {

@@ -29,11 +29,11 @@ beforeAll(async () => {
   // Each kind of run computed as the commands and the app compute it: panel from the store, work in the worker pool.
   const fitSpec = parseFitSpec({ riskfree: 'bill_yield', assets, model: { factors: ['harbor', 'ember'] }, estimator: { stage: 'iterated' } });
   const fitPanel = loadPanel(p.store, fitSpec);
-  ids.fit = keepRun(p.store, { spec: fitSpec, result: await pool.runTask('fit', { spec: fitSpec, panel: fitPanel }), panel: fitPanel }).runId!;
+  ids.fit = keepRun(p.store, { spec: fitSpec, result: await pool.runTask('fit', { spec: fitSpec, panel: fitPanel }), panel: fitPanel, threads: pool.threads }).runId!;
 
   const btSpec = parseFitSpec({ riskfree: 'bill_yield', assets, model: { factors: ['harbor'] }, backtest: { window: 60, step: 6, horizon: 3 } });
   const btPanel = loadPanel(p.store, btSpec);
-  ids.backtest = keepRun(p.store, { spec: btSpec, result: await pool.runTask('backtest', { spec: btSpec, panel: btPanel }), panel: btPanel }).runId!;
+  ids.backtest = keepRun(p.store, { spec: btSpec, result: await pool.runTask('backtest', { spec: btSpec, panel: btPanel }), panel: btPanel, threads: pool.threads }).runId!;
 
   const { spec: cmpSpec, fits } = parseCompareSpec({
     riskfree: 'bill_yield',
@@ -42,7 +42,7 @@ beforeAll(async () => {
     compare: [{ model: { factors: ['harbor'] } }, { model: { factors: ['harbor', 'ember', 'ledger'] } }, { model: { kind: 'consumption', consumption: 'household_spending', delta: 1 } }],
   });
   const panels = fits.map((f) => loadPanel(p.store, f));
-  ids.compare = keepRun(p.store, { spec: cmpSpec, result: await pool.runTask('compare', { spec: cmpSpec, fits, panels }), panel: panels }).runId!;
+  ids.compare = keepRun(p.store, { spec: cmpSpec, result: await pool.runTask('compare', { spec: cmpSpec, fits, panels }), panel: panels, threads: pool.threads }).runId!;
   p.store.close();
 }, 180_000);
 
@@ -62,6 +62,8 @@ describe('deflator replay (built CLI, worker pool)', () => {
     expect(j.ok).toBe(true);
     expect(j.compared).toBeGreaterThan(20);
     expect(j.differing).toBe(0);
+    // Replayed with the thread count it was computed with (a chunked back-test follows it).
+    expect([j.recordedThreads, j.usedThreads]).toEqual([2, 2]);
   });
 
   it('detects a modified data file: stale, fingerprint mismatch, differing numbers, exit 4', async () => {
