@@ -66,6 +66,11 @@ describe('deflator replay (built CLI, worker pool)', () => {
     expect([j.recordedThreads, j.usedThreads]).toEqual([2, 2]);
   });
 
+  it('replays with the recorded thread count unless told otherwise, and says so', () => {
+    const r = cli(['replay', String(ids.backtest), '--db', p.dbPath, '--threads', '1']);
+    expect(r.out).toContain('note: recorded with 2 worker thread(s), replayed with 1');
+  });
+
   it('detects a modified data file: stale, fingerprint mismatch, differing numbers, exit 4', async () => {
     const store = new Store(p.dbPath, { mustExist: true });
     try {
