@@ -7,7 +7,29 @@
  * - raw: m_t = 1 - b'f_t, moments R^e_t m_t; parameters b.
  * - gross: m_t = a - b'f_t, moments R_t m_t - 1; parameters (a, b).
  */
+import { seriesDot, type Mat } from '../linalg/matrix.js';
 import { SdfMomentModel, mean, type PinnedBlock, type SdfModelKind } from './momentModel.js';
+
+/**
+ * E[R_i] and E[R_i f_k] (divide by T), computed once: with them g_T and d of a linear
+ * model cost O(N K) per evaluation instead of O(N K T).
+ */
+export class LinearCrossMoments {
+  readonly meanR: Float64Array;
+  /** Row-major N x K. */
+  readonly meanRF: Float64Array;
+  readonly K: number;
+  constructor(returns: readonly Float64Array[], factors: readonly Float64Array[]) {
+    const N = returns.length;
+    const K = factors.length;
+    const T = N ? returns[0].length : 0;
+    this.K = K;
+    this.meanR = Float64Array.from(returns, (r) => mean(r));
+    this.meanRF = new Float64Array(N * K);
+    for (let i = 0; i < N; i++)
+      for (let k = 0; k < K; k++) this.meanRF[i * K + k] = seriesDot(returns[i], factors[k]) / T;
+  }
+}
 
 export interface NamedFactor {
   name: string;
@@ -25,12 +47,14 @@ export class DemeanedLinearModel extends SdfMomentModel {
   override readonly pinned: PinnedBlock;
   readonly factors: readonly Float64Array[];
   private readonly K: number;
+  private readonly cross: LinearCrossMoments;
 
   constructor(excessReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
     super(excessReturns, 0);
     const K = factors.length;
     this.K = K;
     this.factors = factors.map((f) => f.values);
+    this.cross = new LinearCrossMoments(excessReturns, this.factors);
     this.q = this.nAssets + K;
     this.p = 2 * K;
     this.paramNames = [...factors.map((f) => `b.${f.name}`), ...factors.map((f) => `mu.${f.name}`)];
@@ -56,6 +80,37 @@ export class DemeanedLinearModel extends SdfMomentModel {
       for (let t = 0; t < T; t++) m[t] -= b * f[t];
     }
     return m;
+  }
+
+  /** g_a,i = E[R_i](1 + b'mu) - sum_k b_k E[R_i f_k];  g_f,k = fbar_k - mu_k. */
+  override meanMoments(theta: Float64Array): Float64Array {
+    const { K, nAssets: N } = this;
+    const { meanR, meanRF } = this.cross;
+    let c = 1;
+    for (let k = 0; k < K; k++) c += theta[k] * theta[K + k];
+    const g = new Float64Array(this.q);
+    for (let i = 0; i < N; i++) {
+      let s = meanR[i] * c;
+      for (let k = 0; k < K; k++) s -= theta[k] * meanRF[i * K + k];
+      g[i] = s;
+    }
+    const fbar = this.pinned.solve();
+    for (let k = 0; k < K; k++) g[N + k] = fbar[k] - theta[K + k];
+    return g;
+  }
+
+  /** d_a = [mu_k E[R_i] - E[R_i f_k] | E[R_i] b_k];  d_f = [0 | -I]. */
+  override jacobian(theta: Float64Array): Mat {
+    const { K, nAssets: N, p, q } = this;
+    const { meanR, meanRF } = this.cross;
+    const d = new Float64Array(q * p);
+    for (let i = 0; i < N; i++)
+      for (let k = 0; k < K; k++) {
+        d[i * p + k] = theta[K + k] * meanR[i] - meanRF[i * K + k];
+        d[i * p + K + k] = meanR[i] * theta[k];
+      }
+    for (let k = 0; k < K; k++) d[(N + k) * p + K + k] = -1;
+    return { rows: q, cols: p, data: d };
   }
 
   protected sdfDerivatives(theta: Float64Array): (Float64Array | number)[] {
@@ -113,14 +168,31 @@ export class RawLinearModel extends SdfMomentModel {
   readonly momentNames: readonly string[];
   readonly affine = true;
   readonly factors: readonly Float64Array[];
+  private readonly cross: LinearCrossMoments;
 
   constructor(excessReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
     super(excessReturns, 0);
     this.factors = factors.map((f) => f.values);
+    this.cross = new LinearCrossMoments(excessReturns, this.factors);
     this.q = this.nAssets;
     this.p = factors.length;
     this.paramNames = factors.map((f) => `b.${f.name}`);
     this.momentNames = [...assetNames];
+  }
+
+  /** g_i = E[R_i] - sum_k b_k E[R_i f_k]. */
+  override meanMoments(theta: Float64Array): Float64Array {
+    const { meanR, meanRF, K } = this.cross;
+    return Float64Array.from(meanR, (m, i) => {
+      let s = m;
+      for (let k = 0; k < K; k++) s -= theta[k] * meanRF[i * K + k];
+      return s;
+    });
+  }
+
+  /** d = -E[R f']. */
+  override jacobian(): Mat {
+    return { rows: this.q, cols: this.p, data: Float64Array.from(this.cross.meanRF, (x) => -x) };
   }
 
   sdf(theta: Float64Array): Float64Array {
@@ -150,14 +222,38 @@ export class GrossLinearModel extends SdfMomentModel {
   readonly momentNames: readonly string[];
   readonly affine = true;
   readonly factors: readonly Float64Array[];
+  private readonly cross: LinearCrossMoments;
 
   constructor(grossReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
     super(grossReturns, 1);
     this.factors = factors.map((f) => f.values);
+    this.cross = new LinearCrossMoments(grossReturns, this.factors);
     this.q = this.nAssets;
     this.p = factors.length + 1;
     this.paramNames = ['a', ...factors.map((f) => `b.${f.name}`)];
     this.momentNames = [...assetNames];
+  }
+
+  /** g_i = a E[R_i] - sum_k b_k E[R_i f_k] - 1. */
+  override meanMoments(theta: Float64Array): Float64Array {
+    const { meanR, meanRF, K } = this.cross;
+    return Float64Array.from(meanR, (m, i) => {
+      let s = theta[0] * m - 1;
+      for (let k = 0; k < K; k++) s -= theta[k + 1] * meanRF[i * K + k];
+      return s;
+    });
+  }
+
+  /** d = [E[R] | -E[R f']]. */
+  override jacobian(): Mat {
+    const { meanR, meanRF, K } = this.cross;
+    const p = this.p;
+    const d = new Float64Array(this.q * p);
+    for (let i = 0; i < this.q; i++) {
+      d[i * p] = meanR[i];
+      for (let k = 0; k < K; k++) d[i * p + 1 + k] = -meanRF[i * K + k];
+    }
+    return { rows: this.q, cols: p, data: d };
   }
 
   sdf(theta: Float64Array): Float64Array {

@@ -18,7 +18,7 @@
  * (terms outside 0..T-1 dropped), which is the formula above regrouped: O(q T L + q^2 T / 2).
  */
 import { DeflatorError } from '../errors.js';
-import type { Mat } from '../linalg/matrix.js';
+import { seriesDot, type Mat } from '../linalg/matrix.js';
 
 /** The automatic lag rule L = floor(4 (T/100)^(2/9)) (Newey and West 1994). */
 export function autoLags(T: number): number {
@@ -79,10 +79,7 @@ export function longRunCovariance(u: readonly Float64Array[], lags: number, cent
   for (let a = 0; a < q; a++) {
     const va = filtered[a];
     for (let b = a; b < q; b++) {
-      const ub = series[b];
-      let s = 0;
-      for (let t = 0; t < T; t++) s += va[t] * ub[t];
-      s *= invT;
+      const s = seriesDot(va, series[b]) * invT;
       S[a * q + b] = s;
       S[b * q + a] = s;
     }

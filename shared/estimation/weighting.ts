@@ -4,7 +4,7 @@
  * Hansen-Jagannathan weight), applied through the Cholesky factor instead.
  */
 import { cholesky, cholSolveMat, cholSolveVec, type CholeskyOptions } from '../linalg/cholesky.js';
-import { type Mat, clone } from '../linalg/matrix.js';
+import { type Mat, clone, seriesDot } from '../linalg/matrix.js';
 
 export interface Weighting {
   readonly q: number;
@@ -40,13 +40,10 @@ export function secondMomentMatrix(returns: readonly Float64Array[]): Mat {
   const n = returns.length;
   const T = n ? returns[0].length : 0;
   const out = new Float64Array(n * n);
+  if (T === 0) return { rows: n, cols: n, data: out };
   for (let i = 0; i < n; i++)
     for (let j = i; j < n; j++) {
-      const a = returns[i];
-      const b = returns[j];
-      let s = 0;
-      for (let t = 0; t < T; t++) s += a[t] * b[t];
-      s /= T;
+      const s = seriesDot(returns[i], returns[j]) / T;
       out[i * n + j] = s;
       out[j * n + i] = s;
     }

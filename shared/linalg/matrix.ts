@@ -187,6 +187,27 @@ export function dot(x: ArrayLike<number>, y: ArrayLike<number>): number {
   return s;
 }
 
+/**
+ * sum_t x[t] y[t] over two series of equal length, with four partial sums (the hot loop
+ * of every covariance and second-moment matrix; about twice as fast as one accumulator).
+ */
+export function seriesDot(x: Float64Array, y: Float64Array): number {
+  const n = x.length;
+  let s0 = 0;
+  let s1 = 0;
+  let s2 = 0;
+  let s3 = 0;
+  let t = 0;
+  for (; t + 3 < n; t += 4) {
+    s0 += x[t] * y[t];
+    s1 += x[t + 1] * y[t + 1];
+    s2 += x[t + 2] * y[t + 2];
+    s3 += x[t + 3] * y[t + 3];
+  }
+  for (; t < n; t++) s0 += x[t] * y[t];
+  return s0 + s1 + s2 + s3;
+}
+
 /** Largest absolute entry (0 for an empty matrix). */
 export function maxAbs(x: ArrayLike<number>): number {
   let m = 0;

@@ -54,7 +54,8 @@ export function fitText(r: FitResult): string {
   const per = PERIOD_WORD[s.frequency] ?? 'period';
   const out: string[] = [];
   const method = s.method === 'gmm' ? 'GMM' : s.method === 'time-series' ? 'time-series regressions' : s.method === 'two-pass' ? 'two-pass cross-sectional regressions' : s.method;
-  out.push(`${r.label}: ${method}, ${s.stage}`);
+  const stage = s.method !== 'gmm' ? s.stage : s.stage === 'cue' ? 'continuously updated' : `${s.stage} stage`;
+  out.push(`${r.label}: ${method}, ${stage}`);
   out.push('');
   out.push(`Sample        ${s.start} to ${s.end}, ${s.frequency}, T = ${s.T}`);
   out.push(`Test assets   N = ${s.N} (${s.returns} returns): ${s.assets.join(', ')}`);
