@@ -75,36 +75,44 @@ export interface DatabaseState {
   integrity: string;
 }
 
+/** Schema, user_version and every row of every table, hashed through the given connection. */
+export function digestOf(db: Database.Database): { digest: string; rows: Record<string, number> } {
+  const h = createHash('sha256');
+  const rows: Record<string, number> = {};
+  const safe = (st: Database.Statement) => st.safeIntegers(true);
+  // one read transaction (or the caller's): the whole digest sees one snapshot
+  const read = () => {
+    put(h, BigInt(Number(db.pragma('user_version', { simple: true }))));
+    const schema = safe(db.prepare("SELECT type, name, tbl_name, sql FROM sqlite_master WHERE name NOT LIKE 'sqlite_autoindex%' ORDER BY type, name")).raw().all() as unknown[][];
+    for (const r of schema) for (const v of r) put(h, v);
+    const tables = schema.filter((r) => r[0] === 'table').map((r) => String(r[1]));
+    for (const t of tables) {
+      const q = `"${t.replaceAll('"', '""')}"`;
+      const info = db.prepare(`PRAGMA table_info(${q})`).all() as { name: string; pk: number }[];
+      const pk = info.filter((c) => Number(c.pk) > 0).sort((a, b) => Number(a.pk) - Number(b.pk)).map((c) => `"${c.name}"`);
+      const order = pk.length ? pk.join(', ') : 'rowid';
+      h.update(`\u0001${t}`);
+      let n = 0;
+      for (const r of safe(db.prepare(`SELECT * FROM ${q} ORDER BY ${order}`)).raw().iterate() as Iterable<unknown[]>) {
+        n++;
+        for (const v of r) put(h, v);
+      }
+      rows[t] = n;
+    }
+  };
+  if (db.inTransaction) read();
+  else db.transaction(read)();
+  return { digest: h.digest('hex'), rows };
+}
+
 /** Reads a database through its own connection (the file may be in use by a child process). */
 export function databaseState(file: string, options: { busyTimeout?: number } = {}): DatabaseState {
   const db = new Database(file, { readonly: true, fileMustExist: true });
   try {
     db.pragma(`busy_timeout = ${options.busyTimeout ?? 10_000}`);
-    db.defaultSafeIntegers(true);
-    const h = createHash('sha256');
-    const rows: Record<string, number> = {};
-    // one read transaction: the whole digest sees one snapshot
-    db.transaction(() => {
-      put(h, db.pragma('user_version', { simple: true }) as bigint);
-      const schema = db.prepare("SELECT type, name, tbl_name, sql FROM sqlite_master WHERE name NOT LIKE 'sqlite_autoindex%' ORDER BY type, name").raw().all() as unknown[][];
-      for (const r of schema) for (const v of r) put(h, v);
-      const tables = schema.filter((r) => r[0] === 'table').map((r) => String(r[1]));
-      for (const t of tables) {
-        const q = `"${t.replaceAll('"', '""')}"`;
-        const info = db.prepare(`PRAGMA table_info(${q})`).all() as { name: string; pk: bigint }[];
-        const pk = info.filter((c) => Number(c.pk) > 0).sort((a, b) => Number(a.pk) - Number(b.pk)).map((c) => `"${c.name}"`);
-        const order = pk.length ? pk.join(', ') : 'rowid';
-        h.update(`\u0001${t}`);
-        let n = 0;
-        for (const r of db.prepare(`SELECT * FROM ${q} ORDER BY ${order}`).raw().iterate() as Iterable<unknown[]>) {
-          n++;
-          for (const v of r) put(h, v);
-        }
-        rows[t] = n;
-      }
-    })();
+    const { digest, rows } = digestOf(db);
     const integrity = (db.pragma('integrity_check') as { integrity_check: string }[]).map((r) => r.integrity_check).join('; ');
-    return { digest: h.digest('hex'), rows, integrity };
+    return { digest, rows, integrity };
   } finally {
     db.close();
   }
