@@ -65,6 +65,20 @@ function sessionStatements(db: Database.Database) {
   };
 }
 
+function newChunk(size: number) {
+  return {
+    n: 0,
+    asset: new Int32Array(size),
+    local: new Int32Array(size),
+    date: new Array<string>(size),
+    price: new Float64Array(size),
+    dividend: new Float64Array(size),
+    adjust: new Float64Array(size),
+    shares: new Float64Array(size),
+    line: new Int32Array(size),
+  };
+}
+
 export class ImportSession {
   readonly db: Database.Database;
   private readonly store: Store;
@@ -78,20 +92,11 @@ export class ImportSession {
   readonly preexisting = new Set<number>();
   private readonly seriesIds = new Map<string, number>();
 
-  private readonly chunk = {
-    n: 0,
-    asset: new Int32Array(CHUNK),
-    local: new Int32Array(CHUNK),
-    date: new Array<string>(CHUNK),
-    price: new Float64Array(CHUNK),
-    dividend: new Float64Array(CHUNK),
-    adjust: new Float64Array(CHUNK),
-    shares: new Float64Array(CHUNK),
-    line: new Int32Array(CHUNK),
-  };
+  /** Pending observations; starts small and doubles up to CHUNK rows. */
+  private chunk = newChunk(4096);
   private chunkFile = '';
   private readonly assetLocal = new Map<number, number>();
-  private readonly order = new Int32Array(CHUNK);
+  private order = new Int32Array(4096);
   private readonly params: (string | number | null)[] = new Array(BATCH * OBS_COLS);
   private readonly serBuf: (string | number)[] = [];
   private readonly serLines: number[] = [];
@@ -149,6 +154,7 @@ export class ImportSession {
    * different asset's part of the (asset, date) key on every row, several times slower.
    */
   observation(assetId: number, date: string, price: number, dividend: number, adjust: number, shares: number | null, file: string, line: number): void {
+    if (this.chunk.n === this.chunk.price.length) this.growChunk();
     const c = this.chunk;
     const k = c.n;
     let local = this.assetLocal.get(assetId);
@@ -167,6 +173,22 @@ export class ImportSession {
     this.chunkFile = file;
     c.n = k + 1;
     if (c.n === CHUNK) this.flushObservations();
+  }
+
+  private growChunk(): void {
+    const old = this.chunk;
+    const next = newChunk(old.price.length * 2);
+    next.n = old.n;
+    next.asset.set(old.asset);
+    next.local.set(old.local);
+    for (let i = 0; i < old.n; i++) next.date[i] = old.date[i];
+    next.price.set(old.price);
+    next.dividend.set(old.dividend);
+    next.adjust.set(old.adjust);
+    next.shares.set(old.shares);
+    next.line.set(old.line);
+    this.chunk = next;
+    this.order = new Int32Array(next.price.length);
   }
 
   flushObservations(): void {

@@ -53,6 +53,18 @@ describe('bad input: named precisely, nothing stored', () => {
     fails('date,asset,price\n2020-04-30,alpha,12\n2020-05-29,alpha,13\n2020-04-30,alpha,12.5\n', /line 4: duplicate \(asset, date\) = \(alpha, 2020-04-30\)/));
   it('rows that clash with rows from another file: the first clash is named, with the earlier file', () =>
     fails('date,asset,price\n2020-04-30,gamma,1\n2020-02-28,beta,21\n2020-01-31,alpha,10\n', /bad\.csv, line 3: \(asset, date\) = \(beta, 2020-02-28\) is already stored, from base\.csv/));
+  it('the first clash in file order is named even when rows are written in asset order', () =>
+    // rows go to the database grouped by asset (alpha's lines 2 and 4 before beta's line 3)
+    fails('date,asset,price\n2020-05-29,alpha,13\n2020-01-31,beta,20\n2020-01-31,alpha,10\n', /bad\.csv, line 3: \(asset, date\) = \(beta, 2020-01-31\) is already stored, from base\.csv/));
+  it('a duplicate far apart in a large file (rows written in several chunks) is found, with its line', async () => {
+    const lines = ['date,asset,price'];
+    for (let d = 0; d < 3000; d++) {
+      const date = new Date(Date.UTC(2000, 0, 1 + d)).toISOString().slice(0, 10);
+      for (let a = 0; a < 100; a++) lines.push(`${date},big${a},${(10 + a + d / 1000).toFixed(3)}`);
+    }
+    lines.push('2000-01-01,big7,99'); // line 300,002: same key as line 9
+    await fails(`${lines.join('\n')}\n`, /line 300002: duplicate \(asset, date\) = \(big7, 2000-01-01\)/);
+  });
   it('wide file: dates out of order, and a date twice', async () => {
     await fails('date,alpha,beta\n2020-04-30,1,2\n2020-06-30,1,2\n2020-05-29,1,2\n', /line 4, column 1 \(date\): date 2020-05-29 comes after 2020-06-30: dates are out of order/, { layout: 'wide' });
     await fails('date,alpha,beta\n2020-04-30,1,2\n2020-04-30,1,2\n', /line 3, column 1 \(date\): date 2020-04-30 appears twice/, { layout: 'wide' });
@@ -247,6 +259,24 @@ describe('good input', () => {
     ]);
     expect(store.importLog()[0].rowsRejected).toBe(2);
     expect(store.assets()).toEqual(['alpha']);
+    store.close();
+  });
+
+  it('a file larger than one write chunk stores every row, each asset in date order', async () => {
+    const dir = tempDir();
+    const store = new Store(path.join(dir, 'big.db'));
+    const lines = ['date,asset,price'];
+    const dates: string[] = [];
+    for (let d = 0; d < 2800; d++) dates.push(new Date(Date.UTC(2001, 0, 1 + d)).toISOString().slice(0, 10));
+    dates.forEach((date, d) => {
+      for (let a = 0; a < 100; a++) lines.push(`${date},n${a},${(1 + a / 7 + d / 1e4).toFixed(6)}`);
+    });
+    const r = await importPrices(store, write(dir, 'big.csv', `${lines.join('\n')}\n`));
+    expect(r.rowsStored).toBe(280000);
+    expect(r.frequency).toBe('daily');
+    const [h] = store.loadHistories(['n42']);
+    expect(h.dates).toEqual(dates);
+    expect(h.price[2799]).toBe(Number((1 + 42 / 7 + 2799 / 1e4).toFixed(6)));
     store.close();
   });
 
