@@ -240,3 +240,14 @@ describe('error fields', () => {
     expect(fieldsOf('the matrix S is singular')).toEqual({});
   });
 });
+
+describe('spec JSON text', () => {
+  it('keeps lists on one line and reads back to the same value', async () => {
+    const { compactJson } = await import('../../src-renderer/src/stores/model.js');
+    const v = { assets: ['a, "b"', 'c'], model: { kind: 'linear', factors: ['x'] }, estimator: { lags: 3 }, nested: [[1, 2], { k: [true, null, -1.5e-3] }] };
+    const text = compactJson(v);
+    expect(JSON.parse(text)).toEqual(v);
+    expect(text).toContain('"assets": ["a, \\"b\\"", "c"]');
+    expect(text).toContain('"factors": ["x"]');
+  });
+});

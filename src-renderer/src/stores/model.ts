@@ -10,6 +10,13 @@ import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../../shared/s
 import type { FitSpec, FitSpecInput, CompareSpec } from '../../../shared/spec.js';
 import { fieldsOf } from '../lib/errors.js';
 
+/** JSON.stringify with 2-space indent, lists of plain values kept on one line. */
+export function compactJson(value: unknown): string {
+  const scalar = String.raw`(?:"(?:[^"\\]|\\.)*"|-?\d+(?:\.\d+)?(?:[eE][-+]?\d+)?|true|false|null)`;
+  const list = new RegExp(String.raw`\[\s*(${scalar}(?:,\s*${scalar})*)\s*\]`, 'g');
+  return JSON.stringify(value, null, 2).replace(list, (_m, inner: string) => `[${inner.replace(/,\s+/g, ', ')}]`);
+}
+
 export type ModelKind = 'linear' | 'linear-raw' | 'linear-gross' | 'consumption';
 export type Method = 'gmm' | 'time-series' | 'two-pass';
 export type Stage = 'first' | 'second' | 'iterated' | 'cue';
@@ -106,8 +113,9 @@ export const useModelStore = defineStore('model', {
     valid(): boolean {
       return Object.keys(this.problems).length === 0;
     },
+    /** The spec as saved and shown: indented, with short lists (assets, factors) on one line. */
     specText(): string {
-      return JSON.stringify(this.spec, null, 2);
+      return compactJson(this.spec);
     },
     /** Comparison spec: the set-up's sample with each saved model. */
     compareSpec(s): Record<string, unknown> | null {
