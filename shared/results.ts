@@ -31,7 +31,11 @@ export interface PricingErrorRow {
   seAnnual: number;
   /** Realised mean return of the asset over the sample (excess or gross, as estimated). */
   meanReturn: number;
-  /** Model-predicted mean return (meanReturn - alpha for excess-return models). */
+  /**
+   * Model-predicted mean return: meanReturn - alpha for the beta-representation estimators;
+   * for GMM meanReturn - alpha / E_T[m] (so alpha = E_T[m] (meanReturn - predicted)), which is
+   * meanReturn - alpha where the sample mean of m is 1 (the demeaned model's first stage).
+   */
   predicted: number;
   /** Time-series regressions: Newey-West (HAC) s.e. of the intercept, with the spec's lags. */
   seHac?: number;
