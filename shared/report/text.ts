@@ -19,11 +19,16 @@ export function alignColumns(head: string[], rows: string[][], right: boolean[])
   return [line(head), widths.map((w) => '-'.repeat(w)).join('  '), ...rows.map(line)];
 }
 
+/** A table as aligned text; columns empty in every row are left out (the exports keep them). */
 export function tableToText(t: ReportTable): string {
+  const keep = t.columns.map((_, j) => t.rows.some((r) => r[j] !== null && r[j] !== ''));
+  const cols = t.columns.filter((_, j) => keep[j]);
   const rows = t.rows.map((row) =>
-    row.map((v, j) => (v === null ? '' : typeof v === 'number' ? displayNumber(v, t.columns[j].format) : typeof v === 'boolean' ? (v ? 'yes' : 'no') : v)),
+    row
+      .filter((_, j) => keep[j])
+      .map((v, j) => (v === null ? '' : typeof v === 'number' ? displayNumber(v, cols[j].format) : typeof v === 'boolean' ? (v ? 'yes' : 'no') : v)),
   );
-  return [t.title, ...alignColumns(t.columns.map((c) => c.label), rows, t.columns.map((c) => c.type === 'number'))].join('\n');
+  return [t.title, ...alignColumns(cols.map((c) => c.label), rows, cols.map((c) => c.type === 'number'))].join('\n');
 }
 
 /** The whole result as text: title, caution, sample header, every table, the record. */
