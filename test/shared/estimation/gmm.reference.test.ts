@@ -15,7 +15,7 @@ import { columns, expectClose, panelFromFixture, type FixtureData } from './help
 
 interface RefCase {
   name: string;
-  spec: { kind: string; stage: string; weight: string; lags: number | 'auto'; centered: boolean; includeRiskfree?: boolean; delta?: number };
+  spec: { kind: string; stage: string; weight: string; lags: number | 'auto'; centered: boolean; includeRiskfree?: boolean; delta?: number; inferenceS?: string };
   lags: number;
   q: number;
   p: number;
@@ -61,7 +61,7 @@ function specFor(c: RefCase) {
     riskfree: 'rf',
     includeRiskfree: s.includeRiskfree ?? false,
     model: consumption ? { kind: 'consumption', consumption: 'cons', ...(s.delta !== undefined && returns === 'excess' ? { delta: s.delta } : {}) } : { kind: s.kind, factors: ['f1', 'f2', 'f3'] },
-    estimator: { stage: s.stage, weight: s.weight, lags: s.lags, centered: s.centered },
+    estimator: { stage: s.stage, weight: s.weight, lags: s.lags, centered: s.centered, ...(s.inferenceS ? { inferenceS: s.inferenceS } : {}) },
   });
 }
 
