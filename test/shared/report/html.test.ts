@@ -146,4 +146,4 @@ describe.runIf(HAVE_CHROMIUM)('HTML report opened in headless Chromium', () => {
   });
 });
 
-if (!HAVE_CHROMIUM) console.log('HTML-in-browser checks skipped: no Chromium at /usr/bin/chromium (set DEFLATOR_CHROMIUM)');
+if (!HAVE_CHROMIUM) console.log('HTML-in-browser checks skipped: no chromium on PATH (Debian: apt-get install chromium; or set DEFLATOR_CHROMIUM)');

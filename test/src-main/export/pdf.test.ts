@@ -17,7 +17,7 @@ describe('PDF export', () => {
   it('finds Chromium from $DEFLATOR_CHROMIUM or PATH, and reports none clearly', async () => {
     expect(findChromium({ PATH: '' })).toBeNull();
     expect(findChromium({ DEFLATOR_CHROMIUM: path.join(tmpdir(), 'no-such-browser') })).toBeNull();
-    if (HAVE_CHROMIUM) expect(findChromium({ PATH: path.dirname(CHROMIUM_PATH) })).toBe(path.join(path.dirname(CHROMIUM_PATH), 'chromium'));
+    if (HAVE_CHROMIUM) expect(findChromium({ PATH: path.dirname(CHROMIUM_PATH) })).toBe(CHROMIUM_PATH);
     const saved = process.env.PATH;
     const savedExplicit = process.env.DEFLATOR_CHROMIUM;
     process.env.PATH = '';
