@@ -14,7 +14,7 @@ import { chiSquareSf, normalTwoSidedP } from '../stats/distributions.js';
 import { ConsumptionModel } from './consumptionSdf.js';
 import { crossSectionFit } from './crossSectionFit.js';
 import { assertAllFinite } from './finiteGuard.js';
-import { gmmEstimate, type GmmEstimate, type GmmOptions } from './gmm.js';
+import { firstStage, gmmEstimate, type GmmEstimate, type GmmOptions } from './gmm.js';
 import { standardErrors } from './gmmInference.js';
 import { hjDistance } from './hjDistance.js';
 import { assertFiniteSeries, checkAssets, checkFactors, checkIdentification, checkSampleLength } from './inputChecks.js';
@@ -23,6 +23,7 @@ import { autoLags } from './longRunCovariance.js';
 import { mean, type MomentModel } from './momentModel.js';
 import { factorCovariance, riskPremia, RISK_PREMIA_NOTE } from './riskPremia.js';
 import { sdfMoments, volatilityBound } from './volatilityBound.js';
+import { hjWeighting } from './weighting.js';
 
 export interface PreparedGmm {
   model: MomentModel;
@@ -114,6 +115,17 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
     notes,
     sampleNotes,
   };
+}
+
+/**
+ * HJ^2 = min g_A'(E[RR'])^{-1} g_A of the spec's model on the panel, without the rest of
+ * the fit (no inference, no p-value): the quantity a bootstrap of HJ distances needs per
+ * draw. Equals `fit(spec, panel).hj.distance ** 2`.
+ */
+export function gmmHjSquared(spec: FitSpec, panel: ReturnsPanel): number {
+  const { model } = prepareGmm(spec, panel);
+  const W = hjWeighting(model.returns, model.momentNames.slice(0, model.nAssets));
+  return Math.max(0, firstStage(model, W, 'Hansen-Jagannathan distance', spec.estimator.maxIterations).objective);
 }
 
 function param(name: string, estimate: number, se: number, note?: string): ParamEstimate {

@@ -181,3 +181,21 @@ describe('the demeaned model', () => {
     expect(result.fit.rmseAnnual).toBe(result.fit.rmse * 12);
   });
 });
+
+describe('gmmHjSquared', () => {
+  it('equals the squared HJ distance of the full fit, for a linear and a consumption model', async () => {
+    const { gmmHjSquared } = await import('../../../shared/estimation/gmmFit.js');
+    const r = rng(31);
+    const T = 200;
+    const f = randomFactors(r, T, 2);
+    const ex = noisyReturns(r, f, 7);
+    const s1 = spec({ model: { kind: 'linear', factors: ['f1', 'f2'] } });
+    const p1 = panel(ex, f, 'excess');
+    expectClose(gmmHjSquared(s1, p1), gmmFitDetailed(s1, p1).result.hj!.distance ** 2, 1e-12, 'HJ^2 linear');
+    const growth = Float64Array.from(normals(r, T), (z) => Math.exp(0.002 + 0.01 * z));
+    const gross = ex.map((x) => Float64Array.from(x, (v) => 1.002 + v));
+    const s2 = parseFitSpec({ returns: 'gross', model: { kind: 'consumption', consumption: 'c' } });
+    const p2 = panel(gross, [], 'gross', growth);
+    expectClose(gmmHjSquared(s2, p2), gmmFitDetailed(s2, p2).result.hj!.distance ** 2, 1e-12, 'HJ^2 consumption');
+  });
+});
