@@ -88,8 +88,10 @@ if (have.error || have.status !== 0) {
     if (r.status !== 0) process.stdout.write(`R gmm: failed (${r.stderr.trim().split('\n').pop()})\n`);
     else {
       process.stdout.write(r.stdout);
-      const m = /b\.F1 = ([-\d.e]+)/.exec(r.stdout);
-      if (m) process.stdout.write(`  b.F1 relative difference deflator vs R gmm: ${(Math.abs(Number(m[1]) - result.params[0].estimate) / Math.abs(result.params[0].estimate)).toExponential(2)} (R's optim stops at its default reltol = 1e-8 of the objective)\n`);
+      const rel = (x: string) => (Math.abs(Number(x) - result.params[0].estimate) / Math.abs(result.params[0].estimate)).toExponential(2);
+      const m = /J = [-\d.e]+, b\.F1 = ([-\d.e]+)/.exec(r.stdout);
+      const c = /convergence .*b\.F1 = ([-\d.e]+)/.exec(r.stdout);
+      if (m) process.stdout.write(`  b.F1 relative difference deflator vs R gmm: ${rel(m[1])} (optim at its default reltol = 1e-8)${c ? `; vs R run to convergence: ${rel(c[1])}` : ''}\n`);
     }
   } finally {
     rmSync(dir, { recursive: true, force: true });
