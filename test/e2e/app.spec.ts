@@ -72,3 +72,30 @@ test('import: a file chosen in the page is uploaded, logged with its warnings, a
   await expect(page.locator('.datatable tbody tr', { hasText: 'upload_factor' })).toBeVisible();
   await shot(page, 'histories-import');
 });
+
+test('charts save as PNG and SVG, tables export as CSV', async ({ page }) => {
+  await page.goto('/');
+  await page.click('[data-screen=setup]');
+  await expect(page.locator('.ok-line')).toBeVisible();
+  await page.click('[data-testid=run-fit]');
+  const chart = page.locator('[data-testid=pricing-error-chart]');
+  await expect(chart).toHaveAttribute('data-drawn', /[1-9]/);
+  const read = async (click: () => Promise<void>) => {
+    const [download] = await Promise.all([page.waitForEvent('download'), click()]);
+    const file = await download.path();
+    const { readFileSync } = await import('node:fs');
+    return { name: download.suggestedFilename(), bytes: readFileSync(file) };
+  };
+  const svg = await read(() => chart.locator('button', { hasText: 'SVG' }).click());
+  expect(svg.name).toMatch(/pricing-errors\.svg$/);
+  expect(svg.bytes.toString('utf8')).toMatch(/^<svg[\s\S]*<\/svg>\s*$/);
+  const png = await read(() => chart.locator('button', { hasText: 'PNG' }).click());
+  expect(png.name).toMatch(/pricing-errors\.png$/);
+  expect([...png.bytes.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]); // PNG signature (ISO/IEC 15948)
+  const params = page.locator('.panel', { hasText: 'Parameters' }).locator('.datatable');
+  const csv = await read(() => params.locator('button', { hasText: 'CSV' }).click());
+  const lines = csv.bytes.toString('utf8').trim().split(/\r\n/);
+  expect(lines[0]).toBe('parameter,estimate,s.e.,t,p');
+  expect(lines.length).toBe(4);
+  expect(Number(lines[1].split(',')[1])).not.toBeNaN();
+});

@@ -54,5 +54,5 @@ export function readFileText(file: File): Promise<string> {
 
 /** File names from labels: letters, digits, dot, dash. */
 export function safeFileName(s: string): string {
-  return s.replace(/[^A-Za-z0-9._-]+/g, '-').replace(/^-+|-+$/g, '').slice(0, 80) || 'deflator';
+  return s.replace(/[^A-Za-z0-9._-]+/g, '-').replace(/-{2,}/g, '-').replace(/^-+|-+$/g, '').slice(0, 80) || 'deflator';
 }
