@@ -8,7 +8,7 @@ import type Database from 'better-sqlite3';
 import type { RiskfreeForm, SeriesKind } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { isoDayNumber } from '../data/calendar.js';
-import type { ImportLogEntry, ImportWarning, Store } from './store.js';
+import { isBusy, lockedError, type ImportLogEntry, type ImportWarning, type Store } from './store.js';
 
 const BATCH = 64;
 /** Observations held before a sorted write (about 15 MB). */
@@ -115,7 +115,13 @@ export class ImportSession {
   begin(draft: LogDraft): number {
     if (this.db.inTransaction) throw new DeflatorError('CONFLICT', 'another write is in progress on this database connection', 'wait for it to finish');
     this.db.pragma(`cache_size = ${IMPORT_CACHE_KIB}`);
-    this.st.begin.run();
+    try {
+      this.st.begin.run();
+    } catch (e) {
+      // SQLite retried for the busy timeout already: say which lock, and what to do
+      if (isBusy(e)) throw lockedError(this.store.path, Number(this.db.pragma('busy_timeout', { simple: true })));
+      throw e;
+    }
     this.open = true;
     this.importId = this.addLog(draft);
     return this.importId;

@@ -132,6 +132,18 @@ function prepareStatements(db: Database.Database) {
 
 type Statements = ReturnType<typeof prepareStatements>;
 
+/** SQLite gave up waiting for another connection's lock (SQLITE_BUSY, after the busy timeout's retries). */
+export const isBusy = (e: unknown): boolean => typeof e === 'object' && e !== null && String((e as { code?: unknown }).code).startsWith('SQLITE_BUSY');
+
+/** The error for a database another process kept write-locked beyond the busy timeout. */
+export function lockedError(file: string, waitedMs: number): DeflatorError {
+  return new DeflatorError(
+    'CONFLICT',
+    `database ${file} is locked: another import or program is writing to it and did not release its write lock within ${waitedMs} ms`,
+    'wait for the other import (or the app) to finish, then run this again; nothing was stored',
+  );
+}
+
 /**
  * Brings a database up to the last of `migrations`, each migration and its version bump
  * in one transaction. Refuses a file written by a newer build, and a non-empty SQLite file
@@ -187,6 +199,7 @@ export class Store {
     } catch (e) {
       this.db.close();
       if (e instanceof DeflatorError) throw e;
+      if (isBusy(e)) throw lockedError(file, options.busyTimeout ?? 5000);
       throw new DeflatorError('INPUT_INVALID', `cannot use ${file} as a deflator database: ${(e as Error).message}`, 'point --db at a deflator database, or at a new file name');
     }
     this.st = prepareStatements(this.db);
