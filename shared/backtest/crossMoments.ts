@@ -49,6 +49,10 @@ export class CrossMoments {
   readonly shift: number;
   private w: Float64Array = new Float64Array(1);
   private readonly v: Float64Array;
+  private readonly u: Float64Array;
+  /** Workspace of the S assembly (D x (N + K)) and its product (N + K) x (N + K). */
+  readonly workH: Float64Array;
+  readonly workR: Float64Array;
 
   constructor(panel: ReturnsPanel) {
     const N = panel.assets.length;
@@ -80,6 +84,9 @@ export class CrossMoments {
     this.yy = new Float64Array(Q * Q);
     this.xx = new Float64Array(this.P * this.P);
     this.v = new Float64Array(D);
+    this.u = new Float64Array(D);
+    this.workH = new Float64Array(D * (N + K));
+    this.workR = new Float64Array((N + K) * (N + K));
   }
 
   /** Rebuilds the sums for the window [start, end) with L lags from scratch. */
@@ -106,8 +113,49 @@ export class CrossMoments {
       this.reset(start, end, lags);
       return;
     }
+    // A roll by one period, the common case: one pass over Mw for both rank-one terms.
+    while (this.start < start && this.end < end) this.slide();
     while (this.start < start) this.popStart();
     while (this.end < end) this.pushEnd();
+  }
+
+  /**
+   * Removes period s = start and adds period t = end in one pass:
+   * Mw += z_t v' - u z_s', v = sum_j w_j z_{t-j} over t-j >= s+1, u = sum_j w_j z_{s+j} over s+j < t.
+   */
+  private slide(): void {
+    const s = this.start;
+    const t = this.end;
+    const { D, z, w } = this;
+    const u = this.u;
+    const v = this.v;
+    u.fill(0);
+    v.fill(0);
+    for (let j = 0; j <= this.lags; j++) {
+      const wj = w[j];
+      if (s + j < t) {
+        const o = (s + j) * D;
+        for (let b = 0; b < D; b++) u[b] += wj * z[o + b];
+      }
+      if (t - j >= s + 1) {
+        const o = (t - j) * D;
+        for (let b = 0; b < D; b++) v[b] += wj * z[o + b];
+      }
+    }
+    const zs = s * D;
+    const zt = t * D;
+    const M = this.Mw;
+    for (let a = 0; a < D; a++) {
+      const za = z[zt + a];
+      const ua = u[a];
+      const row = a * D;
+      for (let b = 0; b < D; b++) M[row + b] += za * v[b] - ua * z[zs + b];
+    }
+    this.secondMoments(s, -1);
+    this.secondMoments(t, 1);
+    this.start = s + 1;
+    this.end = t + 1;
+    this.updatesSinceRebuild += 2;
   }
 
   /** Adds period `end` to the window. */
@@ -238,8 +286,11 @@ export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap
   const beta = map.beta;
   const delta = map.delta;
   const Mw = cm.Mw;
+  const gam = new Float64Array(G * P);
+  for (let g = 0; g < G; g++) for (let l = 0; l < P; l++) gam[g * P + l] = map.gamma[g][l];
   // H = Mw C' (D x Mm), inner loops contiguous
-  const H = new Float64Array(D * Mm);
+  const H = Mm <= N + cm.K ? cm.workH.subarray(0, D * Mm) : new Float64Array(D * Mm);
+  H.fill(0);
   for (let a = 0; a < D; a++) {
     const row = a * D;
     const h = a * Mm;
@@ -252,11 +303,12 @@ export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap
         const dl = delta[l] * mN;
         for (let i = 0; i < N; i++) H[h + i] += dl;
       }
-      for (let g = 0; g < G; g++) H[h + N + g] += map.gamma[g][l] * mN;
+      for (let g = 0; g < G; g++) H[h + N + g] += gam[g * P + l] * mN;
     }
   }
   // R = C H (Mm x Mm)
-  const R = new Float64Array(Mm * Mm);
+  const R = Mm <= N + cm.K ? cm.workR.subarray(0, Mm * Mm) : new Float64Array(Mm * Mm);
+  R.fill(0);
   for (let i = 0; i < N; i++) {
     const ri = i * Mm;
     for (let k = 0; k < P; k++) {
@@ -273,7 +325,7 @@ export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap
   for (let g = 0; g < G; g++) {
     const ri = (N + g) * Mm;
     for (let k = 0; k < P; k++) {
-      const gk = map.gamma[g][k];
+      const gk = gam[g * P + k];
       if (gk === 0) continue;
       const hN = (k * Q + N) * Mm;
       for (let c = 0; c < Mm; c++) R[ri + c] += gk * H[hN + c];

@@ -31,6 +31,8 @@ export interface LinearWindowConfig {
   lags: number;
   centered: boolean;
   factorNames: string[];
+  /** Parameter names, when the caller has built them once (b.<f>, mu.<f>, lambda.<f>). */
+  names?: { b: string[]; mu: string[]; lambda: string[] };
 }
 
 export interface WindowParam {
@@ -208,6 +210,10 @@ function grossMap(a: number, b: Float64Array): MomentMap {
 
 const S_WHAT = 'S (Newey-West long-run covariance of the moments)';
 
+export function parameterNames(factors: string[]): { b: string[]; mu: string[]; lambda: string[] } {
+  return { b: factors.map((f) => `b.${f}`), mu: factors.map((f) => `mu.${f}`), lambda: factors.map((f) => `lambda.${f}`) };
+}
+
 /** Fits the configured linear model on the window the sums currently hold. */
 export function fitLinearWindow(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit {
   if (cfg.lags >= cm.n) throw new DeflatorError('SAMPLE_TOO_SHORT', `window of ${cm.n} periods is too short for ${cfg.lags} Newey-West lags`, 'use fewer lags or a longer window');
@@ -263,7 +269,8 @@ function fitLinearInParams(cm: CrossMoments, cfg: LinearWindowConfig, gross: boo
   const params: WindowParam[] = [];
   if (gross) params.push({ name: 'a', estimate: theta[0], se: se(V, p, 0, 'a') });
   const off = gross ? 1 : 0;
-  for (let k = 0; k < K; k++) params.push({ name: `b.${cfg.factorNames[k]}`, estimate: theta[off + k], se: se(V, p, off + k, `b.${cfg.factorNames[k]}`) });
+  const bNames = cfg.names?.b ?? cfg.factorNames.map((f) => `b.${f}`);
+  for (let k = 0; k < K; k++) params.push({ name: bNames[k], estimate: theta[off + k], se: se(V, p, off + k, bNames[k]) });
   return { params, alpha, b: theta.slice(off), mu: null, a: gross ? theta[0] : null, iterations: 1 };
 }
 
@@ -339,7 +346,12 @@ function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit
     b = res.b;
     mu = res.mu;
     iterations = res.iterations;
-    V = informationInverse(qrThin(res.dw, M, p, "S^{-1/2} d (the second-stage moment Jacobian)").R, p, n);
+    // (d'S^{-1}d)^{-1} / n from the Cholesky factor of tilde d' tilde d (p x p)
+    const info = atb(res.dw, res.dw, M, p, p);
+    const Li = cholesky(info, p, "d'S^{-1}d (the second-stage information matrix)");
+    V = identityMat(p);
+    cholSolveInPlace(Li, p, V, p);
+    for (let i = 0; i < V.length; i++) V[i] /= n;
   }
   const { g } = demeanedMoments(wm, b, mu, N, K);
   const alpha = g.slice(0, N);
@@ -349,13 +361,13 @@ function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit
   const lambda = new Float64Array(K);
   for (let k = 0; k < K; k++) for (let l = 0; l < K; l++) lambda[k] += Sf[k * K + l] * b[l];
   const params: WindowParam[] = [];
-  const names = cfg.factorNames;
-  for (let k = 0; k < K; k++) params.push({ name: `b.${names[k]}`, estimate: b[k], se: se(V, p, k, `b.${names[k]}`) });
-  for (let k = 0; k < K; k++) params.push({ name: `mu.${names[k]}`, estimate: mu[k], se: se(V, p, K + k, `mu.${names[k]}`) });
+  const names = cfg.names ?? parameterNames(cfg.factorNames);
+  for (let k = 0; k < K; k++) params.push({ name: names.b[k], estimate: b[k], se: se(V, p, k, names.b[k]) });
+  for (let k = 0; k < K; k++) params.push({ name: names.mu[k], estimate: mu[k], se: se(V, p, K + k, names.mu[k]) });
   for (let k = 0; k < K; k++) {
     let v = 0;
     for (let a = 0; a < K; a++) for (let c = 0; c < K; c++) v += Sf[k * K + a] * V[a * p + c] * Sf[k * K + c];
-    params.push({ name: `lambda.${names[k]}`, estimate: lambda[k], se: Math.sqrt(Math.max(v, 0)) });
+    params.push({ name: names.lambda[k], estimate: lambda[k], se: Math.sqrt(Math.max(v, 0)) });
   }
   return { params, alpha, b, mu, a: null, iterations };
 }
@@ -402,59 +414,34 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
   }
   forwardSolveInPlace(L, M, Bm, nc);
   const gw = new Float64Array(M);
-  const dw = new Float64Array(M * p);
-  const whitenedG = (bb: Float64Array, mm: Float64Array, out: Float64Array): number => {
-    let c = 1;
-    for (let k = 0; k < K; k++) c += bb[k] * mm[k];
-    let q = 0;
-    for (let i = 0; i < M; i++) {
-      const o = i * nc;
-      let v = c * Bm[o] + Bm[o + K + 1];
-      for (let k = 0; k < K; k++) v -= Bm[o + 1 + k] * bb[k] + Bm[o + K + 2 + k] * mm[k];
-      out[i] = v;
-      q += v * v;
-    }
-    return q;
-  };
-  const whitenedD = (bb: Float64Array, mm: Float64Array): void => {
-    for (let i = 0; i < M; i++) {
-      const o = i * nc;
-      const r = Bm[o];
-      for (let k = 0; k < K; k++) {
-        dw[i * p + k] = mm[k] * r - Bm[o + 1 + k];
-        dw[i * p + K + k] = bb[k] * r - Bm[o + K + 2 + k];
-      }
-    }
-  };
-  const b = b0.slice();
-  const mu = mu0.slice();
-  const nb = new Float64Array(K);
-  const nm = new Float64Array(K);
   const trial = new Float64Array(M);
-  let q = whitenedG(b, mu, gw);
+  const dw = new Float64Array(M * p);
+  const theta = new Float64Array(p);
+  const next = new Float64Array(p);
+  for (let k = 0; k < K; k++) {
+    theta[k] = b0[k];
+    theta[K + k] = mu0[k];
+  }
   const GN = new Float64Array(p * p);
   const H = new Float64Array(p * p);
   const grad = new Float64Array(p);
-  const accept = (qNew: number): boolean => qNew <= q * (1 + 1e-12) + 1e-300;
-  const tryStep = (st: Float64Array, t: number): number => {
-    for (let k = 0; k < K; k++) {
-      nb[k] = b[k] - t * st[k];
-      nm[k] = mu[k] - t * st[K + k];
-    }
-    return whitenedG(nb, nm, trial);
-  };
+  const step = new Float64Array(p);
+  const work = new Float64Array(p * (p + 1));
+  let q = whitenedMoments(Bm, nc, M, K, theta, gw);
   for (let it = 1; it <= 100; it++) {
-    whitenedD(b, mu);
+    whitenedJacobian(Bm, nc, M, K, theta, dw);
     GN.fill(0);
     grad.fill(0);
     let rho = 0;
     for (let i = 0; i < M; i++) {
       const g = gw[i];
       rho += g * Bm[i * nc];
+      const di = i * p;
       for (let a = 0; a < p; a++) {
-        const da = dw[i * p + a];
+        const da = dw[di + a];
         grad[a] += da * g;
-        for (let c = 0; c < p; c++) GN[a * p + c] += da * dw[i * p + c];
+        const ga = a * p;
+        for (let c = 0; c < p; c++) GN[ga + c] += da * dw[di + c];
       }
     }
     H.set(GN);
@@ -462,36 +449,113 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
       H[k * p + K + k] += rho;
       H[(K + k) * p + k] += rho;
     }
-    let step: Float64Array | null = null;
-    try {
-      step = luSolve(H, p, grad, 1, 'the Newton Hessian');
-    } catch {
-      step = null;
+    let qNew = Number.POSITIVE_INFINITY;
+    if (smallSolve(H, grad, p, step, work)) {
+      for (let a = 0; a < p; a++) next[a] = theta[a] - step[a];
+      qNew = whitenedMoments(Bm, nc, M, K, next, trial);
     }
-    let qNew = step ? tryStep(step, 1) : Number.POSITIVE_INFINITY;
-    if (!accept(qNew)) {
-      step = luSolve(GN, p, grad, 1, "d'S^{-1}d (the second-stage information matrix)");
+    if (!(qNew <= q * (1 + 1e-12) + 1e-300)) {
+      if (!smallSolve(GN, grad, p, step, work)) {
+        throw new DeflatorError('SINGULAR', "d'S^{-1}d (the second-stage information matrix) is singular", 'check for collinear factors or a factor with no variation in the window');
+      }
       let t = 1;
-      qNew = tryStep(step, t);
-      while (!accept(qNew) && t > 1e-10) {
+      for (;;) {
+        for (let a = 0; a < p; a++) next[a] = theta[a] - t * step[a];
+        qNew = whitenedMoments(Bm, nc, M, K, next, trial);
+        if (qNew <= q * (1 + 1e-12) + 1e-300 || t <= 1e-10) break;
         t /= 2;
-        qNew = tryStep(step, t);
       }
     }
     let change = 0;
     let scale = 1;
-    for (let k = 0; k < K; k++) {
-      change = Math.max(change, Math.abs(nb[k] - b[k]), Math.abs(nm[k] - mu[k]));
-      scale = Math.max(scale, Math.abs(b[k]), Math.abs(mu[k]));
+    for (let a = 0; a < p; a++) {
+      change = Math.max(change, Math.abs(next[a] - theta[a]));
+      scale = Math.max(scale, Math.abs(theta[a]));
     }
-    b.set(nb);
-    mu.set(nm);
+    theta.set(next);
     gw.set(trial);
     q = qNew;
     if (change <= 1e-12 * scale) {
-      whitenedD(b, mu);
-      return { b, mu, iterations: it, dw: dw.slice() };
+      whitenedJacobian(Bm, nc, M, K, theta, dw);
+      return { b: theta.slice(0, K), mu: theta.slice(K), iterations: it, dw };
     }
   }
   throw new DeflatorError('NO_CONVERGENCE', 'second-stage GMM (b and mu jointly) did not converge in 100 Newton iterations', 'the window may be too short for the number of moments; use a longer window or the first stage');
+}
+
+/** tilde g at theta = (b, mu) into out; returns |tilde g|^2 = g'S^{-1}g. */
+function whitenedMoments(Bm: Float64Array, nc: number, M: number, K: number, theta: Float64Array, out: Float64Array): number {
+  let c = 1;
+  for (let k = 0; k < K; k++) c += theta[k] * theta[K + k];
+  let q = 0;
+  for (let i = 0; i < M; i++) {
+    const o = i * nc;
+    let v = c * Bm[o] + Bm[o + K + 1];
+    for (let k = 0; k < K; k++) v -= Bm[o + 1 + k] * theta[k] + Bm[o + K + 2 + k] * theta[K + k];
+    out[i] = v;
+    q += v * v;
+  }
+  return q;
+}
+
+/** tilde d = L^{-1} dg/d(b, mu)' at theta into dw (M x 2K). */
+function whitenedJacobian(Bm: Float64Array, nc: number, M: number, K: number, theta: Float64Array, dw: Float64Array): void {
+  const p = 2 * K;
+  for (let i = 0; i < M; i++) {
+    const o = i * nc;
+    const r = Bm[o];
+    for (let k = 0; k < K; k++) {
+      dw[i * p + k] = theta[K + k] * r - Bm[o + 1 + k];
+      dw[i * p + K + k] = theta[k] * r - Bm[o + K + 2 + k];
+    }
+  }
+}
+
+/**
+ * Solves A x = b for a small p x p system by Gaussian elimination with partial pivoting
+ * into x, using `work` (p x (p + 1)); false when a pivot is below 1e-13 x the largest entry.
+ */
+function smallSolve(A: Float64Array, b: Float64Array, p: number, x: Float64Array, work: Float64Array): boolean {
+  const w = p + 1;
+  let scale = 0;
+  for (let i = 0; i < p; i++) {
+    for (let j = 0; j < p; j++) {
+      const v = A[i * p + j];
+      work[i * w + j] = v;
+      scale = Math.max(scale, Math.abs(v));
+    }
+    work[i * w + p] = b[i];
+  }
+  const tol = 1e-13 * scale;
+  for (let c = 0; c < p; c++) {
+    let piv = c;
+    let best = Math.abs(work[c * w + c]);
+    for (let r = c + 1; r < p; r++) {
+      const v = Math.abs(work[r * w + c]);
+      if (v > best) {
+        best = v;
+        piv = r;
+      }
+    }
+    if (!(best > tol)) return false;
+    if (piv !== c) {
+      for (let j = c; j < w; j++) {
+        const t = work[c * w + j];
+        work[c * w + j] = work[piv * w + j];
+        work[piv * w + j] = t;
+      }
+    }
+    const d = work[c * w + c];
+    for (let r = c + 1; r < p; r++) {
+      const f = work[r * w + c] / d;
+      if (f === 0) continue;
+      for (let j = c; j < w; j++) work[r * w + j] -= f * work[c * w + j];
+    }
+  }
+  for (let r = p - 1; r >= 0; r--) {
+    let v = work[r * w + p];
+    for (let k = r + 1; k < p; k++) v -= work[r * w + k] * x[k];
+    x[r] = v / work[r * w + r];
+  }
+  return true;
 }

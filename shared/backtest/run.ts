@@ -18,7 +18,7 @@ import type { FitSpec } from '../spec.js';
 import type { BacktestResult, FitResult, SampleHeader } from '../results.js';
 import { PERIODS_PER_YEAR } from '../data.js';
 import { CrossMoments } from './crossMoments.js';
-import { fitLinearWindow, type LinearKind, type WindowParam } from './linearWindow.js';
+import { fitLinearWindow, parameterNames, type LinearKind, type WindowParam } from './linearWindow.js';
 import { heldOutErrors } from './oos.js';
 import { slicePanel, windowLags, windowSchedule, type WindowBounds } from './windows.js';
 
@@ -93,12 +93,13 @@ export function backtestWindows(spec: FitSpec, rawPanel: ReturnsPanel, opts: Bac
   const total = to - from;
   const records: WindowRecord[] = [];
   const cm = useIncremental ? new CrossMoments(panel) : null;
+  const names = parameterNames(panel.factors.map((f) => f.name));
   for (let w = from; w < to; w++) {
     if (opts.signal?.aborted) throw cancelled();
     const win = schedule[w];
     const lags = windowLags(spec.estimator.lags, win.end - win.start);
     try {
-      records.push(cm ? runIncremental(spec, panel, cm, win, w, lags, engine === 'fresh') : runWithFit(spec, panel, opts.fit as FitFunction, win, w, lags));
+      records.push(cm ? runIncremental(spec, panel, cm, win, w, lags, engine === 'fresh', names) : runWithFit(spec, panel, opts.fit as FitFunction, win, w, lags));
     } catch (e) {
       if (!isDeflatorError(e) || e.code === 'CANCELLED') throw e;
       records.push({ index: w, ok: false, reason: `${e.code}: ${e.message}`, lags });
@@ -111,7 +112,7 @@ export function backtestWindows(spec: FitSpec, rawPanel: ReturnsPanel, opts: Bac
 /** Sums older than this many rank-one updates (relative to the window length) are rebuilt, bounding rounding drift. */
 const REBUILD_AFTER_WINDOWS = 64;
 
-function runIncremental(spec: FitSpec, panel: ReturnsPanel, cm: CrossMoments, win: WindowBounds, index: number, lags: number, fresh: boolean): WindowRecord {
+function runIncremental(spec: FitSpec, panel: ReturnsPanel, cm: CrossMoments, win: WindowBounds, index: number, lags: number, fresh: boolean, names: ReturnType<typeof parameterNames>): WindowRecord {
   if (fresh || cm.updatesSinceRebuild > REBUILD_AFTER_WINDOWS * (win.end - win.start)) cm.reset(win.start, win.end, lags);
   else cm.moveTo(win.start, win.end, lags);
   const stage = spec.estimator.stage === 'first' ? 'first' : 'second';
@@ -122,13 +123,38 @@ function runIncremental(spec: FitSpec, panel: ReturnsPanel, cm: CrossMoments, wi
     lags,
     centered: spec.estimator.centered,
     factorNames: panel.factors.map((f) => f.name),
+    names,
   });
   const N = panel.assets.length;
+  const gross = panel.returnKind === 'gross' ? 1 : 0;
   const benchIn = new Float64Array(N);
-  for (let i = 0; i < N; i++) benchIn[i] = cm.meanReturn(i) - (panel.returnKind === 'gross' ? 1 : 0);
-  const oos = heldOutErrors(spec, panel, fit.params, win.oosStart, win.oosEnd);
-  checkFinite(fit.params, fit.alpha, oos.alpha);
-  return { index, ok: true, lags, params: fit.params, alphaIn: fit.alpha, benchIn, alphaOos: oos.alpha, benchOos: oos.benchmark, meanOos: oos.meanReturn };
+  for (let i = 0; i < N; i++) benchIn[i] = cm.meanReturn(i) - gross;
+  // Held out: m_t = a - b'(f_t - mu) with a = 1 (excess) and mu = 0 (raw, gross); see oos.ts.
+  const h = win.oosEnd - win.oosStart;
+  const K = panel.factors.length;
+  const m = new Float64Array(h);
+  for (let t = win.oosStart; t < win.oosEnd; t++) {
+    let v = fit.a ?? 1;
+    for (let k = 0; k < K; k++) v -= fit.b[k] * (panel.factors[k].values[t] - (fit.mu ? fit.mu[k] : 0));
+    m[t - win.oosStart] = v;
+  }
+  const alphaOos = new Float64Array(N);
+  const benchOos = new Float64Array(N);
+  const meanOos = new Float64Array(N);
+  for (let i = 0; i < N; i++) {
+    const r = panel.returns[i];
+    let s = 0;
+    let sm = 0;
+    for (let t = win.oosStart; t < win.oosEnd; t++) {
+      s += r[t];
+      sm += r[t] * m[t - win.oosStart];
+    }
+    meanOos[i] = s / h;
+    benchOos[i] = meanOos[i] - gross;
+    alphaOos[i] = sm / h - gross;
+  }
+  checkFinite(fit.params, fit.alpha, alphaOos);
+  return { index, ok: true, lags, params: fit.params, alphaIn: fit.alpha, benchIn, alphaOos, benchOos, meanOos };
 }
 
 function runWithFit(spec: FitSpec, panel: ReturnsPanel, fit: FitFunction, win: WindowBounds, index: number, lags: number): WindowRecord {
