@@ -54,7 +54,11 @@ export class CrossMoments {
   readonly workH: Float64Array;
   readonly workR: Float64Array;
 
-  constructor(panel: ReturnsPanel) {
+  /** Whether yy (sum of y_t y_t', needed only for the HJ weight E[RR']) is kept. */
+  readonly keepYY: boolean;
+
+  constructor(panel: ReturnsPanel, opts: { assetSecondMoments?: boolean } = {}) {
+    this.keepYY = opts.assetSecondMoments ?? true;
     const N = panel.assets.length;
     const K = panel.factors.length;
     const T = panel.periods.length;
@@ -220,11 +224,13 @@ export class CrossMoments {
     const o = t * D;
     for (let a = 0; a < D; a++) this.m1[a] += sign * z[o + a];
     // y_t is the x_0 = 1 block of z_t; x_t is the p = N (y = 1) column of each block.
-    const yy = this.yy;
-    for (let p = 0; p < Q; p++) {
-      const yp = sign * z[o + p];
-      if (yp === 0) continue;
-      for (let q = 0; q < Q; q++) yy[p * Q + q] += yp * z[o + q];
+    if (this.keepYY) {
+      const yy = this.yy;
+      for (let p = 0; p < Q; p++) {
+        const yp = sign * z[o + p];
+        if (yp === 0) continue;
+        for (let q = 0; q < Q; q++) yy[p * Q + q] += yp * z[o + q];
+      }
     }
     const xx = this.xx;
     for (let k = 0; k < P; k++) {
@@ -288,23 +294,41 @@ export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap
   const Mw = cm.Mw;
   const gam = new Float64Array(G * P);
   for (let g = 0; g < G; g++) for (let l = 0; l < P; l++) gam[g * P + l] = map.gamma[g][l];
-  // H = Mw C' (D x Mm), inner loops contiguous
+  // H = Mw C' (D x Mm): H[a, i] = sum_l beta_l Mw[a, lQ + i] (+ delta_l Mw[a, lQ + N]),
+  // H[a, N + g] = sum_l gamma_gl Mw[a, lQ + N]; the sum over l unrolled for up to 6 factors.
   const H = Mm <= N + cm.K ? cm.workH.subarray(0, D * Mm) : new Float64Array(D * Mm);
-  H.fill(0);
+  const b0 = beta[0];
+  const b1 = P > 1 ? beta[1] : 0;
+  const b2 = P > 2 ? beta[2] : 0;
+  const b3 = P > 3 ? beta[3] : 0;
   for (let a = 0; a < D; a++) {
     const row = a * D;
     const h = a * Mm;
-    for (let l = 0; l < P; l++) {
-      const bl = beta[l];
-      const o = row + l * Q;
-      for (let i = 0; i < N; i++) H[h + i] += bl * Mw[o + i];
-      const mN = Mw[o + N];
-      if (delta) {
-        const dl = delta[l] * mN;
-        for (let i = 0; i < N; i++) H[h + i] += dl;
+    if (P <= 4) {
+      const o0 = row;
+      const o1 = row + Q;
+      const o2 = row + 2 * Q;
+      const o3 = row + 3 * Q;
+      if (P === 1) for (let i = 0; i < N; i++) H[h + i] = b0 * Mw[o0 + i];
+      else if (P === 2) for (let i = 0; i < N; i++) H[h + i] = b0 * Mw[o0 + i] + b1 * Mw[o1 + i];
+      else if (P === 3) for (let i = 0; i < N; i++) H[h + i] = b0 * Mw[o0 + i] + b1 * Mw[o1 + i] + b2 * Mw[o2 + i];
+      else for (let i = 0; i < N; i++) H[h + i] = b0 * Mw[o0 + i] + b1 * Mw[o1 + i] + b2 * Mw[o2 + i] + b3 * Mw[o3 + i];
+    } else {
+      for (let i = 0; i < N; i++) H[h + i] = 0;
+      for (let l = 0; l < P; l++) {
+        const bl = beta[l];
+        const o = row + l * Q;
+        for (let i = 0; i < N; i++) H[h + i] += bl * Mw[o + i];
       }
+    }
+    let dsum = 0;
+    for (let g = 0; g < G; g++) H[h + N + g] = 0;
+    for (let l = 0; l < P; l++) {
+      const mN = Mw[row + l * Q + N];
+      if (delta) dsum += delta[l] * mN;
       for (let g = 0; g < G; g++) H[h + N + g] += gam[g * P + l] * mN;
     }
+    if (delta) for (let i = 0; i < N; i++) H[h + i] += dsum;
   }
   // R = C H (Mm x Mm)
   const R = Mm <= N + cm.K ? cm.workR.subarray(0, Mm * Mm) : new Float64Array(Mm * Mm);
@@ -332,43 +356,43 @@ export function longRunCovarianceFromSums(cm: CrossMoments, unshifted: MomentMap
     }
   }
   const S = new Float64Array(Mm * Mm);
-  for (let r = 0; r < Mm; r++) for (let c = 0; c < Mm; c++) S[r * Mm + c] = R[r * Mm + c] + R[c * Mm + r];
-  if (centered) {
-    // sum_j w_j [ -ubar b_j' - a_j ubar' + (n - j) ubar ubar' ], plus its transpose, with
-    // a_j = sum_{t>=j} u_t = C(m1 - head_j), b_j = sum_{t>=j} u_{t-j} = C(m1 - tail_j).
-    const w = cm.weights;
-    const L = cm.lags;
-    const head = new Float64Array(D);
-    const tail = new Float64Array(D);
-    const aSum = new Float64Array(D);
-    const bSum = new Float64Array(D);
-    let c = 0;
-    for (let j = 0; j <= L; j++) {
-      if (j > 0) {
-        const zh = (cm.start + j - 1) * D;
-        const zt = (cm.end - j) * D;
-        for (let a = 0; a < D; a++) {
-          head[a] += cm.z[zh + a];
-          tail[a] += cm.z[zt + a];
-        }
-      }
-      for (let a = 0; a < D; a++) {
-        aSum[a] += w[j] * (cm.m1[a] - head[a]);
-        bSum[a] += w[j] * (cm.m1[a] - tail[a]);
-      }
-      c += w[j] * (n - j);
-    }
-    const ubar = applyShifted(cm, map, cm.m1);
-    for (let i = 0; i < Mm; i++) ubar[i] /= n;
-    const A = applyShifted(cm, map, aSum);
-    const B = applyShifted(cm, map, bSum);
-    for (let r = 0; r < Mm; r++) {
-      for (let q = 0; q < Mm; q++) {
-        S[r * Mm + q] += -(ubar[r] * B[q] + B[r] * ubar[q]) - (A[r] * ubar[q] + ubar[r] * A[q]) + 2 * c * ubar[r] * ubar[q];
-      }
-    }
+  const inv = 1 / n;
+  if (!centered) {
+    for (let r = 0; r < Mm; r++) for (let c = 0; c < Mm; c++) S[r * Mm + c] = (R[r * Mm + c] + R[c * Mm + r]) * inv;
+    return S;
   }
-  for (let i = 0; i < S.length; i++) S[i] /= n;
+  // Centring: sum_j w_j [ -ubar b_j' - a_j ubar' + (n - j) ubar ubar' ] plus its transpose, with
+  // a_j = sum_{t>=j} u_t = C(m1 - head_j), b_j = sum_{t>=j} u_{t-j} = C(m1 - tail_j); with
+  // A = sum_j w_j a_j, B = sum_j w_j b_j, c = sum_j w_j (n - j) and Z = A + B - c ubar it is
+  // -(ubar Z' + Z ubar').
+  const w = cm.weights;
+  const L = cm.lags;
+  const head = new Float64Array(D);
+  const tail = new Float64Array(D);
+  const abSum = new Float64Array(D);
+  let c = 0;
+  for (let j = 0; j <= L; j++) {
+    if (j > 0) {
+      const zh = (cm.start + j - 1) * D;
+      const zt = (cm.end - j) * D;
+      for (let a = 0; a < D; a++) {
+        head[a] += cm.z[zh + a];
+        tail[a] += cm.z[zt + a];
+      }
+    }
+    const wj = w[j];
+    for (let a = 0; a < D; a++) abSum[a] += wj * (2 * cm.m1[a] - head[a] - tail[a]);
+    c += wj * (n - j);
+  }
+  const ubar = applyShifted(cm, map, cm.m1);
+  for (let i = 0; i < Mm; i++) ubar[i] *= inv;
+  const Z = applyShifted(cm, map, abSum);
+  for (let i = 0; i < Mm; i++) Z[i] -= c * ubar[i];
+  for (let r = 0; r < Mm; r++) {
+    const ur = ubar[r];
+    const zr = Z[r];
+    for (let q = 0; q < Mm; q++) S[r * Mm + q] = (R[r * Mm + q] + R[q * Mm + r] - ur * Z[q] - zr * ubar[q]) * inv;
+  }
   return S;
 }
 

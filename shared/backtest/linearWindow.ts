@@ -103,6 +103,7 @@ export function windowMoments(cm: CrossMoments): WindowMoments {
 
 function hjWeight(cm: CrossMoments): Weight {
   const { N, Q } = cm;
+  if (!cm.keepYY) throw new DeflatorError('INPUT_INVALID', 'the window sums were built without E[RR\'] but the HJ weight needs it', 'build the sums with assetSecondMoments');
   const n = cm.n;
   const sh = cm.shift;
   const ERR = new Float64Array(N * N);
@@ -396,7 +397,8 @@ function transposeRect(A: Float64Array, r: number, c: number): Float64Array {
  * after 2K + 2 triangular solves. Newton steps with the exact Hessian
  * 2(tilde d' tilde d + rho [0 I; I 0]), rho = tilde g' tilde r; a Gauss-Newton step with
  * step halving whenever the Newton step does not lower the objective. Stops when the
- * largest change is below 1e-12 x max(1, |theta|).
+ * largest change is below 1e-12 x max(1, |theta|), or when the steps shrink
+ * quadratically and the error they leave is below 1e-14 of it.
  */
 function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu0: Float64Array, N: number, K: number): { b: Float64Array; mu: Float64Array; iterations: number; dw: Float64Array } {
   const M = N + K;
@@ -428,6 +430,7 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
   const step = new Float64Array(p);
   const work = new Float64Array(p * (p + 1));
   let q = whitenedMoments(Bm, nc, M, K, theta, gw);
+  let prevChange = Number.POSITIVE_INFINITY;
   for (let it = 1; it <= 100; it++) {
     whitenedJacobian(Bm, nc, M, K, theta, dw);
     GN.fill(0);
@@ -475,7 +478,11 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
     theta.set(next);
     gw.set(trial);
     q = qNew;
-    if (change <= 1e-12 * scale) {
+    // Done when the step is below 1e-12, or when the steps shrink quadratically and the error
+    // left after this one, about change^3 / prevChange^2, is below 1e-14 (relative).
+    const converged = change <= 1e-12 * scale || (change <= 1e-6 * scale && change <= 1e-2 * prevChange && (change * change * change) / (prevChange * prevChange) <= 1e-14 * scale);
+    prevChange = change;
+    if (converged) {
       whitenedJacobian(Bm, nc, M, K, theta, dw);
       return { b: theta.slice(0, K), mu: theta.slice(K), iterations: it, dw };
     }

@@ -92,7 +92,7 @@ export function backtestWindows(spec: FitSpec, rawPanel: ReturnsPanel, opts: Bac
   if (!useIncremental && !opts.fit) throw new DeflatorError('SPEC_INVALID', 'this back-test needs the estimator to fit each window', 'pass the fit function (the worker does this)');
   const total = to - from;
   const records: WindowRecord[] = [];
-  const cm = useIncremental ? new CrossMoments(panel) : null;
+  const cm = useIncremental ? new CrossMoments(panel, { assetSecondMoments: spec.estimator.weight === 'hj' }) : null;
   const names = parameterNames(panel.factors.map((f) => f.name));
   for (let w = from; w < to; w++) {
     if (opts.signal?.aborted) throw cancelled();
