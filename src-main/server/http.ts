@@ -227,7 +227,14 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
         }
         return;
       }
-      const name = decodeURIComponent(pathname.slice('/api/'.length));
+      // a malformed escape (%E0%A4%A) is just an unknown call name, not a server failure
+      const rawName = pathname.slice('/api/'.length);
+      let name: string;
+      try {
+        name = decodeURIComponent(rawName);
+      } catch {
+        name = rawName;
+      }
       const taskHeader = req.headers['x-deflator-task'];
       const env = await opts.dispatcher.dispatch(name, body, typeof taskHeader === 'string' ? taskHeader : undefined);
       sendJson(res, env);
