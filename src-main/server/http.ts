@@ -194,7 +194,7 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
     const pathname = url.pathname;
     if (pathname === '/api/events') {
       if (req.method !== 'GET') {
-        sendJson(res, errorReply('BAD_REQUEST', 'the event stream is read with GET'), 405);
+        sendJson(res, errorReply('BAD_REQUEST', 'the event stream is read with GET', 'open /api/events with EventSource or GET'), 405);
         return;
       }
       res.writeHead(200, { 'Content-Type': 'text/event-stream; charset=utf-8', 'Cache-Control': 'no-store', Connection: 'keep-alive' });
@@ -206,12 +206,12 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
     if (pathname.startsWith('/api/')) {
       if (req.method !== 'POST') {
         res.setHeader('Allow', 'POST');
-        sendJson(res, errorReply('BAD_REQUEST', `${req.method ?? '?'} ${pathname}: bridge calls are POST with a JSON body`), 405);
+        sendJson(res, errorReply('BAD_REQUEST', `${req.method ?? '?'} ${pathname}: bridge calls are POST with a JSON body`, `POST ${pathname} with Content-Type: application/json`), 405);
         return;
       }
       const type = String(req.headers['content-type'] ?? '').split(';')[0].trim().toLowerCase();
       if (type !== 'application/json') {
-        sendJson(res, errorReply('BAD_REQUEST', `content type ${JSON.stringify(type)}: bridge calls take application/json`), 415);
+        sendJson(res, errorReply('BAD_REQUEST', `content type ${JSON.stringify(type)}: bridge calls take application/json`, 'send the request as JSON with Content-Type: application/json'), 415);
         return;
       }
       let body: unknown;
@@ -223,7 +223,7 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
           res.setHeader('Connection', 'close');
           sendJson(res, errorReply('BAD_REQUEST', `request body larger than ${Math.round(limit / 1024 / 1024)} MB`, 'import the file by path instead of uploading it'), 413);
         } else {
-          sendJson(res, errorReply('BAD_REQUEST', `request body is not JSON: ${e instanceof Error ? e.message : String(e)}`), 400);
+          sendJson(res, errorReply('BAD_REQUEST', `request body is not JSON: ${e instanceof Error ? e.message : String(e)}`, 'send one JSON object, e.g. {} for calls without arguments'), 400);
         }
         return;
       }
