@@ -90,6 +90,12 @@ describe('loopback server', () => {
     expect(get.status).toBe(405);
     const big = await request('POST', '/api/info', { body: JSON.stringify({ pad: 'x'.repeat(5000) }), headers: json });
     expect(big.status).toBe(413);
+    for (const r of [notJson, wrongType, extra, unknown, get, big]) {
+      const body = JSON.parse(r.body) as { ok: boolean; error: { code: string; message: string; hint?: string } };
+      expect(body.ok).toBe(false);
+      expect(body.error.message.length, r.body).toBeGreaterThan(5);
+      expect(body.error.hint?.length ?? 0, `a hint in ${r.body}`).toBeGreaterThan(5);
+    }
     // still alive
     expect((await request('POST', '/api/info', { body: '{}', headers: json })).status).toBe(200);
   });
