@@ -1,12 +1,25 @@
 /** Pieces every importer shares: file hashing, header matching, the report it returns. */
 import { createHash } from 'node:crypto';
-import { createReadStream } from 'node:fs';
+import { createReadStream, statSync } from 'node:fs';
 import path from 'node:path';
 import type { Frequency } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import type { ImportLogEntry, ImportWarning } from '../store/store.js';
 import type { CsvRow } from './csv.js';
 import { THOUSANDS_SEPARATORS, type ThousandsName } from './fields.js';
+
+/** Size of a file to import; NOT_FOUND names it when it cannot be read. */
+export function fileSize(file: string): number {
+  try {
+    const st = statSync(file);
+    if (!st.isFile()) throw new DeflatorError('INPUT_INVALID', `${file} is not a file`, 'name a CSV file');
+    return st.size;
+  } catch (e) {
+    if (e instanceof DeflatorError) throw e;
+    const code = (e as NodeJS.ErrnoException).code;
+    throw new DeflatorError('NOT_FOUND', `cannot read ${file}: ${code === 'ENOENT' ? 'no such file' : (e as Error).message}`, 'check the file name and path');
+  }
+}
 
 /** SHA-256 of the file's bytes (hex). */
 export async function sha256File(file: string): Promise<string> {

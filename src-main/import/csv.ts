@@ -18,6 +18,9 @@ const QUOTE = 0x22;
 const COMMA = 0x2c;
 const CR = 0x0d;
 const LF = 0x0a;
+/** 1 for the bytes that end an unquoted field (or are not allowed in one). */
+const SPECIAL = new Uint8Array(256);
+SPECIAL[QUOTE] = SPECIAL[COMMA] = SPECIAL[CR] = SPECIAL[LF] = 1;
 
 /** One record. Valid only during the callback: the bytes are reused afterwards. */
 export class CsvRow {
@@ -74,6 +77,8 @@ export interface CsvReadOptions {
   onProgress?: (bytesRead: number, totalBytes: number) => void;
   /** Bytes per read (default 1 MiB). */
   chunkSize?: number;
+  /** Fed every byte of the file as it is read (e.g. a SHA-256 of the file). */
+  hash?: { update(data: Uint8Array): unknown };
 }
 
 export interface CsvReadSummary {
@@ -199,11 +204,7 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
           }
         } else {
           let j = i;
-          while (j < len) {
-            const c = buf[j];
-            if (c === COMMA || c === LF || c === CR || c === QUOTE) break;
-            j++;
-          }
+          while (j < len && SPECIAL[buf[j]] === 0) j++;
           if (j >= len && !eof) return -1;
           if (j < len && buf[j] === QUOTE) fail(j, ln, 'a double quote inside an unquoted field', 'enclose the whole field in double quotes and write the quote as two quotes ("") (RFC 4180)');
           row.start[f] = i;
@@ -251,6 +252,7 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
       }
       const { bytesRead: n } = await fh.read(buf, len, want, null);
       const eof = n === 0;
+      if (n > 0) options.hash?.update(buf.subarray(len, len + n));
       len += n;
       bytesRead += n;
       if (first) {

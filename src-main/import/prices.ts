@@ -4,12 +4,12 @@
  * column and one price column per asset, with an optional second wide file of dividends.
  * The whole import is one transaction: any error stores nothing.
  */
-import { statSync } from 'node:fs';
-import { DeflatorError } from '../../shared/errors.js';
+import { createHash, type Hash } from 'node:crypto';
+import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { ImportSession } from '../store/session.js';
 import type { ImportWarning, Store } from '../store/store.js';
 import { DEFAULT_THRESHOLDS, HistoryChecker, WarningSink, detectFrequency, type CheckThresholds } from './checks.js';
-import { logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
+import { fileSize, logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
 import { readCsv, type CsvRow } from './csv.js';
 import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
 
@@ -33,6 +33,8 @@ export interface PriceImportOptions {
 
 interface Ctx {
   file: string;
+  /** SHA-256 of the file, fed as it is read. */
+  hash: Hash;
   session: ImportSession;
   dates: DateParser;
   sep: number;
@@ -49,32 +51,87 @@ interface Ctx {
 class RowError extends DeflatorError {}
 
 /**
- * Asset names seen in a long file, looked up by their bytes (FNV-1a hash, then a byte
- * compare), so a row costs no string unless its name is new.
+ * Asset names seen in a long file, looked up by their bytes so a row costs no string
+ * unless its name is new. Names live in one small byte arena; each name remembers which
+ * name followed it last time, so a file sorted by date (the same asset order on every
+ * date) is matched with one byte compare per row, without touching the hash table.
  */
-class NameTable<T> {
-  private readonly buckets = new Map<number, { bytes: Uint8Array; quoted: number; value: T }[]>();
+class NameTable {
+  private arena = new Uint8Array(4096);
+  private used = 0;
+  private off = new Int32Array(256);
+  private len = new Int32Array(256);
+  private quoted = new Uint8Array(256);
+  private next = new Int32Array(256).fill(-1);
+  /** Value stored with each name (the asset id). */
+  ids = new Int32Array(256);
+  count = 0;
+  private last = -1;
+  private readonly buckets = new Map<number, number[]>();
+
   private static hash(buf: Uint8Array, s: number, e: number): number {
     let h = 0x811c9dc5;
     for (let k = s; k < e; k++) h = Math.imul(h ^ buf[k], 0x01000193);
     return h >>> 0;
   }
-  get(buf: Uint8Array, s: number, e: number, quoted: number): T | undefined {
-    const list = this.buckets.get(NameTable.hash(buf, s, e));
-    if (!list) return undefined;
-    outer: for (const entry of list) {
-      const b = entry.bytes;
-      if (b.length !== e - s || entry.quoted !== quoted) continue;
-      for (let k = 0; k < b.length; k++) if (b[k] !== buf[s + k]) continue outer;
-      return entry.value;
-    }
-    return undefined;
+
+  private matches(i: number, buf: Uint8Array, s: number, e: number, q: number): boolean {
+    const n = e - s;
+    if (this.len[i] !== n || this.quoted[i] !== q) return false;
+    const o = this.off[i];
+    const a = this.arena;
+    for (let k = 0; k < n; k++) if (a[o + k] !== buf[s + k]) return false;
+    return true;
   }
-  set(buf: Uint8Array, s: number, e: number, quoted: number, value: T): void {
+
+  /** Index of the name in buf[s, e), or -1. */
+  find(buf: Uint8Array, s: number, e: number, q: number): number {
+    const guess = this.last >= 0 ? this.next[this.last] : -1;
+    let i = -1;
+    if (guess >= 0 && this.matches(guess, buf, s, e, q)) i = guess;
+    else {
+      const list = this.buckets.get(NameTable.hash(buf, s, e));
+      if (list) for (const j of list) if (this.matches(j, buf, s, e, q)) i = j;
+      if (i >= 0 && this.last >= 0) this.next[this.last] = i;
+    }
+    if (i >= 0) this.last = i;
+    return i;
+  }
+
+  add(buf: Uint8Array, s: number, e: number, q: number, id: number): number {
+    const i = this.count++;
+    if (i === this.off.length) {
+      const grow = <A extends Int32Array | Uint8Array>(x: A, fill = 0): A => {
+        const y = new (x.constructor as new (n: number) => A)(x.length * 2);
+        y.fill(fill);
+        y.set(x);
+        return y;
+      };
+      this.off = grow(this.off);
+      this.len = grow(this.len);
+      this.quoted = grow(this.quoted);
+      this.next = grow(this.next, -1);
+      this.ids = grow(this.ids);
+    }
+    const n = e - s;
+    if (this.used + n > this.arena.length) {
+      const bigger = new Uint8Array(Math.max(this.arena.length * 2, this.used + n));
+      bigger.set(this.arena);
+      this.arena = bigger;
+    }
+    this.arena.set(buf.subarray(s, e), this.used);
+    this.off[i] = this.used;
+    this.len[i] = n;
+    this.quoted[i] = q;
+    this.ids[i] = id;
+    this.used += n;
     const h = NameTable.hash(buf, s, e);
-    const list = this.buckets.get(h) ?? [];
-    list.push({ bytes: Uint8Array.from(buf.subarray(s, e)), quoted, value });
-    this.buckets.set(h, list);
+    const list = this.buckets.get(h);
+    if (list) list.push(i);
+    else this.buckets.set(h, [i]);
+    if (this.last >= 0) this.next[this.last] = i;
+    this.last = i;
+    return i;
   }
 }
 
@@ -148,16 +205,16 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
   let names: string[] = [];
   let col: Record<PriceColumn, number> = { date: -1, asset: -1, price: -1, dividend: -1, adjust: -1, shares: -1 };
   let header = true;
-  const seen = new NameTable<{ id: number; checker: HistoryChecker }>();
+  const seen = new NameTable();
   const { session } = ctx;
   /** One data row (a named function, not a closure per row: this runs millions of times). */
   const handle = (row: CsvRow): void => {
     checkFieldCount(ctx, row, names.length);
     const day = readDate(ctx, row, col.date, names);
     const a = col.asset;
-    let known = seen.get(row.buf, row.start[a], row.end[a], row.quoted[a]);
-    const name = known ? '' : row.text(a).trim();
-    if (!known && name === '') fieldError(ctx, row, a, names, 'the asset name is empty', 'name the asset on every row');
+    const slot = seen.find(row.buf, row.start[a], row.end[a], row.quoted[a]);
+    const name = slot >= 0 ? '' : row.text(a).trim();
+    if (slot < 0 && name === '') fieldError(ctx, row, a, names, 'the asset name is empty', 'name the asset on every row');
     const price = readNumber(ctx, row, col.price, names, 'price');
     if (!(price > 0)) fieldError(ctx, row, col.price, names, `price ${price} is not positive`, 'prices must be greater than zero; leave the row out when there is no price');
     let dividend = 0;
@@ -176,14 +233,15 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
       shares = readNumber(ctx, row, col.shares, names, 'shares outstanding');
       if (shares < 0) fieldError(ctx, row, col.shares, names, `shares outstanding ${shares} is negative`, 'shares outstanding must be zero or more');
     }
-    if (!known) {
-      const id = session.assetId(name);
-      known = { id, checker: checker(ctx, id, name) };
-      seen.set(row.buf, row.start[a], row.end[a], row.quoted[a], known);
+    let id: number;
+    if (slot >= 0) id = seen.ids[slot];
+    else {
+      id = session.assetId(name);
+      checker(ctx, id, name);
+      seen.add(row.buf, row.start[a], row.end[a], row.quoted[a], id);
     }
     const date = ctx.dates.text(day);
-    session.observation(known.id, date, price, dividend, adjust, shares, ctx.file, row.line);
-    known.checker.push(date, day, price, dividend, adjust);
+    session.observation(id, date, day, price, dividend, adjust, shares, ctx.file, row.line);
   };
   await readCsv(
     ctx.file,
@@ -218,7 +276,7 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
         rejectOrThrow(ctx, e);
       }
     },
-    { onProgress },
+    { onProgress, hash: ctx.hash },
   );
   if (header) throw new DeflatorError('INPUT_INVALID', `${ctx.file} has no header line`, 'the first line must name the columns');
   session.flushObservations();
@@ -282,22 +340,21 @@ async function importWide(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
         c.assets.forEach((a, k) => {
           const price = prices[k];
           if (Number.isNaN(price)) return;
-          session.observation(a.id, date, price, 0, 1, null, ctx.file, row.line);
-          checker(ctx, a.id, a.name).push(date, day, price, 0, 1);
+          session.observation(a.id, date, day, price, 0, 1, null, ctx.file, row.line);
         });
       });
     },
-    { onProgress },
+    { onProgress, hash: ctx.hash },
   );
   if (!cols) throw new DeflatorError('INPUT_INVALID', `${ctx.file} has no header line`, 'the first line must name the columns');
   session.flushObservations();
 }
 
 /** Applies a wide dividends file to the rows this import stored. */
-async function importWideDividends(ctx: Ctx, file: string, options: PriceImportOptions, onProgress: ProgressCallback | undefined): Promise<{ read: number; stored: number }> {
+async function importWideDividends(ctx: Ctx, file: string, divHash: Hash, options: PriceImportOptions, onProgress: ProgressCallback | undefined): Promise<{ read: number; stored: number }> {
   const dateName = options.columns?.date ?? 'date';
   const { session } = ctx;
-  const dctx: Ctx = { ...ctx, file, read: 0 };
+  const dctx: Ctx = { ...ctx, file, read: 0, hash: divHash };
   let cols: WideColumns | null = null;
   let prevDay = -Infinity;
   let stored = 0;
@@ -336,7 +393,7 @@ async function importWideDividends(ctx: Ctx, file: string, options: PriceImportO
         }
       });
     },
-    { onProgress },
+    { onProgress, hash: dctx.hash },
   );
   if (!cols) throw new DeflatorError('INPUT_INVALID', `${file} has no header line`, 'the first line must name the columns');
   ctx.rejected = dctx.rejected;
@@ -359,28 +416,37 @@ export async function importPrices(store: Store, file: string, options: PriceImp
   const maxRejects = options.maxRejects ?? 0;
   if (!(maxRejects >= 0)) throw new DeflatorError('INPUT_INVALID', `maximum rejected rows must be zero or more, not ${maxRejects}`, 'pass a count of rows');
 
-  const sha256 = await sha256File(file);
-  const divSha = options.dividends ? await sha256File(options.dividends) : undefined;
-  const before = store.findImport(sha256, 'prices');
-  if (before) {
-    const divBefore = divSha ? store.findImport(divSha, 'dividends') : undefined;
-    if (!divSha || divBefore) {
-      return {
-        status: 'already-imported', file, sha256, kind: 'prices', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
-        rowsRejected: before.rowsRejected, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
-      };
-    }
-    throw new DeflatorError('CONFLICT', `${file} was already imported (${before.importedAt}) with another dividends file than ${options.dividends}`, 'import the new dividends with their prices into a new database, or remove the earlier import');
-  }
-
-  const total = statSync(file).size + (options.dividends ? statSync(options.dividends).size : 0);
+  const total = fileSize(file) + (options.dividends ? fileSize(options.dividends) : 0);
   let done = 0;
   const progress = options.onProgress;
   const onProgress: ProgressCallback | undefined = progress ? (read) => progress(done + read, total) : undefined;
 
   const session = new ImportSession(store);
   const sink = new WarningSink();
-  const ctx: Ctx = { file, session, dates, sep, thresholds, sink, checkers: new Map(), maxRejects, rejected: 0, read: 0, first: Infinity, last: -Infinity };
+  const ctx: Ctx = { file, hash: createHash('sha256'), session, dates, sep, thresholds, sink, checkers: new Map(), maxRejects, rejected: 0, read: 0, first: Infinity, last: -Infinity };
+  const divHash = createHash('sha256');
+  /** The earlier import of these same bytes, if any (then this import is not needed). */
+  const earlier = (sha256: string, divSha: string | undefined): ImportReport | undefined => {
+    const before = store.findImport(sha256, 'prices');
+    if (!before) return undefined;
+    if (divSha && !store.findImport(divSha, 'dividends')) {
+      throw new DeflatorError('CONFLICT', `${file} was already imported (${before.importedAt}) with another dividends file than ${options.dividends}`, 'import the new dividends with their prices into a new database, or remove the earlier import');
+    }
+    return {
+      status: 'already-imported', file, sha256, kind: 'prices', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
+      rowsRejected: before.rowsRejected, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
+    };
+  };
+  // the checks see each asset's rows in file order as the session writes them
+  let hookId = -1;
+  let hookChecker: HistoryChecker | null = null;
+  session.rowHook = (id, date, day, price, dividend, adjust) => {
+    if (id !== hookId || !hookChecker) {
+      hookChecker = checker(ctx, id, session.assetName(id));
+      hookId = id;
+    }
+    hookChecker.push(date, day, price, dividend, adjust);
+  };
   const recorded = {
     layout,
     ...(options.columns ? { columns: options.columns } : {}),
@@ -391,7 +457,8 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     ...(options.dividends ? { dividends: logName(options.dividends) } : {}),
   };
   try {
-    const logId = session.begin({ fileName: logName(file), sha256, kind: 'prices', options: recorded });
+    // the file's SHA-256 is computed as it is read; the log entry gets it at the end
+    const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'prices', options: recorded });
     if (layout === 'long') await importLong(ctx, options, onProgress);
     else await importWide(ctx, options, onProgress);
     if (ctx.read === 0) throw new DeflatorError('INPUT_INVALID', `${file} has a header but no data rows`, 'add data rows below the header');
@@ -401,12 +468,21 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     let divRead = 0;
     let divStored = 0;
     if (options.dividends) {
-      done = statSync(file).size;
-      divLog = session.addLog({ fileName: logName(options.dividends), sha256: divSha ?? '', kind: 'dividends', options: { layout: 'wide', prices: logName(file) } });
-      const d = await importWideDividends(ctx, options.dividends, options, onProgress);
+      done = fileSize(file);
+      divLog = session.addLog({ fileName: logName(options.dividends), sha256: '', kind: 'dividends', options: { layout: 'wide', prices: logName(file) } });
+      const d = await importWideDividends(ctx, options.dividends, divHash, options, onProgress);
       divRead = d.read;
       divStored = d.stored;
     }
+    const sha256 = ctx.hash.digest('hex');
+    const divSha = options.dividends ? divHash.digest('hex') : undefined;
+    const again = earlier(sha256, divSha);
+    if (again) {
+      session.rollback();
+      return again;
+    }
+    session.setLogHash(logId, sha256);
+    if (divLog && divSha) session.setLogHash(divLog, divSha);
     // checks: re-read the stored rows of assets whose rows came out of order, that had rows
     // before this import, or that got dividends from a second file
     for (const [id, c] of ctx.checkers) {
@@ -429,6 +505,12 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     };
   } catch (e) {
     session.rollback();
+    // bytes imported before usually clash with their own rows: say "already imported" instead
+    if (isDeflatorError(e)) {
+      const hashes = await Promise.all([sha256File(file), options.dividends ? sha256File(options.dividends) : undefined]).catch(() => null);
+      const again = hashes && earlier(hashes[0], hashes[1]);
+      if (again) return again;
+    }
     throw e;
   }
 }

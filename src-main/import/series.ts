@@ -5,13 +5,13 @@
  * level, flow) is stored with the series so the returns engine converts it (METHODS 1).
  * One transaction: any error stores nothing.
  */
-import { statSync } from 'node:fs';
+import { createHash } from 'node:crypto';
 import { RF_FORMS, SERIES_KINDS, type RiskfreeForm, type SeriesKind } from '../../shared/data.js';
-import { DeflatorError } from '../../shared/errors.js';
+import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { ImportSession } from '../store/session.js';
 import type { Store } from '../store/store.js';
 import { HistoryChecker, WarningSink, detectFrequency } from './checks.js';
-import { logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
+import { fileSize, logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
 import { readCsv } from './csv.js';
 import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
 
@@ -51,15 +51,16 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   const sep = thousandsByte(options.thousands);
   const dateName = (options.dateColumn ?? 'date').toLowerCase();
 
-  const sha256 = await sha256File(file);
-  const before = store.findImport(sha256, 'series');
-  if (before) {
+  const earlier = (sha256: string): ImportReport | undefined => {
+    const before = store.findImport(sha256, 'series');
+    if (!before) return undefined;
     return {
       status: 'already-imported', file, sha256, kind: 'series', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
       rowsRejected: 0, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
     };
-  }
-  const total = statSync(file).size;
+  };
+  const hash = createHash('sha256');
+  const total = fileSize(file);
   const progress = options.onProgress;
   const session = new ImportSession(store);
   const sink = new WarningSink();
@@ -74,7 +75,7 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   let last = -Infinity;
   const scale = units === 'percent' ? 100 : 1;
   try {
-    const logId = session.begin({ fileName: logName(file), sha256, kind: 'series', options: { kind, units, ...(rfForm ? { rfForm } : {}), dateFormat: dates.format.name, ...(options.thousands ? { thousands: options.thousands } : {}) } });
+    const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'series', options: { kind, units, ...(rfForm ? { rfForm } : {}), dateFormat: dates.format.name, ...(options.thousands ? { thousands: options.thousands } : {}) } });
     await readCsv(
       file,
       (row) => {
@@ -134,11 +135,18 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
           c.checker.pushDate(date, day);
         }
       },
-      { onProgress: progress ? (n) => progress(n, total) : undefined },
+      { onProgress: progress ? (n) => progress(n, total) : undefined, hash },
     );
     if (header) throw new DeflatorError('INPUT_INVALID', `${file} has no header line`, 'the first line must name the columns');
     if (read === 0) throw new DeflatorError('INPUT_INVALID', `${file} has a header but no data rows`, 'add data rows below the header');
     session.flushSeries(file);
+    const sha256 = hash.digest('hex');
+    const again = earlier(sha256);
+    if (again) {
+      session.rollback();
+      return again;
+    }
+    session.setLogHash(logId, sha256);
     const frequency = detectFrequency(checkers);
     for (const c of checkers) c.finish(frequency);
     const warnings = sink.final();
@@ -150,6 +158,11 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
     };
   } catch (e) {
     session.rollback();
+    // bytes imported before usually clash with their own rows: say "already imported" instead
+    if (isDeflatorError(e)) {
+      const again = await sha256File(file).then(earlier, () => undefined);
+      if (again) return again;
+    }
     throw e;
   }
 }

@@ -48,6 +48,7 @@ function sessionStatements(db: Database.Database) {
     commit: db.prepare('COMMIT'),
     rollback: db.prepare('ROLLBACK'),
     logInsert: db.prepare("INSERT INTO import_log (file_name, sha256, kind, options, imported_at) VALUES (?, ?, ?, ?, strftime('%Y-%m-%dT%H:%M:%fZ', 'now'))"),
+    logHash: db.prepare('UPDATE import_log SET sha256 = ? WHERE id = ?'),
     logFinish: db.prepare('UPDATE import_log SET rows_read = ?, rows_stored = ?, rows_rejected = ?, warnings = ? WHERE id = ?'),
     assetGet: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
     assetHasRows: db.prepare('SELECT 1 FROM observation WHERE asset_id = ? LIMIT 1').pluck(),
@@ -70,6 +71,7 @@ function newChunk(size: number) {
     n: 0,
     asset: new Int32Array(size),
     local: new Int32Array(size),
+    day: new Int32Array(size),
     date: new Array<string>(size),
     price: new Float64Array(size),
     dividend: new Float64Array(size),
@@ -88,6 +90,7 @@ export class ImportSession {
   importId = 0;
 
   private readonly assetIds = new Map<string, number>();
+  private readonly assetNames = new Map<number, string>();
   /** Assets that had rows before this import (their checks re-read the stored history). */
   readonly preexisting = new Set<number>();
   private readonly seriesIds = new Map<string, number>();
@@ -95,7 +98,14 @@ export class ImportSession {
   /** Pending observations; starts small and doubles up to CHUNK rows. */
   private chunk = newChunk(4096);
   private chunkFile = '';
-  private readonly assetLocal = new Map<number, number>();
+  /** Dense index per asset id (for the counting sort): localOf[id], -1 when not seen. */
+  private localOf = new Int32Array(1024).fill(-1);
+  private locals = 0;
+  /**
+   * Sees every queued observation once, grouped by asset and in file order within an asset,
+   * when its chunk is written (the import checks run here: one asset's state at a time).
+   */
+  rowHook: ((assetId: number, date: string, day: number, price: number, dividend: number, adjust: number) => void) | null = null;
   private order = new Int32Array(4096);
   private readonly params: (string | number | null)[] = new Array(BATCH * OBS_COLS);
   private readonly serBuf: (string | number)[] = [];
@@ -145,12 +155,12 @@ export class ImportSession {
       id = Number(this.st.assetInsert.run(name).lastInsertRowid);
     }
     this.assetIds.set(name, id);
+    this.assetNames.set(id, name);
     return id;
   }
 
   assetName(id: number): string {
-    for (const [name, v] of this.assetIds) if (v === id) return name;
-    return String(id);
+    return this.assetNames.get(id) ?? String(id);
   }
 
   /**
@@ -159,17 +169,23 @@ export class ImportSession {
    * written in multi-row batches. Files sorted by date would otherwise insert into a
    * different asset's part of the (asset, date) key on every row, several times slower.
    */
-  observation(assetId: number, date: string, price: number, dividend: number, adjust: number, shares: number | null, file: string, line: number): void {
+  observation(assetId: number, date: string, day: number, price: number, dividend: number, adjust: number, shares: number | null, file: string, line: number): void {
     if (this.chunk.n === this.chunk.price.length) this.growChunk();
     const c = this.chunk;
     const k = c.n;
-    let local = this.assetLocal.get(assetId);
-    if (local === undefined) {
-      local = this.assetLocal.size;
-      this.assetLocal.set(assetId, local);
+    if (assetId >= this.localOf.length) {
+      const bigger = new Int32Array(Math.max(assetId + 1, this.localOf.length * 2)).fill(-1);
+      bigger.set(this.localOf);
+      this.localOf = bigger;
+    }
+    let local = this.localOf[assetId];
+    if (local < 0) {
+      local = this.locals++;
+      this.localOf[assetId] = local;
     }
     c.asset[k] = assetId;
     c.local[k] = local;
+    c.day[k] = day;
     c.date[k] = date;
     c.price[k] = price;
     c.dividend[k] = dividend;
@@ -187,6 +203,7 @@ export class ImportSession {
     next.n = old.n;
     next.asset.set(old.asset);
     next.local.set(old.local);
+    next.day.set(old.day);
     for (let i = 0; i < old.n; i++) next.date[i] = old.date[i];
     next.price.set(old.price);
     next.dividend.set(old.dividend);
@@ -202,12 +219,19 @@ export class ImportSession {
     const n = c.n;
     if (n === 0) return;
     // stable counting sort by asset
-    const groups = this.assetLocal.size;
+    const groups = this.locals;
     const start = new Int32Array(groups + 1);
     for (let i = 0; i < n; i++) start[c.local[i] + 1]++;
     for (let g = 0; g < groups; g++) start[g + 1] += start[g];
     const order = this.order;
     for (let i = 0; i < n; i++) order[start[c.local[i]]++] = i;
+    const hook = this.rowHook;
+    if (hook) {
+      for (let r = 0; r < n; r++) {
+        const i = order[r];
+        hook(c.asset[i], c.date[i], c.day[i], c.price[i], c.dividend[i], c.adjust[i]);
+      }
+    }
     const params = this.params;
     const put = (slot: number, i: number) => {
       const o = slot * OBS_COLS;
@@ -335,6 +359,11 @@ export class ImportSession {
     this.serBuf.length = 0;
     this.serLines.length = 0;
     this.serNames.length = 0;
+  }
+
+  /** Records the SHA-256 of an entry's file (known once the file has been read). */
+  setLogHash(id: number, sha256: string): void {
+    this.st.logHash.run(sha256, id);
   }
 
   /** Writes the counts and warnings of one log entry. */

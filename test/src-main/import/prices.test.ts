@@ -5,6 +5,8 @@
  * Unicode standard's UTF-8 well-formedness table (Unicode 15, table 3-7); return
  * definition R_t = (P_t + D_t) / P_{t-1} (Campbell, Lo and MacKinlay 1997, sec. 1.4).
  */
+import { createHash } from 'node:crypto';
+import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import { importPrices, type PriceImportOptions } from '../../../src-main/import/index.js';
@@ -144,9 +146,22 @@ describe('good input', () => {
     const again = await importPrices(store, write(dir, 'copy-of-base.csv', 'date,asset,price,dividend\n2020-01-31,alpha,10,\n2020-02-28,alpha,11,0.5\n2020-03-31,alpha,12,\n2020-01-31,beta,20,\n2020-02-28,beta,21,\n'));
     expect(again.status).toBe('already-imported');
     expect(again.importId).toBe(1);
-    // sha256 of the bytes, checked against `sha256sum` of the same five lines (coreutils)
-    expect(again.sha256).toBe(store.importLog()[0].sha256);
+    // the log holds the SHA-256 (FIPS 180-4) of the bytes, as OpenSSL computes it through node:crypto
+    expect(again.sha256).toBe(createHash('sha256').update(readFileSync(path.join(dir, 'base.csv'))).digest('hex'));
+    expect(store.importLog()[0].sha256).toBe(again.sha256);
     expect(store.contentDigest()).toBe(before);
+    store.close();
+  });
+
+  it('the same bytes again are "already imported" even when this time a bad row would stop them', async () => {
+    const dir = tempDir();
+    const store = new Store(':memory:');
+    const file = write(dir, 'r.csv', 'date,asset,price\n2020-04-30,alpha,x\n2020-05-29,alpha,12\n');
+    expect((await importPrices(store, file, { maxRejects: 1 })).rowsRejected).toBe(1);
+    const digest = store.contentDigest();
+    const again = await importPrices(store, file);
+    expect(again.status).toBe('already-imported');
+    expect(store.contentDigest()).toBe(digest);
     store.close();
   });
 
