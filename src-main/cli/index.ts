@@ -29,5 +29,13 @@ export async function main(argv: string[]): Promise<number> {
   }
 }
 
+// A reader that closes the pipe early (`deflator info | head`) is not an error.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (e: NodeJS.ErrnoException) => {
+    if (e.code === 'EPIPE') process.exit(process.exitCode === undefined ? 0 : Number(process.exitCode));
+    throw e;
+  });
+}
+
 const code = await main(process.argv.slice(2));
 process.exitCode = code;
