@@ -115,3 +115,17 @@ describe('moving-block bootstrap', () => {
     expectClose(t.p, 0.8, 1e-15, 'p');
   });
 });
+
+describe('closed-form HJ^2 equals the HJ distance the estimator reports', () => {
+  // fit() computes it by its own HJ-weighted first stage (shared/estimation/hjDistance.ts)
+  for (const kind of ['linear', 'linear-raw', 'linear-gross'] as const) {
+    it(kind, async () => {
+      const { fit } = await import('../../../shared/estimation/fit.js');
+      const panel = panelFromFixture(panelFx, kind === 'linear-gross' ? 'gross' : 'excess');
+      const spec = parseFitSpec({ returns: kind === 'linear-gross' ? 'gross' : 'excess', riskfree: 'rf', model: { kind, factors: ['mkt', 'carry'] }, estimator: { lags: 2 } });
+      const res = fit(spec, panel);
+      const factors = ['mkt', 'carry'].map((n) => (panel.factors.find((f) => f.name === n) as { values: Float64Array }).values);
+      expectClose(linearHjSquared(kind, panel.returns, factors, null), (res.hj?.distance ?? NaN) ** 2, 1e-9, `HJ^2 vs fit().hj for ${kind}`);
+    });
+  }
+});
