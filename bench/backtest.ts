@@ -12,7 +12,7 @@
  *   npm run bench -- backtest       (or: npx tsx bench/backtest.ts [--no-r] [--no-large])
  */
 import { spawnSync } from 'node:child_process';
-import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { mkdtempSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { backtest } from '../shared/backtest/index.js';

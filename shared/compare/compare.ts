@@ -112,7 +112,6 @@ export function bestPerColumn(rows: CompareRow[]): Record<string, string> {
 /** Builds the comparison result from the per-model outcomes and the bootstrap draws. */
 export function assembleCompare(
   spec: CompareSpec,
-  fits: FitSpec[],
   panels: ReturnsPanel[],
   outcomes: ModelOutcome[],
   bootstrap?: { members: number[]; values: Float64Array; failures: string[] },
@@ -208,7 +207,7 @@ export function compareModels(spec: CompareSpec, fits: FitSpec[], rawPanels: Ret
     });
     bootstrap = { members, values: draws.values, failures: describeFailures(draws.failures) };
   }
-  return assembleCompare(spec, fits, panels, outcomes, bootstrap);
+  return assembleCompare(spec, panels, outcomes, bootstrap);
 }
 
 

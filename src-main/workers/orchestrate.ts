@@ -143,5 +143,5 @@ export async function compareInPool(run: RawRun, threads: number, payload: { spe
     const merged = mergeDraws(parts, st.replications, members.length);
     bootstrap = { members, values: merged.values, failures: merged.failures };
   }
-  return assembleCompare(spec, fits, panels, outcomes, bootstrap);
+  return assembleCompare(spec, panels, outcomes, bootstrap);
 }
