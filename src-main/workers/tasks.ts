@@ -3,6 +3,7 @@
  * estimator plugged in, progress and the cancel flag passed through.
  */
 import { fit } from '../../shared/estimation/fit.js';
+import { gmmHjSquared } from '../../shared/estimation/gmmFit.js';
 import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { FitSpec } from '../../shared/spec.js';
@@ -16,13 +17,12 @@ export interface TaskContext {
 }
 
 /**
- * HJ^2 of a model without a closed form (the consumption model): the HJ distance the
- * estimator reports, i.e. the first stage with W = E[RR']^{-1}.
+ * HJ^2 of a model without a closed form (the consumption model): the estimator's own
+ * HJ-weighted first stage (W = E[RR']^{-1}), without the rest of a fit.
  */
 export function fittedHjSquared(spec: FitSpec, panel: ReturnsPanel): number {
-  const res = fit({ ...spec, estimator: { ...spec.estimator, method: 'gmm', stage: 'first', weight: 'hj' }, backtest: undefined }, panel);
-  if (!res.hj) throw new DeflatorError('NOT_FOUND', `the fit of ${spec.model.kind} reports no HJ distance`, 'use a GMM model');
-  return res.hj.distance ** 2;
+  if (spec.estimator.method !== 'gmm') throw new DeflatorError('SPEC_INVALID', `the HJ bootstrap needs a GMM model; ${spec.label ?? spec.model.kind} uses ${spec.estimator.method}`, 'compare HJ distances of GMM models only');
+  return gmmHjSquared(spec, panel);
 }
 
 type Handlers = { [K in TaskKind]: (payload: TaskMap[K]['payload'], ctx: TaskContext) => TaskMap[K]['result'] };
