@@ -6,7 +6,14 @@ import type { Command } from 'commander';
 import path from 'node:path';
 import { DeflatorError } from '../../../shared/errors.js';
 import { CAUTION } from '../../../shared/results.js';
-import { DEMO_SETS, buildDemo, type DemoSet } from '../../data/demo.js';
+import { readFileSync } from 'node:fs';
+import { compareText } from '../../../shared/compare/text.js';
+import { parseCompareSpec } from '../../../shared/spec.js';
+import { DEMO_SETS, buildDemo, findSampleData, type DemoSet } from '../../data/demo.js';
+import { loadPanel } from '../../data/panel.js';
+import { recordRun } from '../../runs/runs.js';
+import { defaultThreads, withPool } from '../../workers/pool.js';
+import { progressBar } from '../progress.js';
 import { formatImportReport, formatInfo } from '../../data/summary.js';
 import { Store } from '../../store/store.js';
 
@@ -59,6 +66,32 @@ async function importStep(ctx: DemoContext): Promise<void> {
   }
 }
 
+/** The demo's comparison spec: three candidate models on the demo market. */
+export const DEMO_COMPARE_SPEC = 'specs/compare-factor-models.json';
+
+/**
+ * Compares the demo's candidate models (sample-data/specs/compare-factor-models.json) in the
+ * worker pool and records the run, so `deflator runs` / the app's run history start non-empty.
+ */
+async function compareStep(ctx: DemoContext): Promise<void> {
+  const specPath = path.join(findSampleData(), DEMO_COMPARE_SPEC);
+  const { spec, fits } = parseCompareSpec(JSON.parse(readFileSync(specPath, 'utf8')));
+  const store = new Store(ctx.dbPath, { mustExist: true });
+  try {
+    const panels = fits.map((f) => loadPanel(store, f));
+    const threads = defaultThreads();
+    const bar = progressBar('demo comparison');
+    const result = await withPool((pool) => pool.runTask('compare', { spec, fits, panels }, { onProgress: (d, t, stage) => bar.update(d, t, stage) }), { threads }).finally(() => bar.finish());
+    const run = recordRun(store, { spec, result, panel: panels, threads });
+    ctx.json.compare = { ...result, run: run.id };
+    ctx.print(`\nModel comparison on the demo market (sample-data/${DEMO_COMPARE_SPEC})\n`);
+    ctx.print(compareText(result));
+    ctx.print(`Recorded as run ${run.id}: deflator show ${run.id} --db ${ctx.dbPath}; deflator export ${run.id} --db ${ctx.dbPath} --format html --out report.html`);
+  } finally {
+    store.close();
+  }
+}
+
 export async function runDemo(options: DemoOptions): Promise<void> {
   if (!(DEMO_SETS as readonly string[]).includes(options.set)) throw new DeflatorError('INPUT_INVALID', `unknown demo set "${options.set}"`, `use --set ${DEMO_SETS.join(' or --set ')}`);
   const ctx: DemoContext = {
@@ -69,8 +102,8 @@ export async function runDemo(options: DemoOptions): Promise<void> {
     json: {},
   };
   await importStep(ctx);
-  // Further demo steps (e.g. a model comparison on the demo data) go here, one call each:
-  //   await someStep(ctx);
+  // Further demo steps go here, one call each.
+  if (ctx.set === 'monthly') await compareStep(ctx);
   if (options.json) process.stdout.write(`${JSON.stringify({ ...ctx.json, caution: CAUTION }, null, 2)}\n`);
-  else ctx.print(`\n${CAUTION}`);
+  else if (ctx.set !== 'monthly') ctx.print(`\n${CAUTION}`); // the comparison report ends with it
 }
