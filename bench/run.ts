@@ -9,9 +9,11 @@ import path from 'node:path';
 
 const here = import.meta.dirname;
 const filters = process.argv.slice(2).filter((a) => !a.startsWith('-'));
+/** Run only when named (`npm run bench -- large`): the large-data checks take about ten minutes. */
+const ON_REQUEST = new Set(['large.ts']);
 const files = readdirSync(here)
   .filter((f) => f.endsWith('.ts') && f !== 'run.ts')
-  .filter((f) => filters.length === 0 || filters.some((x) => f.includes(x)))
+  .filter((f) => (filters.length === 0 ? !ON_REQUEST.has(f) : filters.some((x) => f.includes(x))))
   .sort();
 if (files.length === 0) {
   process.stderr.write(`no benchmark matches ${filters.join(', ')}; available: ${readdirSync(here).filter((f) => f.endsWith('.ts') && f !== 'run.ts').join(', ')}\n`);
