@@ -7,10 +7,12 @@
  *
  * On gross returns the moments are R_i,t m_t - 1 and (delta, gamma) are free; on excess
  * returns they are R^e_i,t m_t, delta is fixed (scale is not identified) and gamma is free.
- * The moments are nonlinear in gamma, so the stages are solved numerically
- * (Levenberg-Marquardt in gmmEstimate), started from a profile grid over gamma.
+ * The moments are nonlinear in gamma, so the stages are solved numerically (Newton with
+ * the exact Hessian, Levenberg-Marquardt as the safeguard: gaussNewton.ts), started from
+ * a profile grid over gamma.
  */
 import { DeflatorError } from '../errors.js';
+import type { Mat } from '../linalg/matrix.js';
 import { SdfMomentModel, type SdfModelKind } from './momentModel.js';
 
 /** Grid of risk-aversion values scanned for a starting value (common practice: a coarse scan before a local solver). */
@@ -72,6 +74,25 @@ export class ConsumptionModel extends SdfMomentModel {
     const dGamma = new Float64Array(this.T);
     for (let t = 0; t < this.T; t++) dGamma[t] = -delta * this.logGrowth[t] * x[t];
     return this.fixedDelta === undefined ? [x, dGamma] : [dGamma];
+  }
+
+  /**
+   * sum_i v_i d^2 g_i / dtheta dtheta' from the second derivatives of m_t = delta x_t,
+   * x_t = (C_t/C_t-1)^-gamma: d^2m/ddelta^2 = 0, d^2m/ddelta dgamma = -log(C_t/C_t-1) x_t,
+   * d^2m/dgamma^2 = delta log(C_t/C_t-1)^2 x_t.
+   */
+  momentHessian(theta: Float64Array, v: Float64Array): Mat {
+    const { delta, gamma } = this.split(theta);
+    const x = this.power(gamma);
+    const T = this.T;
+    const dDeltaGamma = new Float64Array(T);
+    const dGammaGamma = new Float64Array(T);
+    for (let t = 0; t < T; t++) {
+      const l = this.logGrowth[t];
+      dDeltaGamma[t] = -l * x[t];
+      dGammaGamma[t] = delta * l * l * x[t];
+    }
+    return this.assetMomentHessian(v, this.fixedDelta === undefined ? [[0, dDeltaGamma], [0, dGammaGamma]] : [[dGammaGamma]]);
   }
 
   /** Best gamma on a grid (identity weight); with delta free, delta is profiled out in closed form. */

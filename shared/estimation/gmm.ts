@@ -18,7 +18,7 @@
 import { DeflatorError } from '../errors.js';
 import type { Mat } from '../linalg/matrix.js';
 import { solveCue } from './cue.js';
-import { solveFixedWeight } from './gaussNewton.js';
+import { solveFixedWeight, STEP_TOL, type FixedWeightSolution } from './gaussNewton.js';
 import { gmmInference, type GmmInference, type WeightingForInference } from './gmmInference.js';
 import { longRunCovariance } from './longRunCovariance.js';
 import type { MomentModel } from './momentModel.js';
@@ -75,7 +75,7 @@ export function sWeighting(model: MomentModel, S: Mat, what: string): Weighting 
 }
 
 /** The first-stage estimate under W1 on the asset moments (pinned block held exactly). */
-export function firstStage(model: MomentModel, W1: Weighting, label: string, maxIterations: number): { theta: Float64Array; objective: number; iterations: number } {
+export function firstStage(model: MomentModel, W1: Weighting, label: string, maxIterations: number): FixedWeightSolution {
   const start = model.start();
   const assetMoments = Array.from({ length: model.nAssets }, (_, i) => i);
   if (model.pinned) {
@@ -87,6 +87,13 @@ export function firstStage(model: MomentModel, W1: Weighting, label: string, max
     return sol;
   }
   return solveFixedWeight({ model, weight: W1, moments: model.q === model.nAssets ? undefined : assetMoments, label, maxIterations: Math.max(maxIterations, 200) }, start);
+}
+
+/** The fixed-W stopping rule as met, e.g. "Newton step below 1e-14 (relative)". */
+function stepCriterion(sol: FixedWeightSolution): string {
+  return sol.atFloor
+    ? `${sol.finalStep} step ${sol.lastStep.toExponential(1)} (relative), below 1e-10 and no longer shrinking (rounding floor)`
+    : `${sol.finalStep} step below ${STEP_TOL.toExponential(0)} (relative)`;
 }
 
 export function firstStageWeight(model: MomentModel, kind: 'identity' | 'hj', assetNames: readonly string[]): Weighting {
@@ -119,7 +126,7 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
       firstStage: theta1,
       iterations: first.iterations,
       converged: true,
-      criterion: 'Gauss-Newton step below 1e-14 (relative)',
+      criterion: stepCriterion(first),
       weightingText: `first stage, ${w1Text} on the asset moments${pinText}; inference with S from the first-stage moments`,
       notes,
     };
@@ -155,7 +162,7 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
         firstStage: theta1,
         iterations: second.iterations,
         converged: true,
-        criterion: 'Gauss-Newton step below 1e-14 (relative)',
+        criterion: stepCriterion(second),
         weightingText: `second stage, W = S^-1 on all ${model.q} moments with S from the first stage (${w1Text}${pinText}); ${sText}`,
         notes,
       };

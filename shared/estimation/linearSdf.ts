@@ -113,6 +113,24 @@ export class DemeanedLinearModel extends SdfMomentModel {
     return { rows: q, cols: p, data: d };
   }
 
+  /**
+   * sum_i v_i d^2 g_a,i / dtheta dtheta': the only second derivatives are
+   * d^2 g_a,i / db_k dmu_k = E[R_i], so the term is s [0 I; I 0] with s = sum_i v_i E[R_i]
+   * (the factor-mean moments are linear).
+   */
+  momentHessian(_theta: Float64Array, v: Float64Array): Mat {
+    const { K, nAssets: N, p } = this;
+    const meanR = this.cross.meanR;
+    let s = 0;
+    for (let i = 0; i < N; i++) s += v[i] * meanR[i];
+    const h = new Float64Array(p * p);
+    for (let k = 0; k < K; k++) {
+      h[k * p + K + k] = s;
+      h[(K + k) * p + k] = s;
+    }
+    return { rows: p, cols: p, data: h };
+  }
+
   protected sdfDerivatives(theta: Float64Array): (Float64Array | number)[] {
     const { T, K } = this;
     const out: (Float64Array | number)[] = [];

@@ -55,6 +55,12 @@ export interface MomentModel {
   jacobian(theta: Float64Array): Mat;
   /** For each parameter k, the series t -> v' du_t/dtheta_k (used by the CUE gradient). */
   directionalDerivative(theta: Float64Array, v: Float64Array): Float64Array[];
+  /**
+   * sum_a v_a d^2 g_T,a / dtheta dtheta' (p x p, v of length q): with v = W g it is the
+   * part of the Hessian of g'Wg / 2 that Gauss-Newton leaves out, so the fixed-W solver
+   * can take exact Newton steps. Absent for models affine in theta (it is zero).
+   */
+  momentHessian?(theta: Float64Array, v: Float64Array): Mat;
   /** A starting value for the first-stage solver under weight W on the asset moments. */
   start(): Float64Array;
 }
@@ -99,6 +105,42 @@ export abstract class SdfMomentModel implements MomentModel {
     return new Array<number>(this.p).fill(0);
   }
   abstract start(): Float64Array;
+
+  /**
+   * sum_i v_i d^2 g_T,i / dtheta dtheta' over the asset moments, given the second
+   * derivatives of m_t: d2m[k][l] is d^2 m_t / dtheta_k dtheta_l (a series, or a number
+   * when the same in every period; only l >= k is read). Auxiliary moments are taken to be affine
+   * in theta (a model with curved auxiliary moments adds their term itself).
+   */
+  protected assetMomentHessian(v: Float64Array, d2m: readonly (readonly (Float64Array | number)[])[]): Mat {
+    const { p, T, nAssets } = this;
+    const z = new Float64Array(T);
+    let zbar = NaN;
+    for (let i = 0; i < nAssets; i++) {
+      const vi = v[i];
+      if (vi === 0) continue;
+      const r = this.returns[i];
+      for (let t = 0; t < T; t++) z[t] += vi * r[t];
+    }
+    const out = new Float64Array(p * p);
+    for (let k = 0; k < p; k++)
+      for (let l = k; l < p; l++) {
+        const c = d2m[k][l];
+        let s: number;
+        if (typeof c === 'number') {
+          if (c === 0) continue;
+          if (Number.isNaN(zbar)) zbar = mean(z);
+          s = zbar * c;
+        } else {
+          s = 0;
+          for (let t = 0; t < T; t++) s += z[t] * c[t];
+          s /= T;
+        }
+        out[k * p + l] = s;
+        out[l * p + k] = s;
+      }
+    return { rows: p, cols: p, data: out };
+  }
 
   moments(theta: Float64Array): Float64Array[] {
     const m = this.sdf(theta);
