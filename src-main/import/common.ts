@@ -66,6 +66,17 @@ export function thousandsByte(name: ThousandsName | undefined): number {
   return ch.charCodeAt(0);
 }
 
+/**
+ * Where a name holds a control character (C0 other than tab and line breaks, DEL, C1), or
+ * -1. Names reach terminals (info, reports), where an escape sequence would act.
+ */
+export function controlInName(name: string): number {
+  return name.search(/[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f-\u009f]/);
+}
+
+/** "U+001B" for the character at i. */
+export const codePoint = (name: string, i: number) => `U+${name.charCodeAt(i).toString(16).toUpperCase().padStart(4, '0')}`;
+
 /** Header names as written (trimmed), with a lower-case index; duplicates and blanks are errors. */
 export function readHeader(row: CsvRow, file: string): { names: string[]; index: Map<string, number> } {
   const names: string[] = [];
@@ -83,6 +94,10 @@ export function readHeader(row: CsvRow, file: string): { names: string[]; index:
     const name = row.text(i).trim();
     if (name === '') {
       throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${i + 1}: the header has an empty column name`, 'the first line must name every column');
+    }
+    const control = controlInName(name);
+    if (control >= 0) {
+      throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${i + 1}: the column name holds the control character ${codePoint(name, control)}`, 'names may not hold control characters (a terminal would act on them): remove it from the header');
     }
     const key = name.toLowerCase();
     if (index.has(key)) {

@@ -9,7 +9,7 @@ import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { ImportSession } from '../store/session.js';
 import type { ImportWarning, Store } from '../store/store.js';
 import { DEFAULT_THRESHOLDS, HistoryChecker, WarningSink, detectFrequency, type CheckThresholds } from './checks.js';
-import { fileSize, logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
+import { codePoint, controlInName, fileSize, logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
 import { readCsv, type CsvRow } from './csv.js';
 import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
 
@@ -215,6 +215,7 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
     const slot = seen.find(row.buf, row.start[a], row.end[a], row.quoted[a]);
     const name = slot >= 0 ? '' : row.text(a).trim();
     if (slot < 0 && name === '') fieldError(ctx, row, a, names, 'the asset name is empty', 'name the asset on every row');
+    if (slot < 0 && controlInName(name) >= 0) fieldError(ctx, row, a, names, `the asset name holds the control character ${codePoint(name, controlInName(name))}`, 'names may not hold control characters (a terminal would act on them): remove it');
     const price = readNumber(ctx, row, col.price, names, 'price');
     if (!(price > 0)) fieldError(ctx, row, col.price, names, `price ${price} is not positive`, 'prices must be greater than zero; leave the row out when there is no price');
     let dividend = 0;
