@@ -24,7 +24,9 @@ export async function main(argv: string[]): Promise<number> {
     return process.exitCode === undefined ? 0 : Number(process.exitCode);
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode;
-    process.stderr.write(`deflator: ${describeError(e)}\n`);
+    // a message quotes file contents: show control characters, never send them to the terminal
+    const shown = describeError(e).replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
+    process.stderr.write(`deflator: ${shown}\n`);
     return isDeflatorError(e) ? 1 : 3;
   }
 }
