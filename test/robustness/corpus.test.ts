@@ -102,6 +102,9 @@ const REJECTED: Rejected[] = [
   { file: 'empty_header_name.csv', expect: /^line 1, column 2: the header has an empty column name/ },
   { file: 'duplicate_row.csv', expect: /^line 4: duplicate \(asset, date\) = \(kestrel-mills, 2023-01-31\)/ },
   { file: 'empty_asset.csv', expect: /^line 4, column 2 \(asset\): the asset name is empty/ },
+  { file: 'control_char_name.csv', expect: /^line 2, column 2 \(asset\): the asset name holds the control character U\+001B/ },
+  { file: 'control_char_header.csv', expect: /^line 1, column 4: the column name holds the control character U\+0007/ },
+  { file: 'escape_in_price.csv', expect: /^line 2, column 3 \(price\): "(\u001b|\\u001b)\[31m12\.50" is not a number/ },
   { file: 'conflict_with_stored.csv', code: 'CONFLICT', expect: /^line 2: \(asset, date\) = \(alder-hollow, 2020-02-28\) is already stored, from seed\.db\.prices\.csv/ },
   // wide layout
   { file: 'wide_10000.csv', target: wide, expect: /^line 4, column 10000 \(w9999\): "x" is not a number \(expected the price of w9999\)/ },
@@ -196,7 +199,7 @@ describe('hostile CSV corpus: rejected files', () => {
   });
 
   // one file per family (a CLI start costs 0.5-1.5 s on a busy 2-core machine)
-  const THROUGH_CLI = ['truncated_quote.csv', 'semicolon.csv', 'embedded_newline_then_error.csv', 'utf16le_nobom.csv', 'latin1.csv', 'huge_integer.csv', 'na_spreadsheet.csv', 'date_feb30.csv', 'duplicate_header.csv', 'conflict_with_stored.csv', 'wide_10000.csv', 'series_kind_clash.csv'];
+  const THROUGH_CLI = ['truncated_quote.csv', 'semicolon.csv', 'embedded_newline_then_error.csv', 'utf16le_nobom.csv', 'latin1.csv', 'huge_integer.csv', 'na_spreadsheet.csv', 'date_feb30.csv', 'duplicate_header.csv', 'conflict_with_stored.csv', 'wide_10000.csv', 'series_kind_clash.csv', 'control_char_name.csv', 'escape_in_price.csv'];
 
   it('the CLI refuses one file of each family with exit 1 and the same message, the database unchanged', () => {
     const db = copyOfSeed();
@@ -209,6 +212,7 @@ describe('hostile CSV corpus: rejected files', () => {
       expect(r.stderr.slice(`deflator: ${file}`.length).replace(/^, /, ''), r.stderr).toMatch(row.expect);
       expect(r.stderr, 'the hint follows on its own line').toMatch(/\n {2}-> \S/);
       expect(r.stderr).not.toMatch(/\n\s+at /); // no stack trace
+      expect(r.stderr, 'control characters reach the terminal').not.toMatch(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/);
       expect(databaseState(db).digest, row.file).toBe(before.digest);
     }
     console.log(`[robustness] corpus: ${THROUGH_CLI.length} rejected files through the CLI, exit 1 each, database digest unchanged`);
@@ -220,9 +224,10 @@ describe('hostile CSV corpus: rejected files', () => {
     const db = copyOfSeed();
     const before = databaseState(db);
     const t0 = performance.now();
-    const r = runCli(['import', 'prices', file, '--db', db], { env: { ...process.env, NODE_OPTIONS: '--max-old-space-size=1024' } });
+    const r = runCli(['import', 'prices', file, '--db', db], { env: { ...process.env, NODE_OPTIONS: '--max-old-space-size=1024' }, measure: true });
     const seconds = (performance.now() - t0) / 1000;
-    console.log(`[robustness] 64 MB line refused in ${seconds.toFixed(1)} s (child process, heap capped at 1 GB)`);
+    console.log(`[robustness] 64 MB line refused in ${seconds.toFixed(1)} s, peak RSS ${r.rssMb === undefined ? 'not measured' : `${r.rssMb.toFixed(0)} MB`} (child process, heap capped at 1 GB)`);
+    if (r.rssMb !== undefined) expect(r.rssMb).toBeLessThan(1024);
     expect(r.status, r.stderr).toBe(1);
     expect(r.stderr).toContain(`${file}, line 2, column 3 (price): "${'9'.repeat(40)}..." is beyond the range of a double`);
     expect(seconds).toBeLessThan(30);

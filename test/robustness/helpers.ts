@@ -13,7 +13,7 @@
 import Database from 'better-sqlite3';
 import { spawn, spawnSync } from 'node:child_process';
 import { createHash } from 'node:crypto';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { importPrices, importSeries } from '../../src-main/import/index.js';
@@ -124,13 +124,33 @@ export interface CliResult {
   stdout: string;
   stderr: string;
   ms: number;
+  /** Peak resident memory of the child (MB), when measured with /usr/bin/time. */
+  rssMb?: number;
 }
 
-/** Runs `node dist/cli.js ...args` to the end. */
-export function runCli(args: string[], options: { timeoutMs?: number; env?: NodeJS.ProcessEnv } = {}): CliResult {
+const TIME = '/usr/bin/time';
+
+/**
+ * Runs `node dist/cli.js ...args` to the end. With `measure`, under GNU time -v (where
+ * installed) for the child's peak RSS; its report is cut off the end of stderr.
+ */
+export function runCli(args: string[], options: { timeoutMs?: number; env?: NodeJS.ProcessEnv; measure?: boolean } = {}): CliResult {
   const t0 = performance.now();
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', timeout: options.timeoutMs ?? 120_000, env: options.env ?? process.env, maxBuffer: 1 << 26 });
-  return { status: r.status, signal: r.signal, stdout: r.stdout ?? '', stderr: r.stderr ?? '', ms: performance.now() - t0 };
+  const timed = options.measure === true && existsSync(TIME);
+  const cmd = timed ? TIME : process.execPath;
+  const argv = timed ? ['-v', process.execPath, CLI, ...args] : [CLI, ...args];
+  const r = spawnSync(cmd, argv, { encoding: 'utf8', timeout: options.timeoutMs ?? 120_000, env: options.env ?? process.env, maxBuffer: 1 << 26 });
+  const out: CliResult = { status: r.status, signal: r.signal, stdout: r.stdout ?? '', stderr: r.stderr ?? '', ms: performance.now() - t0 };
+  if (timed) {
+    const at = out.stderr.lastIndexOf('\tCommand being timed:');
+    const report = at >= 0 ? out.stderr.slice(at) : '';
+    if (at >= 0) out.stderr = out.stderr.slice(0, at);
+    const m = /Maximum resident set size \(kbytes\): (\d+)/.exec(report);
+    if (m) out.rssMb = Number(m[1]) / 1024;
+    const exit = /Exit status: (\d+)/.exec(report);
+    if (exit) out.status = Number(exit[1]);
+  }
+  return out;
 }
 
 /** Same, without blocking the test's event loop (for two processes at once). */

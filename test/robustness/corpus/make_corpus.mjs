@@ -107,6 +107,10 @@ put('duplicate_header_case.csv', 'Date,asset,price,DATE\n2023-01-31,kestrel-mill
 put('empty_header_name.csv', 'date,,price\n2023-01-31,kestrel-mills,12.50\n');
 put('duplicate_row.csv', `${H}${ok3}2023-01-31,kestrel-mills,12.60\n`);
 put('empty_asset.csv', `${H}${ok3}2023-03-31,,13.00\n`);
+// terminal escape sequences (ECMA-48 CSI: ESC [) in names and values
+put('control_char_name.csv', `${H}2023-01-31,kestrel\u001b[2Jmills,12.50\n`);
+put('control_char_header.csv', 'date,asset,price,note\u0007\n2023-01-31,kestrel-mills,12.50,x\n');
+put('escape_in_price.csv', `${H}2023-01-31,kestrel-mills,\u001b[31m12.50\n`);
 put('conflict_with_stored.csv', `${H}2020-02-28,alder-hollow,11.00\n`);
 
 // --- wide layout
