@@ -103,7 +103,7 @@ function calendarKey(index: number, f: Exclude<Frequency, 'daily'>): string {
     case 'weekly': {
       const thursday = index * 7; // Monday is index * 7 - 3
       const year = new Date(thursday * MS_PER_DAY).getUTCFullYear();
-      const jan1 = Math.round(Date.UTC(year, 0, 1) / MS_PER_DAY);
+      const jan1 = daysFromCivil(year, 1, 1);
       return `${year}-W${pad2(Math.floor((thursday - jan1) / 7) + 1)}`;
     }
     case 'monthly':
@@ -121,14 +121,21 @@ function lastWeekdayOf(index: number, f: Exclude<Frequency, 'daily'>): number {
   switch (f) {
     case 'weekly':
       return index * 7 + 1; // the Friday of that ISO week (Monday + 4)
-    case 'monthly':
-      last = Math.round(Date.UTC(Math.floor(index / 12), (index % 12) + 1, 0) / MS_PER_DAY);
+    // Arithmetic, not Date.UTC: Date.UTC maps years 0-99 to 1900-1999.
+    case 'monthly': {
+      const year = Math.floor(index / 12);
+      const month = (index % 12) + 1;
+      last = daysFromCivil(year, month, daysInMonth(year, month));
       break;
-    case 'quarterly':
-      last = Math.round(Date.UTC(Math.floor(index / 4), (index % 4) * 3 + 3, 0) / MS_PER_DAY);
+    }
+    case 'quarterly': {
+      const year = Math.floor(index / 4);
+      const month = (index % 4) * 3 + 3;
+      last = daysFromCivil(year, month, daysInMonth(year, month));
       break;
+    }
     case 'annual':
-      last = Math.round(Date.UTC(index, 11, 31) / MS_PER_DAY);
+      last = daysFromCivil(index, 12, 31);
       break;
   }
   while (weekday(last) >= 5) last -= 1;

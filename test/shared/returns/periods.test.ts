@@ -6,7 +6,8 @@
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
 import { isDeflatorError } from '../../../shared/errors.js';
-import { parseDate, periodKey, storedFrequency } from '../../../shared/returns/index.js';
+import { parseDate, periodKey, returnsTable, storedFrequency } from '../../../shared/returns/index.js';
+import { dateOfDay, weekday } from '../../../shared/returns/periods.js';
 
 describe('period keys', () => {
   it('ISO weeks, including the weeks that straddle a new year (datetime.date.isocalendar)', () => {
@@ -63,5 +64,27 @@ describe('stored frequency: the lowest frequency with at most one date per perio
     expect(of(['2023-03-31', '2023-06-30', '2023-09-29', '2023-12-29'])).toBe('quarterly');
     expect(of(['2021-12-31', '2022-12-30', '2023-12-29'])).toBe('annual');
     expect(of(['2024-01-31'])).toBeNull();
+  });
+});
+
+describe('years before 100', () => {
+  // Weekdays from Python's proleptic Gregorian calendar: datetime.date(50, 3, 31).weekday() == 3
+  // (a Thursday), so March of year 50 ends on its last weekday, the 31st. ECMAScript's Date.UTC
+  // maps years 0-99 to 1900-1999 (where 1950-03-31 is a Friday), so period ends must not
+  // come from it.
+  const weekdays = (from: string, to: string): string[] => {
+    const out: string[] = [];
+    for (let d = parseDate(from).day; d <= parseDate(to).day; d++) if (weekday(d) < 5) out.push(dateOfDay(d));
+    return out;
+  };
+  const history = (dates: string[]) => ({ asset: 'a', dates, price: new Float64Array(dates.map((_, i) => 1 + i / 100)), dividend: new Float64Array(dates.length) });
+  it('daily data ending on the last weekday of March 0050 make a complete month', () => {
+    const t = returnsTable([history(weekdays('0050-01-03', '0050-03-31'))], { frequency: 'monthly', kind: 'net' });
+    expect(t.periods).toEqual(['0050-02-28', '0050-03-31']);
+    expect(t.sample.flags).toEqual([]);
+  });
+  it('daily data ending a day earlier leave March 0050 cut short, and flagged', () => {
+    const t = returnsTable([history(weekdays('0050-01-03', '0050-03-30'))], { frequency: 'monthly', kind: 'net' });
+    expect(t.sample.flags.map((f) => f.period)).toEqual(['0050-03-30']);
   });
 });
