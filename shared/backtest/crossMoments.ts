@@ -50,6 +50,8 @@ export class CrossMoments {
   private w: Float64Array = new Float64Array(1);
   private readonly v: Float64Array;
   private readonly u: Float64Array;
+  /** The four v_t of a rank-4 block in buildMw (4 x D). */
+  private readonly block: Float64Array;
   /** Workspace of the S assembly (D x (N + K)) and its product (N + K) x (N + K). */
   readonly workH: Float64Array;
   readonly workR: Float64Array;
@@ -89,6 +91,7 @@ export class CrossMoments {
     this.xx = new Float64Array(this.P * this.P);
     this.v = new Float64Array(D);
     this.u = new Float64Array(D);
+    this.block = new Float64Array(4 * D);
     this.workH = new Float64Array(D * (N + K));
     this.workR = new Float64Array((N + K) * (N + K));
   }
@@ -104,9 +107,75 @@ export class CrossMoments {
     this.w[0] = 0.5;
     for (let j = 1; j <= lags; j++) this.w[j] = 1 - j / (lags + 1);
     this.start = start;
-    this.end = start;
-    for (let t = start; t < end; t++) this.pushEnd();
+    this.end = end;
+    for (let t = start; t < end; t++) this.secondMoments(t, 1);
+    this.buildMw(start, end);
     this.updatesSinceRebuild = 0;
+  }
+
+  /**
+   * Mw = sum_{t in [start, end)} z_t v_t', v_t = sum_{j <= L, t-j >= start} w_j z_{t-j}:
+   * four periods at a time, each pass updating four rows of Mw from the same four v_t
+   * (a rank-4 update tiled 4 x 4, about three times as fast as adding the periods one by
+   * one). The order of the additions depends on [start, end) and L alone, so rebuilding
+   * the same window always gives the same bits.
+   */
+  private buildMw(start: number, end: number): void {
+    const { D, z, w } = this;
+    const M = this.Mw;
+    const L = this.lags;
+    const V = this.block;
+    for (let t0 = start; t0 < end; t0 += 4) {
+      const nb = Math.min(4, end - t0);
+      V.fill(0);
+      for (let r = 0; r < nb; r++) {
+        const t = t0 + r;
+        const vo = r * D;
+        for (let j = 0; j <= L && t - j >= start; j++) {
+          const wj = w[j];
+          const o = (t - j) * D;
+          for (let b = 0; b < D; b++) V[vo + b] += wj * z[o + b];
+        }
+      }
+      const o = t0 * D;
+      if (nb < 4) {
+        for (let r = 0; r < nb; r++) {
+          const zr = o + r * D;
+          const vo = r * D;
+          for (let a = 0; a < D; a++) {
+            const za = z[zr + a];
+            const row = a * D;
+            for (let b = 0; b < D; b++) M[row + b] += za * V[vo + b];
+          }
+        }
+        continue;
+      }
+      const o1 = o + D;
+      const o2 = o + 2 * D;
+      const o3 = o + 3 * D;
+      const D2 = 2 * D;
+      const D3 = 3 * D;
+      let a = 0;
+      for (; a + 3 < D; a += 4) {
+        const p0 = z[o + a], p1 = z[o1 + a], p2 = z[o2 + a], p3 = z[o3 + a];
+        const q0 = z[o + a + 1], q1 = z[o1 + a + 1], q2 = z[o2 + a + 1], q3 = z[o3 + a + 1];
+        const r0 = z[o + a + 2], r1 = z[o1 + a + 2], r2 = z[o2 + a + 2], r3 = z[o3 + a + 2];
+        const s0 = z[o + a + 3], s1 = z[o1 + a + 3], s2 = z[o2 + a + 3], s3 = z[o3 + a + 3];
+        const row = a * D;
+        for (let b = 0; b < D; b++) {
+          const v0 = V[b], v1 = V[D + b], v2 = V[D2 + b], v3 = V[D3 + b];
+          M[row + b] += p0 * v0 + p1 * v1 + p2 * v2 + p3 * v3;
+          M[row + D + b] += q0 * v0 + q1 * v1 + q2 * v2 + q3 * v3;
+          M[row + D2 + b] += r0 * v0 + r1 * v1 + r2 * v2 + r3 * v3;
+          M[row + D3 + b] += s0 * v0 + s1 * v1 + s2 * v2 + s3 * v3;
+        }
+      }
+      for (; a < D; a++) {
+        const p0 = z[o + a], p1 = z[o1 + a], p2 = z[o2 + a], p3 = z[o3 + a];
+        const row = a * D;
+        for (let b = 0; b < D; b++) M[row + b] += p0 * V[b] + p1 * V[D + b] + p2 * V[D2 + b] + p3 * V[D3 + b];
+      }
+    }
   }
 
   /** Moves the window to [start, end) with L lags, updating the sums when that is cheaper than rebuilding them. */
@@ -149,7 +218,25 @@ export class CrossMoments {
     const zs = s * D;
     const zt = t * D;
     const M = this.Mw;
-    for (let a = 0; a < D; a++) {
+    // four rows per pass, so that v and z_s are read once for the four
+    let a = 0;
+    for (; a + 3 < D; a += 4) {
+      const z0 = z[zt + a], z1 = z[zt + a + 1], z2 = z[zt + a + 2], z3 = z[zt + a + 3];
+      const u0 = u[a], u1 = u[a + 1], u2 = u[a + 2], u3 = u[a + 3];
+      const r0 = a * D;
+      const r1 = r0 + D;
+      const r2 = r1 + D;
+      const r3 = r2 + D;
+      for (let b = 0; b < D; b++) {
+        const vb = v[b];
+        const sb = z[zs + b];
+        M[r0 + b] += z0 * vb - u0 * sb;
+        M[r1 + b] += z1 * vb - u1 * sb;
+        M[r2 + b] += z2 * vb - u2 * sb;
+        M[r3 + b] += z3 * vb - u3 * sb;
+      }
+    }
+    for (; a < D; a++) {
       const za = z[zt + a];
       const ua = u[a];
       const row = a * D;
@@ -207,11 +294,26 @@ export class CrossMoments {
     this.updatesSinceRebuild++;
   }
 
-  /** Mw += sign * z_t v'. */
+  /** Mw += sign * z_t v' (four rows per pass, so that v is read once for the four). */
   private rankOne(zt: number, sign: number): void {
     const { D, z, v } = this;
     const M = this.Mw;
-    for (let a = 0; a < D; a++) {
+    let a = 0;
+    for (; a + 3 < D; a += 4) {
+      const z0 = sign * z[zt + a], z1 = sign * z[zt + a + 1], z2 = sign * z[zt + a + 2], z3 = sign * z[zt + a + 3];
+      const r0 = a * D;
+      const r1 = r0 + D;
+      const r2 = r1 + D;
+      const r3 = r2 + D;
+      for (let b = 0; b < D; b++) {
+        const vb = v[b];
+        M[r0 + b] += z0 * vb;
+        M[r1 + b] += z1 * vb;
+        M[r2 + b] += z2 * vb;
+        M[r3 + b] += z3 * vb;
+      }
+    }
+    for (; a < D; a++) {
       const za = sign * z[zt + a];
       if (za === 0) continue;
       const row = a * D;

@@ -20,7 +20,7 @@ import { PERIODS_PER_YEAR } from '../data.js';
 import { CrossMoments } from './crossMoments.js';
 import { fitLinearWindow, parameterNames, type LinearKind, type WindowParam } from './linearWindow.js';
 import { heldOutErrors } from './oos.js';
-import { slicePanel, windowLags, windowSchedule, type WindowBounds } from './windows.js';
+import { slicePanel, windowLags, windowSchedule, windowsPerChunk, type WindowBounds } from './windows.js';
 
 /** Anything with an `aborted` flag: an AbortSignal, or the worker's shared cancel flag. */
 export interface CancelToken {
@@ -62,6 +62,11 @@ export function incrementalApplies(spec: FitSpec): boolean {
   return e.method === 'gmm' && (k === 'linear' || k === 'linear-raw' || k === 'linear-gross') && (e.stage === 'first' || e.stage === 'second') && e.inferenceS === 'weighting';
 }
 
+/** Does this back-test roll its cross-moment sums from window to window (so that its chunks matter)? */
+export function rollsSums(spec: FitSpec, engine: BacktestEngine = 'auto'): boolean {
+  return (engine === 'incremental' || engine === 'auto') && incrementalApplies(spec);
+}
+
 function cancelled(): DeflatorError {
   return new DeflatorError('CANCELLED', 'the back-test was cancelled', 'nothing was saved; run it again to get results');
 }
@@ -90,16 +95,21 @@ export function backtestWindows(spec: FitSpec, rawPanel: ReturnsPanel, opts: Bac
     throw new DeflatorError('SPEC_INVALID', `the incremental back-test covers linear models by GMM at the first or second stage; this spec is ${spec.model.kind} / ${spec.estimator.method} / ${spec.estimator.stage}`, 'use engine "auto" or "fit"');
   }
   if (!useIncremental && !opts.fit) throw new DeflatorError('SPEC_INVALID', 'this back-test needs the estimator to fit each window', 'pass the fit function (the worker does this)');
+  if (!(Number.isInteger(from) && Number.isInteger(to) && 0 <= from && from <= to && to <= schedule.length)) {
+    throw new DeflatorError('INPUT_INVALID', `backtestWindows: range [${from}, ${to}) is not inside the ${schedule.length} windows of the schedule`, 'pass whole window indices 0 <= from <= to <= windows');
+  }
   const total = to - from;
   const records: WindowRecord[] = [];
   const cm = useIncremental ? new CrossMoments(panel, { assetSecondMoments: spec.estimator.weight === 'hj' }) : null;
   const names = parameterNames(panel.factors.map((f) => f.name));
+  const chunk = windowsPerChunk(spec.backtest);
   for (let w = from; w < to; w++) {
     if (opts.signal?.aborted) throw cancelled();
     const win = schedule[w];
     const lags = windowLags(spec.estimator.lags, win.end - win.start);
     try {
-      records.push(cm ? runIncremental(spec, panel, cm, win, w, lags, engine === 'fresh', names) : runWithFit(spec, panel, opts.fit as FitFunction, win, w, lags));
+      if (cm) positionSums(cm, spec, schedule, chunk, w, w === from, engine === 'fresh');
+      records.push(cm ? runIncremental(spec, panel, cm, win, w, lags, names) : runWithFit(spec, panel, opts.fit as FitFunction, win, w, lags));
     } catch (e) {
       if (!isDeflatorError(e) || e.code === 'CANCELLED') throw e;
       records.push({ index: w, ok: false, reason: `${e.code}: ${e.message}`, lags });
@@ -109,12 +119,31 @@ export function backtestWindows(spec: FitSpec, rawPanel: ReturnsPanel, opts: Bac
   return records;
 }
 
-/** Sums older than this many rank-one updates (relative to the window length) are rebuilt, bounding rounding drift. */
-const REBUILD_AFTER_WINDOWS = 64;
+/**
+ * Brings the rolling sums to window w. They restart from scratch at the first window of
+ * every chunk (windowsPerChunk) and roll from there, so the sums of window w, to the bit,
+ * depend on the schedule and w alone: not on where a range of windows starts, nor on how
+ * the chunks are shared out among threads. A range that starts inside a chunk rebuilds
+ * the sums at that chunk's first window and rolls them forward to w (the same additions
+ * in the same order as a run from the chunk's start). The restarts also bound rounding
+ * drift: at most one chunk of updates separates any sums from a rebuild.
+ */
+function positionSums(cm: CrossMoments, spec: FitSpec, schedule: WindowBounds[], chunk: number, w: number, first: boolean, fresh: boolean): void {
+  const lagsOf = (k: number): number => windowLags(spec.estimator.lags, schedule[k].end - schedule[k].start);
+  const win = schedule[w];
+  if (fresh || w % chunk === 0) {
+    cm.reset(win.start, win.end, lagsOf(w));
+    return;
+  }
+  if (first) {
+    const c0 = w - (w % chunk);
+    cm.reset(schedule[c0].start, schedule[c0].end, lagsOf(c0));
+    for (let k = c0 + 1; k < w; k++) cm.moveTo(schedule[k].start, schedule[k].end, lagsOf(k));
+  }
+  cm.moveTo(win.start, win.end, lagsOf(w));
+}
 
-function runIncremental(spec: FitSpec, panel: ReturnsPanel, cm: CrossMoments, win: WindowBounds, index: number, lags: number, fresh: boolean, names: ReturnType<typeof parameterNames>): WindowRecord {
-  if (fresh || cm.updatesSinceRebuild > REBUILD_AFTER_WINDOWS * (win.end - win.start)) cm.reset(win.start, win.end, lags);
-  else cm.moveTo(win.start, win.end, lags);
+function runIncremental(spec: FitSpec, panel: ReturnsPanel, cm: CrossMoments, win: WindowBounds, index: number, lags: number, names: ReturnType<typeof parameterNames>): WindowRecord {
   const stage = spec.estimator.stage === 'first' ? 'first' : 'second';
   const fit = fitLinearWindow(cm, {
     kind: spec.model.kind as LinearKind,

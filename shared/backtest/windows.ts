@@ -36,6 +36,32 @@ export function windowSchedule(T: number, bt: BacktestSpec): WindowBounds[] {
   return out;
 }
 
+const MIN_CHUNK_WINDOWS = 16;
+
+/**
+ * Windows per chunk of the incremental engine: its rolling cross-moment sums restart
+ * from scratch at windows 0, B, 2B, ... and roll in between, and the worker pool shares
+ * whole chunks out among its threads. B depends on the back-test spec alone, never on
+ * the number of threads, so every thread count gives the same bits.
+ *
+ * B = max(16, ceil(W / s)): rebuilding the sums of a window of W periods costs about as
+ * much as rolling them by W periods, so a chunk that rolls W periods (W / s windows of
+ * step s) keeps the rebuilds to a few per cent of the run (docs/methods.md, incremental
+ * computation, has the timings); 16 at least, so that short windows with long steps do
+ * not make the chunks too small to be worth a thread.
+ */
+export function windowsPerChunk(bt: BacktestSpec): number {
+  return Math.max(MIN_CHUNK_WINDOWS, Math.ceil(bt.window / bt.step));
+}
+
+/** The chunks [from, to) of a schedule of `count` windows, B = windowsPerChunk(bt) each (the last may be shorter). */
+export function windowChunks(bt: BacktestSpec, count: number): [number, number][] {
+  const B = windowsPerChunk(bt);
+  const out: [number, number][] = [];
+  for (let a = 0; a < count; a += B) out.push([a, Math.min(count, a + B)]);
+  return out;
+}
+
 /** The panel restricted to periods [start, end) (views, no copies). */
 export function slicePanel(panel: ReturnsPanel, start: number, end: number): ReturnsPanel {
   const out: ReturnsPanel = {

@@ -1,16 +1,19 @@
 /**
  * Splitting the heavy tasks across the pool's threads and putting the pieces together
- * in the caller (cheap: summaries and the result assembly). A back-test runs as one
- * chunk of consecutive windows per thread (each chunk rebuilds its cross-moment sums
- * once, then rolls them); a comparison runs its fits and back-tests side by side and
- * splits the bootstrap replications into chunks. Progress of the pieces is summed;
- * an abort, or the failure of any piece, cancels the others.
+ * in the caller (cheap: summaries and the result assembly). A back-test's windows fall
+ * into fixed chunks (shared/backtest windowChunks, a function of the spec alone: each
+ * rebuilds its cross-moment sums at its first window, then rolls them), and each thread
+ * runs a contiguous share of the chunks, so the numbers do not depend on the thread
+ * count; a comparison runs its fits and back-tests side by side and splits the
+ * bootstrap replications into chunks (replication r draws from its own stream).
+ * Progress of the pieces is summed; an abort, or the failure of any piece, cancels the
+ * others.
  */
 import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
-import type { CompareSpec, FitSpec } from '../../shared/spec.js';
+import type { BacktestSpec, CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult } from '../../shared/results.js';
-import { engineName, summarizeBacktest, windowSchedule, type BacktestEngine, type WindowRecord } from '../../shared/backtest/index.js';
+import { engineName, rollsSums, summarizeBacktest, windowChunks, windowSchedule, type BacktestEngine, type WindowRecord } from '../../shared/backtest/index.js';
 import { alignPanels, assembleCompare, bootstrapChunk, bootstrapMembers, bootstrapSettings, mergeDraws, type HjBootstrapDraws, type ModelOutcome } from '../../shared/compare/index.js';
 import type { TaskKind, TaskMap } from './protocol.js';
 
@@ -24,9 +27,6 @@ interface Opts {
   onProgress?: (done: number, total: number, stage?: string) => void;
   signal?: AbortSignal;
 }
-
-/** Windows per chunk below which splitting does not pay. */
-const MIN_WINDOWS_PER_CHUNK = 8;
 
 /** Child abort controller: aborts with the parent, or on its own when a sibling fails. */
 function childController(parent?: AbortSignal): { ctl: AbortController; dispose: () => void } {
@@ -79,13 +79,37 @@ function chunkRanges(count: number, chunks: number): [number, number][] {
   return out;
 }
 
+/** Windows per task below which splitting a back-test whose windows are independent does not pay. */
+const MIN_WINDOWS_PER_TASK = 8;
+
+/**
+ * The windows of each thread's task. With rolling sums: the back-test's fixed chunks of
+ * windows (windowChunks: they depend on the spec alone) shared out among the threads as
+ * contiguous runs of whole chunks, one task per thread; every chunk restarts its sums at
+ * its own first window whichever task runs it, so the result has the same bits for any
+ * thread count, and as one 'backtest' task. Without them (per-window fits, or sums
+ * rebuilt for every window) each window is computed on its own, and the windows are
+ * split evenly.
+ */
+export function backtestRanges(bt: BacktestSpec, count: number, threads: number, rolling: boolean): [number, number][] {
+  if (!rolling) return chunkRanges(count, Math.max(1, Math.min(threads, Math.floor(count / MIN_WINDOWS_PER_TASK))));
+  const chunks = windowChunks(bt, count);
+  const groups = Math.max(1, Math.min(threads, chunks.length));
+  const out: [number, number][] = [];
+  for (let g = 0; g < groups; g++) {
+    const a = Math.floor((g * chunks.length) / groups);
+    const b = Math.floor(((g + 1) * chunks.length) / groups);
+    if (b > a) out.push([chunks[a][0], chunks[b - 1][1]]);
+  }
+  return out;
+}
+
 export async function backtestInPool(run: RawRun, threads: number, payload: { spec: FitSpec; panel: ReturnsPanel; engine?: BacktestEngine }, opts: Opts): Promise<BacktestResult> {
   const { spec, panel } = payload;
   if (!spec.backtest) throw new DeflatorError('SPEC_INVALID', 'spec.backtest: a back-test needs a "backtest" block ({"window": W, "step": s, "horizon": h})', 'add the backtest block to the spec');
   const count = windowSchedule(panel.periods.length, spec.backtest).length;
-  const chunks = Math.min(threads, Math.floor(count / MIN_WINDOWS_PER_CHUNK));
-  if (chunks <= 1) return run('backtest', payload, opts);
-  const ranges = chunkRanges(count, chunks);
+  const ranges = backtestRanges(spec.backtest, count, threads, rollsSums(spec, payload.engine));
+  if (ranges.length <= 1) return run('backtest', payload, opts);
   const report = progressSum(count, opts.onProgress, 'windows');
   const parts = await allOrNothing(
     ranges.map((range, c) => (signal: AbortSignal) => {

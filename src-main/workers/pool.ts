@@ -16,7 +16,9 @@
  *
  * 'backtest' and 'compare' are split across the threads (orchestrate.ts) when the pool
  * has more than one: back-test windows in chunks, a comparison's fits side by side and
- * its bootstrap replications in chunks. The numbers are the same either way.
+ * its bootstrap replications in chunks. The numbers are the same bits either way, for
+ * any thread count: a back-test's chunks of windows are fixed by its spec
+ * (shared/backtest windowChunks), and each bootstrap replication has its own stream.
  */
 import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';

@@ -1,11 +1,14 @@
 /**
  * The worker pool runs the compiled dist/worker.js (built by the test setup): results
- * equal the same computation in this thread, progress reaches the total, errors keep
+ * equal the same computation in this thread (a back-test bit for bit, with any number
+ * of threads), progress reaches the total, errors keep
  * their code, and a cancelled run rejects with CANCELLED and leaves nothing behind.
  */
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { createPool, type DeflatorPool } from '../../../src-main/workers/pool.js';
-import { backtest } from '../../../shared/backtest/index.js';
+import { backtest, windowChunks, windowSchedule } from '../../../shared/backtest/index.js';
+import { diffExact, parseExact, stringifyExact } from '../../../shared/records/exact-json.js';
+import { backtestRanges } from '../../../src-main/workers/orchestrate.js';
 import { compareModels } from '../../../shared/compare/index.js';
 import { fit } from '../../../shared/estimation/fit.js';
 import { isDeflatorError } from '../../../shared/errors.js';
@@ -31,13 +34,56 @@ describe('worker pool', () => {
     const local = backtest(btSpec, panel, { fit });
     expect(res.windows).toBe(local.windows);
     expect(res.windows).toBe(120);
-    // chunks rebuild their sums at their first window: same numbers to rounding
-    expect(Math.abs(res.oos.rmse - local.oos.rmse)).toBeLessThan(1e-14);
-    expect(Math.abs(res.oos.r2 - local.oos.r2)).toBeLessThan(1e-12);
-    res.paths.forEach((p, w) => p.params.forEach((q, k) => expect(Math.abs(q.estimate - local.paths[w].params[k].estimate)).toBeLessThanOrEqual(1e-10 * Math.max(1, Math.abs(q.estimate)))));
+    // the sums restart at the same fixed chunks of windows in either case: the same bits
+    expect(stringifyExact(res)).toBe(stringifyExact(local));
     expect(total).toBe(120);
     expect(seen[seen.length - 1]).toBe(120);
     for (let i = 1; i < seen.length; i++) expect(seen[i]).toBeGreaterThanOrEqual(seen[i - 1]);
+  });
+
+  it('a back-test has the same bits with 1, 2 and 3 threads, and in this thread', async () => {
+    // Thread-count invariance (a property of the chunking, no outside reference needed):
+    // the chunks of windows are fixed by the spec, so every number is the same double.
+    const specs = {
+      rolling: btSpec, // 120 windows in 4 chunks of 30: tasks [0,120) | [0,60) [60,120) | [0,30) [30,60) [60,120)
+      expanding: parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: ['f1', 'f2'] }, estimator: { weight: 'hj', lags: 'auto' }, backtest: { window: 40, step: 1, horizon: 2, expanding: true } }),
+      raw: parseFitSpec({ riskfree: 'rf', model: { kind: 'linear-raw', factors: ['f1'] }, estimator: { stage: 'first' }, backtest: { window: 48, step: 3, horizon: 3 } }),
+    };
+    const one = createPool({ threads: 1 });
+    const three = createPool({ threads: 3 });
+    try {
+      for (const [name, spec] of Object.entries(specs)) {
+        const count = windowSchedule(panel.periods.length, spec.backtest ?? btSpec.backtest!).length;
+        expect(backtestRanges(spec.backtest!, count, 3, true).length, name).toBe(3);
+        const here = stringifyExact(backtest(spec, panel, { fit }));
+        const runs = await Promise.all([one, pool, three].map((p) => p.runTask('backtest', { spec, panel })));
+        runs.forEach((r, i) => {
+          const d = diffExact(r, parseExact(here));
+          expect(d.count, `${name}, ${i + 1} thread(s): ${JSON.stringify(d.differences.slice(0, 3))}`).toBe(0);
+          expect(stringifyExact(r), `${name}, ${i + 1} thread(s)`).toBe(here);
+          expect(JSON.stringify(r), `${name}, ${i + 1} thread(s)`).toBe(JSON.stringify(runs[0]));
+        });
+      }
+    } finally {
+      await Promise.all([one.close(), three.close()]);
+    }
+  });
+
+  it('the tasks of a back-test are whole fixed chunks, whatever the thread count', () => {
+    const bt = { window: 60, step: 2, horizon: 1, expanding: false };
+    const chunks = windowChunks(bt, 130);
+    expect(chunks.map(([a]) => a)).toEqual([0, 30, 60, 90, 120]);
+    for (let threads = 1; threads <= 8; threads++) {
+      const ranges = backtestRanges(bt, 130, threads, true);
+      expect(ranges.length).toBe(Math.min(threads, chunks.length));
+      expect(ranges[0][0]).toBe(0);
+      expect(ranges[ranges.length - 1][1]).toBe(130);
+      ranges.forEach(([a, b], i) => {
+        if (i > 0) expect(a).toBe(ranges[i - 1][1]);
+        expect(chunks.some(([c]) => c === a)).toBe(true);
+        expect(b === 130 || chunks.some(([c]) => c === b)).toBe(true);
+      });
+    }
   });
 
   it('a fit in a worker equals fit() here', async () => {
