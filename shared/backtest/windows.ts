@@ -50,7 +50,7 @@ const MIN_CHUNK_WINDOWS = 16;
  * computation, has the timings); 16 at least, so that short windows with long steps do
  * not make the chunks too small to be worth a thread.
  */
-export function windowsPerChunk(bt: BacktestSpec): number {
+export function windowsPerChunk(bt: Pick<BacktestSpec, 'window' | 'step'>): number {
   return Math.max(MIN_CHUNK_WINDOWS, Math.ceil(bt.window / bt.step));
 }
 

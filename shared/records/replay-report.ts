@@ -19,9 +19,15 @@ export interface ReplayReport {
   stale: boolean;
   staleItems: StaleItem[];
   panels: PanelCheck[];
-  /** Worker threads the run was recorded with, and those the replay used (when known). */
+  /** Worker threads the run was recorded with, and those the replay used (when known; information only, the numbers do not depend on them). */
   recordedThreads?: number;
   usedThreads?: number;
+  /**
+   * Set when the numbers differ and the run's back-test chunks of windows (where its
+   * rolling sums restart) were not those used now: recorded null for a run recorded
+   * before the chunks were fixed by the spec. Such a run's last bits can differ.
+   */
+  chunkWindows?: { recorded: number | null; current: number };
   /** Number of numeric values compared. */
   compared: number;
   /** Values (numbers, texts, missing keys) that differ; at most a limit of them listed. */

@@ -65,11 +65,13 @@ export interface RunRecord {
   files: DataFileFingerprint[];
   subjects: SubjectFingerprint[];
   /**
-   * How it was computed, where it matters for the bits: the worker threads (a back-test
-   * split into chunks of windows sums in a different order per chunking) and the
-   * back-test engine asked for ('auto' when absent). Replay uses both.
+   * How it was computed: the worker threads (information only: the numbers do not
+   * depend on them), the back-test engine asked for ('auto' when absent; replay uses
+   * it), and, for a run with a back-test, the windows per chunk its rolling sums
+   * restarted at (shared/backtest windowsPerChunk). Runs recorded before the chunks
+   * were fixed by the spec have no chunkWindows: their chunks followed the threads.
    */
-  compute?: { threads?: number; engine?: string };
+  compute?: { threads?: number; engine?: string; chunkWindows?: number };
 }
 
 /** A data file or stored subject whose current state differs from what the run recorded. */

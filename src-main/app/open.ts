@@ -16,7 +16,6 @@ import { PoolEngine, StoreProject } from './project.js';
 import type { TaskRunner } from './project.js';
 import { poolRecompute } from '../runs/replay.js';
 import { RunService } from '../runs/service.js';
-import { createPool } from '../workers/pool.js';
 
 export interface OpenOptions {
   /** The project database; created empty when missing (or as the demo, see `demo`). */
@@ -56,7 +55,7 @@ export async function openApp(opts: OpenOptions): Promise<OpenedApp> {
     importer: () => project,
     engine: new PoolEngine(opts.pool, () => store),
     files,
-    runs: new RunService(() => store, poolRecompute(opts.pool), opts.pdf, (threads) => createPool({ threads })),
+    runs: new RunService(() => store, poolRecompute(opts.pool), opts.pdf, opts.pool.threads),
   });
   return {
     ...core,

@@ -22,7 +22,7 @@ import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from '
 
 /** The slice of the worker pool (src-main/workers/pool.ts) the app uses. */
 export interface TaskRunner {
-  /** Worker threads (recorded with each run: a chunked back-test's numbers follow them). */
+  /** Worker threads (recorded with each run as information: the numbers do not depend on them). */
   readonly threads?: number;
   runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<FitResult>;
   runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<BacktestResult>;

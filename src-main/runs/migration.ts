@@ -37,5 +37,5 @@ export const RUNS_MIGRATION_SQL = `
 
 export const RUNS_COMPUTE_MIGRATION_NAME = 'run records: how a run was computed (worker threads)';
 
-/** A chunked back-test's numbers depend on its chunks, so replay needs the thread count it ran with. */
+/** How a run was computed (RunRecord.compute: worker threads, back-test engine, windows per chunk), as JSON. */
 export const RUNS_COMPUTE_MIGRATION_SQL = `ALTER TABLE run ADD COLUMN compute TEXT;`;

@@ -3,7 +3,9 @@
  * and compare every number of the new result with the stored one bit for bit. The
  * report also says whether the run is stale (its data changed since it was recorded)
  * and whether the returns panel rebuilt today has the recorded fingerprint. A stale run
- * is never reported as fine, even where its numbers happen to agree.
+ * is never reported as fine, even where its numbers happen to agree. The numbers do not
+ * depend on the number of worker threads (a back-test's chunks of windows are fixed by
+ * its spec), so any pool replays any run; the recorded thread count is information.
  */
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
@@ -12,8 +14,8 @@ import { diffExact } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { PanelFingerprint, RunRecord } from '../../shared/records/run-record.js';
 import type { ReplayReport } from '../../shared/records/replay-report.js';
-import { parseCompareSpec, parseFitSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
-import type { BacktestEngine } from '../../shared/backtest/index.js';
+import { parseCompareSpec, parseFitSpec, type BacktestSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
+import { windowsPerChunk, type BacktestEngine } from '../../shared/backtest/index.js';
 import { loadPanel } from '../data/panel.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
@@ -86,13 +88,16 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
   if (opts.threads !== undefined) report.usedThreads = opts.threads;
   let result: AnyResult;
   let panels: ReturnsPanel[];
+  let backtestBlock: BacktestSpec | undefined;
   try {
     if (record.kind === 'compare') {
       const { spec, fits } = parseCompareSpec(record.spec);
+      backtestBlock = spec.backtest;
       panels = fits.map((f) => loadPanel(store, f));
       result = await recompute.compare(spec, fits, panels);
     } else {
       const spec = parseFitSpec(record.spec);
+      backtestBlock = spec.backtest;
       panels = [loadPanel(store, spec)];
       const engine = record.compute?.engine;
       result = record.kind === 'fit' ? await recompute.fit(spec, panels[0]) : await recompute.backtest(spec, panels[0], isEngine(engine) ? engine : undefined);
@@ -114,6 +119,12 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
   report.compared = countNumbers(record.result);
   report.differing = d.count;
   report.differences = d.differences;
+  if (d.count > 0 && record.kind !== 'fit' && backtestBlock) {
+    // The chunks where the rolling sums restart: fixed by the spec now, by the threads before.
+    const current = windowsPerChunk(backtestBlock);
+    const recorded = record.compute?.chunkWindows ?? null;
+    if (recorded !== current) report.chunkWindows = { recorded, current };
+  }
   report.ok = !report.stale && report.panels.every((p) => p.matches) && d.count === 0;
   return report;
 }
@@ -137,7 +148,14 @@ export function formatReplay(r: ReplayReport): string {
   const lines = [`Replay of run ${r.run} (${r.kind}: ${r.label})`];
   if (r.recordedVersion !== r.currentVersion) lines.push(`  note: recorded by deflator ${r.recordedVersion}, recomputed by ${r.currentVersion}`);
   if (r.recordedThreads !== undefined && r.usedThreads !== undefined && r.recordedThreads !== r.usedThreads) {
-    lines.push(`  note: recorded with ${r.recordedThreads} worker thread(s), replayed with ${r.usedThreads}; a back-test split into chunks sums in another order`);
+    lines.push(`  note: recorded with ${r.recordedThreads} worker thread(s), replayed with ${r.usedThreads} (the numbers do not depend on the thread count)`);
+  }
+  if (r.chunkWindows) {
+    lines.push(
+      r.chunkWindows.recorded === null
+        ? `  note: recorded before a back-test's chunks of windows were fixed by its spec (they followed the worker threads), now chunks of ${r.chunkWindows.current}: the last bits of its rolling sums can differ`
+        : `  note: its back-test restarted its rolling sums every ${r.chunkWindows.recorded} windows, now every ${r.chunkWindows.current}: the last bits can differ`,
+    );
   }
   if (r.stale) {
     lines.push('  STALE: the data this run read has changed since it was recorded:');

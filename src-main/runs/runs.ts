@@ -6,6 +6,7 @@
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { AnyResult } from '../../shared/results.js';
 import { DeflatorError } from '../../shared/errors.js';
+import { windowsPerChunk } from '../../shared/backtest/windows.js';
 import { parseExact, stringifyExact } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSummary, RunTag, StaleItem, SubjectFingerprint } from '../../shared/records/run-record.js';
@@ -25,7 +26,7 @@ export interface RecordRunInput {
   panel: ReturnsPanel | PanelFingerprint | (ReturnsPanel | PanelFingerprint)[];
   /** Defaults to now. */
   createdAt?: Date;
-  /** Worker threads of the pool that computed it (replay uses the same; see RunRecord.compute). */
+  /** Worker threads of the pool that computed it (information only; see RunRecord.compute). */
   threads?: number;
   /** Back-tests: the engine asked for, when not 'auto' (e.g. 'fit'). */
   engine?: string;
@@ -95,6 +96,11 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
   if (input.threads !== undefined && !(Number.isInteger(input.threads) && input.threads >= 1)) {
     throw new DeflatorError('INPUT_INVALID', `recordRun: threads ${input.threads} is not a whole number of at least 1`, 'pass the pool\'s thread count');
   }
+  const chunkWindows = recordedChunkWindows(input.spec, input.result);
+  const compute =
+    input.threads !== undefined || input.engine !== undefined || chunkWindows !== undefined
+      ? { ...(input.threads !== undefined ? { threads: input.threads } : {}), ...(input.engine !== undefined ? { engine: input.engine } : {}), ...(chunkWindows !== undefined ? { chunkWindows } : {}) }
+      : null;
   const insert = store.db.prepare(
     'INSERT INTO run (kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects, compute) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
   );
@@ -114,15 +120,21 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
         panels.length > 1 ? JSON.stringify(panels) : null,
         JSON.stringify(files),
         JSON.stringify(subjects),
-        input.threads !== undefined || input.engine !== undefined
-          ? JSON.stringify({ ...(input.threads !== undefined ? { threads: input.threads } : {}), ...(input.engine !== undefined ? { engine: input.engine } : {}) })
-          : null,
+        compute === null ? null : JSON.stringify(compute),
       ).lastInsertRowid,
     );
     for (const s of subjects) insertSubject.run(runId, s.kind, s.name, s.sha256);
     return runId;
   })();
   return getRun(store, id);
+}
+
+/** Windows per chunk of the back-test in a back-test or a comparison with a "backtest" block (RunRecord.compute). */
+export function recordedChunkWindows(spec: unknown, result: AnyResult): number | undefined {
+  if (result.kind === 'fit') return undefined;
+  const bt = (spec ?? {}) as { backtest?: { window?: unknown; step?: unknown } };
+  if (typeof bt.backtest?.window !== 'number' || typeof bt.backtest.step !== 'number') return undefined;
+  return windowsPerChunk({ window: bt.backtest.window, step: bt.backtest.step });
 }
 
 function untagged(result: AnyResult & RunTag): AnyResult {
@@ -156,7 +168,7 @@ function toRecord(r: RunRow): RunRecord {
     subjects: JSON.parse(r.subjects) as SubjectFingerprint[],
   };
   if (r.panels) rec.panels = JSON.parse(r.panels) as PanelFingerprint[];
-  if (r.compute) rec.compute = JSON.parse(r.compute) as { threads?: number; engine?: string };
+  if (r.compute) rec.compute = JSON.parse(r.compute) as NonNullable<RunRecord['compute']>;
   return rec;
 }
 

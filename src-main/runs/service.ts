@@ -7,7 +7,7 @@ import type { ReplayReport } from '../../shared/records/replay-report.js';
 import { EXPORT_MIME, type ExportFormat } from '../../shared/report/formats.js';
 import { renderExport } from '../export/run-export.js';
 import type { Store } from '../store/store.js';
-import { poolRecompute, replayRun, type Recompute, type RecomputeRunner } from './replay.js';
+import { replayRun, type Recompute } from './replay.js';
 import { deleteRun, getRun, listRuns, staleItems, type RunFilter } from './runs.js';
 
 export interface ExportedFile {
@@ -22,13 +22,13 @@ export class RunService {
    * @param store the open project database (a getter: the app can switch databases)
    * @param recompute how replay recomputes (the app's worker pool: poolRecompute)
    * @param pdf HTML -> PDF bytes; in Electron, pdfFromHtmlWithWebContents on a hidden window
-   * @param poolFor a fresh pool of n threads, so a run replays with the thread count it was computed with
+   * @param threads the app pool's worker threads, noted in the replay report (the numbers do not depend on them)
    */
   constructor(
     private readonly store: () => Store,
     private readonly recompute: Recompute,
     private readonly pdf?: (html: string) => Promise<Buffer>,
-    private readonly poolFor?: (threads: number) => RecomputeRunner & { close(): Promise<void> },
+    private readonly threads?: number,
   ) {}
 
   list(filter: RunFilter = {}): RunSummary[] {
@@ -46,16 +46,9 @@ export class RunService {
     return { deleted: id };
   }
 
+  /** Replays in the app's own pool, whatever thread count the run was computed with. */
   async replay(id: number): Promise<ReplayReport> {
-    const threads = getRun(this.store(), id).compute?.threads;
-    // The app's own pool when the run recorded no thread count, else one of that many threads.
-    if (threads === undefined || !this.poolFor) return replayRun(this.store(), id, this.recompute);
-    const pool = this.poolFor(threads);
-    try {
-      return await replayRun(this.store(), id, poolRecompute(pool), { threads });
-    } finally {
-      await pool.close();
-    }
+    return replayRun(this.store(), id, this.recompute, this.threads === undefined ? {} : { threads: this.threads });
   }
 
   async export(id: number, format: ExportFormat): Promise<{ files: ExportedFile[] }> {

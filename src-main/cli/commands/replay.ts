@@ -9,7 +9,7 @@ import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { toExactJson } from '../../../shared/records/exact-json.js';
 import { formatReplay, poolRecompute, replayRun } from '../../runs/replay.js';
-import { getRun, parseRunId } from '../../runs/runs.js';
+import { parseRunId } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
 import { defaultThreads, withPool } from '../../workers/pool.js';
 
@@ -28,7 +28,7 @@ export function register(program: Command): void {
     .description('recompute a recorded run and check that every number matches the stored result bit for bit (exit 4 if not, or if its data changed)')
     .argument('<run>', 'run id (see `deflator runs`)')
     .requiredOption('--db <path>', 'project database')
-    .option('--threads <n>', 'worker threads (default: as many as the run was computed with)')
+    .option('--threads <n>', `worker threads (default: the ${defaultThreads()} cores; the numbers do not depend on it)`)
     .option('--limit <n>', 'list at most this many differing values', '50')
     .option('--json', 'print the replay report as JSON')
     .action(async (run: string, opts: ReplayOptions) => {
@@ -39,8 +39,7 @@ export function register(program: Command): void {
       if (given !== undefined && !(Number.isInteger(given) && given >= 1)) throw new DeflatorError('INPUT_INVALID', `--threads ${opts.threads}: expected a whole number of at least 1`, 'e.g. --threads 2');
       const store = new Store(opts.db, { mustExist: true });
       try {
-        // The same thread count as the run: a back-test's chunks of windows follow it.
-        const threads = given ?? getRun(store, id).compute?.threads ?? defaultThreads();
+        const threads = given ?? defaultThreads();
         const report = await withPool((pool) => replayRun(store, id, poolRecompute(pool), { limit, threads }), { threads });
         process.stdout.write(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
         if (!report.ok) process.exitCode = REPLAY_MISMATCH_EXIT;

@@ -8,7 +8,8 @@ import { importPrices } from '../../../src-main/import/index.js';
 import { loadPanel } from '../../../src-main/data/panel.js';
 import { keepRun, listRuns } from '../../../src-main/runs/runs.js';
 import { Store } from '../../../src-main/store/store.js';
-import { createPool, type DeflatorPool } from '../../../src-main/workers/pool.js';
+import { createPool, defaultThreads, type DeflatorPool } from '../../../src-main/workers/pool.js';
+import { windowChunks, windowSchedule } from '../../../shared/backtest/index.js';
 import { editPrice, forgetImport, makeProject, type Project } from './helpers.js';
 
 const CLI = path.resolve(import.meta.dirname, '../../../dist/cli.js');
@@ -21,6 +22,7 @@ const ASSETS = ['brinemoor-ferries', 'corvane-saltworks', 'greyhallow-banking', 
 let p: Project;
 let pool: DeflatorPool;
 const ids: Record<string, number> = {};
+let rollChunks = 0;
 
 beforeAll(async () => {
   p = await makeProject();
@@ -34,11 +36,17 @@ beforeAll(async () => {
   const btSpec = parseFitSpec({ riskfree: 'bill_yield', assets, model: { factors: ['harbor'] }, backtest: { window: 60, step: 6, horizon: 3 } });
   const btPanel = loadPanel(p.store, btSpec);
   ids.backtest = keepRun(p.store, { spec: btSpec, result: await pool.runTask('backtest', { spec: btSpec, panel: btPanel }), panel: btPanel, threads: pool.threads }).runId!;
+  // Step 1: windows in chunks of 60, which 1, 2 and 3 threads share out differently.
+  const rollSpec = parseFitSpec({ riskfree: 'bill_yield', assets, model: { factors: ['harbor', 'ember'] }, estimator: { weight: 'hj' }, backtest: { window: 60, step: 1, horizon: 1 } });
+  const rollPanel = loadPanel(p.store, rollSpec);
+  rollChunks = windowChunks(rollSpec.backtest!, windowSchedule(rollPanel.periods.length, rollSpec.backtest!).length).length;
+  ids.rolling = keepRun(p.store, { spec: rollSpec, result: await pool.runTask('backtest', { spec: rollSpec, panel: rollPanel }), panel: rollPanel, threads: pool.threads }).runId!;
 
   const { spec: cmpSpec, fits } = parseCompareSpec({
     riskfree: 'bill_yield',
     assets,
     bootstrap: { replications: 49, block: 6, seed: 7 },
+    backtest: { window: 60, step: 4, horizon: 1 },
     compare: [{ model: { factors: ['harbor'] } }, { model: { factors: ['harbor', 'ember', 'ledger'] } }, { model: { kind: 'consumption', consumption: 'household_spending', delta: 1 } }],
   });
   const panels = fits.map((f) => loadPanel(p.store, f));
@@ -52,7 +60,7 @@ afterAll(async () => {
 });
 
 describe('deflator replay (built CLI, worker pool)', () => {
-  it.each(['fit', 'backtest', 'compare'])('reproduces a %s run bit for bit and exits 0', (kind) => {
+  it.each(['fit', 'backtest', 'rolling', 'compare'])('reproduces a %s run bit for bit and exits 0', (kind) => {
     const r = cli(['replay', String(ids[kind]), '--db', p.dbPath, '--threads', '2']);
     expect(r.code, `${r.out}\n${r.err}`).toBe(0);
     expect(r.out).toMatch(/numbers: all \d+ stored numbers reproduced bit for bit/);
@@ -62,13 +70,20 @@ describe('deflator replay (built CLI, worker pool)', () => {
     expect(j.ok).toBe(true);
     expect(j.compared).toBeGreaterThan(20);
     expect(j.differing).toBe(0);
-    // Replayed with the thread count it was computed with (a chunked back-test follows it).
-    expect([j.recordedThreads, j.usedThreads]).toEqual([2, 2]);
+    // Replayed in a pool of the default size, whatever the run was computed with; the threads are information.
+    expect([j.recordedThreads, j.usedThreads]).toEqual([2, defaultThreads()]);
+    expect(j.chunkWindows).toBeUndefined();
   });
 
-  it('replays with the recorded thread count unless told otherwise, and says so', () => {
-    const r = cli(['replay', String(ids.backtest), '--db', p.dbPath, '--threads', '1']);
-    expect(r.out).toContain('note: recorded with 2 worker thread(s), replayed with 1');
+  it.each(['backtest', 'rolling', 'compare'])('reproduces a %s run bit for bit with 1 and 3 threads as well: the numbers do not depend on the thread count', (kind) => {
+    expect(rollChunks).toBeGreaterThanOrEqual(3);
+    for (const threads of ['1', '3']) {
+      const r = cli(['replay', String(ids[kind]), '--db', p.dbPath, '--threads', threads]);
+      expect(r.code, `${threads} thread(s): ${r.out}\n${r.err}`).toBe(0);
+      expect(r.out).toMatch(/numbers: all \d+ stored numbers reproduced bit for bit/);
+      expect(r.out).toContain(`note: recorded with 2 worker thread(s), replayed with ${threads} (the numbers do not depend on the thread count)`);
+      expect(r.out.trim().endsWith('REPLAY OK')).toBe(true);
+    }
   });
 
   it('detects a modified data file: stale, fingerprint mismatch, differing numbers, exit 4', async () => {
@@ -82,9 +97,9 @@ describe('deflator replay (built CLI, worker pool)', () => {
       store.close();
     }
     const list = cli(['runs', '--db', p.dbPath]);
-    expect(list.out.match(/STALE/g)?.length).toBe(3);
+    expect(list.out.match(/STALE/g)?.length).toBe(4);
     expect(list.out).toContain('asset greyhallow-banking: stored rows changed since the run');
-    for (const kind of ['fit', 'backtest', 'compare']) {
+    for (const kind of ['fit', 'backtest', 'rolling', 'compare']) {
       const r = cli(['replay', String(ids[kind]), '--db', p.dbPath]);
       expect(r.code, r.out).toBe(4);
       expect(r.out).toContain('STALE: the data this run read has changed');

@@ -1,7 +1,7 @@
 import { createHash } from 'node:crypto';
 import { readFileSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { backtest } from '../../../shared/backtest/index.js';
+import { backtest, windowsPerChunk } from '../../../shared/backtest/index.js';
 import { fit } from '../../../shared/estimation/fit.js';
 import { diffExact } from '../../../shared/records/exact-json.js';
 import { encodePanel, fingerprintPanel } from '../../../shared/records/panel-encoding.js';
@@ -128,6 +128,38 @@ describe('run records', () => {
     expect(r.differences[0].path).toBe(`pricingErrors[2:${ASSETS[2]}].alpha`);
     expect(r.differences[0].stored).not.toBe(r.differences[0].recomputed);
     expect(formatReplay(r)).toContain(`pricingErrors[2:${ASSETS[2]}].alpha: stored `);
+  });
+
+  it('a back-test records its windows per chunk; one recorded before the chunks were fixed by the spec still replays, a difference explained', async () => {
+    expect(getRun(p.store, 1).compute).toBeUndefined(); // a fit has no chunks, and no threads were given
+    expect(getRun(p.store, 3).compute).toEqual({ chunkWindows: windowsPerChunk({ window: 60, step: 24 }) });
+    expect(windowsPerChunk({ window: 60, step: 24 })).toBe(16);
+    const saved = p.store.db.prepare('SELECT compute FROM run WHERE id = 3').pluck().get();
+    // as a run of the previous schema-3 records looks: the thread count only
+    p.store.db.prepare('UPDATE run SET compute = ? WHERE id = 3').run(JSON.stringify({ threads: 2 }));
+    try {
+      const same = await replayRun(p.store, 3, inProcess, { threads: 1 });
+      expect(same.ok, formatReplay(same)).toBe(true);
+      expect([same.recordedThreads, same.usedThreads]).toEqual([2, 1]);
+      expect(same.chunkWindows).toBeUndefined();
+      expect(formatReplay(same)).toContain('recorded with 2 worker thread(s), replayed with 1 (the numbers do not depend on the thread count)');
+      const off: Recompute = {
+        ...inProcess,
+        backtest: async (s, panel) => {
+          const r = backtest(s, panel, { fit });
+          r.oos.rmse *= 1 + 2 ** -50; // a few units in the last place
+          return r;
+        },
+      };
+      const r = await replayRun(p.store, 3, off);
+      expect(r.ok).toBe(false);
+      expect(r.error).toBeUndefined();
+      expect(r.differing).toBe(1);
+      expect(r.chunkWindows).toEqual({ recorded: null, current: 16 });
+      expect(formatReplay(r)).toContain("recorded before a back-test's chunks of windows were fixed by its spec");
+    } finally {
+      p.store.db.prepare('UPDATE run SET compute = ? WHERE id = 3').run(saved);
+    }
   });
 
   it('flags a run stale when a data file is re-imported with a change, and replay says so', async () => {
