@@ -19,6 +19,7 @@ import { backtest } from '../shared/backtest/index.js';
 import { fit } from '../shared/estimation/fit.js';
 import type { ReturnsPanel } from '../shared/panel.js';
 import type { BacktestResult } from '../shared/results.js';
+import { stringifyExact } from '../shared/records/exact-json.js';
 import { parseFitSpec, type FitSpec } from '../shared/spec.js';
 import { createPool } from '../src-main/workers/pool.js';
 
@@ -178,7 +179,8 @@ try {
     pooled = await pool.runTask('backtest', { spec, panel });
   }, 5);
   await pool.close();
-  out(`  worker pool, 2 threads (chunks of windows, panel copied to the workers): fastest ${poolMs.wall.toFixed(1)} ms wall, median ${poolMs.median.toFixed(1)} ms; OOS RMSE ${pooled?.oos.rmse === res.oos.rmse ? 'identical' : `differs by ${Math.abs((pooled?.oos.rmse ?? 0) - res.oos.rmse).toExponential(1)}`}`);
+  const sameBits = stringifyExact(pooled) === stringifyExact(res);
+  out(`  worker pool, 2 threads (fixed chunks of windows, panel copied to the workers): fastest ${poolMs.wall.toFixed(1)} ms wall, median ${poolMs.median.toFixed(1)} ms; ${sameBits ? 'every number identical to this thread\'s, bit for bit' : 'DIFFERS from this thread\'s result'}`);
   const t0 = performance.now();
   const viaFit = backtest(spec, panel, { engine: 'fit', fit });
   const fitMs = performance.now() - t0;
