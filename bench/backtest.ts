@@ -22,20 +22,12 @@ import type { BacktestResult } from '../shared/results.js';
 import { stringifyExact } from '../shared/records/exact-json.js';
 import { parseFitSpec, type FitSpec } from '../shared/spec.js';
 import { createPool } from '../src-main/workers/pool.js';
+import { mulberry32 } from '../shared/random.js';
 
 const root = path.resolve(import.meta.dirname, '..');
 const LAGS = 3;
 
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const seeded = mulberry32;
 
 /** Invented seeded panel: factor returns with mild persistence, returns = small alpha + beta'f + noise. */
 function makePanel(T: number, N: number, K: number, seed: number): ReturnsPanel {

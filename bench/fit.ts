@@ -16,22 +16,14 @@ import { gmmEstimate } from '../shared/estimation/gmm.js';
 import { prepareGmm } from '../shared/estimation/gmmFit.js';
 import type { ReturnsPanel } from '../shared/panel.js';
 import { parseFitSpec } from '../shared/spec.js';
+import { mulberry32 } from '../shared/random.js';
 
 const N = 100;
 const K = 5;
 const T = 1200;
 const LAGS = 6;
 
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const seeded = mulberry32;
 
 const u = seeded(20240612);
 const normal = () => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u());

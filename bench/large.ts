@@ -22,6 +22,7 @@ import { createWriteStream, existsSync, mkdtempSync, rmSync, statSync, writeFile
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import Database from 'better-sqlite3';
+import { mulberry32 } from '../shared/random.js';
 
 const root = path.resolve(import.meta.dirname, '..');
 const cli = path.join(root, 'dist', 'cli.js');
@@ -31,16 +32,7 @@ const only = (() => {
   return i > 0 ? process.argv[i + 1] : undefined;
 })();
 
-function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const seeded = mulberry32;
 /** Standard normal by Box-Muller. */
 function normal(rand: () => number): () => number {
   return () => Math.sqrt(-2 * Math.log(1 - rand())) * Math.cos(2 * Math.PI * rand());

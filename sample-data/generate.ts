@@ -11,20 +11,11 @@
  */
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
+import { mulberry32 } from '../shared/random.js';
 
 const here = import.meta.dirname;
 
-/** mulberry32: a small, well-mixed 32-bit generator; enough for demo data. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 
 const uniform = rng(20240917);
 let spare: number | null = null;

@@ -18,6 +18,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { importPrices, importSeries } from '../../src-main/import/index.js';
 import { Store } from '../../src-main/store/store.js';
+import { mulberry32 } from '../../shared/random.js';
 
 export const ROOT = path.resolve(import.meta.dirname, '..', '..');
 export const CLI = path.join(ROOT, 'dist', 'cli.js');
@@ -171,17 +172,7 @@ export function runCliAsync(args: string[], options: { timeoutMs?: number } = {}
   });
 }
 
-/** Seeded pseudo-random numbers in [0, 1) (mulberry32; the same sequence on every run). */
-export function seeded(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+export const seeded = mulberry32;
 
 /** Wall-clock budget bookkeeping: each suite prints what it spent. */
 export function stopwatch(label: string): () => number {

@@ -22,18 +22,9 @@ import type { Weighting } from '../../../shared/estimation/weighting.js';
 import type { ReturnsPanel } from '../../../shared/panel.js';
 import { parseFitSpec } from '../../../shared/spec.js';
 import { monthEnds } from './helpers.js';
+import { mulberry32 } from '../../../shared/random.js';
 
-/** Mulberry32: a small seeded generator for test inputs. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 
 /** Two factors and N excess returns with betas spread around 1 and 0, noise 5% a month. */
 function noisyPanel(N: number, T: number, seed: number): ReturnsPanel {

@@ -9,18 +9,9 @@ import { gmmFitDetailed } from '../../../shared/estimation/gmmFit.js';
 import type { ReturnsPanel } from '../../../shared/panel.js';
 import { parseFitSpec, type FitSpecInput } from '../../../shared/spec.js';
 import { expectClose, monthEnds } from './helpers.js';
+import { mulberry32 } from '../../../shared/random.js';
 
-/** Mulberry32: a small seeded generator for test inputs. */
-function rng(seed: number): () => number {
-  let a = seed >>> 0;
-  return () => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-}
+const rng = mulberry32;
 function normals(r: () => number, n: number): Float64Array {
   const out = new Float64Array(n);
   for (let i = 0; i < n; i++) out[i] = Math.sqrt(-2 * Math.log(1 - r())) * Math.cos(2 * Math.PI * r());
