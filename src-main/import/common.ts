@@ -53,6 +53,8 @@ export interface ImportReport {
   first: string | null;
   last: string | null;
   warnings: ImportWarning[];
+  /** With the replace option: the earlier imports whose rows this one replaced (removed: left with no rows, so taken out of the log). */
+  replaced?: { importId: number; fileName: string; rows: number; removed: boolean }[];
   seconds: number;
 }
 

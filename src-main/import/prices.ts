@@ -28,6 +28,11 @@ export interface PriceImportOptions {
   thresholds?: Partial<CheckThresholds>;
   /** Rows with a bad value to skip (each listed as a warning) before the import fails; default 0. */
   maxRejects?: number;
+  /**
+   * Rows whose (asset, date) is stored from an earlier import replace those rows, in the
+   * same transaction (a corrected file); without it such a row fails the import.
+   */
+  replace?: boolean;
   onProgress?: ProgressCallback;
 }
 
@@ -423,6 +428,7 @@ export async function importPrices(store: Store, file: string, options: PriceImp
   const onProgress: ProgressCallback | undefined = progress ? (read) => progress(done + read, total) : undefined;
 
   const session = new ImportSession(store);
+  session.replace = options.replace === true;
   const sink = new WarningSink();
   const ctx: Ctx = { file, hash: createHash('sha256'), session, dates, sep, thresholds, sink, checkers: new Map(), maxRejects, rejected: 0, read: 0, first: Infinity, last: -Infinity };
   const divHash = createHash('sha256');
@@ -456,6 +462,7 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     thresholds,
     maxRejects,
     ...(options.dividends ? { dividends: logName(options.dividends) } : {}),
+    ...(options.replace ? { replace: true } : {}),
   };
   try {
     // the file's SHA-256 is computed as it is read; the log entry gets it at the end
@@ -495,14 +502,16 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     }
     const frequency = detectFrequency(ctx.checkers.values());
     for (const c of ctx.checkers.values()) c.finish(frequency);
-    const warnings: ImportWarning[] = sink.final();
+    const settled = session.settleReplaced();
+    const warnings: ImportWarning[] = [...settled.warnings, ...sink.final()];
     session.finishLog(logId, { read: ctx.read, stored: priceRows, rejected: priceRejected }, warnings);
     if (divLog) session.finishLog(divLog, { read: divRead, stored: divStored, rejected: ctx.rejected - priceRejected }, []);
     session.commit();
     const subjects = [...ctx.checkers.values()].map((c) => c.subject).sort();
     return {
       status: 'imported', file, sha256, kind: 'prices', importId: logId, rowsRead: ctx.read, rowsStored: priceRows, rowsRejected: ctx.rejected, subjects, frequency,
-      first: Number.isFinite(ctx.first) ? dates.text(ctx.first) : null, last: Number.isFinite(ctx.last) ? dates.text(ctx.last) : null, warnings, seconds: (performance.now() - started) / 1000,
+      first: Number.isFinite(ctx.first) ? dates.text(ctx.first) : null, last: Number.isFinite(ctx.last) ? dates.text(ctx.last) : null, warnings,
+      ...(options.replace ? { replaced: settled.replaced } : {}), seconds: (performance.now() - started) / 1000,
     };
   } catch (e) {
     session.rollback();

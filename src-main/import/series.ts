@@ -27,6 +27,8 @@ export interface SeriesImportOptions {
   dateColumn?: string;
   dateFormat?: string;
   thousands?: ThousandsName;
+  /** Values whose (series, date) is stored from an earlier import replace them, in the same transaction (a corrected file). */
+  replace?: boolean;
   onProgress?: ProgressCallback;
 }
 
@@ -63,6 +65,7 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   const total = fileSize(file);
   const progress = options.onProgress;
   const session = new ImportSession(store);
+  session.replace = options.replace === true;
   const sink = new WarningSink();
   const checkers: HistoryChecker[] = [];
   let names: string[] = [];
@@ -75,7 +78,7 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   let last = -Infinity;
   const scale = units === 'percent' ? 100 : 1;
   try {
-    const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'series', options: { kind, units, ...(rfForm ? { rfForm } : {}), dateFormat: dates.format.name, ...(options.thousands ? { thousands: options.thousands } : {}) } });
+    const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'series', options: { kind, units, ...(rfForm ? { rfForm } : {}), dateFormat: dates.format.name, ...(options.thousands ? { thousands: options.thousands } : {}), ...(options.replace ? { replace: true } : {}) } });
     await readCsv(
       file,
       (row) => {
@@ -149,12 +152,14 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
     session.setLogHash(logId, sha256);
     const frequency = detectFrequency(checkers);
     for (const c of checkers) c.finish(frequency);
-    const warnings = sink.final();
+    const settled = session.settleReplaced();
+    const warnings = [...settled.warnings, ...sink.final()];
     session.finishLog(logId, { read, stored: session.rowsStored, rejected: 0 }, warnings);
     session.commit();
     return {
       status: 'imported', file, sha256, kind: 'series', importId: logId, rowsRead: read, rowsStored: session.rowsStored, rowsRejected: 0, subjects: columns.map((c) => names[c.col]),
-      frequency, first: Number.isFinite(first) ? dates.text(first) : null, last: Number.isFinite(last) ? dates.text(last) : null, warnings, seconds: (performance.now() - started) / 1000,
+      frequency, first: Number.isFinite(first) ? dates.text(first) : null, last: Number.isFinite(last) ? dates.text(last) : null, warnings,
+      ...(options.replace ? { replaced: settled.replaced } : {}), seconds: (performance.now() - started) / 1000,
     };
   } catch (e) {
     session.rollback();

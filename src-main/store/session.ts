@@ -63,6 +63,10 @@ function sessionStatements(db: Database.Database) {
     serOne: db.prepare(`INSERT INTO series_observation (series_id, date, value, import_id) VALUES ${valuesList(1, SERIES_COLS)}`),
     serMany: db.prepare(`INSERT INTO series_observation (series_id, date, value, import_id) VALUES ${valuesList(BATCH, SERIES_COLS)}`),
     serOwner: db.prepare('SELECT import_id FROM series_observation WHERE series_id = ? AND date = ?').pluck(),
+    obsDelete: db.prepare('DELETE FROM observation WHERE asset_id = ? AND date = ?'),
+    serDelete: db.prepare('DELETE FROM series_observation WHERE series_id = ? AND date = ?'),
+    importHasRows: db.prepare('SELECT EXISTS (SELECT 1 FROM observation WHERE import_id = ?) OR EXISTS (SELECT 1 FROM series_observation WHERE import_id = ?)').pluck(),
+    logDelete: db.prepare('DELETE FROM import_log WHERE id = ?'),
   };
 }
 
@@ -112,6 +116,13 @@ export class ImportSession {
   private readonly serLines: number[] = [];
   private readonly serNames: string[] = [];
   rowsStored = 0;
+  /**
+   * Replace mode: a row whose (asset or series, date) is stored from an earlier import
+   * takes that row's place instead of failing the import (rows repeated within this
+   * import's own files still fail). `replaced` counts the rows each earlier import lost.
+   */
+  replace = false;
+  readonly replaced = new Map<number, number>();
 
   private readonly st: ReturnType<typeof sessionStatements>;
 
@@ -260,12 +271,19 @@ export class ImportSession {
     for (; r < n; r++) {
       const i = order[r];
       put(0, i);
+      const row = params.slice(0, OBS_COLS);
       try {
-        this.st.obsOne.run(params.slice(0, OBS_COLS));
+        this.st.obsOne.run(row);
         this.rowsStored++;
       } catch (e) {
         if (!isPrimaryKeyClash(e)) throw e;
-        if (!clash || c.line[i] < c.line[clash.i]) clash = { i, owner: this.st.obsOwner.get(c.asset[i], c.date[i]) as number };
+        const owner = this.st.obsOwner.get(c.asset[i], c.date[i]) as number;
+        if (this.replace && !this.logIds.includes(owner)) {
+          this.st.obsDelete.run(c.asset[i], c.date[i]);
+          this.st.obsOne.run(row);
+          this.rowsStored++;
+          this.replaced.set(owner, (this.replaced.get(owner) ?? 0) + 1);
+        } else if (!clash || c.line[i] < c.line[clash.i]) clash = { i, owner };
       }
     }
     c.n = 0;
@@ -280,8 +298,35 @@ export class ImportSession {
     throw new DeflatorError(
       'CONFLICT',
       `${origin.file}, line ${origin.line}: (${what}, date) = (${name}, ${date}) is already stored, from ${earlier ? `${earlier.fileName} (imported ${earlier.importedAt})` : `import ${owner}`}`,
-      'import only dates that are not stored yet, or import into a new database; nothing from this file was stored',
+      `nothing from this file was stored; to bring in a corrected file, import it again with --replace (its rows replace the stored ones), or take the earlier import out first with \`deflator import remove ${owner} --db DB\` (\`deflator info --db DB\` lists the imports); or import only dates that are not stored yet`,
     );
+  }
+
+  /**
+   * Replace mode, before commit: one warning per earlier import that lost rows, and the
+   * log entries of those left with no rows at all taken out (with a wide dividends file
+   * logged with them), so importing their bytes again is not mistaken for a repeat.
+   */
+  settleReplaced(): { warnings: ImportWarning[]; replaced: { importId: number; fileName: string; rows: number; removed: boolean }[] } {
+    const warnings: ImportWarning[] = [];
+    const replaced: { importId: number; fileName: string; rows: number; removed: boolean }[] = [];
+    for (const [owner, rows] of [...this.replaced].sort((a, b) => a[0] - b[0])) {
+      const entry = this.store.importById(owner);
+      const name = entry ? entry.fileName : `import ${owner}`;
+      const empty = this.st.importHasRows.get(owner, owner) === 0;
+      if (empty && entry) {
+        const next = this.store.importById(owner + 1);
+        if (next && next.kind === 'dividends' && next.options.prices === entry.fileName && entry.options.dividends === next.fileName) this.st.logDelete.run(next.id);
+        this.st.logDelete.run(owner);
+      }
+      replaced.push({ importId: owner, fileName: name, rows, removed: empty });
+      warnings.push({
+        kind: 'replaced',
+        subject: '',
+        message: `replaced ${rows} stored row${rows === 1 ? '' : 's'} from import ${owner} (${name})${empty ? `; that import has no rows left and was taken out of the import log` : ''}`,
+      });
+    }
+    return { warnings, replaced };
   }
 
   /** Sets the dividend of a row this import stored; false when there is no such row. */
@@ -349,7 +394,12 @@ export class ImportSession {
         if (!isPrimaryKeyClash(e)) throw e;
         const id = row[0] as number;
         const date = row[1] as string;
-        this.clash('series', this.serNames[r], date, this.st.serOwner.get(id, date) as number, { file, line: this.serLines[r] });
+        const owner = this.st.serOwner.get(id, date) as number;
+        if (!this.replace || this.logIds.includes(owner)) this.clash('series', this.serNames[r], date, owner, { file, line: this.serLines[r] });
+        this.st.serDelete.run(id, date);
+        this.st.serOne.run(row);
+        this.rowsStored++;
+        this.replaced.set(owner, (this.replaced.get(owner) ?? 0) + 1);
       }
     }
     this.clearSeries();

@@ -21,7 +21,7 @@ export interface StoreOptions {
 }
 
 export interface ImportWarning {
-  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'more';
+  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'replaced' | 'more';
   /** Asset or series name; '' for file-level warnings. */
   subject: string;
   from?: string;
@@ -40,6 +40,18 @@ export interface ImportLogEntry {
   warnings: ImportWarning[];
   options: Record<string, unknown>;
   importedAt: string;
+}
+
+/** What removeImport took out of the store. */
+export interface RemovedImport {
+  /** The log entries removed: the import itself, and a wide dividends file logged with its prices. */
+  entries: ImportLogEntry[];
+  /** Price observations (assets) or series values (series) deleted. */
+  rows: number;
+  /** Assets or series that had rows from this import, sorted. */
+  subjects: string[];
+  /** Those of them left with no rows, hence removed from the store too. */
+  subjectsRemoved: string[];
 }
 
 export interface AssetCoverage extends Coverage {
@@ -340,6 +352,53 @@ export class Store {
   importById(id: number): ImportLogEntry | undefined {
     const r = this.st.logById.get(id) as LogRow | undefined;
     return r ? toLogEntry(r) : undefined;
+  }
+
+  /**
+   * Takes one import back out of the store, in one transaction: the rows it stored (those
+   * a later import replaced are that import's now), the assets and series left with no
+   * rows, and its log entry (a prices import takes the wide dividends file logged with it
+   * along). The entry is deleted, not marked: the rows' import ids and the subjects'
+   * digests that run records hold then no longer match, so those runs read as stale, and
+   * the same bytes can be imported again. NOT_FOUND for an id not in the log.
+   */
+  removeImport(importId: number): RemovedImport {
+    const db = this.db;
+    return db.transaction((): RemovedImport => {
+      const entry = this.importById(importId);
+      if (!entry) {
+        throw new DeflatorError('NOT_FOUND', `import ${importId} is not in the import log of ${this.path}`, '`deflator info --db DB` lists the imports with their ids');
+      }
+      if (entry.kind === 'dividends') {
+        const prices = this.importById(importId - 1);
+        const owner = prices && prices.kind === 'prices' && entry.options.prices === prices.fileName ? ` (import ${prices.id}, ${prices.fileName})` : '';
+        throw new DeflatorError(
+          'CONFLICT',
+          `import ${importId} (${entry.fileName}) is a dividends file: its dividends sit on the rows of the prices file imported with it${owner}`,
+          'remove the prices import it came with (its id is the one before it in `deflator info --db DB`); that takes the dividends along',
+        );
+      }
+      const entries = [entry];
+      const next = this.importById(importId + 1);
+      if (entry.kind === 'prices' && next && next.kind === 'dividends' && next.options.prices === entry.fileName && entry.options.dividends === next.fileName) entries.push(next);
+      const isPrices = entry.kind === 'prices';
+      const subjectsSql = isPrices
+        ? 'SELECT id, name FROM asset WHERE id IN (SELECT DISTINCT asset_id FROM observation WHERE import_id = ?) ORDER BY name'
+        : 'SELECT id, name FROM series WHERE id IN (SELECT DISTINCT series_id FROM series_observation WHERE import_id = ?) ORDER BY name';
+      const touched = db.prepare(subjectsSql).all(importId) as { id: number; name: string }[];
+      const rows = db.prepare(isPrices ? 'DELETE FROM observation WHERE import_id = ?' : 'DELETE FROM series_observation WHERE import_id = ?').run(importId).changes;
+      const hasRows = db.prepare(isPrices ? 'SELECT 1 FROM observation WHERE asset_id = ? LIMIT 1' : 'SELECT 1 FROM series_observation WHERE series_id = ? LIMIT 1').pluck();
+      const dropSubject = db.prepare(isPrices ? 'DELETE FROM asset WHERE id = ?' : 'DELETE FROM series WHERE id = ?');
+      const subjectsRemoved: string[] = [];
+      for (const t of touched) {
+        if (hasRows.get(t.id) !== undefined) continue;
+        dropSubject.run(t.id);
+        subjectsRemoved.push(t.name);
+      }
+      const dropLog = db.prepare('DELETE FROM import_log WHERE id = ?');
+      for (const e of entries) dropLog.run(e.id);
+      return { entries, rows, subjects: touched.map((t) => t.name), subjectsRemoved };
+    }).immediate();
   }
 
   /** What is stored: coverage per asset, series and portfolio, and the import log. */

@@ -2,14 +2,17 @@
  * `deflator import prices FILE --db DB` and `deflator import series FILE --db DB --kind K`:
  * streaming CSV import, one transaction per file (a failed import stores nothing). A file
  * whose bytes were imported before is reported and skipped (exit 0). Progress goes to
- * stderr when it is a terminal; --json prints the import report on stdout.
+ * stderr when it is a terminal; --json prints the import report on stdout. --replace lets a
+ * corrected file's rows take the place of the stored ones; `deflator import remove ID`
+ * takes one import back out (and says which recorded runs that makes stale).
  */
 import type { Command } from 'commander';
 import { RF_FORMS, SERIES_KINDS, type RiskfreeForm, type SeriesKind } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { formatImportReport } from '../../data/summary.js';
 import { DATE_FORMATS, DEFAULT_THRESHOLDS, THOUSANDS_SEPARATORS, importPrices, importSeries, type ImportReport, type PriceColumn, type ThousandsName, type Units } from '../../import/index.js';
-import { Store } from '../../store/store.js';
+import { listRuns } from '../../runs/runs.js';
+import { Store, type RemovedImport } from '../../store/store.js';
 
 /** "0.5", "50%" -> 0.5 */
 function fraction(flag: string) {
@@ -75,6 +78,7 @@ interface PriceFlags {
   maxDividendYield: number;
   stalePeriods: number;
   maxRejects: number;
+  replace?: boolean;
   json?: boolean;
 }
 
@@ -86,7 +90,33 @@ interface SeriesFlags {
   dateColumn?: string;
   dateFormat?: string;
   thousands?: ThousandsName;
+  replace?: boolean;
   json?: boolean;
+}
+
+/** "7" or "#7" -> 7 */
+function importId(text: string): number {
+  const m = /^#?\s*(\d{1,15})$/.exec(text.trim());
+  if (!m || Number(m[1]) < 1) throw new DeflatorError('INPUT_INVALID', `"${text}" is not an import id`, '`deflator info --db DB` lists the imports with their ids (the # column)');
+  return Number(m[1]);
+}
+
+function formatRemoved(r: RemovedImport, nowStale: { id: number; label: string }[], stillStale: number[]): string {
+  const [main, ...rest] = r.entries;
+  const what = main.kind === 'series' ? 'series value' : 'price observation';
+  const lines = [
+    `removed import ${main.id} (${main.fileName}, ${main.kind}, imported ${main.importedAt}): ${r.rows} ${what}${r.rows === 1 ? '' : 's'} deleted`,
+  ];
+  for (const e of rest) lines.push(`  with it: import ${e.id} (${e.fileName}, ${e.kind})`);
+  const noun = main.kind === 'series' ? 'series' : 'asset';
+  if (r.subjects.length) lines.push(`  ${noun}${r.subjects.length === 1 || noun === 'series' ? '' : 's'} touched: ${r.subjects.join(', ')}`);
+  if (r.subjectsRemoved.length) lines.push(`  left with no rows, so removed: ${r.subjectsRemoved.join(', ')}`);
+  if (nowStale.length) {
+    lines.push(`  recorded runs now stale (their data changed): ${nowStale.map((s) => `${s.id} (${s.label})`).join(', ')}`);
+    lines.push('  `deflator runs --db DB` lists them; `deflator replay ID --db DB` shows what changed');
+  } else lines.push('  no recorded run became stale');
+  if (stillStale.length) lines.push(`  already stale before: ${stillStale.join(', ')}`);
+  return lines.join('\n');
 }
 
 const thousandsNames = Object.keys(THOUSANDS_SEPARATORS) as ThousandsName[];
@@ -113,6 +143,7 @@ export function register(program: Command): void {
     .option('--max-dividend-yield <fraction>', 'warn about dividends above this fraction of the price, e.g. 0.25 or 25%', fraction('--max-dividend-yield'), DEFAULT_THRESHOLDS.maxDividendYield)
     .option('--stale-periods <n>', 'warn when a price stays unchanged for this many periods', count('--stale-periods'), DEFAULT_THRESHOLDS.stalePeriods)
     .option('--max-rejects <n>', 'skip up to this many rows with a bad value (each listed as a warning) instead of failing', count('--max-rejects'), 0)
+    .option('--replace', 'rows whose (asset, date) is already stored replace the stored rows (a corrected file), in the same transaction')
     .option('--json', 'print the import report as JSON')
     .action(async (file: string, o: PriceFlags) => {
       const columns: Partial<Record<PriceColumn, string>> = {};
@@ -133,6 +164,7 @@ export function register(program: Command): void {
           ...(o.thousands ? { thousands: o.thousands } : {}),
           thresholds: { maxReturn: o.maxReturn, maxDividendYield: o.maxDividendYield, stalePeriods: o.stalePeriods },
           maxRejects: o.maxRejects,
+          ...(o.replace ? { replace: true } : {}),
           ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
         });
         bar.done();
@@ -154,6 +186,7 @@ export function register(program: Command): void {
     .option('--date-column <name>', 'name of the date column (default date)')
     .option('--date-format <format>', `date layout when not ISO YYYY-MM-DD: ${DATE_FORMATS.join(', ')}`)
     .option('--thousands <separator>', `allow thousands separators in numbers: ${thousandsNames.join(', ')}`, oneOf('--thousands', thousandsNames))
+    .option('--replace', 'values whose (series, date) is already stored replace the stored values (a corrected file), in the same transaction')
     .option('--json', 'print the import report as JSON')
     .action(async (file: string, o: SeriesFlags) => {
       const bar = progressBar(`importing ${file}`);
@@ -166,12 +199,36 @@ export function register(program: Command): void {
           ...(o.dateColumn ? { dateColumn: o.dateColumn } : {}),
           ...(o.dateFormat ? { dateFormat: o.dateFormat } : {}),
           ...(o.thousands ? { thousands: o.thousands } : {}),
+          ...(o.replace ? { replace: true } : {}),
           ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
         });
         bar.done();
         report(r, o.json);
       } finally {
         bar.done();
+        store.close();
+      }
+    });
+
+  imp
+    .command('remove')
+    .description('take one import back out of a database: the rows it stored, assets/series left empty, its log entry')
+    .argument('<id>', 'import id (the # column of `deflator info --db DB`)')
+    .requiredOption('--db <path>', 'database file')
+    .option('--json', 'print what was removed as JSON')
+    .action((id: string, o: { db: string; json?: boolean }) => {
+      const n = importId(id);
+      const store = new Store(o.db, { mustExist: true });
+      try {
+        const before = new Map(listRuns(store).map((r) => [r.id, r.stale]));
+        const removed = store.removeImport(n);
+        const after = listRuns(store).filter((r) => r.stale);
+        const nowStale = after.filter((r) => before.get(r.id) === false).map((r) => ({ id: r.id, label: r.label }));
+        const stillStale = after.filter((r) => before.get(r.id) === true).map((r) => r.id);
+        process.stdout.write(
+          o.json ? `${JSON.stringify({ ...removed, nowStale: nowStale.map((r) => r.id), alreadyStale: stillStale }, null, 2)}\n` : `${formatRemoved(removed, nowStale, stillStale)}\n`,
+        );
+      } finally {
         store.close();
       }
     });

@@ -31,18 +31,12 @@ export async function makeProject(): Promise<Project> {
 }
 
 /**
- * Takes an import back out of the store (its rows and its log entry): the first half of
- * re-importing a corrected file, which the store offers no command for yet.
+ * Takes every import of a file back out of the store (Store.removeImport: its rows, the
+ * assets or series left with none, its log entry): the first half of re-importing a
+ * corrected file without --replace.
  */
 export function forgetImport(store: Store, fileName: string): void {
-  const ids = store.importLog().filter((e) => e.fileName === fileName).map((e) => e.id);
-  store.db.transaction(() => {
-    for (const id of ids) {
-      store.db.prepare('DELETE FROM observation WHERE import_id = ?').run(id);
-      store.db.prepare('DELETE FROM series_observation WHERE import_id = ?').run(id);
-      store.db.prepare('DELETE FROM import_log WHERE id = ?').run(id);
-    }
-  })();
+  for (const e of store.importLog().filter((x) => x.fileName === fileName && x.kind !== 'dividends')) store.removeImport(e.id);
 }
 
 /** Rewrites one price (asset, date) of a long prices file; returns the old value. */
