@@ -209,7 +209,8 @@ export function staleItems(store: Store, record: Pick<RunRecord, 'files' | 'subj
   for (const f of record.files) {
     const refs = record.subjects.filter((s) => s.kind !== 'portfolio' && f.subjects.includes(s.name));
     const current = fp.files(refs);
-    if (current.some((c) => c.importId === f.importId && c.sha256 === f.sha256)) continue;
+    // the same import, or the same bytes imported again (after `deflator import remove`) feeding the same subjects
+    if (current.some((c) => c.sha256 === f.sha256 && (c.importId === f.importId || f.subjects.every((x) => c.subjects.includes(x))))) continue;
     const replacement = current.filter((c) => c.subjects.some((x) => f.subjects.includes(x)));
     items.push({
       what: `file ${f.file}`,

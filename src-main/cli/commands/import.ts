@@ -109,7 +109,7 @@ function formatRemoved(r: RemovedImport, nowStale: { id: number; label: string }
   ];
   for (const e of rest) lines.push(`  with it: import ${e.id} (${e.fileName}, ${e.kind})`);
   const noun = main.kind === 'series' ? 'series' : 'asset';
-  if (r.subjects.length) lines.push(`  ${noun}${r.subjects.length === 1 || noun === 'series' ? '' : 's'} touched: ${r.subjects.join(', ')}`);
+  if (r.subjects.length) lines.push(`  ${r.subjects.length} ${noun}${r.subjects.length === 1 || noun === 'series' ? '' : 's'} touched: ${r.subjects.join(', ')}`);
   if (r.subjectsRemoved.length) lines.push(`  left with no rows, so removed: ${r.subjectsRemoved.join(', ')}`);
   if (nowStale.length) {
     lines.push(`  recorded runs now stale (their data changed): ${nowStale.map((s) => `${s.id} (${s.label})`).join(', ')}`);
