@@ -149,7 +149,7 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
         efficient = false;
         sText = 'inference with S re-estimated at the second-stage estimate (sandwich form)';
         notes.push('Standard errors and tests use S re-estimated at the final estimate; J is T g\'S^-1 g with that S.');
-      } else inf = gmmInference(model, g, d, S1, { kind: 'efficient' });
+      } else inf = gmmInference(model, g, d, S1, { kind: 'efficient' }, W2.inverseOf?.chol); // S1 is already factored for W2
       return {
         ...inf,
         stage: 'second',

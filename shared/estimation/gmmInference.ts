@@ -14,11 +14,27 @@
  * (1/T)(S - d (d'S^{-1}d)^{-1} d'), and Hansen's J = T g'S^{-1}g.
  * The test that all pricing errors are zero is g' Var(g)^+ g ~ chi2(q - p), the
  * Moore-Penrose inverse taken at the rank q - p the theory gives.
+ *
+ * Computing it without an eigen-decomposition. M is the projection onto null(a) along
+ * range(d), so with S = L L' positive definite, Var(g) has rank q - p and range null(a),
+ * and for g in null(a)
+ *
+ *   g' Var(g)^+ g = T || (I - Z (Z'Z)^{-1} Z') L^{-1} g ||^2,   Z = L^{-1} d
+ *
+ * (derivation in shared/linalg/pinv.ts, `projectedCovariancePinvForm`, which also projects
+ * g onto null(a) first: a g = 0 holds only to the solver's precision, and the
+ * pseudo-inverse ignores the rest). O(q^2 p) beyond the Cholesky factor of S that J needs
+ * anyway, where an eigen-decomposition of the q x q Var(g) costs about 9 q^3 flops
+ * (minutes for 2,000 test assets). At the efficient stage (a = d'S^{-1}, so Z'L^{-1}g =
+ * d'S^{-1}g = 0) the formula reduces to Hansen's J.
+ *
+ * Var(g) itself is formed as (I - dH) S (I - dH)' = U - (U H') d' with U = S - d (H S),
+ * O(q^2 p), never as the product of q x q matrices.
  */
 import { DeflatorError } from '../errors.js';
 import { cholesky, cholForwardMat, cholSolveMat, cholSolveVec } from '../linalg/cholesky.js';
 import { type Mat, zeros } from '../linalg/matrix.js';
-import { symmetricPinv } from '../linalg/pinv.js';
+import { projectedCovariancePinvForm } from '../linalg/pinv.js';
 import type { MomentModel } from './momentModel.js';
 import type { Weighting } from './weighting.js';
 
@@ -44,17 +60,12 @@ export interface GmmInference {
  * Covariances and test statistics at theta, with S the long-run covariance that
  * inference uses. `g` and `d` are g_T and the Jacobian at theta.
  */
-export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat, w: WeightingForInference): GmmInference {
+export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat, w: WeightingForInference, LSGiven?: Mat): GmmInference {
   const { q, p, T } = model;
-  const { covTheta, covG, LS } = gmmCovariances(model, d, S, w);
+  const { covTheta, covG, LS, constraint } = gmmCovariances(model, d, S, w, LSGiven);
   const df = q - p;
-  const pinv = symmetricPinv(covG, { name: 'the covariance of the pricing errors Var(g)', rank: df });
-  let stat = 0;
-  for (let i = 0; i < q; i++) {
-    let r = 0;
-    for (let j = 0; j < q; j++) r += pinv.pinv.data[i * q + j] * g[j];
-    stat += g[i] * r;
-  }
+  // g' Var(g)^+ g with Var(g) = (1/T) M S M': T times the projected form (file comment).
+  const stat = T * projectedCovariancePinvForm(g, d, LS, constraint, { labels: model.paramNames });
   const Sg = cholSolveVec(LS, g);
   let J = 0;
   for (let i = 0; i < q; i++) J += g[i] * Sg[i];
@@ -62,17 +73,23 @@ export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat
   return { covTheta, covG, pricingErrorStat: Math.max(0, stat), df, J };
 }
 
-/** Var(theta) and Var(g_T) only (and the Cholesky factor of S), without the tests. */
-export function gmmCovariances(model: MomentModel, d: Mat, S: Mat, w: WeightingForInference): { covTheta: Mat; covG: Mat; LS: Mat } {
+/**
+ * Var(theta) and Var(g_T) only (and the Cholesky factor of S, computed unless `LSGiven`
+ * is that factor), without the tests. `constraint` (q x p) spans the row space of a.
+ */
+export function gmmCovariances(model: MomentModel, d: Mat, S: Mat, w: WeightingForInference, LSGiven?: Mat): { covTheta: Mat; covG: Mat; LS: Mat; constraint: Mat } {
   const { q, p, T } = model;
   const names = model.paramNames;
-  const LS = cholesky(S, {
-    name: 'the long-run covariance S of the moments',
-    labels: model.momentNames,
-    hint: 'two test assets may be (almost) the same portfolio, a series may be constant, or the sample is too short for this many moments; drop assets or lengthen the sample',
-  });
+  const LS =
+    LSGiven ??
+    cholesky(S, {
+      name: 'the long-run covariance S of the moments',
+      labels: model.momentNames,
+      hint: 'two test assets may be (almost) the same portfolio, a series may be constant, or the sample is too short for this many moments; drop assets or lengthen the sample',
+    });
   let covTheta: Mat;
   let covG: Mat;
+  let constraint: Mat;
   if (w.kind === 'efficient') {
     // Z = L^{-1} d, A = Z'Z = d'S^{-1}d.
     const Z = cholForwardMat(LS, d);
@@ -91,20 +108,90 @@ export function gmmCovariances(model: MomentModel, d: Mat, S: Mat, w: WeightingF
         covG.data[i * q + j] = v;
         covG.data[j * q + i] = v;
       }
+    // a = d'S^{-1}: its row space is spanned by the columns of S^{-1} d.
+    constraint = cholSolveMat(LS, d);
   } else {
     const H = w.kind === 'fixed' ? selectionFixed(model, d, w.weight) : selectionPinned(model, d, w.weight);
-    covTheta = sandwich(H, S, T);
-    // M = I - d H (q x q).
-    const M = zeros(q, q);
-    for (let i = 0; i < q; i++)
-      for (let j = 0; j < q; j++) {
-        let s = i === j ? 1 : 0;
-        for (let k = 0; k < p; k++) s -= d.data[i * p + k] * H.data[k * q + j];
-        M.data[i * q + j] = s;
+    const HS = productHS(H, S);
+    covTheta = zeros(p, p);
+    for (let a = 0; a < p; a++)
+      for (let b = a; b < p; b++) {
+        let s = 0;
+        for (let l = 0; l < q; l++) s += HS[a * q + l] * H.data[b * q + l];
+        s /= T;
+        covTheta.data[a * p + b] = s;
+        covTheta.data[b * p + a] = s;
       }
-    covG = sandwich(M, S, T);
+    covG = projectedCovariance(d, H, HS, S, T);
+    constraint = transposeOf(H);
   }
-  return { covTheta, covG, LS };
+  return { covTheta, covG, LS, constraint };
+}
+
+/** H S (p x q) for H p x q and S q x q, row by row along contiguous rows of S. */
+function productHS(H: Mat, S: Mat): Float64Array {
+  const p = H.rows;
+  const q = H.cols;
+  const out = new Float64Array(p * q);
+  for (let k = 0; k < p; k++) {
+    const o = k * q;
+    for (let l = 0; l < q; l++) {
+      const h = H.data[o + l];
+      if (h === 0) continue;
+      const sl = l * q;
+      for (let j = 0; j < q; j++) out[o + j] += h * S.data[sl + j];
+    }
+  }
+  return out;
+}
+
+/**
+ * (1/T) M S M' with M = I - d H, as U - (U H') d' with U = S - d (H S): O(q^2 p) where the
+ * explicit q x q products cost O(q^3). Symmetrised (the two triangles differ by rounding).
+ */
+function projectedCovariance(d: Mat, H: Mat, HS: Float64Array, S: Mat, T: number): Mat {
+  const q = d.rows;
+  const p = d.cols;
+  const dT = transposeOf(d).data; // p x q: column k of d is contiguous
+  const out = zeros(q, q);
+  const U = out.data;
+  // U = S - d (H S), row i: S[i, :] - sum_k d[i, k] HS[k, :].
+  for (let i = 0; i < q; i++) {
+    const o = i * q;
+    for (let j = 0; j < q; j++) U[o + j] = S.data[o + j];
+    for (let k = 0; k < p; k++) {
+      const c = d.data[i * p + k];
+      if (c === 0) continue;
+      const hk = k * q;
+      for (let j = 0; j < q; j++) U[o + j] -= c * HS[hk + j];
+    }
+  }
+  // U H' (q x p), then U - (U H') d' in place.
+  const UH = new Float64Array(p);
+  for (let i = 0; i < q; i++) {
+    const o = i * q;
+    for (let k = 0; k < p; k++) {
+      let s = 0;
+      const hk = k * q;
+      for (let l = 0; l < q; l++) s += U[o + l] * H.data[hk + l];
+      UH[k] = s;
+    }
+    for (let k = 0; k < p; k++) {
+      const c = UH[k];
+      if (c === 0) continue;
+      const dk = k * q;
+      for (let j = 0; j < q; j++) U[o + j] -= c * dT[dk + j];
+    }
+  }
+  for (let i = 0; i < q; i++) {
+    U[i * q + i] /= T;
+    for (let j = i + 1; j < q; j++) {
+      const v = (U[i * q + j] + U[j * q + i]) / (2 * T);
+      U[i * q + j] = v;
+      U[j * q + i] = v;
+    }
+  }
+  return out;
 }
 
 /** H = (d'Wd)^{-1} d'W. */
@@ -177,32 +264,6 @@ function selectionPinned(model: MomentModel, d: Mat, W: Weighting): Mat {
   F.forEach((k, a) => H.data.set(top.data.subarray(a * q, (a + 1) * q), k * q));
   P.forEach((k, j) => (H.data[k * q + X[j]] = -1));
   return H;
-}
-
-/** (1/T) B S B'. */
-function sandwich(B: Mat, S: Mat, T: number): Mat {
-  const r = B.rows;
-  const q = B.cols;
-  // BS (r x q)
-  const BS = new Float64Array(r * q);
-  for (let i = 0; i < r; i++)
-    for (let l = 0; l < q; l++) {
-      const bil = B.data[i * q + l];
-      if (bil === 0) continue;
-      const sl = l * q;
-      const o = i * q;
-      for (let j = 0; j < q; j++) BS[o + j] += bil * S.data[sl + j];
-    }
-  const out = zeros(r, r);
-  for (let i = 0; i < r; i++)
-    for (let j = i; j < r; j++) {
-      let s = 0;
-      for (let l = 0; l < q; l++) s += BS[i * q + l] * B.data[j * q + l];
-      s /= T;
-      out.data[i * r + j] = s;
-      out.data[j * r + i] = s;
-    }
-  return out;
 }
 
 function gram(Z: Mat): Mat {

@@ -18,7 +18,7 @@
  * (terms outside 0..T-1 dropped), which is the formula above regrouped: O(q T L + q^2 T / 2).
  */
 import { DeflatorError } from '../errors.js';
-import { seriesDot, type Mat } from '../linalg/matrix.js';
+import { seriesProductsUpper, type Mat } from '../linalg/matrix.js';
 
 /** The automatic lag rule L = floor(4 (T/100)^(2/9)) (Newey and West 1994). */
 export function autoLags(T: number): number {
@@ -74,15 +74,9 @@ export function longRunCovariance(u: readonly Float64Array[], lags: number, cent
     }
     filtered[a] = v;
   }
-  const S = new Float64Array(q * q);
+  // S_ab = S_ba = (1/T) sum_t v_a,t u_b,t for b >= a.
+  const S = seriesProductsUpper(filtered, series);
   const invT = 1 / T;
-  for (let a = 0; a < q; a++) {
-    const va = filtered[a];
-    for (let b = a; b < q; b++) {
-      const s = seriesDot(va, series[b]) * invT;
-      S[a * q + b] = s;
-      S[b * q + a] = s;
-    }
-  }
+  for (let k = 0; k < S.length; k++) S[k] *= invT;
   return { rows: q, cols: q, data: S };
 }

@@ -13,7 +13,7 @@
  * same way (the minimum of sigma_min(v)/v over v).
  */
 import { cholesky, cholSolveVec } from '../linalg/cholesky.js';
-import { seriesDot } from '../linalg/matrix.js';
+import { seriesProductsUpper } from '../linalg/matrix.js';
 import type { VolatilityBound } from '../results.js';
 
 export interface BoundInput {
@@ -43,13 +43,8 @@ function meanAndCov(x: readonly Float64Array[]): { mu: Float64Array; cov: Float6
     mu[i] = s / T;
   }
   const centered = x.map((xi, i) => Float64Array.from(xi, (v) => v - mu[i]));
-  const cov = new Float64Array(n * n);
-  for (let i = 0; i < n; i++)
-    for (let j = i; j < n; j++) {
-      const s = seriesDot(centered[i], centered[j]) / T;
-      cov[i * n + j] = s;
-      cov[j * n + i] = s;
-    }
+  const cov = seriesProductsUpper(centered, centered);
+  for (let k = 0; k < cov.length; k++) cov[k] /= T;
   return { mu, cov };
 }
 

@@ -4,7 +4,7 @@
  * Hansen-Jagannathan weight), applied through the Cholesky factor instead.
  */
 import { cholesky, cholSolveMat, cholSolveVec, type CholeskyOptions } from '../linalg/cholesky.js';
-import { type Mat, clone, seriesDot } from '../linalg/matrix.js';
+import { type Mat, clone, seriesProductsUpper } from '../linalg/matrix.js';
 
 export interface Weighting {
   readonly q: number;
@@ -39,14 +39,9 @@ export function inverseWeighting(a: Mat, opts: CholeskyOptions): Weighting {
 export function secondMomentMatrix(returns: readonly Float64Array[]): Mat {
   const n = returns.length;
   const T = n ? returns[0].length : 0;
-  const out = new Float64Array(n * n);
-  if (T === 0) return { rows: n, cols: n, data: out };
-  for (let i = 0; i < n; i++)
-    for (let j = i; j < n; j++) {
-      const s = seriesDot(returns[i], returns[j]) / T;
-      out[i * n + j] = s;
-      out[j * n + i] = s;
-    }
+  if (T === 0) return { rows: n, cols: n, data: new Float64Array(n * n) };
+  const out = seriesProductsUpper(returns, returns);
+  for (let k = 0; k < out.length; k++) out[k] /= T;
   return { rows: n, cols: n, data: out };
 }
 

@@ -1,7 +1,8 @@
 /**
- * Small dense matrices for the estimators: row-major Float64Array storage and the few
- * products GMM needs. Sizes here are moments x parameters (at most a few hundred), so
- * plain loops with contiguous inner strides are fast enough and allocation is explicit.
+ * Dense matrices for the estimators: row-major Float64Array storage and the few products
+ * GMM needs. Most are moments x parameters; the q x q ones (S, Var(g), E[RR']) reach a few
+ * thousand rows with thousands of test assets, so every hot loop runs along contiguous
+ * rows, and allocation is explicit.
  */
 
 /** A dense row-major matrix: entry (i, j) is data[i * cols + j]. */
@@ -206,6 +207,64 @@ export function seriesDot(x: Float64Array, y: Float64Array): number {
   }
   for (; t < n; t++) s0 += x[t] * y[t];
   return s0 + s1 + s2 + s3;
+}
+
+/**
+ * The symmetric q x q matrix with entries (a, b) and (b, a) equal to seriesDot(x[a], y[b])
+ * for b >= a (x = y gives a Gram matrix; the long-run covariance passes its filtered and
+ * plain series). Unscaled: the caller divides by T as it did per entry. Rows are taken two at a time, so each
+ * pass over y[b] serves two sums: half the memory traffic of one seriesDot per entry, which
+ * for thousands of long series is what bounds the loop. Each sum keeps seriesDot's four
+ * partial sums and their order, so every entry equals seriesDot's to the last bit.
+ */
+export function seriesProductsUpper(x: readonly Float64Array[], y: readonly Float64Array[]): Float64Array {
+  const q = x.length;
+  const out = new Float64Array(q * q);
+  const put = (a: number, b: number, s: number) => {
+    out[a * q + b] = s;
+    out[b * q + a] = s;
+  };
+  let a = 0;
+  for (; a + 1 < q; a += 2) {
+    const x0 = x[a];
+    const x1 = x[a + 1];
+    put(a, a, seriesDot(x0, y[a]));
+    for (let b = a + 1; b < q; b++) {
+      const yb = y[b];
+      const n = yb.length;
+      let s0 = 0;
+      let s1 = 0;
+      let s2 = 0;
+      let s3 = 0;
+      let r0 = 0;
+      let r1 = 0;
+      let r2 = 0;
+      let r3 = 0;
+      let t = 0;
+      for (; t + 3 < n; t += 4) {
+        const y0 = yb[t];
+        const y1 = yb[t + 1];
+        const y2 = yb[t + 2];
+        const y3 = yb[t + 3];
+        s0 += x0[t] * y0;
+        s1 += x0[t + 1] * y1;
+        s2 += x0[t + 2] * y2;
+        s3 += x0[t + 3] * y3;
+        r0 += x1[t] * y0;
+        r1 += x1[t + 1] * y1;
+        r2 += x1[t + 2] * y2;
+        r3 += x1[t + 3] * y3;
+      }
+      for (; t < n; t++) {
+        s0 += x0[t] * yb[t];
+        r0 += x1[t] * yb[t];
+      }
+      put(a, b, s0 + s1 + s2 + s3);
+      put(a + 1, b, r0 + r1 + r2 + r3);
+    }
+  }
+  if (a < q) put(a, a, seriesDot(x[a], y[a]));
+  return out;
 }
 
 /** Largest absolute entry (0 for an empty matrix). */
