@@ -437,7 +437,7 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     const before = store.findImport(sha256, 'prices');
     if (!before) return undefined;
     if (divSha && !store.findImport(divSha, 'dividends')) {
-      throw new DeflatorError('CONFLICT', `${file} was already imported (${before.importedAt}) with another dividends file than ${options.dividends}`, 'import the new dividends with their prices into a new database, or remove the earlier import');
+      throw new DeflatorError('CONFLICT', `${file} was already imported (${before.importedAt}) with another dividends file than ${options.dividends}`, `take the earlier import out with \`deflator import remove ${before.id} --db DB\`, then import both files again`);
     }
     return {
       status: 'already-imported', file, sha256, kind: 'prices', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
