@@ -14,6 +14,7 @@ import { openApp } from '../app/open.js';
 import type { OpenedApp } from '../app/open.js';
 import { demoDatabasePath } from '../app/paths.js';
 import type { TaskRunner } from '../app/project.js';
+import { pdfFromHtmlWithWebContents } from '../export/pdf.js';
 import { makeSenderCheck, registerBridgeHandlers } from './ipc.js';
 import { menuTemplate } from './menu.js';
 import { appProtocolHandler } from './protocol.js';
@@ -49,6 +50,16 @@ export function applySessionPolicy(): void {
   ses.setPermissionCheckHandler((_wc, permission) => ALLOWED_PERMISSIONS.includes(permission));
 }
 
+/** PDF exports through Electron's own printer: a hidden window with JavaScript off, one per export. */
+export async function printPdf(html: string): Promise<Buffer> {
+  const printer = new BrowserWindow({ show: false, webPreferences: { javascript: false, sandbox: true, contextIsolation: true, nodeIntegration: false } });
+  try {
+    return await pdfFromHtmlWithWebContents(html, printer);
+  } finally {
+    printer.destroy();
+  }
+}
+
 export async function startShell(opts: ShellOptions, ipc: IpcMain = ipcMain): Promise<{ app: OpenedApp; window: BrowserWindow }> {
   await app.whenReady();
   applySessionPolicy();
@@ -59,6 +70,7 @@ export async function startShell(opts: ShellOptions, ipc: IpcMain = ipcMain): Pr
     demo: opts.dbPath === undefined,
     dataDir,
     pool: opts.pool,
+    pdf: printPdf,
   });
   const win = createMainWindow(opts.distDir);
   const send = (e: BridgeEvent) => {

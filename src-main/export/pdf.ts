@@ -68,7 +68,7 @@ export async function htmlToPdf(html: string, opts: { executablePath?: string } 
 export interface PrintableWindow {
   webContents: {
     loadURL(url: string): Promise<void>;
-    printToPDF(options: { printBackground?: boolean; pageSize?: string; margins?: { marginType?: string } }): Promise<Uint8Array>;
+    printToPDF(options: { printBackground?: boolean; pageSize?: 'A4' }): Promise<Uint8Array>;
   };
 }
 
@@ -78,6 +78,6 @@ export interface PrintableWindow {
  */
 export async function pdfFromHtmlWithWebContents(html: string, win: PrintableWindow): Promise<Buffer> {
   await win.webContents.loadURL(`data:text/html;charset=utf-8,${encodeURIComponent(html)}`);
-  const bytes = await win.webContents.printToPDF({ printBackground: true, pageSize: 'A4', margins: { marginType: 'default' } });
+  const bytes = await win.webContents.printToPDF({ printBackground: true, pageSize: 'A4' });
   return Buffer.from(bytes);
 }

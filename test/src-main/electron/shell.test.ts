@@ -22,6 +22,8 @@ const h = vi.hoisted(() => {
     openDialogResult: { canceled: false, filePaths: [] as string[] },
     userData: '',
     loaded: '' as string,
+    printed: [] as { url: string; options: unknown }[],
+    destroyed: 0,
   };
   interface FakeContents {
     id: number;
@@ -33,6 +35,8 @@ const h = vi.hoisted(() => {
     getURL(): string;
     send(channel: string, payload: unknown): void;
     emit(ev: string, ...a: unknown[]): void;
+    loadURL(url: string): Promise<void>;
+    printToPDF(options: unknown): Promise<Uint8Array>;
   }
   let nextId = 1;
   function makeContents(): FakeContents {
@@ -55,6 +59,13 @@ const h = vi.hoisted(() => {
       emit(ev, ...a) {
         for (const fn of c.listeners.get(ev) ?? []) fn(...a);
       },
+      async loadURL(url) {
+        c.url = url;
+      },
+      async printToPDF(options) {
+        state.printed.push({ url: c.url, options });
+        return new TextEncoder().encode('%PDF-1.4 fake');
+      },
     };
     return c;
   }
@@ -74,6 +85,9 @@ vi.mock('electron', () => {
       return false;
     }
     setTitle() {}
+    destroy() {
+      state.destroyed += 1;
+    }
     async loadURL(url: string) {
       this.webContents.url = url;
       state.loaded = url;
@@ -114,7 +128,7 @@ vi.mock('electron', () => {
   };
 });
 
-import { registerScheme, startShell } from '../../../src-main/electron/shell.js';
+import { printPdf, registerScheme, startShell } from '../../../src-main/electron/shell.js';
 import { CALL_NAMES } from '../../../shared/bridge/calls.js';
 import { CONTENT_SECURITY_POLICY } from '../../../shared/bridge/csp.js';
 import { fakeEngine } from '../app/fakes.js';
@@ -242,5 +256,15 @@ describe('Electron shell (electron mocked)', () => {
       const r = await handler?.(new Request(u));
       expect(r?.status, u).toBe(404);
     }
+  });
+  it('prints PDF exports through Electron in a hidden window with JavaScript off, then destroys it', async () => {
+    const before = h.state.windows.length;
+    const pdf = await printPdf('<html><body><h1>report</h1></body></html>');
+    expect(new TextDecoder().decode(pdf)).toBe('%PDF-1.4 fake');
+    const w = h.state.windows[before];
+    expect(w.options.show).toBe(false);
+    expect((w.options.webPreferences as Record<string, unknown>).javascript).toBe(false);
+    expect(h.state.printed.at(-1)?.url).toMatch(/^data:text\/html;charset=utf-8,/);
+    expect(h.state.destroyed).toBe(1);
   });
 });
