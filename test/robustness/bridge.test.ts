@@ -340,26 +340,19 @@ describe('loopback server: Host and Origin must be its own (DNS rebinding, forei
     expect(ownLocal.status).toBe(200);
   }, 120_000);
 
-  it('listens on 127.0.0.1 only: not on ::1, not on the machine\'s other addresses', async () => {
+  it('listens on 127.0.0.1 only: bound to that address, and no answer on ::1', async () => {
+    // The bound address is the proof for every other interface (a socket bound to
+    // 127.0.0.1 accepts nothing else); tests connect only to loopback addresses.
     const addr = srv.server.address();
     expect(typeof addr === 'object' && addr !== null ? addr.address : addr).toBe('127.0.0.1');
-    const others = Object.values(os.networkInterfaces())
-      .flat()
-      .filter((i): i is os.NetworkInterfaceInfo => !!i && i.address !== '127.0.0.1')
-      .map((i) => i.address)
-      .filter((a) => !a.startsWith('fe80'));
-    const refused: string[] = [];
-    for (const address of [...new Set(['::1', ...others])]) {
-      const connected = await new Promise<boolean>((resolve) => {
-        const s = net.connect({ host: address, port: srv.port, timeout: 1000 });
-        s.once('connect', () => (s.destroy(), resolve(true)));
-        s.once('timeout', () => (s.destroy(), resolve(false)));
-        s.once('error', () => resolve(false));
-      });
-      expect(connected, `answered on ${address}`).toBe(false);
-      refused.push(address);
-    }
-    console.log(`[robustness] bridge: no answer on ${refused.join(', ')}`);
+    const connected = await new Promise<boolean>((resolve) => {
+      const s = net.connect({ host: '::1', port: srv.port, timeout: 1000 });
+      s.once('connect', () => (s.destroy(), resolve(true)));
+      s.once('timeout', () => (s.destroy(), resolve(false)));
+      s.once('error', () => resolve(false));
+    });
+    expect(connected, 'answered on ::1').toBe(false);
+    console.log('[robustness] bridge: bound to 127.0.0.1; no answer on ::1');
   });
 });
 
