@@ -3,7 +3,7 @@ import { defineStore } from 'pinia';
 import type { BacktestResult } from '../../../shared/results.js';
 import type { FitSpecInput } from '../../../shared/spec.js';
 import { bridge } from '../bridge/index.js';
-import { toUiError } from '../lib/errors.js';
+import { runLatest } from './latest-task.js';
 import type { UiError } from '../lib/errors.js';
 
 export const useBacktestStore = defineStore('backtest', {
@@ -24,46 +24,28 @@ export const useBacktestStore = defineStore('backtest', {
   },
   actions: {
     async run(spec: FitSpecInput): Promise<BacktestResult | undefined> {
-      this.controller?.abort();
-      const ac = new AbortController();
-      this.controller = ac;
-      this.running = true;
       this.cancelled = false;
       this.done = 0;
       this.total = 0;
       this.stage = 'starting';
       this.error = null;
-      try {
-        const result = await bridge().backtest(
-          { spec },
-          {
-            signal: ac.signal,
-            onProgress: (p) => {
-              this.done = p.done;
-              this.total = p.total;
-              this.stage = p.stage ?? 'windows';
-            },
-          },
-        );
-        if (this.controller !== ac) return undefined;
-        this.result = result;
-        this.total = Math.max(this.total, 1);
-        this.done = this.total;
-        this.stage = 'done';
-        return result;
-      } catch (e) {
-        if (this.controller === ac) {
-          const err = toUiError(e);
-          if (err.code === 'CANCELLED') this.cancelled = true;
-          else this.error = err;
-        }
-        return undefined;
-      } finally {
-        if (this.controller === ac) {
-          this.running = false;
-          this.controller = null;
-        }
-      }
+      const onProgress = (p: { done: number; total: number; stage?: string }) => {
+        this.done = p.done;
+        this.total = p.total;
+        this.stage = p.stage ?? 'windows';
+      };
+      return runLatest(this, (signal) => bridge().backtest({ spec }, { signal, onProgress }), {
+        result: (r) => {
+          this.result = r;
+          this.total = Math.max(this.total, 1);
+          this.done = this.total;
+          this.stage = 'done';
+        },
+        error: (e) => {
+          if (e.code === 'CANCELLED') this.cancelled = true;
+          else this.error = e;
+        },
+      });
     },
     /** Shows or hides one parameter's path; `current` is what is drawn now (the default six when none were chosen). */
     toggleParam(name: string, current: string[]): void {

@@ -3,7 +3,7 @@ import { defineStore } from 'pinia';
 import type { CompareResult } from '../../../shared/results.js';
 import type { RequestOf } from '../../../shared/bridge/index.js';
 import { bridge } from '../bridge/index.js';
-import { toUiError } from '../lib/errors.js';
+import { runLatest } from './latest-task.js';
 import type { UiError } from '../lib/errors.js';
 
 export const useCompareStore = defineStore('compare', {
@@ -16,32 +16,20 @@ export const useCompareStore = defineStore('compare', {
   }),
   actions: {
     async run(spec: Record<string, unknown>): Promise<CompareResult | undefined> {
-      this.controller?.abort();
-      const ac = new AbortController();
-      this.controller = ac;
-      this.running = true;
       this.progress = 0;
       this.error = null;
-      try {
-        const result = await bridge().compare({ spec } as RequestOf<'compare'>, {
-          signal: ac.signal,
-          onProgress: (p) => {
-            this.progress = p.total > 0 ? p.done / p.total : 0;
-          },
-        });
-        if (this.controller !== ac) return undefined;
-        this.result = result;
-        this.progress = 1;
-        return result;
-      } catch (e) {
-        if (this.controller === ac) this.error = toUiError(e);
-        return undefined;
-      } finally {
-        if (this.controller === ac) {
-          this.running = false;
-          this.controller = null;
-        }
-      }
+      const onProgress = (p: { done: number; total: number }) => {
+        this.progress = p.total > 0 ? p.done / p.total : 0;
+      };
+      return runLatest(this, (signal) => bridge().compare({ spec } as RequestOf<'compare'>, { signal, onProgress }), {
+        result: (r) => {
+          this.result = r;
+          this.progress = 1;
+        },
+        error: (e) => {
+          this.error = e;
+        },
+      });
     },
     cancel(): void {
       this.controller?.abort();

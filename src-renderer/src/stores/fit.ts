@@ -4,7 +4,7 @@ import type { FitResult } from '../../../shared/results.js';
 import type { FitSpecInput } from '../../../shared/spec.js';
 import type { PricingErrorSort } from '../../../shared/charts/index.js';
 import { bridge } from '../bridge/index.js';
-import { toUiError } from '../lib/errors.js';
+import { runLatest } from './latest-task.js';
 import type { UiError } from '../lib/errors.js';
 
 const now = (): number => (typeof performance !== 'undefined' ? performance.now() : Date.now());
@@ -29,38 +29,23 @@ export const useFitStore = defineStore('fit', {
   },
   actions: {
     async run(spec: FitSpecInput): Promise<FitResult | undefined> {
-      this.controller?.abort();
-      const ac = new AbortController();
-      this.controller = ac;
-      this.running = true;
       this.progress = 0;
       this.error = null;
       this.spec = spec;
       this.requestedAt = now();
-      try {
-        const result = await bridge().fit(
-          { spec },
-          {
-            signal: ac.signal,
-            onProgress: (p) => {
-              this.progress = p.total > 0 ? p.done / p.total : 0;
-            },
-          },
-        );
-        if (this.controller !== ac) return undefined;
-        this.repliedAt = now();
-        this.result = result;
-        this.progress = 1;
-        return result;
-      } catch (e) {
-        if (this.controller === ac) this.error = toUiError(e);
-        return undefined;
-      } finally {
-        if (this.controller === ac) {
-          this.running = false;
-          this.controller = null;
-        }
-      }
+      const onProgress = (p: { done: number; total: number }) => {
+        this.progress = p.total > 0 ? p.done / p.total : 0;
+      };
+      return runLatest(this, (signal) => bridge().fit({ spec }, { signal, onProgress }), {
+        result: (r) => {
+          this.repliedAt = now();
+          this.result = r;
+          this.progress = 1;
+        },
+        error: (e) => {
+          this.error = e;
+        },
+      });
     },
     cancel(): void {
       this.controller?.abort();
