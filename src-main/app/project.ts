@@ -6,32 +6,20 @@
 import path from 'node:path';
 import type { Frequency, PriceHistory } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
-import type { ReturnsPanel } from '../../shared/panel.js';
 import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
 import { parseAscending } from '../../shared/returns/periods.js';
-import { parseCompareSpec } from '../../shared/spec.js';
 import type { CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
 import type { AssetHistory, Coverage, CoverageRow, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
-import { loadPanel } from '../data/panel.js';
 import { importPrices, importSeries } from '../import/index.js';
 import type { ImportReport as PipelineReport } from '../import/index.js';
 import type { Store } from '../store/store.js';
-import { keepRun } from '../runs/runs.js';
+import { compareAnalysis, runAnalysis, type Analysis, type ResultOf } from '../services/analysis.js';
+import type { Compute } from '../services/compute.js';
 import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from './ports.js';
 
-/** The slice of the worker pool (src-main/workers/pool.ts) the app uses. */
-export interface TaskRunner {
-  /** Worker threads (recorded with each run as information: the numbers do not depend on them). */
-  readonly threads?: number;
-  runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<FitResult>;
-  runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RunOpts): Promise<BacktestResult>;
-  runTask(kind: 'compare', payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }, opts: RunOpts): Promise<CompareResult>;
-}
-interface RunOpts {
-  onProgress?: (done: number, total: number, stage?: string) => void;
-  signal?: AbortSignal;
-}
+/** What the app computes on: its worker pool (src-main/workers/pool.ts), which keeps the main thread free. */
+export type TaskRunner = Compute;
 
 const longest = (gaps: { days: number }[]): number | undefined => (gaps.length ? Math.max(...gaps.map((g) => g.days)) : undefined);
 
@@ -150,26 +138,29 @@ export function priceAndTotalReturn(h: PriceHistory, frequency?: Frequency): Ass
   return { asset: h.asset, frequency: frequency ?? 'stored', dates, price, totalReturn, dividends };
 }
 
-/** Every estimation goes to the worker pool; the panel is read from the store first. */
+/**
+ * Every estimation goes to the worker pool through the analysis service
+ * (src-main/services/analysis.ts: load the panel, compute, record); replies carry the run id.
+ */
 export class PoolEngine implements Engine {
   constructor(
     private readonly pool: TaskRunner,
     private readonly store: () => Store,
   ) {}
 
+  private async run<A extends Analysis>(a: A, ctx: TaskContext): Promise<ResultOf<A>> {
+    return (await runAnalysis(this.store(), a, this.pool, { onProgress: ctx.onProgress, signal: ctx.signal })).result;
+  }
+
   fit(spec: FitSpec, ctx: TaskContext): Promise<FitResult> {
-    const panel = loadPanel(this.store(), spec);
-    return this.pool.runTask('fit', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel, threads: this.pool.threads }));
+    return this.run({ kind: 'fit', spec }, ctx);
   }
 
   backtest(spec: FitSpec, ctx: TaskContext): Promise<BacktestResult> {
-    const panel = loadPanel(this.store(), spec);
-    return this.pool.runTask('backtest', { spec, panel }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec, result, panel, threads: this.pool.threads }));
+    return this.run({ kind: 'backtest', spec }, ctx);
   }
 
   compare(spec: CompareSpec, ctx: TaskContext): Promise<CompareResult> {
-    const { spec: parsed, fits } = parseCompareSpec(JSON.parse(JSON.stringify(spec)));
-    const panels = fits.map((f) => loadPanel(this.store(), f));
-    return this.pool.runTask('compare', { spec: parsed, fits, panels }, { onProgress: ctx.onProgress, signal: ctx.signal }).then((result) => keepRun(this.store(), { spec: parsed, result, panel: panels, threads: this.pool.threads }));
+    return this.run(compareAnalysis(spec), ctx);
   }
 }

@@ -16,7 +16,8 @@ import type { PanelFingerprint, RunRecord } from '../../shared/records/run-recor
 import type { ReplayReport } from '../../shared/records/replay-report.js';
 import { parseCompareSpec, parseFitSpec, type BacktestSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
 import { windowsPerChunk, type BacktestEngine } from '../../shared/backtest/index.js';
-import { loadPanel } from '../data/panel.js';
+import { computeAnalysis, loadAnalysisData, type Analysis } from '../services/analysis.js';
+import type { Compute } from '../services/compute.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
 import { getRun, staleItems } from './runs.js';
@@ -35,19 +36,15 @@ export interface RecomputeOptions {
   signal?: AbortSignal;
 }
 
-/** The slice of the worker pool (src-main/workers/pool.ts) replay uses. */
-export interface RecomputeRunner {
-  runTask(kind: 'fit', payload: { spec: FitSpec; panel: ReturnsPanel }, opts: RecomputeOptions): Promise<FitResult>;
-  runTask(kind: 'backtest', payload: { spec: FitSpec; panel: ReturnsPanel; engine?: BacktestEngine }, opts: RecomputeOptions): Promise<BacktestResult>;
-  runTask(kind: 'compare', payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }, opts: RecomputeOptions): Promise<CompareResult>;
-}
-
-/** Recompute in the worker pool (the compiled dist/worker.js the CLI and the app use). */
-export function poolRecompute(pool: RecomputeRunner): Recompute {
+/**
+ * Recompute on a Compute (src-main/services/compute.ts: the worker pool, or this process
+ * sized to the work) through the analysis service, the path the commands and the app take.
+ */
+export function poolRecompute(compute: Compute): Recompute {
   return {
-    fit: (spec, panel) => pool.runTask('fit', { spec, panel }, {}),
-    backtest: (spec, panel, engine) => pool.runTask('backtest', engine ? { spec, panel, engine } : { spec, panel }, {}),
-    compare: (spec, fits, panels) => pool.runTask('compare', { spec, fits, panels }, {}),
+    fit: (spec, panel) => computeAnalysis({ kind: 'fit', spec }, { panels: [panel] }, compute),
+    backtest: (spec, panel, engine) => computeAnalysis({ kind: 'backtest', spec, ...(engine ? { engine } : {}) }, { panels: [panel] }, compute),
+    compare: (spec, fits, panels) => computeAnalysis({ kind: 'compare', spec, fits }, { panels }, compute),
   };
 }
 
@@ -90,18 +87,21 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
   let panels: ReturnsPanel[];
   let backtestBlock: BacktestSpec | undefined;
   try {
-    if (record.kind === 'compare') {
-      const { spec, fits } = parseCompareSpec(record.spec);
-      backtestBlock = spec.backtest;
-      panels = fits.map((f) => loadPanel(store, f));
-      result = await recompute.compare(spec, fits, panels);
-    } else {
-      const spec = parseFitSpec(record.spec);
-      backtestBlock = spec.backtest;
-      panels = [loadPanel(store, spec)];
-      const engine = record.compute?.engine;
-      result = record.kind === 'fit' ? await recompute.fit(spec, panels[0]) : await recompute.backtest(spec, panels[0], isEngine(engine) ? engine : undefined);
-    }
+    const engine = record.compute?.engine;
+    const analysis: Analysis =
+      record.kind === 'compare'
+        ? { kind: 'compare', ...parseCompareSpec(record.spec) }
+        : record.kind === 'fit'
+          ? { kind: 'fit', spec: parseFitSpec(record.spec) }
+          : { kind: 'backtest', spec: parseFitSpec(record.spec), ...(isEngine(engine) ? { engine } : {}) };
+    backtestBlock = analysis.spec.backtest;
+    panels = loadAnalysisData(store, analysis).panels;
+    result =
+      analysis.kind === 'compare'
+        ? await recompute.compare(analysis.spec, analysis.fits, panels)
+        : analysis.kind === 'fit'
+          ? await recompute.fit(analysis.spec, panels[0])
+          : await recompute.backtest(analysis.spec, panels[0], analysis.engine);
   } catch (e) {
     report.error = isDeflatorError(e) ? `${e.code}: ${describeError(e)}` : describeError(e);
     return report;

@@ -79,6 +79,14 @@ function chunkRanges(count: number, chunks: number): [number, number][] {
   return out;
 }
 
+/** Replications per bootstrap task at least (smaller chunks do not pay for their messages). */
+const MIN_REPLICATIONS_PER_TASK = 20;
+
+/** The replication ranges [from, to) of the HJ bootstrap on `threads` threads. */
+export function bootstrapRanges(replications: number, threads: number): [number, number][] {
+  return chunkRanges(replications, Math.max(1, Math.min(threads, Math.floor(replications / MIN_REPLICATIONS_PER_TASK))));
+}
+
 /** Windows per task below which splitting a back-test whose windows are independent does not pay. */
 const MIN_WINDOWS_PER_TASK = 8;
 
@@ -155,7 +163,7 @@ export async function compareInPool(run: RawRun, threads: number, payload: { spe
   let bootstrap: { members: number[]; values: Float64Array; failures: string[] } | undefined;
   if (members.length >= 2) {
     const st = bootstrapSettings(spec, panels[0].periods.length);
-    const ranges = chunkRanges(st.replications, Math.max(1, Math.min(threads, Math.floor(st.replications / 20))));
+    const ranges = bootstrapRanges(st.replications, threads);
     const report = progressSum(st.replications, opts.onProgress, 'bootstrap');
     const parts: HjBootstrapDraws[] = await allOrNothing(
       ranges.map(([from, to], c) => (signal: AbortSignal) => {

@@ -20,7 +20,6 @@
  * any thread count: a back-test's chunks of windows are fixed by its spec
  * (shared/backtest windowChunks), and each bootstrap replication has its own stream.
  */
-import { availableParallelism } from 'node:os';
 import { existsSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import path from 'node:path';
@@ -28,6 +27,7 @@ import { MessageChannel } from 'node:worker_threads';
 import { Piscina } from 'piscina';
 import { DeflatorError } from '../../shared/errors.js';
 import { backtestInPool, compareInPool } from './orchestrate.js';
+import { defaultThreads } from '../services/compute.js';
 import type { ProgressMessage, TaskEnvelope, TaskKind, TaskMap, TaskReply } from './protocol.js';
 
 export interface RunTaskOptions {
@@ -48,11 +48,12 @@ export interface DeflatorPool {
   close(): Promise<void>;
 }
 
-/** dist/worker.js: beside this file when bundled into dist/, else under the repository's dist/. */
+/** dist/worker.js: beside this file (or its chunk folder) when bundled into dist/, else under the repository's dist/. */
 export function resolveWorkerFile(): string {
   const here = path.dirname(fileURLToPath(import.meta.url));
   const candidates = [path.join(here, 'worker.js'), path.resolve(here, '../../dist/worker.js')];
-  const bundled = path.basename(here) === 'dist' ? candidates[0] : null;
+  // bundled: this module sits in dist/ or in a code-split chunk under dist/chunks/
+  const bundled = path.basename(here) === 'dist' ? candidates[0] : path.basename(here) === 'chunks' && path.basename(path.dirname(here)) === 'dist' ? path.join(here, '..', 'worker.js') : null;
   const file = bundled ?? candidates.find((c) => existsSync(c) && c.endsWith(path.join('dist', 'worker.js')));
   if (!file || !existsSync(file)) {
     throw new DeflatorError('NOT_FOUND', `the compiled worker (dist/worker.js) was not found near ${here}`, 'run `node scripts/build.mjs` (or `npm run prepare`) first');
@@ -60,9 +61,7 @@ export function resolveWorkerFile(): string {
   return file;
 }
 
-export function defaultThreads(): number {
-  return Math.max(1, availableParallelism());
-}
+export { defaultThreads };
 
 function cancelledError(): DeflatorError {
   return new DeflatorError('CANCELLED', 'the task was cancelled', 'nothing was saved; run it again to get results');

@@ -1,20 +1,17 @@
 /**
  * `deflator backtest SPEC --db DB [--json]`: fits the spec's model on rolling or
  * expanding windows and prices the held-out periods (docs/methods.md, back-testing), in
- * the worker pool with a progress bar on stderr when it is a terminal. The window rules
+ * this process or a worker pool sized to its chunks of windows, with a progress bar on stderr when it is a terminal. The window rules
  * come from the spec's "backtest" block, or from --window/--step/--horizon/--expanding.
  * Prints the readable summary or the result as JSON; records the run (unless
  * --no-record) only after the whole back-test succeeded.
  */
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
-import { backtestText } from '../../../shared/backtest/text.js';
-import { CAUTION } from '../../../shared/results.js';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
-import { loadPanel } from '../../data/panel.js';
-import { recordRun } from '../../runs/runs.js';
-import { Store } from '../../store/store.js';
-import { defaultThreads, withPool } from '../../workers/pool.js';
+import { runAnalysis } from '../../services/analysis.js';
+import { printedReport } from '../../services/report.js';
+import { defaultThreads, withCompute, withStore } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { readFitSpec } from './fit.js';
 
@@ -64,26 +61,19 @@ export function register(program: Command): void {
     .option('--horizon <n>', 'held-out periods after each window (overrides the spec)')
     .option('--expanding', 'expanding windows from the first period (overrides the spec)')
     .option('--engine <engine>', 'auto (incremental for linear GMM at the first or second stage) | fit (fit every window afresh)', 'auto')
-    .option('--threads <n>', `worker threads (default: the ${defaultThreads()} cores)`)
+    .option('--threads <n>', `worker threads at most (default: the ${defaultThreads()} cores; fewer when the windows fall into fewer chunks)`)
     .option('--json', 'print the result as JSON (every number in full precision)')
     .option('--no-record', 'do not record the run in the database')
     .action(async (specFile: string, o: BacktestFlags) => {
       if (o.engine !== 'auto' && o.engine !== 'fit') throw new DeflatorError('INPUT_INVALID', `--engine: "${o.engine}" is not auto or fit`, 'pass --engine auto or --engine fit');
       const spec = withWindowFlags(readFitSpec(specFile), o);
       const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
-      const store = new Store(o.db, { mustExist: true });
-      try {
-        const panel = loadPanel(store, spec);
-        const bar = progressBar('windows');
-        const result = await withPool(
-          (pool) => pool.runTask('backtest', { spec, panel, engine: o.engine === 'fit' ? 'fit' : 'auto' }, { onProgress: (d, t) => bar.update(d, t, 'windows') }),
-          { threads },
-        ).finally(() => bar.finish());
-        const run = o.record ? recordRun(store, { spec, result, panel, threads, ...(o.engine === 'fit' ? { engine: 'fit' } : {}) }) : undefined;
-        if (o.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
-        else process.stdout.write(`${backtestText(result)}${run ? `Recorded as run ${run.id} (deflator show ${run.id} --db ${o.db}).\n` : ''}`);
-      } finally {
-        store.close();
-      }
+      const bar = progressBar('windows');
+      const outcome = await withStore(o.db, (store) =>
+        withCompute(threads, (compute) =>
+          runAnalysis(store, { kind: 'backtest', spec, engine: o.engine === 'fit' ? 'fit' : 'auto' }, compute, { record: o.record, onProgress: (d, t) => bar.update(d, t, 'windows') }),
+        ),
+      ).finally(() => bar.finish());
+      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
     });
 }

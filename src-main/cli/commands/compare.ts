@@ -2,20 +2,17 @@
  * `deflator compare SPEC --db DB [--json]`: fits every model of a {"compare": [...]}
  * spec on the same sample, tabulates J, HJ distance, MAPE, RMSE and R^2 (and the
  * out-of-sample RMSE and R^2 when the spec has a "backtest" block), marks the best per
- * column, and tests equal squared HJ distances by a seeded block bootstrap. Runs in the
- * worker pool (fits side by side, bootstrap in chunks) with a progress bar on stderr
+ * column, and tests equal squared HJ distances by a seeded block bootstrap. Runs in a
+ * worker pool sized to the work (fits side by side, bootstrap in chunks) with a progress bar on stderr
  * when it is a terminal; records the run (unless --no-record) after success only.
  */
 import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
-import { compareText } from '../../../shared/compare/text.js';
-import { CAUTION } from '../../../shared/results.js';
 import { isCompareSpec, parseCompareSpec } from '../../../shared/spec.js';
-import { loadPanel } from '../../data/panel.js';
-import { recordRun } from '../../runs/runs.js';
-import { Store } from '../../store/store.js';
-import { defaultThreads, withPool } from '../../workers/pool.js';
+import { runAnalysis } from '../../services/analysis.js';
+import { printedReport } from '../../services/report.js';
+import { defaultThreads, withCompute, withStore } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { positiveInt } from './backtest.js';
 
@@ -53,7 +50,7 @@ export function register(program: Command): void {
     .option('--replications <n>', 'bootstrap replications (overrides spec.bootstrap.replications)')
     .option('--seed <n>', 'bootstrap seed (overrides spec.bootstrap.seed)')
     .option('--block <n>', 'bootstrap block length in periods, or auto = ceil(T^(1/3)) (overrides spec.bootstrap.block)')
-    .option('--threads <n>', `worker threads (default: the ${defaultThreads()} cores)`)
+    .option('--threads <n>', `worker threads at most (default: the ${defaultThreads()} cores)`)
     .option('--json', 'print the result as JSON: {models: [{label, test, hj, fit, oos}], hjTests, best, ...}')
     .option('--no-record', 'do not record the run in the database')
     .action(async (specFile: string, o: CompareFlags) => {
@@ -71,16 +68,10 @@ export function register(program: Command): void {
       if (o.block !== undefined) bs.block = o.block === 'auto' ? 'auto' : positiveInt('--block', o.block);
       const { spec, fits } = parseCompareSpec(Object.keys(bs).length ? { ...input, bootstrap: bs } : input);
       const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
-      const store = new Store(o.db, { mustExist: true });
-      try {
-        const panels = fits.map((f) => loadPanel(store, f));
-        const bar = progressBar('compare');
-        const result = await withPool((pool) => pool.runTask('compare', { spec, fits, panels }, { onProgress: (d, t, stage) => bar.update(d, t, stage) }), { threads }).finally(() => bar.finish());
-        const run = o.record ? recordRun(store, { spec, result, panel: panels, threads }) : undefined;
-        if (o.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
-        else process.stdout.write(`${compareText(result)}${run ? `Recorded as run ${run.id} (deflator show ${run.id} --db ${o.db}).\n` : ''}`);
-      } finally {
-        store.close();
-      }
+      const bar = progressBar('compare');
+      const outcome = await withStore(o.db, (store) =>
+        withCompute(threads, (compute) => runAnalysis(store, { kind: 'compare', spec, fits }, compute, { record: o.record, onProgress: (d, t, stage) => bar.update(d, t, stage) })),
+      ).finally(() => bar.finish());
+      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
     });
 }

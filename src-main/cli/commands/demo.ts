@@ -7,12 +7,11 @@ import path from 'node:path';
 import { DeflatorError } from '../../../shared/errors.js';
 import { CAUTION } from '../../../shared/results.js';
 import { readFileSync } from 'node:fs';
-import { compareText } from '../../../shared/compare/text.js';
 import { parseCompareSpec } from '../../../shared/spec.js';
 import { DEMO_SETS, buildDemo, findSampleData, type DemoSet } from '../../data/demo.js';
-import { loadPanel } from '../../data/panel.js';
-import { recordRun } from '../../runs/runs.js';
-import { defaultThreads, withPool } from '../../workers/pool.js';
+import { runAnalysis } from '../../services/analysis.js';
+import { analysisJson, analysisText } from '../../services/report.js';
+import { defaultThreads, withCompute } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { formatImportReport, formatInfo } from '../../data/summary.js';
 import { Store } from '../../store/store.js';
@@ -70,22 +69,23 @@ async function importStep(ctx: DemoContext): Promise<void> {
 export const DEMO_COMPARE_SPEC = 'specs/compare-factor-models.json';
 
 /**
- * Compares the demo's candidate models (sample-data/specs/compare-factor-models.json) in the
- * worker pool and records the run, so `deflator runs` / the app's run history start non-empty.
+ * Compares the demo's candidate models (sample-data/specs/compare-factor-models.json) and
+ * records the run (src-main/services), so `deflator runs` / the app's run history start non-empty.
  */
 async function compareStep(ctx: DemoContext): Promise<void> {
   const specPath = path.join(findSampleData(), DEMO_COMPARE_SPEC);
   const { spec, fits } = parseCompareSpec(JSON.parse(readFileSync(specPath, 'utf8')));
   const store = new Store(ctx.dbPath, { mustExist: true });
   try {
-    const panels = fits.map((f) => loadPanel(store, f));
-    const threads = defaultThreads();
     const bar = progressBar('demo comparison');
-    const result = await withPool((pool) => pool.runTask('compare', { spec, fits, panels }, { onProgress: (d, t, stage) => bar.update(d, t, stage) }), { threads }).finally(() => bar.finish());
-    const run = recordRun(store, { spec, result, panel: panels, threads });
-    ctx.json.compare = { ...result, run: run.id };
+    const { result, run } = await withCompute(defaultThreads(), (compute) =>
+      runAnalysis(store, { kind: 'compare', spec, fits }, compute, { onProgress: (d, t, stage) => bar.update(d, t, stage) }),
+    ).finally(() => bar.finish());
+    if (!run) throw new Error('the demo comparison was not recorded');
+    const { caution: _c, ...json } = analysisJson(result, run);
+    ctx.json.compare = json;
     ctx.print(`\nModel comparison on the demo market (sample-data/${DEMO_COMPARE_SPEC})\n`);
-    ctx.print(compareText(result));
+    ctx.print(analysisText(result));
     ctx.print(`Recorded as run ${run.id}: deflator show ${run.id} --db ${ctx.dbPath}; deflator export ${run.id} --db ${ctx.dbPath} --format html --out report.html`);
   } finally {
     store.close();

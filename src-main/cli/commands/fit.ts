@@ -3,17 +3,15 @@
  * returns panel built from the project database, in the worker pool; prints the readable
  * report (shared/report/fit-text.ts) or the result as JSON, and records the run in the
  * database (unless --no-record) so that `deflator show`, `export` and `replay` find it.
+ * One fit is one piece of work: it runs in this process (src-main/services).
  */
 import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
-import { fitText } from '../../../shared/report/fit-text.js';
-import { CAUTION, type FitResult } from '../../../shared/results.js';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
-import { loadPanel } from '../../data/panel.js';
-import { recordRun } from '../../runs/runs.js';
-import { Store } from '../../store/store.js';
-import { withPool } from '../../workers/pool.js';
+import { runAnalysis } from '../../services/analysis.js';
+import { printedReport } from '../../services/report.js';
+import { withCompute, withStore } from '../compute.js';
 
 interface FitOptions {
   db: string;
@@ -49,15 +47,7 @@ export function register(program: Command): void {
     .option('--no-record', 'do not record the run in the database')
     .action(async (specFile: string, opts: FitOptions) => {
       const spec = readFitSpec(specFile);
-      const store = new Store(opts.db, { mustExist: true });
-      try {
-        const panel = loadPanel(store, spec);
-        const result: FitResult = await withPool((pool) => pool.runTask('fit', { spec, panel }), { threads: 1 });
-        const run = opts.record ? recordRun(store, { spec, result, panel }) : undefined;
-        if (opts.json) process.stdout.write(`${JSON.stringify({ ...result, ...(run ? { run: run.id } : {}), caution: CAUTION }, null, 2)}\n`);
-        else process.stdout.write(`${fitText(result)}${run ? `\nRecorded as run ${run.id} (deflator show ${run.id} --db ${opts.db}).\n` : ''}`);
-      } finally {
-        store.close();
-      }
+      const outcome = await withStore(opts.db, (store) => withCompute(1, (compute) => runAnalysis(store, { kind: 'fit', spec }, compute, { record: opts.record })));
+      process.stdout.write(printedReport(outcome, { json: opts.json, db: opts.db }));
     });
 }

@@ -1,6 +1,6 @@
 /**
  * `deflator replay RUN --db DB`: recomputes a recorded run from the data now in the store
- * and its stored spec, in the worker pool, and reports whether every number matches the
+ * and its stored spec (in this process or a pool sized to the work), and reports whether every number matches the
  * stored result bit for bit (and which differ: path, stored, recomputed), whether the
  * panel fingerprint matches, and whether the run is stale. Exit code 0 only when all of
  * that holds; 4 otherwise.
@@ -10,8 +10,7 @@ import { DeflatorError } from '../../../shared/errors.js';
 import { toExactJson } from '../../../shared/records/exact-json.js';
 import { formatReplay, poolRecompute, replayRun } from '../../runs/replay.js';
 import { parseRunId } from '../../runs/runs.js';
-import { Store } from '../../store/store.js';
-import { defaultThreads, withPool } from '../../workers/pool.js';
+import { defaultThreads, withCompute, withStore } from '../compute.js';
 
 export const REPLAY_MISMATCH_EXIT = 4;
 
@@ -28,7 +27,7 @@ export function register(program: Command): void {
     .description('recompute a recorded run and check that every number matches the stored result bit for bit (exit 4 if not, or if its data changed)')
     .argument('<run>', 'run id (see `deflator runs`)')
     .requiredOption('--db <path>', 'project database')
-    .option('--threads <n>', `worker threads (default: the ${defaultThreads()} cores; the numbers do not depend on it)`)
+    .option('--threads <n>', `worker threads at most (default: the ${defaultThreads()} cores; the numbers do not depend on it)`)
     .option('--limit <n>', 'list at most this many differing values', '50')
     .option('--json', 'print the replay report as JSON')
     .action(async (run: string, opts: ReplayOptions) => {
@@ -37,14 +36,15 @@ export function register(program: Command): void {
       if (!Number.isInteger(limit) || limit < 1) throw new DeflatorError('INPUT_INVALID', `--limit ${opts.limit}: expected a whole number of at least 1`, 'e.g. --limit 50');
       const given = opts.threads === undefined ? undefined : Number(opts.threads);
       if (given !== undefined && !(Number.isInteger(given) && given >= 1)) throw new DeflatorError('INPUT_INVALID', `--threads ${opts.threads}: expected a whole number of at least 1`, 'e.g. --threads 2');
-      const store = new Store(opts.db, { mustExist: true });
-      try {
-        const threads = given ?? defaultThreads();
-        const report = await withPool((pool) => replayRun(store, id, poolRecompute(pool), { limit, threads }), { threads });
-        process.stdout.write(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
-        if (!report.ok) process.exitCode = REPLAY_MISMATCH_EXIT;
-      } finally {
-        store.close();
-      }
+      const report = await withStore(opts.db, (store) =>
+        withCompute(given ?? defaultThreads(), async (compute) => {
+          const r = await replayRun(store, id, poolRecompute(compute), { limit });
+          // the threads the recomputation actually used (in this process: 1)
+          r.usedThreads = compute.threads;
+          return r;
+        }),
+      );
+      process.stdout.write(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
+      if (!report.ok) process.exitCode = REPLAY_MISMATCH_EXIT;
     });
 }

@@ -1,0 +1,122 @@
+/**
+ * Where an analysis is computed: the `Compute` port the analysis service (analysis.ts)
+ * runs tasks on. Three implementations, the same numbers to the last bit:
+ *
+ * - `inProcess()`: the task handlers (src-main/workers/tasks.ts) in this thread. No
+ *   worker start-up, no copy of the panel; the CLI uses it whenever the work is one
+ *   piece. It blocks the event loop while it runs: never use it where a server or a
+ *   window must stay responsive.
+ * - the worker pool (src-main/workers/pool.ts `createPool`): the app keeps one for its
+ *   whole session, so that the main thread stays free and a task can be cancelled.
+ * - `sizedCompute({ threads })`: the CLI's. Per task it counts the pieces the work
+ *   splits into (`workPieces`); one piece, or one thread asked for, runs in process,
+ *   otherwise it starts a pool of min(threads, pieces) workers (once) and splits the work
+ *   there. A back-test whose windows fall into fewer chunks than there are cores, a
+ *   single fit, or a comparison without bootstrap therefore never pays for workers.
+ */
+import { DeflatorError } from '../../shared/errors.js';
+import { rollsSums, windowSchedule } from '../../shared/backtest/index.js';
+import { bootstrapSettings } from '../../shared/compare/index.js';
+import { availableParallelism } from 'node:os';
+import type { TaskKind, TaskMap } from '../workers/protocol.js';
+import { handlers } from '../workers/tasks.js';
+import { backtestRanges, bootstrapRanges } from '../workers/orchestrate.js';
+
+export interface RunTaskOptions {
+  onProgress?: (done: number, total: number, stage?: string) => void;
+  signal?: AbortSignal;
+}
+
+/** Runs the tasks of src-main/workers/protocol.ts; a worker pool is one. */
+export interface Compute {
+  /** Threads it computes with (recorded with each run as information: the numbers do not depend on them). */
+  readonly threads?: number;
+  runTask<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], opts?: RunTaskOptions): Promise<TaskMap[K]['result']>;
+}
+
+/** A Compute that owns resources (a pool) to release. */
+export interface ClosableCompute extends Compute {
+  close(): Promise<void>;
+}
+
+/** The cores this machine offers: the default thread count of pools and of --threads. */
+export function defaultThreads(): number {
+  return Math.max(1, availableParallelism());
+}
+
+function cancelled(): DeflatorError {
+  return new DeflatorError('CANCELLED', 'the task was cancelled', 'nothing was saved; run it again to get results');
+}
+
+/** The task handlers in this thread (see the file comment for when that is right). */
+export function inProcess(): ClosableCompute {
+  return {
+    threads: 1,
+    async runTask<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], opts: RunTaskOptions = {}): Promise<TaskMap[K]['result']> {
+      if (opts.signal?.aborted) throw cancelled();
+      const handler = handlers[kind] as unknown as (p: TaskMap[K]['payload'], ctx: { progress: NonNullable<RunTaskOptions['onProgress']>; signal: { readonly aborted: boolean } }) => TaskMap[K]['result'];
+      const signal = opts.signal ?? { aborted: false };
+      const result = handler(payload, { progress: opts.onProgress ?? (() => {}), signal });
+      if (opts.signal?.aborted) throw cancelled();
+      return result;
+    },
+    async close() {},
+  };
+}
+
+/**
+ * How many pieces a task splits into across threads (1: it is one piece). Back-test: its
+ * fixed chunks of windows (or windows in eights when each is computed on its own);
+ * comparison: its models side by side, or its bootstrap chunks, whichever is more.
+ */
+export function workPieces<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload']): number {
+  if (kind === 'backtest') {
+    const p = payload as TaskMap['backtest']['payload'];
+    if (!p.spec.backtest) return 1;
+    const count = windowSchedule(p.panel.periods.length, p.spec.backtest).length;
+    return backtestRanges(p.spec.backtest, count, Number.MAX_SAFE_INTEGER, rollsSums(p.spec, p.engine)).length;
+  }
+  if (kind === 'compare') {
+    const p = payload as TaskMap['compare']['payload'];
+    const T = p.panels[0]?.periods.length ?? 0;
+    const gmm = p.fits.filter((f) => f.estimator.method === 'gmm').length;
+    const boot = gmm >= 2 && T > 0 ? bootstrapRanges(bootstrapSettings(p.spec, T).replications, Number.MAX_SAFE_INTEGER).length : 1;
+    return Math.max(p.fits.length, boot);
+  }
+  return 1;
+}
+
+export interface SizedComputeOptions {
+  /** Threads at most (the CLI's --threads, default the cores). */
+  threads: number;
+  /** Starts the pool of n threads (src-main/workers/pool.ts createPool); loaded only when needed. */
+  pool: (threads: number) => Promise<ClosableCompute>;
+}
+
+/** The CLI's Compute: in process for one piece of work, else a pool sized to the pieces. */
+export function sizedCompute(o: SizedComputeOptions): ClosableCompute & { readonly used: { threads: number; inProcess: boolean } } {
+  const local = inProcess();
+  let pool: ClosableCompute | undefined;
+  let used = { threads: 1, inProcess: true };
+  return {
+    get threads() {
+      return used.threads;
+    },
+    get used() {
+      return used;
+    },
+    async runTask<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], opts: RunTaskOptions = {}): Promise<TaskMap[K]['result']> {
+      const want = Math.min(Math.max(1, o.threads), workPieces(kind, payload));
+      if (want <= 1 && !pool) {
+        used = { threads: 1, inProcess: true };
+        return local.runTask(kind, payload, opts);
+      }
+      pool ??= await o.pool(want);
+      used = { threads: pool.threads ?? want, inProcess: false };
+      return pool.runTask(kind, payload, opts);
+    },
+    async close() {
+      await pool?.close();
+    },
+  };
+}

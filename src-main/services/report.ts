@@ -1,0 +1,41 @@
+/**
+ * The report use case: one analysis outcome (./analysis.ts) as the readable terminal
+ * report, or as JSON with every number in full precision, the run id and the caution.
+ * Every command that prints a fit, back-test or comparison prints it through here.
+ */
+import { backtestText } from '../../shared/backtest/text.js';
+import { compareText } from '../../shared/compare/text.js';
+import { fitText } from '../../shared/report/fit-text.js';
+import { CAUTION, type AnyResult } from '../../shared/results.js';
+import type { RunRecord } from '../../shared/records/run-record.js';
+
+/** The readable report of a result (each ends with the caution). */
+export function analysisText(result: AnyResult): string {
+  switch (result.kind) {
+    case 'fit':
+      return fitText(result);
+    case 'backtest':
+      return backtestText(result);
+    case 'compare':
+      return compareText(result);
+  }
+}
+
+/** The line that tells where a recorded run can be found again. */
+export function recordedLine(run: Pick<RunRecord, 'id'>, db: string): string {
+  return `Recorded as run ${run.id} (deflator show ${run.id} --db ${db}).\n`;
+}
+
+/** The result as the JSON object commands print: the result's keys, `run` when recorded, `caution`. */
+export function analysisJson(result: AnyResult, run?: Pick<RunRecord, 'id'>): Record<string, unknown> {
+  const { runId: _tag, ...plain } = result as AnyResult & { runId?: number };
+  return { ...plain, ...(run ? { run: run.id } : {}), caution: CAUTION };
+}
+
+/** What a command prints for an outcome: JSON (--json) or the text report and the recorded-run line. */
+export function printedReport(outcome: { result: AnyResult; run?: Pick<RunRecord, 'id'> }, o: { json?: boolean; db: string }): string {
+  if (o.json) return `${JSON.stringify(analysisJson(outcome.result, outcome.run), null, 2)}\n`;
+  const text = analysisText(outcome.result);
+  if (!outcome.run) return text;
+  return `${text}${outcome.result.kind === 'fit' ? '\n' : ''}${recordedLine(outcome.run, o.db)}`;
+}
