@@ -17,11 +17,15 @@ const banner = {
   js: "import { createRequire as __deflatorCreateRequire } from 'node:module'; const require = __deflatorCreateRequire(import.meta.url);",
 };
 
+// Code splitting: modules reached only through a dynamic import() (the worker pool and piscina,
+// the XLSX writer and exceljs) land in their own chunks, so a command loads them only when used.
 await build({
   absWorkingDir: root,
   entryPoints: entries,
   outdir: 'dist',
   bundle: true,
+  splitting: true,
+  chunkNames: 'chunks/[name]-[hash]',
   platform: 'node',
   format: 'esm',
   target: 'node20',

@@ -3,7 +3,7 @@
  * the CLI (`deflator fit SPEC`), written by the app's model set-up screen, and stored
  * with every run. Keys are a contract scripts rely on: add freely, never rename.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { FREQUENCIES } from './data.js';
 import { DeflatorError } from './errors.js';
 

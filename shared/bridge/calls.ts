@@ -7,7 +7,7 @@
  * Adding a call is one entry below plus its handler in src-main/app/handlers.ts
  * (the compiler reports a missing handler).
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { FREQUENCIES, RF_FORMS, SERIES_KINDS } from '../data.js';
 import { compareSpecSchema, fitSpecSchema } from '../spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../results.js';

@@ -2,7 +2,7 @@
  * Options of a characteristic sort (the `deflator portfolio build` flags and the app's
  * portfolio screen). Keys are a contract: add, never rename.
  */
-import { z } from 'zod';
+import * as z from 'zod';
 import { FREQUENCIES, PERIODS_PER_YEAR, type Frequency } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { formatSpecIssues } from '../spec.js';

@@ -12,7 +12,6 @@ import { EXPORT_EXTENSIONS, EXPORT_FORMATS, type ExportFormat } from '../../shar
 import { resultToHtml } from '../../shared/report/html.js';
 import { resultToLatex } from '../../shared/report/latex.js';
 import { htmlToPdf } from './pdf.js';
-import { resultToXlsx } from './xlsx.js';
 
 export { EXPORT_FORMATS, EXPORT_EXTENSIONS, type ExportFormat };
 
@@ -37,7 +36,8 @@ export async function renderExport(record: RunRecord, format: ExportFormat, pdf:
     case 'csv':
       return resultToCsv(record.result, record).map((f) => ({ name: `${f.table}.csv`, data: Buffer.from(f.text, 'utf8') }));
     case 'xlsx':
-      return single(await resultToXlsx(record.result, record));
+      // loaded on demand: exceljs takes about 0.2 s to load, which no other command should pay
+      return single(await (await import('./xlsx.js')).resultToXlsx(record.result, record));
     case 'latex':
       return single(Buffer.from(resultToLatex(record.result, record), 'utf8'));
     case 'html':

@@ -13,7 +13,6 @@ import { openApp } from '../../app/open.js';
 import { demoDatabasePath, userDataDir } from '../../app/paths.js';
 import { findSampleData } from '../../data/demo.js';
 import { startServer } from '../../server/http.js';
-import { createPool } from '../../workers/pool.js';
 
 interface ServeOptions {
   db?: string;
@@ -62,6 +61,7 @@ export function register(program: Command): void {
       }
       const web = rendererDir();
       if (!web) process.stderr.write('deflator: dist/renderer is missing, so only the API is served; run `npm run build` for the screens\n');
+      const { createPool } = await import('../../workers/pool.js'); // loaded by the commands that start a pool only
       const pool = createPool(threads === undefined ? {} : { threads });
       const firstStart = !opts.db && !existsSync(dbPath);
       if (firstStart) process.stdout.write(`deflator: building the demo database at ${dbPath} (first start)\n`);
