@@ -59,18 +59,24 @@ export function createDispatcher(handlers: Handlers, emit: (event: BridgeEvent) 
     };
     const ctx: CallContext = { signal: ac?.signal ?? new AbortController().signal, onProgress };
     if (id !== undefined) ctx.taskId = id;
+    // Exactly one reply, and exactly one task-end event, per call. A value the handler
+    // returned is the reply even when a cancel came in meanwhile: handlers check the
+    // signal before they write anything (a recorded run, an import), so a value means
+    // the work is done and kept; replying CANCELLED then would hide a stored result.
+    let ok = false;
     try {
       const handler = handlers[call] as Handler<CallName>;
       const value = await handler(v.request, ctx);
-      if (ac?.signal.aborted) return errorReply('CANCELLED', `${call} was cancelled`, 'start it again when ready');
-      if (id !== undefined) emit({ type: 'task-end', taskId: id, ok: true });
+      ok = true;
       return okReply(value);
     } catch (e) {
-      if (id !== undefined) emit({ type: 'task-end', taskId: id, ok: false });
       if (ac?.signal.aborted) return errorReply('CANCELLED', `${call} was cancelled`, 'start it again when ready');
       return replyFromError(e);
     } finally {
-      if (id !== undefined) tasks.end(id);
+      if (id !== undefined) {
+        tasks.end(id);
+        emit({ type: 'task-end', taskId: id, ok });
+      }
     }
   }
   return { dispatch, tasks };

@@ -97,6 +97,10 @@ export async function runAnalysis<A extends Analysis>(store: Store, a: A, comput
   const data = loadAnalysisData(store, a);
   const result = await computeAnalysis(a, data, compute, opts);
   if (opts.record === false) return { result: result as ResultOf<A> & Partial<RunTag>, data };
+  // A cancelled call records nothing: checked in the same synchronous step as the record
+  // is written, so a cancel either comes first (no record, CANCELLED) or after the record
+  // (the reply is the recorded result, src-main/app/dispatch.ts).
+  if (opts.signal?.aborted) throw new DeflatorError('CANCELLED', 'the task was cancelled', 'nothing was saved; run it again to get results');
   const run = recordAnalysis(store, a, result, data, compute.threads);
   return { result: Object.assign(result, { runId: run.id }), run, data };
 }

@@ -12,7 +12,17 @@
  * AbortSignal sets a shared flag the worker checks between windows and replications,
  * and piscina stops the thread; runTask then rejects with DeflatorError CANCELLED.
  * Nothing is written by a task: callers save results only after runTask resolves, so a
- * cancelled run leaves nothing half-written.
+ * cancelled run leaves nothing half-written; a cancel that arrives after the worker
+ * finished but before runTask returns still rejects with CANCELLED, so a caller never
+ * records a run whose caller was told it was cancelled.
+ *
+ * Queueing is ours, not piscina's: at most `threads` tasks are handed to piscina at a
+ * time, the rest wait in a first-in first-out queue here (`TaskSlots`). piscina stops the
+ * thread of an aborted running task and, with minThreads 0, starts no replacement until
+ * its next `run` call, so a task queued inside piscina behind an aborted one waited for
+ * some unrelated later call (tens to hundreds of seconds under load). Here the next
+ * waiting task is handed over as soon as a slot frees, and that hand-over starts the
+ * replacement thread.
  *
  * 'backtest' and 'compare' are split across the threads (orchestrate.ts) when the pool
  * has more than one: back-test windows in chunks, a comparison's fits side by side and
@@ -67,6 +77,64 @@ function cancelledError(): DeflatorError {
   return new DeflatorError('CANCELLED', 'the task was cancelled', 'nothing was saved; run it again to get results');
 }
 
+/**
+ * A counting semaphore with a first-in first-out queue: `acquire` resolves with a
+ * release function once one of `size` slots is free, or rejects with CANCELLED when the
+ * signal aborts while waiting (the waiter leaves the queue; it never took a slot).
+ */
+export class TaskSlots {
+  private free: number;
+  private readonly waiting: { grant: () => void; fail: (e: Error) => void }[] = [];
+  constructor(size: number) {
+    this.free = Math.max(1, size);
+  }
+
+  get queued(): number {
+    return this.waiting.length;
+  }
+
+  acquire(signal?: AbortSignal): Promise<() => void> {
+    if (signal?.aborted) return Promise.reject(cancelledError());
+    return new Promise((resolve, reject) => {
+      let released = false;
+      const release = (): void => {
+        if (released) return;
+        released = true;
+        const next = this.waiting.shift();
+        if (next) next.grant();
+        else this.free++;
+      };
+      if (this.free > 0) {
+        this.free--;
+        resolve(release);
+        return;
+      }
+      const onAbort = (): void => {
+        const i = this.waiting.indexOf(waiter);
+        if (i >= 0) this.waiting.splice(i, 1);
+        reject(cancelledError());
+      };
+      const waiter = {
+        grant: () => {
+          signal?.removeEventListener('abort', onAbort);
+          resolve(release);
+        },
+        fail: (e: Error) => {
+          signal?.removeEventListener('abort', onAbort);
+          reject(e);
+        },
+      };
+      signal?.addEventListener('abort', onAbort, { once: true });
+      this.waiting.push(waiter);
+    });
+  }
+
+  /** Rejects every waiter (the pool is closing). */
+  failAll(e: Error): void {
+    for (const w of this.waiting.splice(0)) w.fail(e);
+  }
+}
+
 function fromReply<K extends TaskKind>(reply: TaskReply<K>): TaskMap[K]['result'] {
   if (reply.ok) return reply.result;
   const e = reply.error;
@@ -90,6 +158,7 @@ export function createPool(opts: PoolOptions = {}): DeflatorPool {
     idleTimeout: 2_000,
   });
   let closed = false;
+  const slots = new TaskSlots(threads);
 
   async function runTask<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], o: RunTaskOptions = {}): Promise<TaskMap[K]['result']> {
     if (threads > 1 && kind === 'backtest') {
@@ -102,6 +171,16 @@ export function createPool(opts: PoolOptions = {}): DeflatorPool {
   }
 
   async function rawRun<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], o: RunTaskOptions = {}): Promise<TaskMap[K]['result']> {
+    if (closed) throw new DeflatorError('CANCELLED', 'the worker pool is closed', 'start a new pool');
+    const release = await slots.acquire(o.signal);
+    try {
+      return await runInThread(kind, payload, o);
+    } finally {
+      release();
+    }
+  }
+
+  async function runInThread<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], o: RunTaskOptions): Promise<TaskMap[K]['result']> {
     if (closed) throw new DeflatorError('CANCELLED', 'the worker pool is closed', 'start a new pool');
     if (o.signal?.aborted) throw cancelledError();
     const channel = new MessageChannel();
@@ -124,6 +203,8 @@ export function createPool(opts: PoolOptions = {}): DeflatorPool {
       const reply = (await piscina.run(envelope, { transferList: [channel.port2], signal: o.signal ?? null })) as TaskReply<K>;
       const result = fromReply(reply);
       await ended;
+      // a cancel that came while the last progress messages drained still counts
+      if (o.signal?.aborted) throw cancelledError();
       return result;
     } catch (e) {
       if (o.signal?.aborted || (e instanceof Error && e.name === 'AbortError')) throw cancelledError();
@@ -140,6 +221,7 @@ export function createPool(opts: PoolOptions = {}): DeflatorPool {
     async close() {
       if (closed) return;
       closed = true;
+      slots.failAll(new DeflatorError('CANCELLED', 'the worker pool is closed', 'start a new pool'));
       await piscina.close();
     },
   };

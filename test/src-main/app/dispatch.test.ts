@@ -1,7 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import { composeApp } from '../../../src-main/app/compose.js';
 import type { BridgeEvent } from '../../../shared/bridge/types.js';
-import { fakeEngine, fakeImporter, fakeProject, openPolicy } from './fakes.js';
+import { fakeEngine, fakeImporter, fakeProject, openPolicy, tinyFit } from './fakes.js';
 
 const spec = { riskfree: 'RF', model: { factors: ['MKT'] } };
 
@@ -58,6 +58,36 @@ describe('dispatcher', () => {
     await expect(a.dispatcher.dispatch('cancel', { taskId: 'bt1' })).resolves.toEqual({ ok: true, value: { cancelled: true } });
     await expect(running).resolves.toMatchObject({ ok: false, error: { code: 'CANCELLED' } });
     await expect(a.dispatcher.dispatch('cancel', { taskId: 'bt1' })).resolves.toEqual({ ok: true, value: { cancelled: false } });
+  });
+
+  it('a result kept despite a late cancel is answered as the result, with exactly one task-end', async () => {
+    // The handler decides: the real engine checks the signal right before it records the
+    // run, so a value means the run was recorded. Answering CANCELLED here (as before)
+    // told the caller nothing was saved while a run record existed.
+    const kept: string[] = [];
+    const engine = fakeEngine();
+    engine.fit = async (s) => {
+      await new Promise((r) => setTimeout(r, 60));
+      kept.push(s.label ?? 'fit'); // ignores the signal: the work is done and kept
+      return tinyFit('kept');
+    };
+    const core = composeApp({ version: '1', project: () => fakeProject(), importer: () => fakeImporter(), engine, files: openPolicy() });
+    const events: BridgeEvent[] = [];
+    core.hub.subscribe((e) => events.push(e));
+    const running = core.dispatcher.dispatch('fit', { spec }, 'late');
+    await new Promise((r) => setTimeout(r, 20));
+    await core.dispatcher.dispatch('cancel', { taskId: 'late' });
+    const reply = await running;
+    expect(kept.length).toBe(1);
+    expect(reply).toMatchObject({ ok: true, value: { label: 'kept' } });
+    expect(events.filter((e) => e.type === 'task-end' && e.taskId === 'late')).toEqual([{ type: 'task-end', taskId: 'late', ok: true }]);
+    // and a cancelled one: one CANCELLED reply and one task-end
+    const b = app({ steps: 50, stepMs: 10 });
+    const bt = b.dispatcher.dispatch('backtest', { spec: { ...spec, backtest: { window: 24 } } }, 'gone');
+    await new Promise((r) => setTimeout(r, 30));
+    await b.dispatcher.dispatch('cancel', { taskId: 'gone' });
+    expect(await bt).toMatchObject({ ok: false, error: { code: 'CANCELLED' } });
+    expect(b.events.filter((e) => e.type === 'task-end' && e.taskId === 'gone')).toEqual([{ type: 'task-end', taskId: 'gone', ok: false }]);
   });
 
   it('refuses a second task with an id already running', async () => {

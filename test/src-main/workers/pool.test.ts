@@ -145,6 +145,38 @@ describe('worker pool', () => {
     expect(again.windows).toBe(120);
   });
 
+  it('a task queued behind a cancelled running task starts at once, without waiting for another call', async () => {
+    // One thread: the fit waits behind the back-test. Cancelling the running back-test
+    // stops its thread; the fit must then get a thread of its own (before the fix it
+    // waited in piscina's queue until some later call started a thread: forever here).
+    const one = createPool({ threads: 1 });
+    try {
+      const long = parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: ['f1', 'f2'] }, estimator: { lags: 2 }, backtest: { window: 60, step: 1, horizon: 1 } });
+      const ctl = new AbortController();
+      let started = false;
+      const first = one.runTask('backtest', { spec: long, panel, engine: 'fit' }, { signal: ctl.signal, onProgress: () => { started = true; } }).catch((e: unknown) => e);
+      const waitingCtl = new AbortController();
+      const waiting = one.runTask('fit', { spec: long, panel }, { signal: waitingCtl.signal }).then(
+        (r) => r,
+        (e: unknown) => e,
+      );
+      // a third task cancelled while it waits leaves the queue and never runs
+      const dropped = new AbortController();
+      const third = one.runTask('fit', { spec: long, panel }, { signal: dropped.signal }).catch((e: unknown) => e);
+      dropped.abort();
+      expect(isDeflatorError(await third) && (await third as { code: string }).code).toBe('CANCELLED');
+      while (!started) await new Promise((r) => setTimeout(r, 10));
+      ctl.abort();
+      expect(isDeflatorError(await first) && (await first as { code: string }).code).toBe('CANCELLED');
+      const t0 = Date.now();
+      const outcome = await Promise.race([waiting, new Promise((r) => setTimeout(() => r('no reply within 20 s'), 20_000))]);
+      expect(outcome).toMatchObject({ kind: 'fit' });
+      expect(Date.now() - t0).toBeLessThan(20_000);
+    } finally {
+      await one.close();
+    }
+  });
+
   it('an already aborted signal never starts the task', async () => {
     const ctl = new AbortController();
     ctl.abort();
