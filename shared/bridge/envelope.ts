@@ -5,8 +5,8 @@
 import type { ErrorCode } from '../errors.js';
 import { isDeflatorError } from '../errors.js';
 
-/** The domain's error codes plus the transport's own. */
-export type BridgeErrorCode = ErrorCode | 'BAD_REQUEST' | 'UNKNOWN_CALL' | 'INTERNAL';
+/** The domain's error codes plus the transport's own (UNAUTHORIZED: the loopback server's access key is missing or wrong). */
+export type BridgeErrorCode = ErrorCode | 'BAD_REQUEST' | 'UNKNOWN_CALL' | 'INTERNAL' | 'UNAUTHORIZED';
 
 export interface BridgeErrorBody {
   code: BridgeErrorCode;

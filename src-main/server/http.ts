@@ -10,7 +10,18 @@
  * Binds 127.0.0.1 only. Every request must carry Host 127.0.0.1:<port> or localhost:<port>
  * and, where the browser sends one, the same Origin: a page from another site (or a
  * rebinding DNS name pointing at 127.0.0.1) gets 403.
+ *
+ * Host and Origin stop browsers, not other programs: any local account can open a socket
+ * to 127.0.0.1. So every /api/ request must also carry the access key, a random 256-bit
+ * secret made at each start: `Authorization: Bearer <key>` on calls, `?key=<key>` on the
+ * event stream (EventSource cannot set headers). The printed address carries it after
+ * `#key=` (a fragment: browsers never send it, so it reaches no log or Referer); the page
+ * keeps it in sessionStorage. It is compared in constant time (SHA-256 of both sides,
+ * timingSafeEqual). A request without it, or with another, gets 401 with one fixed body,
+ * before its method, path, content type or body are looked at: it learns nothing. The
+ * renderer's static files need no key (they are the public build and hold no data).
  */
+import { createHash, randomBytes, timingSafeEqual } from 'node:crypto';
 import { createServer } from 'node:http';
 import type { IncomingMessage, Server, ServerResponse } from 'node:http';
 import { readFile, stat } from 'node:fs/promises';
@@ -34,7 +45,12 @@ export interface ServerOptions {
 }
 
 export interface RunningServer {
+  /** The server's address, without the access key. */
   url: string;
+  /** The address to open in a browser: `url` with `#key=<key>`. */
+  openUrl: string;
+  /** The access key of this start (43 base64url characters, 256 random bits). */
+  key: string;
   port: number;
   server: Server;
   close(): Promise<void>;
@@ -70,6 +86,8 @@ function statusFor(code: BridgeErrorCode): number {
     case 'BAD_REQUEST':
     case 'SPEC_INVALID':
       return 400;
+    case 'UNAUTHORIZED':
+      return 401;
     case 'FORBIDDEN':
       return 403;
     case 'UNKNOWN_CALL':
@@ -102,6 +120,41 @@ export function allowedOrigin(req: IncomingMessage, port: number): string | unde
   const site = req.headers['sec-fetch-site'];
   if (site === 'cross-site') return 'cross-site request';
   return undefined;
+}
+
+/** A new access key: 256 random bits, base64url (URL- and header-safe). */
+export function newAccessKey(): string {
+  return randomBytes(32).toString('base64url');
+}
+
+/**
+ * The access-key check: the key from `Authorization: Bearer <key>`, or from `?key=` on
+ * the event stream only. Both sides are hashed first, so the comparison takes the same
+ * time whatever the candidate's length or content (timingSafeEqual needs equal lengths).
+ */
+export function keyChecker(key: string): (req: IncomingMessage, url: URL) => boolean {
+  const want = createHash('sha256').update(key, 'utf8').digest();
+  return (req, url) => {
+    let given: string | undefined;
+    const auth = req.headers.authorization;
+    if (typeof auth === 'string' && /^Bearer /i.test(auth)) given = auth.slice(7).trim();
+    else if (url.pathname === '/api/events') given = url.searchParams.get('key') ?? undefined;
+    const got = createHash('sha256').update(given ?? '', 'utf8').digest();
+    return timingSafeEqual(got, want) && given !== undefined;
+  };
+}
+
+const UNAUTHORIZED = JSON.stringify(
+  errorReply('UNAUTHORIZED', 'this server needs its access key', 'open the address `deflator serve` printed (it ends in #key=...), or send the key as Authorization: Bearer <key>'),
+);
+
+function sendUnauthorized(res: ServerResponse): void {
+  res.statusCode = 401;
+  res.setHeader('WWW-Authenticate', 'Bearer realm="deflator"');
+  res.setHeader('Content-Type', 'application/json; charset=utf-8');
+  res.setHeader('Cache-Control', 'no-store');
+  res.setHeader('Connection', 'close');
+  res.end(UNAUTHORIZED);
 }
 
 class BodyTooLarge extends Error {}
@@ -141,6 +194,8 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
   }, 15_000);
   heartbeat.unref();
   let port = 0;
+  const key = newAccessKey();
+  const hasKey = keyChecker(key);
   const staticRoot = opts.staticDir ? path.resolve(opts.staticDir) : undefined;
 
   async function serveStatic(req: IncomingMessage, res: ServerResponse, pathname: string): Promise<void> {
@@ -192,6 +247,10 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
     }
     const url = new URL(req.url ?? '/', `http://${HOST}:${port}`);
     const pathname = url.pathname;
+    if ((pathname === '/api' || pathname.startsWith('/api/')) && !hasKey(req, url)) {
+      sendUnauthorized(res);
+      return;
+    }
     if (pathname === '/api/events') {
       if (req.method !== 'GET') {
         sendJson(res, errorReply('BAD_REQUEST', 'the event stream is read with GET', 'open /api/events with EventSource or GET'), 405);
@@ -267,6 +326,8 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
       port = typeof addr === 'object' && addr !== null ? addr.port : 0;
       resolve({
         url: `http://${HOST}:${port}/`,
+        openUrl: `http://${HOST}:${port}/#key=${key}`,
+        key,
         port,
         server,
         close: () =>

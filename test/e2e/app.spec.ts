@@ -1,9 +1,10 @@
 /** The app in Debian's Chromium against `deflator serve` on the demo database. */
-import { expect, test } from '@playwright/test';
+import { expect, test } from './fixtures.js';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import type { FitResult } from '../../shared/results.js';
 import { barsOf, checkBars, runDemoFlow, shot, specOnScreen } from './flow.js';
+import { serverAddress } from './fixtures.js';
 
 const root = path.resolve(import.meta.dirname, '../..');
 
@@ -98,4 +99,33 @@ test('charts save as PNG and SVG, tables export as CSV', async ({ page }) => {
   expect(lines[0]).toBe('parameter,estimate,s.e.,t,p');
   expect(lines.length).toBe(4);
   expect(Number(lines[1].split(',')[1])).not.toBeNaN();
+});
+
+test('the access key: the printed address opens the app and leaves the address bar; without it every call is refused', async ({ browser }) => {
+  // a context of its own, without the keys the fixture puts in sessionStorage
+  const address = serverAddress('demo');
+  const fresh = await browser.newContext();
+  try {
+    const page = await fresh.newPage();
+    const statuses: number[] = [];
+    page.on('response', (r) => {
+      if (r.url().includes('/api/')) statuses.push(r.status());
+    });
+    await page.goto(address);
+    await expect(page.locator('.datatable tbody tr').first()).toBeVisible();
+    expect(page.url()).not.toContain('key=');
+    expect(statuses.length).toBeGreaterThan(0);
+    expect(statuses.every((s) => s === 200)).toBe(true);
+    // a reload keeps the key (this tab's sessionStorage)
+    await page.reload();
+    await expect(page.locator('.datatable tbody tr').first()).toBeVisible();
+    // a new tab without the key is refused and says what to do
+    const bare = await (await browser.newContext()).newPage();
+    await bare.goto(new URL(address).origin + '/');
+    await expect(bare.locator('.error-note').first()).toContainText('access key');
+    await shot(bare, 'no-access-key');
+    await bare.context().close();
+  } finally {
+    await fresh.close();
+  }
 });

@@ -1,12 +1,12 @@
 // Builds the seeded synthetic 100-asset database for the browser benchmark (through the
 // ordinary CLI import), then runs `deflator serve` on it. Invented, seeded data: the
 // benchmark times drawing, the values checked on screen come from the engine's reply.
-//   node test/e2e/bench-server.mjs <folder> <port>
+//   node test/e2e/bench-server.mjs <folder> <port> [<key file>]
 import { spawn, spawnSync } from 'node:child_process';
 import { mkdirSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 
-const [dir = 'test-output/e2e/bench', port = '5818'] = process.argv.slice(2);
+const [dir = 'test-output/e2e/bench', port = '5818', keyFile] = process.argv.slice(2);
 const cli = path.resolve('dist/cli.js');
 const N = 100;
 const T = 240;
@@ -63,6 +63,6 @@ run(['import', 'prices', path.join(dir, 'prices.csv')]);
 run(['import', 'series', path.join(dir, 'factors.csv'), '--kind', 'factor']);
 run(['import', 'series', path.join(dir, 'rf.csv'), '--kind', 'riskfree', '--rf-form', 'rate']);
 
-const child = spawn(process.execPath, [cli, 'serve', '--db', db, '--port', port], { stdio: 'inherit' });
+const child = spawn(process.execPath, [cli, 'serve', '--db', db, '--port', port, ...(keyFile ? ['--key-file', keyFile] : [])], { stdio: 'inherit' });
 for (const sig of ['SIGINT', 'SIGTERM']) process.on(sig, () => child.kill(sig));
 child.on('exit', (code) => process.exit(code ?? 0));

@@ -3,7 +3,7 @@
  * Measures, in the page, the time from the engine's reply to the pricing-error chart being
  * drawn (goal: under 300 ms), and from the click to the chart.
  */
-import { expect, test } from '@playwright/test';
+import { expect, test } from './fixtures.js';
 import { BENCH_PORT } from './ports.js';
 import { barsOf, checkBars, fitThroughPage, shot, specOnScreen } from './flow.js';
 

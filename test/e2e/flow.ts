@@ -106,7 +106,9 @@ export async function fitThroughPage(page: Page, spec: Record<string, unknown>):
   const env = (await page.evaluate(async (s) => {
     const w = window as unknown as { deflator?: { invoke(n: string, r: unknown): Promise<unknown> } };
     if (w.deflator) return w.deflator.invoke('fit', { spec: s });
-    const r = await fetch('./api/fit', { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ spec: s }) });
+    // the page's access key (the loopback server refuses calls without it)
+    const key = sessionStorage.getItem('deflator.key') ?? '';
+    const r = await fetch('./api/fit', { method: 'POST', headers: { 'content-type': 'application/json', authorization: `Bearer ${key}` }, body: JSON.stringify({ spec: s }) });
     return r.json();
   }, spec)) as { ok: boolean; value: FitResult };
   expect(env.ok).toBe(true);

@@ -38,7 +38,8 @@ export default defineConfig({
   },
   webServer: [
     {
-      command: `mkdir -p test-output/e2e && node dist/cli.js demo --db test-output/e2e/demo.db > test-output/e2e/demo.log && node dist/cli.js serve --db test-output/e2e/demo.db --port ${DEMO_PORT}`,
+      // the access key of each start goes to an owner-only file the specs read (fixtures.ts)
+      command: `mkdir -p test-output/e2e && node dist/cli.js demo --db test-output/e2e/demo.db > test-output/e2e/demo.log && node dist/cli.js serve --db test-output/e2e/demo.db --port ${DEMO_PORT} --key-file test-output/e2e/demo-${DEMO_PORT}.key`,
       cwd: root,
       url: `http://127.0.0.1:${DEMO_PORT}/`,
       env: { DEFLATOR_HOME: path.join(root, 'test-output', 'e2e', 'home') },
@@ -47,7 +48,7 @@ export default defineConfig({
       stdout: 'pipe',
     },
     {
-      command: `node test/e2e/bench-server.mjs test-output/e2e/bench ${BENCH_PORT}`,
+      command: `node test/e2e/bench-server.mjs test-output/e2e/bench ${BENCH_PORT} test-output/e2e/bench-${BENCH_PORT}.key`,
       cwd: root,
       url: `http://127.0.0.1:${BENCH_PORT}/`,
       env: { DEFLATOR_HOME: path.join(root, 'test-output', 'e2e', 'bench-home') },

@@ -96,7 +96,7 @@ interface Resp {
 function post(pathname: string, body: string | Buffer, headers: Record<string, string> = {}): Promise<Resp> {
   return new Promise((resolve, reject) => {
     const req = http.request(
-      { host: '127.0.0.1', port: srv.port, method: 'POST', path: pathname, headers: { host: `127.0.0.1:${srv.port}`, 'content-type': 'application/json', ...headers } },
+      { host: '127.0.0.1', port: srv.port, method: 'POST', path: pathname, headers: { host: `127.0.0.1:${srv.port}`, 'content-type': 'application/json', authorization: `Bearer ${srv.key}`, ...headers } },
       (res) => {
         const chunks: Buffer[] = [];
         res.on('data', (c: Buffer) => chunks.push(c));
@@ -110,7 +110,7 @@ function post(pathname: string, body: string | Buffer, headers: Record<string, s
 
 function get(pathname: string, headers: Record<string, string>): Promise<Resp> {
   return new Promise((resolve, reject) => {
-    const req = http.get({ host: '127.0.0.1', port: srv.port, path: pathname, headers: { host: `127.0.0.1:${srv.port}`, ...headers } }, (res) => {
+    const req = http.get({ host: '127.0.0.1', port: srv.port, path: pathname, headers: { host: `127.0.0.1:${srv.port}`, authorization: `Bearer ${srv.key}`, ...headers } }, (res) => {
       const chunks: Buffer[] = [];
       res.on('data', (c: Buffer) => chunks.push(c));
       res.on('end', () => resolve({ status: res.statusCode ?? 0, body: Buffer.concat(chunks).toString('utf8') }));
@@ -318,8 +318,8 @@ describe('loopback server: Host and Origin must be its own (DNS rebinding, forei
       expect(r.status, `${name} without Host`).toBe(403);
     }
     // the check reads Host, so an own Host passes (the control for the refusals above)
-    expect((await raw(['POST /api/info HTTP/1.1', `Host: 127.0.0.1:${srv.port}`, 'Content-Type: application/json'], '{}')).status).toBe(200);
-    expect((await raw(['POST /api/info HTTP/1.1', `Host: LOCALHOST:${srv.port}`, 'Content-Type: application/json'], '{}')).status).toBe(200); // host names are case-insensitive (RFC 3986, 3.2.2)
+    expect((await raw(['POST /api/info HTTP/1.1', `Host: 127.0.0.1:${srv.port}`, 'Content-Type: application/json', `Authorization: Bearer ${srv.key}`], '{}')).status).toBe(200);
+    expect((await raw(['POST /api/info HTTP/1.1', `Host: LOCALHOST:${srv.port}`, 'Content-Type: application/json', `Authorization: Bearer ${srv.key}`], '{}')).status).toBe(200); // host names are case-insensitive (RFC 3986, 3.2.2)
   }, 120_000);
 
   it('every call refuses a foreign Origin and a cross-site fetch with 403; its own origin passes', async () => {
@@ -354,6 +354,36 @@ describe('loopback server: Host and Origin must be its own (DNS rebinding, forei
     expect(connected, 'answered on ::1').toBe(false);
     console.log('[robustness] bridge: bound to 127.0.0.1; no answer on ::1');
   });
+});
+
+describe('loopback server: a local program without the access key', () => {
+  // Host and Origin checks stop browsers; any local account can still open a socket to
+  // 127.0.0.1 and send the right Host. The key is what such a program lacks.
+  it('gets 401 with one fixed body on every call and the event stream, learns nothing, changes nothing', async () => {
+    const before = databaseState(db).digest;
+    const bodies = new Set<string>();
+    const sameLength = srv.key.replace(/^./, (c) => (c === 'A' ? 'B' : 'A'));
+    for (const name of CALL_NAMES) {
+      for (const auth of [undefined, `Bearer ${sameLength}`, `Bearer ${srv.key.slice(1)}`, 'Bearer ', `bearer${srv.key}`]) {
+        tried++;
+        const lines = [`POST /api/${name} HTTP/1.1`, `Host: 127.0.0.1:${srv.port}`, 'Content-Type: application/json', ...(auth === undefined ? [] : [`Authorization: ${auth}`])];
+        const r = await raw(lines, JSON.stringify(examples()[name]));
+        expect(r.status, `${name} with ${auth ?? 'no key'}`).toBe(401);
+        bodies.add(r.body);
+      }
+    }
+    for (const p of ['/api/events', `/api/events?key=${sameLength}`, '/api/events?key=']) {
+      tried++;
+      const r = await raw([`GET ${p} HTTP/1.1`, `Host: 127.0.0.1:${srv.port}`]);
+      expect(r.status, p).toBe(401);
+      bodies.add(r.body);
+    }
+    expect(bodies.size, [...bodies].join('\n')).toBe(1);
+    const body = [...bodies][0];
+    expect(envelope({ status: 401, body })).toMatchObject({ ok: false, error: { code: 'UNAUTHORIZED' } });
+    for (const secret of ['project.db', 'alder-hollow', 'birch-lane', 'gale_factor', dir, srv.key]) expect(body).not.toContain(secret);
+    expect(databaseState(db).digest, 'a request without the key changed the database').toBe(before);
+  }, 120_000);
 });
 
 describe('Electron IPC: the same table, the sender checked first', () => {

@@ -4,7 +4,7 @@
  * --db names another; prints the address and runs until Ctrl+C.
  */
 import type { Command } from 'commander';
-import { existsSync } from 'node:fs';
+import { closeSync, constants, existsSync, fchmodSync, fstatSync, openSync, rmSync, writeSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { DeflatorError } from '../../../shared/errors.js';
@@ -19,6 +19,29 @@ interface ServeOptions {
   port?: string;
   files: string[];
   threads?: string;
+  keyFile?: string;
+}
+
+/**
+ * Writes the address with its access key to `file`, readable and writable by the owner
+ * only (0600, also when the file existed with wider permissions); refuses a symbolic link
+ * or anything but a regular file there.
+ */
+export function writeKeyFile(file: string, text: string): void {
+  let fd: number;
+  try {
+    fd = openSync(file, constants.O_WRONLY | constants.O_CREAT | constants.O_TRUNC | (constants.O_NOFOLLOW ?? 0), 0o600);
+  } catch (e) {
+    const code = (e as { code?: string }).code;
+    throw new DeflatorError('INPUT_INVALID', `--key-file ${file}: ${code === 'ELOOP' ? 'is a symbolic link' : code ?? String(e)}`, 'name a new file in a folder of your own');
+  }
+  try {
+    if (!fstatSync(fd).isFile()) throw new DeflatorError('INPUT_INVALID', `--key-file ${file} is not a regular file`, 'name a new file in a folder of your own');
+    fchmodSync(fd, 0o600);
+    writeSync(fd, text);
+  } finally {
+    closeSync(fd);
+  }
 }
 
 /** dist/renderer beside the bundle (dist/cli.js), or in the repository when run from sources. */
@@ -51,6 +74,7 @@ export function register(program: Command): void {
     .option('--port <n>', 'port to listen on (default: any free port)')
     .option('--files <dir>', 'a folder whose CSV files the app may import by path (repeatable)', (v: string, acc: string[]) => [...acc, v], [] as string[])
     .option('--threads <n>', 'worker threads for estimation (default: the number of cores)')
+    .option('--key-file <file>', 'also write the address with its access key to this file (owner-only, 0600; removed on stop), for scripts')
     .action(async (opts: ServeOptions) => {
       const port = portOf(opts.port);
       const dataDir = userDataDir();
@@ -82,13 +106,26 @@ export function register(program: Command): void {
         if (code === 'EADDRINUSE') throw new DeflatorError('CONFLICT', `port ${port} on 127.0.0.1 is in use`, 'pick another with --port, or leave it out for a free one');
         throw e;
       }
-      process.stdout.write(`deflator: serving ${path.basename(dbPath)} at ${server.url}  (Ctrl+C to stop)\n`);
+      const keyFile = opts.keyFile ? path.resolve(opts.keyFile) : undefined;
+      if (keyFile) {
+        try {
+          writeKeyFile(keyFile, `${server.openUrl}\n`);
+        } catch (e) {
+          await server.close();
+          opened.close();
+          await pool.close();
+          throw e;
+        }
+      }
+      process.stdout.write(`deflator: serving ${path.basename(dbPath)} at ${server.openUrl}  (Ctrl+C to stop)\n`);
+      process.stdout.write('  the part after #key= is this start\'s access key: keep the address to yourself\n');
       process.stdout.write(`  ${CAUTION}\n`);
       await new Promise<void>((resolve) => {
         const stop = () => resolve();
         process.once('SIGINT', stop);
         process.once('SIGTERM', stop);
       });
+      if (keyFile) rmSync(keyFile, { force: true });
       await server.close();
       opened.close();
       await pool.close();

@@ -13,10 +13,11 @@ let secretDir: string;
 
 interface Resp { status: number; headers: http.IncomingHttpHeaders; body: string }
 
-function request(method: string, p: string, opts: { body?: string; headers?: Record<string, string> } = {}): Promise<Resp> {
+function request(method: string, p: string, opts: { body?: string; headers?: Record<string, string>; noKey?: boolean } = {}): Promise<Resp> {
   return new Promise((resolve, reject) => {
+    const auth: Record<string, string> = opts.noKey ? {} : { authorization: `Bearer ${srv.key}` };
     const req = http.request(
-      { host: '127.0.0.1', port: srv.port, method, path: p, headers: { host: `127.0.0.1:${srv.port}`, ...opts.headers } },
+      { host: '127.0.0.1', port: srv.port, method, path: p, headers: { host: `127.0.0.1:${srv.port}`, ...auth, ...opts.headers } },
       (res) => {
         const chunks: Buffer[] = [];
         res.on('data', (c: Buffer) => chunks.push(c));
@@ -115,7 +116,7 @@ describe('loopback server', () => {
   it('streams progress of a task over Server-Sent Events', async () => {
     const events: { type: string; done?: number; taskId?: string }[] = [];
     const stream = await new Promise<http.IncomingMessage>((resolve, reject) => {
-      const req = http.get({ host: '127.0.0.1', port: srv.port, path: '/api/events', headers: { host: `127.0.0.1:${srv.port}` } }, resolve);
+      const req = http.get({ host: '127.0.0.1', port: srv.port, path: `/api/events?key=${srv.key}`, headers: { host: `127.0.0.1:${srv.port}` } }, resolve);
       req.on('error', reject);
     });
     expect(stream.headers['content-type']).toContain('text/event-stream');
@@ -138,5 +139,77 @@ describe('loopback server', () => {
     const mine = events.filter((e) => e.taskId === 'sse1');
     expect(mine.filter((e) => e.type === 'progress').map((e) => e.done)).toEqual([1, 2, 3, 4]);
     expect(mine[mine.length - 1].type).toBe('task-end');
+  });
+});
+
+describe('loopback server: the access key', () => {
+  // Host and Origin checks stop browsers, not other local programs; the key stops those.
+  // 401 with a WWW-Authenticate challenge follows RFC 6750 (bearer tokens) and RFC 9110.
+  const wrongKeys = (key: string): string[] => ['', 'x', key.slice(0, -1), `${key}x`, key.replace(/^./, (c) => (c === 'A' ? 'B' : 'A')), key.toLowerCase() === key ? key.toUpperCase() : key.toLowerCase()];
+
+  it('is 256 random bits, different at each start, and carried by the printed address after #key=', async () => {
+    expect(srv.key).toMatch(/^[A-Za-z0-9_-]{43}$/);
+    expect(srv.openUrl).toBe(`http://127.0.0.1:${srv.port}/#key=${srv.key}`);
+    const core = composeApp({ version: '1', project: () => fakeProject(), importer: () => fakeImporter(), engine: fakeEngine(), files: openPolicy() });
+    const other = await startServer({ dispatcher: core.dispatcher, subscribe: core.hub.subscribe, port: 0 });
+    try {
+      expect(other.key).not.toBe(srv.key);
+    } finally {
+      await other.close();
+    }
+  });
+
+  it('a call without the key, or with a wrong one, gets 401 and one fixed body, whatever the call, method or body', async () => {
+    const bodies = new Set<string>();
+    const cases: [string, string, Record<string, string>, string | undefined][] = [];
+    for (const p of ['/api/info', '/api/coverage', '/api/history', '/api/runs', '/api/no-such-call', '/api/', '/api', '/api/%E0%A4%A']) {
+      cases.push(['POST', p, json, '{}']);
+    }
+    cases.push(['GET', '/api/info', {}, undefined], ['POST', '/api/info', { 'content-type': 'text/plain' }, 'x'], ['POST', '/api/info', json, '{oops']);
+    cases.push(['POST', '/api/info', json, JSON.stringify({ pad: 'x'.repeat(5000) })]);
+    for (const [method, p, headers, body] of cases) {
+      const r = await request(method, p, { noKey: true, headers, ...(body === undefined ? {} : { body }) });
+      expect(r.status, `${method} ${p}`).toBe(401);
+      expect(r.headers['www-authenticate']).toBe('Bearer realm="deflator"');
+      bodies.add(r.body);
+    }
+    for (const k of wrongKeys(srv.key)) {
+      const r = await request('POST', '/api/coverage', { body: '{}', headers: { ...json, authorization: `Bearer ${k}` } });
+      expect(r.status, k).toBe(401);
+      bodies.add(r.body);
+    }
+    for (const auth of [`Basic ${Buffer.from(`u:${srv.key}`).toString('base64')}`, srv.key, `Token ${srv.key}`]) {
+      const r = await request('POST', '/api/coverage', { body: '{}', headers: { ...json, authorization: auth } });
+      expect(r.status, auth).toBe(401);
+      bodies.add(r.body);
+    }
+    // the key in the query string is for the event stream only
+    expect((await request('POST', `/api/coverage?key=${srv.key}`, { body: '{}', headers: json, noKey: true })).status).toBe(401);
+    expect(bodies.size).toBe(1);
+    const [body] = [...bodies];
+    expect(JSON.parse(body)).toMatchObject({ ok: false, error: { code: 'UNAUTHORIZED' } });
+    // nothing about the project leaks: not the database, an asset, a series or a call name
+    for (const secret of ['fake.db', 'A1', 'MKT', 'coverage', 'history', srv.key]) expect(body).not.toContain(secret);
+    // with the key the same call answers
+    expect((await request('POST', '/api/coverage', { body: '{}', headers: json })).status).toBe(200);
+  });
+
+  it('the event stream needs the key too; the static app does not', async () => {
+    const get = (p: string): Promise<http.IncomingMessage> =>
+      new Promise((resolve, reject) => {
+        const req = http.get({ host: '127.0.0.1', port: srv.port, path: p, headers: { host: `127.0.0.1:${srv.port}` } }, resolve);
+        req.on('error', reject);
+      });
+    for (const p of ['/api/events', '/api/events?key=', `/api/events?key=${wrongKeys(srv.key)[4]}`, `/api/events?key=${srv.key}x`]) {
+      const r = await get(p);
+      expect(r.statusCode, p).toBe(401);
+      r.resume();
+    }
+    const ok = await get(`/api/events?key=${srv.key}`);
+    expect(ok.statusCode).toBe(200);
+    expect(ok.headers['content-type']).toContain('text/event-stream');
+    ok.destroy();
+    expect((await request('GET', '/', { noKey: true })).status).toBe(200);
+    expect((await request('GET', '/assets/app.js', { noKey: true })).status).toBe(200);
   });
 });
