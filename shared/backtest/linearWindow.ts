@@ -20,7 +20,10 @@
 import { DeflatorError } from '../errors.js';
 import type { CrossMoments, MomentMap } from './crossMoments.js';
 import { longRunCovarianceFromSums } from './crossMoments.js';
-import { backSolve, cholesky, cholSolveInPlace, forwardSolveInPlace, luSolve, qrThin } from './dense.js';
+import { choleskyInto, cholSolveInPlace, forwardSolveInPlace } from '../linalg/cholesky.js';
+import { crossProducts, identityFlat, matMulFlat, transposeFlat } from '../linalg/matrix.js';
+import { choleskyPivotNegligible } from '../linalg/policy.js';
+import { applyQt, formQ, qrFactor, solveRInPlace, solveSquare, trySolveSquare, type QrFactorization } from '../linalg/qr.js';
 
 export type LinearKind = 'linear' | 'linear-raw' | 'linear-gross';
 
@@ -61,19 +64,6 @@ function applyW(w: Weight, B: Float64Array, m: number): Float64Array {
   return X;
 }
 
-/** X' Y for X (r x p), Y (r x q) row-major. */
-function atb(X: Float64Array, Y: Float64Array, r: number, p: number, q: number): Float64Array {
-  const out = new Float64Array(p * q);
-  for (let i = 0; i < r; i++) {
-    for (let a = 0; a < p; a++) {
-      const x = X[i * p + a];
-      if (x === 0) continue;
-      for (let b = 0; b < q; b++) out[a * q + b] += x * Y[i * q + b];
-    }
-  }
-  return out;
-}
-
 /** Window means and second moments read off the sums. */
 export interface WindowMoments {
   n: number;
@@ -109,7 +99,7 @@ function hjWeight(cm: CrossMoments): Weight {
   const ERR = new Float64Array(N * N);
   // E[R_i R_j] = E[(y_i + s)(y_j + s)]
   for (let i = 0; i < N; i++) for (let j = 0; j < N; j++) ERR[i * N + j] = (cm.yy[i * Q + j] + sh * (cm.m1[i] + cm.m1[j])) / n + sh * sh;
-  return { kind: 'chol', L: cholesky(ERR, N, 'E[R R\'] (second moments of the test-asset returns, the HJ weight)'), n: N };
+  return { kind: 'chol', L: choleskyFactor(ERR, N, "E[R R'] (second moments of the test-asset returns, the HJ weight)"), n: N };
 }
 
 function firstStageWeight(cm: CrossMoments, weight: 'identity' | 'hj'): Weight {
@@ -123,36 +113,48 @@ function whiten(w: Weight, B: Float64Array, m: number): Float64Array {
   return X;
 }
 
+/** Cholesky factor of a flat n x n matrix under the kernel layer's policy (shared/linalg/policy.ts). */
+function choleskyFactor(A: Float64Array, n: number, what: string, code: 'NOT_POSITIVE_DEFINITE' | 'SINGULAR' = 'NOT_POSITIVE_DEFINITE'): Float64Array {
+  const L = new Float64Array(n * n);
+  choleskyInto(A, n, L, { name: what, code, hint: 'check for collinear or constant series, fewer periods than moments, or too many Newey-West lags for the window' });
+  return L;
+}
+
 /**
  * theta = (X'WX)^{-1} X'W y for g = X theta - y (r moments, p parameters), by QR of the
  * whitened L^{-1}X (never the normal equations, which square the condition number).
  */
-function weightedLeastSquares(X: Float64Array, y: Float64Array, r: number, p: number, w: Weight, what: string): { theta: Float64Array; Q: Float64Array; R: Float64Array } {
+function weightedLeastSquares(X: Float64Array, y: Float64Array, r: number, p: number, w: Weight, what: string): { theta: Float64Array; qr: QrFactorization } {
+  if (r < p) throw new DeflatorError('UNDERIDENTIFIED', `${what}: ${r} moments for ${p} parameters`, 'use more test assets than factors');
   const Xw = whiten(w, X, p);
   const yw = whiten(w, y, 1);
-  const { Q, R } = qrThin(Xw, r, p, what);
-  const qty = atb(Q, yw, r, p, 1);
-  return { theta: backSolve(R, p, qty, 1), Q, R };
+  const qr = qrFactor({ rows: r, cols: p, data: Xw }, { name: what });
+  const theta = applyQt(qr, yw).slice(0, p);
+  solveRInPlace(qr, theta, 1);
+  return { theta, qr };
 }
 
 /**
  * Sandwich (1/n)(X'WX)^{-1} X'W S W X (X'WX)^{-1} from the QR of the whitened X:
  * R^{-1} Q' (L^{-1} S L^{-T}) Q R^{-T} / n.
  */
-function sandwich(fit: { Q: Float64Array; R: Float64Array }, r: number, p: number, w: Weight, S: Float64Array, n: number): Float64Array {
+function sandwich(fit: { qr: QrFactorization }, r: number, p: number, w: Weight, S: Float64Array, n: number): Float64Array {
+  const Q = formQ(fit.qr);
   const Y = whiten(w, S, r); // L^{-1} S
-  const Z = whiten(w, transposeRect(Y, r, r), r); // L^{-1} S L^{-T}
-  const ZQ = matMul(Z, fit.Q, r, r, p);
-  const B = atb(fit.Q, ZQ, r, p, p);
-  const X1 = backSolve(fit.R, p, B, p); // R^{-1} B
-  const V = backSolve(fit.R, p, transposeSq(X1, p), p); // R^{-1} B R^{-T}
+  const Z = whiten(w, transposeFlat(Y, r, r), r); // L^{-1} S L^{-T}
+  const ZQ = matMulFlat(Z, Q, r, r, p);
+  const B = crossProducts(Q, ZQ, r, p, p);
+  solveRInPlace(fit.qr, B, p); // R^{-1} B
+  const V = transposeSq(B, p);
+  solveRInPlace(fit.qr, V, p); // R^{-1} B R^{-T}
   for (let i = 0; i < V.length; i++) V[i] /= n;
   return V;
 }
 
 /** (R'R)^{-1} / n = R^{-1} R^{-T} / n. */
-function informationInverse(R: Float64Array, p: number, n: number): Float64Array {
-  const Rinv = backSolve(R, p, identityMat(p), p);
+function informationInverse(qr: QrFactorization, p: number, n: number): Float64Array {
+  const Rinv = identityFlat(p);
+  solveRInPlace(qr, Rinv, p);
   const V = new Float64Array(p * p);
   for (let i = 0; i < p; i++) for (let j = 0; j < p; j++) {
     let s = 0;
@@ -219,6 +221,7 @@ export function parameterNames(factors: string[]): { b: string[]; mu: string[]; 
 export function fitLinearWindow(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit {
   if (cfg.lags >= cm.n) throw new DeflatorError('SAMPLE_TOO_SHORT', `window of ${cm.n} periods is too short for ${cfg.lags} Newey-West lags`, 'use fewer lags or a longer window');
   if (cfg.lags !== cm.lags) throw new DeflatorError('INPUT_INVALID', `the window sums hold ${cm.lags} lags, the fit asks for ${cfg.lags}`, 'move the sums with the same lag count');
+  constantFactorCheck(cm, cfg.factorNames);
   switch (cfg.kind) {
     case 'linear':
       return fitDemeaned(cm, cfg);
@@ -226,6 +229,26 @@ export function fitLinearWindow(cm: CrossMoments, cfg: LinearWindowConfig): Line
       return fitLinearInParams(cm, cfg, false);
     case 'linear-gross':
       return fitLinearInParams(cm, cfg, true);
+  }
+}
+
+/**
+ * A factor that does not vary over the window leaves its loading unidentified. From the
+ * sums: its variance E[f^2] - fbar^2 is the Cholesky pivot of f after the constant in the
+ * second moments of [1, f]; under the kernel layer's policy (shared/linalg/policy.ts) it
+ * is negligible at or below PIVOT_TOL * E[f^2]. Checked here because the rolling sums of
+ * a constant factor leave rounding noise where exact zeros belong, noise that a
+ * scale-aware factorisation would otherwise take for a (tiny) variation.
+ */
+function constantFactorCheck(cm: CrossMoments, names: readonly string[]): void {
+  const { N, K, Q, P } = cm;
+  const n = cm.n;
+  for (let k = 0; k < K; k++) {
+    const mean = cm.m1[(k + 1) * Q + N] / n;
+    const second = cm.xx[(k + 1) * P + (k + 1)] / n;
+    if (choleskyPivotNegligible(second - mean * mean, second)) {
+      throw new DeflatorError('SINGULAR', `factor "${names[k] ?? `f${k + 1}`}" is constant over the window, so its loading is not identified`, 'drop that factor or use windows over which it varies');
+    }
   }
 }
 
@@ -256,10 +279,10 @@ function fitLinearInParams(cm: CrossMoments, cfg: LinearWindowConfig, gross: boo
   if (cfg.stage === 'first') {
     V = sandwich(first, N, p, W1, S1, cm.n);
   } else {
-    const W2: Weight = { kind: 'chol', L: cholesky(S1, N, S_WHAT), n: N };
+    const W2: Weight = { kind: 'chol', L: choleskyFactor(S1, N, S_WHAT), n: N };
     const second = weightedLeastSquares(X, y, N, p, W2, "S^{-1/2} d (the second-stage moment Jacobian)");
     theta = second.theta;
-    V = informationInverse(second.R, p, cm.n);
+    V = informationInverse(second.qr, p, cm.n);
   }
   const alpha = new Float64Array(N);
   for (let i = 0; i < N; i++) {
@@ -273,12 +296,6 @@ function fitLinearInParams(cm: CrossMoments, cfg: LinearWindowConfig, gross: boo
   const bNames = cfg.names?.b ?? cfg.factorNames.map((f) => `b.${f}`);
   for (let k = 0; k < K; k++) params.push({ name: bNames[k], estimate: theta[off + k], se: se(V, p, off + k, bNames[k]) });
   return { params, alpha, b: theta.slice(off), mu: null, a: gross ? theta[0] : null, iterations: 1 };
-}
-
-function identityMat(p: number): Float64Array {
-  const I = new Float64Array(p * p);
-  for (let i = 0; i < p; i++) I[i * p + i] = 1;
-  return I;
 }
 
 /** g(b, mu) and d = dg/d(b, mu)' for the demeaned model. */
@@ -335,22 +352,22 @@ function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit
     const A = new Float64Array(p * M);
     for (let k = 0; k < K; k++) for (let i = 0; i < N; i++) A[k * M + i] = W1db[i * K + k];
     for (let k = 0; k < K; k++) A[(K + k) * M + N + k] = 1;
-    const Ad = matMul(A, d, p, M, p);
-    const ASAt = matMul(matMul(A, S1, p, M, M), transposeRect(A, p, M), p, M, p);
-    const X1 = luSolve(Ad, p, ASAt, p, normalWhat); // (Ad)^{-1} A S A'
+    const Ad = matMulFlat(A, d, p, M, p);
+    const ASAt = matMulFlat(matMulFlat(A, S1, p, M, M), transposeFlat(A, p, M), p, M, p);
+    const X1 = solveSquare(Ad, p, ASAt, p, { name: normalWhat }); // (Ad)^{-1} A S A'
     const X1t = transposeSq(X1, p);
-    V = luSolve(Ad, p, X1t, p, normalWhat); // (Ad)^{-1} [(Ad)^{-1} A S A']' = (Ad)^{-1} A S A' (Ad)^{-T}
+    V = solveSquare(Ad, p, X1t, p, { name: normalWhat }); // (Ad)^{-1} [(Ad)^{-1} A S A']' = (Ad)^{-1} A S A' (Ad)^{-T}
     for (let i = 0; i < V.length; i++) V[i] /= n;
   } else {
-    const L = cholesky(S1, M, S_WHAT);
+    const L = choleskyFactor(S1, M, S_WHAT);
     const res = newtonDemeaned(wm, L, b, mu, N, K);
     b = res.b;
     mu = res.mu;
     iterations = res.iterations;
     // (d'S^{-1}d)^{-1} / n from the Cholesky factor of tilde d' tilde d (p x p)
-    const info = atb(res.dw, res.dw, M, p, p);
-    const Li = cholesky(info, p, "d'S^{-1}d (the second-stage information matrix)");
-    V = identityMat(p);
+    const info = crossProducts(res.dw, res.dw, M, p, p);
+    const Li = choleskyFactor(info, p, "d'S^{-1}d (the second-stage information matrix)", 'SINGULAR');
+    V = identityFlat(p);
     cholSolveInPlace(Li, p, V, p);
     for (let i = 0; i < V.length; i++) V[i] /= n;
   }
@@ -371,22 +388,6 @@ function fitDemeaned(cm: CrossMoments, cfg: LinearWindowConfig): LinearWindowFit
     params.push({ name: names.lambda[k], estimate: lambda[k], se: Math.sqrt(Math.max(v, 0)) });
   }
   return { params, alpha, b, mu, a: null, iterations };
-}
-
-function matMul(A: Float64Array, B: Float64Array, r: number, k: number, c: number): Float64Array {
-  const out = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) for (let l = 0; l < k; l++) {
-    const a = A[i * k + l];
-    if (a === 0) continue;
-    for (let j = 0; j < c; j++) out[i * c + j] += a * B[l * c + j];
-  }
-  return out;
-}
-
-function transposeRect(A: Float64Array, r: number, c: number): Float64Array {
-  const t = new Float64Array(r * c);
-  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) t[j * r + i] = A[i * c + j];
-  return t;
 }
 
 /**
@@ -427,8 +428,7 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
   const GN = new Float64Array(p * p);
   const H = new Float64Array(p * p);
   const grad = new Float64Array(p);
-  const step = new Float64Array(p);
-  const work = new Float64Array(p * (p + 1));
+  let step: Float64Array | null;
   let q = whitenedMoments(Bm, nc, M, K, theta, gw);
   let prevChange = Number.POSITIVE_INFINITY;
   for (let it = 1; it <= 100; it++) {
@@ -453,12 +453,14 @@ function newtonDemeaned(wm: WindowMoments, L: Float64Array, b0: Float64Array, mu
       H[(K + k) * p + k] += rho;
     }
     let qNew = Number.POSITIVE_INFINITY;
-    if (smallSolve(H, grad, p, step, work)) {
+    step = trySolveSquare(H, p, grad, 1, { name: 'the Hessian of the second-stage objective' });
+    if (step) {
       for (let a = 0; a < p; a++) next[a] = theta[a] - step[a];
       qNew = whitenedMoments(Bm, nc, M, K, next, trial);
     }
     if (!(qNew <= q * (1 + 1e-12) + 1e-300)) {
-      if (!smallSolve(GN, grad, p, step, work)) {
+      step = trySolveSquare(GN, p, grad, 1, { name: "d'S^{-1}d (the second-stage information matrix)" });
+      if (!step) {
         throw new DeflatorError('SINGULAR', "d'S^{-1}d (the second-stage information matrix) is singular", 'check for collinear factors or a factor with no variation in the window');
       }
       let t = 1;
@@ -518,51 +520,3 @@ function whitenedJacobian(Bm: Float64Array, nc: number, M: number, K: number, th
   }
 }
 
-/**
- * Solves A x = b for a small p x p system by Gaussian elimination with partial pivoting
- * into x, using `work` (p x (p + 1)); false when a pivot is below 1e-13 x the largest entry.
- */
-function smallSolve(A: Float64Array, b: Float64Array, p: number, x: Float64Array, work: Float64Array): boolean {
-  const w = p + 1;
-  let scale = 0;
-  for (let i = 0; i < p; i++) {
-    for (let j = 0; j < p; j++) {
-      const v = A[i * p + j];
-      work[i * w + j] = v;
-      scale = Math.max(scale, Math.abs(v));
-    }
-    work[i * w + p] = b[i];
-  }
-  const tol = 1e-13 * scale;
-  for (let c = 0; c < p; c++) {
-    let piv = c;
-    let best = Math.abs(work[c * w + c]);
-    for (let r = c + 1; r < p; r++) {
-      const v = Math.abs(work[r * w + c]);
-      if (v > best) {
-        best = v;
-        piv = r;
-      }
-    }
-    if (!(best > tol)) return false;
-    if (piv !== c) {
-      for (let j = c; j < w; j++) {
-        const t = work[c * w + j];
-        work[c * w + j] = work[piv * w + j];
-        work[piv * w + j] = t;
-      }
-    }
-    const d = work[c * w + c];
-    for (let r = c + 1; r < p; r++) {
-      const f = work[r * w + c] / d;
-      if (f === 0) continue;
-      for (let j = c; j < w; j++) work[r * w + j] -= f * work[c * w + j];
-    }
-  }
-  for (let r = p - 1; r >= 0; r--) {
-    let v = work[r * w + p];
-    for (let k = r + 1; k < p; k++) v -= work[r * w + k] * x[k];
-    x[r] = v / work[r * w + r];
-  }
-  return true;
-}

@@ -16,7 +16,8 @@
 import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel } from '../panel.js';
 import type { ModelSpec } from '../spec.js';
-import { backSolve, cholesky, forwardSolveInPlace, qrThin } from '../backtest/dense.js';
+import { choleskyInto, forwardSolveInPlace } from '../linalg/cholesky.js';
+import { applyQt, qrFactor, solveRInPlace } from '../linalg/qr.js';
 
 export function linearHjApplies(model: ModelSpec): boolean {
   return model.kind === 'linear' || model.kind === 'linear-raw' || model.kind === 'linear-gross';
@@ -71,13 +72,13 @@ export function linearHjSquared(kind: 'linear' | 'linear-raw' | 'linear-gross', 
       y[i] = -Rbar[i];
     }
   }
-  const C = cholesky(ERR, N, "E[R R'] (second moments of the test-asset returns, the HJ weight)");
+  const C = new Float64Array(N * N);
+  choleskyInto(ERR, N, C, { name: "E[R R'] (second moments of the test-asset returns, the HJ weight)", hint: 'two test assets may be (almost) the same portfolio; drop one of them' });
   forwardSolveInPlace(C, N, X, p);
   forwardSolveInPlace(C, N, y, 1);
-  const { Q, R } = qrThin(X, N, p, 'the HJ-weighted moment Jacobian');
-  const qty = new Float64Array(p);
-  for (let i = 0; i < N; i++) for (let c = 0; c < p; c++) qty[c] += Q[i * p + c] * y[i];
-  const theta = backSolve(R, p, qty, 1);
+  const qr = qrFactor({ rows: N, cols: p, data: X }, { name: 'the HJ-weighted moment Jacobian' });
+  const theta = applyQt(qr, y).slice(0, p);
+  solveRInPlace(qr, theta, 1);
   let q = 0;
   for (let i = 0; i < N; i++) {
     let e = -y[i];

@@ -2,39 +2,36 @@
  * Cholesky factorisation A = L L' of a symmetric positive definite matrix and the
  * triangular solves built on it (Golub and Van Loan, Matrix Computations, 4th ed.,
  * algorithm 4.2.1). Every linear system with a symmetric positive definite matrix in
- * the estimators goes through here; no explicit inverse is formed.
+ * the estimators, the incremental back-test and the bootstrap goes through here; no
+ * explicit inverse is formed. The core routines work on flat row-major Float64Arrays
+ * (`choleskyInto`, `forwardSolveInPlace`, `backSolveTInPlace`, `cholSolveInPlace`) so that
+ * a caller in a hot loop allocates nothing; the `Mat` forms wrap them.
  *
- * Near-singularity test: the pivot of row j, A_jj - sum_k L_jk^2, is the part of
- * variable j not explained by the variables before it. When it falls below
- * `relTol * A_jj` (default 1e-12, i.e. an R^2 of 1 - 1e-12 on the earlier columns)
- * the matrix is treated as singular, and the error names the entry.
+ * Singularity: the policy of ./policy.ts (relative pivots): pivot j, A_jj - sum_k L_jk^2,
+ * the part of variable j not explained by the variables before it, must exceed
+ * PIVOT_TOL * A_jj; otherwise the error names the entry.
  */
 import { DeflatorError, type ErrorCode } from '../errors.js';
 import type { Mat } from './matrix.js';
+import { choleskyPivotNegligible, unexplainedShare } from './policy.js';
 
 export interface CholeskyOptions {
   /** Used in error messages: "the long-run covariance S", "d'Wd" ... */
   name: string;
   /** Labels of the rows (asset, factor or parameter names) for the error message. */
   labels?: readonly string[];
-  /** Relative pivot tolerance (see the file comment). */
-  relTol?: number;
   /** Error code on failure (NOT_POSITIVE_DEFINITE by default; SINGULAR for design matrices). */
   code?: ErrorCode;
   /** What the user can do about it. */
   hint?: string;
 }
 
-export const DEFAULT_PIVOT_TOL = 1e-12;
-
-/** Lower-triangular L with A = L L'. Reads only the lower triangle of A. */
-export function cholesky(a: Mat, opts: CholeskyOptions): Mat {
-  const n = a.rows;
-  if (a.cols !== n) throw new RangeError(`cholesky: ${opts.name} is ${a.rows}x${a.cols}, not square`);
-  const tol = opts.relTol ?? DEFAULT_PIVOT_TOL;
+/**
+ * Factors the symmetric n x n matrix a (row-major; only the lower triangle is read) into
+ * l (lower triangle; the upper triangle is zeroed). l may not be a.
+ */
+export function choleskyInto(A: Float64Array, n: number, L: Float64Array, opts: CholeskyOptions): void {
   const code = opts.code ?? 'NOT_POSITIVE_DEFINITE';
-  const A = a.data;
-  const L = new Float64Array(n * n);
   for (let j = 0; j < n; j++) {
     const ajj = A[j * n + j];
     const label = opts.labels?.[j] ?? `row ${j + 1}`;
@@ -42,15 +39,13 @@ export function cholesky(a: Mat, opts: CholeskyOptions): Mat {
     let d = ajj;
     const lj = j * n;
     for (let k = 0; k < j; k++) d -= L[lj + k] * L[lj + k];
-    if (!(ajj > 0) || !(d > tol * ajj)) {
-      const why =
-        ajj > 0
-          ? `${label} is (almost) a linear combination of the entries before it (unexplained share ${d / ajj > 0 ? (d / ajj).toExponential(2) : '0'})`
-          : `the diagonal entry of ${label} is ${ajj === 0 ? 'zero' : 'negative'}`;
+    if (choleskyPivotNegligible(d, ajj)) {
+      const why = ajj > 0 ? `${label} is (almost) a linear combination of the entries before it (unexplained share ${unexplainedShare(d, ajj)})` : `the diagonal entry of ${label} is ${ajj === 0 ? 'zero' : 'negative'}`;
       throw new DeflatorError(code, `${opts.name} is not positive definite: ${why}`, opts.hint ?? 'remove the redundant series or use a longer sample');
     }
     const ljj = Math.sqrt(d);
     L[lj + j] = ljj;
+    for (let c = j + 1; c < n; c++) L[lj + c] = 0;
     // Column j below the diagonal, four rows at a time: four independent sums (the same
     // operations in the same order per entry as one row at a time), so the loop is not
     // bound by the latency of a single running sum.
@@ -83,6 +78,14 @@ export function cholesky(a: Mat, opts: CholeskyOptions): Mat {
       L[li + j] = s / ljj;
     }
   }
+}
+
+/** Lower-triangular L with A = L L'. Reads only the lower triangle of A. */
+export function cholesky(a: Mat, opts: CholeskyOptions): Mat {
+  const n = a.rows;
+  if (a.cols !== n) throw new RangeError(`cholesky: ${opts.name} is ${a.rows}x${a.cols}, not square`);
+  const L = new Float64Array(n * n);
+  choleskyInto(a.data, n, L, opts);
   return { rows: n, cols: n, data: L };
 }
 
@@ -141,10 +144,8 @@ function scatterPanel(Y: Float64Array, out: Float64Array, n: number, m: number, 
   for (let i = 0; i < n; i++) for (let c = 0; c < w; c++) out[i * m + c0 + c] = Y[i * w + c];
 }
 
-/** L Y = B in place on a panel (n x w, row-major). */
-function forwardPanel(L: Mat, Y: Float64Array, w: number): void {
-  const n = L.rows;
-  const D = L.data;
+/** L Y = B in place on a panel (n x w, row-major); D is L's n x n row-major data. */
+function forwardPanel(D: Float64Array, n: number, Y: Float64Array, w: number): void {
   for (let i = 0; i < n; i++) {
     const li = i * n;
     const yi = i * w;
@@ -177,10 +178,8 @@ function forwardPanel(L: Mat, Y: Float64Array, w: number): void {
   }
 }
 
-/** L' X = Y in place on a panel (n x w, row-major). */
-function backPanel(L: Mat, Y: Float64Array, w: number): void {
-  const n = L.rows;
-  const D = L.data;
+/** L' X = Y in place on a panel (n x w, row-major); D is L's n x n row-major data. */
+function backPanel(D: Float64Array, n: number, Y: Float64Array, w: number): void {
   for (let i = n - 1; i >= 0; i--) {
     const yi = i * w;
     let k = i + 1;
@@ -221,8 +220,8 @@ export function cholSolveMat(L: Mat, b: Mat): Mat {
   for (let c0 = 0; c0 < m; c0 += PANEL) {
     const w = Math.min(PANEL, m - c0);
     const Y = gatherPanel(b, c0, w);
-    forwardPanel(L, Y, w);
-    backPanel(L, Y, w);
+    forwardPanel(L.data, n, Y, w);
+    backPanel(L.data, n, Y, w);
     scatterPanel(Y, out, n, m, c0, w);
   }
   return { rows: n, cols: m, data: out };
@@ -237,10 +236,59 @@ export function cholForwardMat(L: Mat, b: Mat): Mat {
   for (let c0 = 0; c0 < m; c0 += PANEL) {
     const w = Math.min(PANEL, m - c0);
     const Y = gatherPanel(b, c0, w);
-    forwardPanel(L, Y, w);
+    forwardPanel(L.data, n, Y, w);
     scatterPanel(Y, out, n, m, c0, w);
   }
   return { rows: n, cols: m, data: out };
+}
+
+/**
+ * In place on a flat n x m right-hand side B (row-major): L Y = B. With m <= PANEL the
+ * panel is B itself; wider B is solved PANEL columns at a time. Same bits as forwardSubst
+ * column by column.
+ */
+export function forwardSolveInPlace(L: Float64Array, n: number, B: Float64Array, m: number): void {
+  solvePanels(L, n, B, m, false);
+}
+
+/** In place on a flat n x m B: (L L') X = B (forward, then back substitution). */
+export function cholSolveInPlace(L: Float64Array, n: number, B: Float64Array, m: number): void {
+  solvePanels(L, n, B, m, true);
+}
+
+/** In place on a flat n x m B: L' X = B (back substitution only). */
+export function backSolveTInPlace(L: Float64Array, n: number, B: Float64Array, m: number): void {
+  if (m <= PANEL) {
+    backPanel(L, n, B, m);
+    return;
+  }
+  for (let c0 = 0; c0 < m; c0 += PANEL) {
+    const w = Math.min(PANEL, m - c0);
+    const Y = gatherFlat(B, n, m, c0, w);
+    backPanel(L, n, Y, w);
+    scatterPanel(Y, B, n, m, c0, w);
+  }
+}
+
+function gatherFlat(B: Float64Array, n: number, m: number, c0: number, w: number): Float64Array {
+  const Y = new Float64Array(n * w);
+  for (let i = 0; i < n; i++) for (let c = 0; c < w; c++) Y[i * w + c] = B[i * m + c0 + c];
+  return Y;
+}
+
+function solvePanels(L: Float64Array, n: number, B: Float64Array, m: number, both: boolean): void {
+  if (m <= PANEL) {
+    forwardPanel(L, n, B, m);
+    if (both) backPanel(L, n, B, m);
+    return;
+  }
+  for (let c0 = 0; c0 < m; c0 += PANEL) {
+    const w = Math.min(PANEL, m - c0);
+    const Y = gatherFlat(B, n, m, c0, w);
+    forwardPanel(L, n, Y, w);
+    if (both) backPanel(L, n, Y, w);
+    scatterPanel(Y, B, n, m, c0, w);
+  }
 }
 
 /** log det A = 2 sum log L_ii. */

@@ -276,3 +276,53 @@ export function maxAbs(x: ArrayLike<number>): number {
   }
   return m;
 }
+
+/*
+ * Flat forms, for hot loops that keep their own row-major Float64Arrays (the incremental
+ * back-test, the bootstrap): sizes are passed, nothing is allocated but the result.
+ */
+
+/** X'Y for X (r x p) and Y (r x q), both row-major: the p x q cross products. */
+export function crossProducts(X: Float64Array, Y: Float64Array, r: number, p: number, q: number): Float64Array {
+  const out = new Float64Array(p * q);
+  for (let i = 0; i < r; i++) {
+    const xi = i * p;
+    const yi = i * q;
+    for (let a = 0; a < p; a++) {
+      const x = X[xi + a];
+      if (x === 0) continue;
+      const oa = a * q;
+      for (let b = 0; b < q; b++) out[oa + b] += x * Y[yi + b];
+    }
+  }
+  return out;
+}
+
+/** A B for A (r x k) and B (k x c), both row-major. */
+export function matMulFlat(A: Float64Array, B: Float64Array, r: number, k: number, c: number): Float64Array {
+  const out = new Float64Array(r * c);
+  for (let i = 0; i < r; i++) {
+    const oi = i * c;
+    for (let l = 0; l < k; l++) {
+      const a = A[i * k + l];
+      if (a === 0) continue;
+      const bl = l * c;
+      for (let j = 0; j < c; j++) out[oi + j] += a * B[bl + j];
+    }
+  }
+  return out;
+}
+
+/** The transpose (c x r) of A (r x c), row-major. */
+export function transposeFlat(A: Float64Array, r: number, c: number): Float64Array {
+  const t = new Float64Array(r * c);
+  for (let i = 0; i < r; i++) for (let j = 0; j < c; j++) t[j * r + i] = A[i * c + j];
+  return t;
+}
+
+/** The p x p identity, row-major. */
+export function identityFlat(p: number): Float64Array {
+  const I = new Float64Array(p * p);
+  for (let i = 0; i < p; i++) I[i * p + i] = 1;
+  return I;
+}

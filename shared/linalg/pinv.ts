@@ -102,11 +102,11 @@ export function projectedCovariancePinvForm(x: ArrayLike<number>, D: Mat, LS: Ma
   const p = D.cols;
   if (x.length !== q || LS.rows !== q || constraint.rows !== q || constraint.cols !== p)
     throw new RangeError(`projectedCovariancePinvForm: x of ${x.length}, D ${q}x${p}, L ${LS.rows}x${LS.cols}, constraint ${constraint.rows}x${constraint.cols}`);
-  const qa = qrFactor(constraint, { name: 'the moment combinations the estimator sets to zero', labels: opts.labels, tol: 1e-10 });
+  const qa = qrFactor(constraint, { name: 'the moment combinations the estimator sets to zero', labels: opts.labels });
   const z = applyQt(qa, x);
   for (let i = 0; i < p; i++) z[i] = 0;
   const w = forwardSubst(LS, applyQ(qa, z)); // L^{-1} P x
-  const qz = qrFactor(cholForwardMat(LS, D), { name: 'the moment Jacobian whitened by the long-run covariance (L^-1 d)', labels: opts.labels, tol: 1e-10 });
+  const qz = qrFactor(cholForwardMat(LS, D), { name: 'the moment Jacobian whitened by the long-run covariance (L^-1 d)', labels: opts.labels });
   const r = applyQt(qz, w);
   let s = 0;
   for (let i = p; i < q; i++) s += r[i] * r[i];

@@ -8,11 +8,14 @@
  *
  * Rank check (no pivoting, so the columns keep their order and names): after the
  * reflections for columns 1..j-1, the part of column j orthogonal to them has norm
- * |R_jj|. If |R_jj| <= tol * ||x_j|| (tol = 1e-7 by default, the same relative tolerance
- * as R's lm.fit), column j is taken to be a linear combination of the columns before
- * it, and DeflatorError('SINGULAR') names it and the columns it depends on.
+ * |R_jj|. Under the kernel layer's singularity policy (./policy.ts: relative pivots,
+ * R_jj^2 <= PIVOT_TOL ||x_j||^2) column j is then taken to be a linear combination of the
+ * columns before it, and DeflatorError('SINGULAR') names it and the columns it depends on.
+ * The same factorisation serves small square systems (`solveSquare`: Newton steps, the
+ * first-stage sandwich of the back-test), where it replaces elimination with pivoting.
  */
 import { DeflatorError } from '../errors.js';
+import { qrPivotNegligible } from './policy.js';
 
 /** Row-major dense matrix; structurally the same as shared/linalg/matrix.ts `Mat`. */
 export interface DenseMatrix {
@@ -26,8 +29,6 @@ export interface QrOptions {
   name: string;
   /** Column labels for error messages (e.g. "const", factor names). */
   labels?: readonly string[];
-  /** Relative rank tolerance (see the file comment). */
-  tol?: number;
 }
 
 /** A Householder QR factorisation, ready for repeated solves. */
@@ -41,8 +42,6 @@ export interface QrFactorization {
   readonly name: string;
   readonly labels: readonly string[];
 }
-
-export const DEFAULT_RANK_TOL = 1e-7;
 
 function euclid(v: Float64Array, from: number): number {
   // Scaled sum of squares (as LAPACK dnrm2) so that huge or tiny columns do not overflow.
@@ -63,10 +62,23 @@ function euclid(v: Float64Array, from: number): number {
 
 /** Factorises the n x p design X (n >= p). Throws SINGULAR naming a collinear column. */
 export function qrFactor(x: DenseMatrix, opts: QrOptions): QrFactorization {
+  const f = factor(x, opts);
+  if ('failed' in f) throw collinear(f.columns, f.originalNorm, f.failed, f.residualNorm, f.labels, opts.name);
+  return f;
+}
+
+/** The same factorisation, or null where qrFactor would throw SINGULAR (for a caller with a fallback). */
+export function tryQrFactor(x: DenseMatrix, opts: QrOptions): QrFactorization | null {
+  const f = factor(x, opts);
+  return 'failed' in f ? null : f;
+}
+
+type Failed = { failed: number; residualNorm: number; columns: Float64Array[]; originalNorm: number[]; labels: readonly string[] };
+
+function factor(x: DenseMatrix, opts: QrOptions): QrFactorization | Failed {
   const n = x.rows;
   const p = x.cols;
   const labels = opts.labels ?? Array.from({ length: p }, (_, j) => `column ${j + 1}`);
-  const tol = opts.tol ?? DEFAULT_RANK_TOL;
   if (n < p)
     throw new DeflatorError(
       'UNDERIDENTIFIED',
@@ -88,7 +100,7 @@ export function qrFactor(x: DenseMatrix, opts: QrOptions): QrFactorization {
   for (let j = 0; j < p; j++) {
     const a = columns[j];
     const normx = euclid(a, j);
-    if (originalNorm[j] === 0 || normx <= tol * originalNorm[j]) throw collinear(columns, originalNorm, j, normx, labels, opts.name);
+    if (qrPivotNegligible(normx, originalNorm[j])) return { failed: j, residualNorm: normx, columns, originalNorm, labels };
     const alpha = a[j];
     const beta = alpha >= 0 ? -normx : normx;
     const v0 = alpha - beta;
@@ -108,7 +120,7 @@ export function qrFactor(x: DenseMatrix, opts: QrOptions): QrFactorization {
   return { rows: n, cols: p, columns, tau, name: opts.name, labels };
 }
 
-function collinear(columns: Float64Array[], originalNorm: number[], j: number, residualNorm: number, labels: readonly string[], name: string): DeflatorError {
+function collinear(columns: Float64Array[], originalNorm: readonly number[], j: number, residualNorm: number, labels: readonly string[], name: string): DeflatorError {
   const label = `"${labels[j]}"`;
   if (originalNorm[j] === 0)
     return new DeflatorError('SINGULAR', `${name}: ${label} is zero in every period`, `drop ${labels[j]} or check that its series was imported`);
@@ -247,4 +259,90 @@ export function qrUnscaledCovariance(qr: QrFactorization): DenseMatrix {
       out[j * p + i] = s;
     }
   return { rows: p, cols: p, data: out };
+}
+
+/**
+ * The thin Q (n x p, row-major, orthonormal columns) of the factorisation: Q = H_0 ... H_{p-1} [I_p; 0].
+ * For products that need Q itself (a sandwich Q' Z Q); a solve needs only applyQt.
+ */
+export function formQ(qr: QrFactorization): Float64Array {
+  const n = qr.rows;
+  const p = qr.cols;
+  const Q = new Float64Array(n * p);
+  const e = new Float64Array(n);
+  for (let c = 0; c < p; c++) {
+    e.fill(0);
+    e[c] = 1;
+    const col = applyQ(qr, e);
+    for (let i = 0; i < n; i++) Q[i * p + c] = col[i];
+  }
+  return Q;
+}
+
+/** R (p x p, row-major, upper triangular) of the factorisation. */
+export function upperR(qr: QrFactorization): Float64Array {
+  const p = qr.cols;
+  const R = new Float64Array(p * p);
+  for (let j = 0; j < p; j++) for (let i = 0; i <= j; i++) R[i * p + j] = qr.columns[j][i];
+  return R;
+}
+
+/** Solves R X = B in place for the factorisation's upper-triangular R (p x p); B is p x m row-major. */
+export function solveRInPlace(qr: QrFactorization, B: Float64Array, m: number): void {
+  const p = qr.cols;
+  for (let i = p - 1; i >= 0; i--) {
+    const rii = qr.columns[i][i];
+    for (let c = 0; c < m; c++) {
+      let s = B[i * m + c];
+      for (let k = i + 1; k < p; k++) s -= qr.columns[k][i] * B[k * m + c];
+      B[i * m + c] = s / rii;
+    }
+  }
+}
+
+/**
+ * X = A^{-1} B for a square, not necessarily symmetric A (n x n) and B (n x m), both flat
+ * row-major, by Householder QR: each equation (row of A and B) is first divided by its
+ * largest coefficient, so that neither the scale of the equations (row scaling) nor that
+ * of the unknowns (column scaling: the policy's column-relative test) decides
+ * singularity; then A = QR, X = R^{-1} Q'B. SINGULAR (naming `name`) under the policy of
+ * ./policy.ts. Returns a new array.
+ */
+export function solveSquare(A: Float64Array, n: number, B: Float64Array, m: number, opts: QrOptions): Float64Array {
+  const [As, Bs] = equilibrated(A, n, B, m);
+  return solveWith(qrFactor({ rows: n, cols: n, data: As }, opts), Bs, m);
+}
+
+/** The same, or null when A is singular under the policy (for callers with a fallback). */
+export function trySolveSquare(A: Float64Array, n: number, B: Float64Array, m: number, opts: QrOptions): Float64Array | null {
+  const [As, Bs] = equilibrated(A, n, B, m);
+  const qr = tryQrFactor({ rows: n, cols: n, data: As }, opts);
+  return qr ? solveWith(qr, Bs, m) : null;
+}
+
+/** Copies of A and B with every row divided by the largest |coefficient| of A's row (a zero row stays zero). */
+function equilibrated(A: Float64Array, n: number, B: Float64Array, m: number): [Float64Array, Float64Array] {
+  const As = A.slice(0, n * n);
+  const Bs = B.slice(0, n * m);
+  for (let i = 0; i < n; i++) {
+    let big = 0;
+    for (let j = 0; j < n; j++) big = Math.max(big, Math.abs(As[i * n + j]));
+    if (!(big > 0) || !Number.isFinite(big)) continue;
+    for (let j = 0; j < n; j++) As[i * n + j] /= big;
+    for (let c = 0; c < m; c++) Bs[i * m + c] /= big;
+  }
+  return [As, Bs];
+}
+
+function solveWith(qr: QrFactorization, B: Float64Array, m: number): Float64Array {
+  const n = qr.rows;
+  const X = new Float64Array(n * m);
+  const col = new Float64Array(n);
+  for (let c = 0; c < m; c++) {
+    for (let i = 0; i < n; i++) col[i] = B[i * m + c];
+    const z = applyQt(qr, col);
+    for (let i = 0; i < n; i++) X[i * m + c] = z[i];
+  }
+  solveRInPlace(qr, X, m);
+  return X;
 }
