@@ -22,6 +22,11 @@ export interface ReturnsPanel {
   riskfreeGross?: Float64Array;
   /** Consumption growth C_t / C_{t-1}, where the model needs it. */
   consumptionGrowth?: Float64Array;
+  /**
+   * Only where asked for (the drift split): per asset, the price ratios P*_t / P*_{t-1} of
+   * the split-adjusted closes (no dividends), null for an asset stored as returns.
+   */
+  priceRatios?: (Float64Array | null)[];
   /** What alignment did: assets dropped and why, periods lost. */
   sampleNotes: SampleNote[];
 }

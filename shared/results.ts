@@ -139,6 +139,8 @@ export interface FitResult {
   assetRegressions?: AssetRegression[];
   /** Statements the report must carry (e.g. how lambda s.e. were computed). */
   notes: string[];
+  /** Discounted-value paths under the fitted discount factor (METHODS 10). */
+  discounted?: DiscountedPaths;
 }
 
 export interface BacktestWindow {
@@ -205,7 +207,119 @@ export interface CompareResult {
   failures?: { label: string; error: string }[];
 }
 
+/** Something the reader of a result should know before trusting it: a stable code and a sentence. */
+export interface ResultWarning {
+  code: string;
+  message: string;
+}
+
+/** One predictive regression y_{t+1} = a + b dp_t + e of the dividend-price decomposition. */
+export interface DpRegression {
+  a: number;
+  b: number;
+  /** Newey-West standard errors of a and b (the decomposition's lags). */
+  seA: number;
+  seB: number;
+  /** b / seB. */
+  tB: number;
+  /** Centered R^2. */
+  r2: number;
+  /** Fitted values a + b dp_t over the regression years (for the charts). */
+  fitted: number[];
+}
+
+/** The dividend-price decomposition of one asset or an aggregate (METHODS 10). */
+export interface PresentValueResult {
+  kind: 'present-value';
+  label: string;
+  /** The one asset analysed (absent for an aggregate). */
+  asset?: string;
+  /** The assets of an aggregate (absent for one asset). */
+  assets?: string[];
+  /** 'single' asset; aggregate of market values ('shares') or of one current share each ('equal'). */
+  weighting: 'single' | 'shares' | 'equal';
+  frequency: 'annual';
+  /** T years used, first and last year. */
+  sample: { first: string; last: string; T: number };
+  lags: number;
+  lagsRule: string;
+  /** Mean of dp over all T years, and rho = 1 / (1 + exp(mean dp)). */
+  meanDp: number;
+  rho: number;
+  regressions: { r: DpRegression; dd: DpRegression; dp: DpRegression };
+  /** b_r - b_d + rho phi, and its distance from 1 (the linearisation error). */
+  identity: { value: number; gap: number };
+  /** b / (1 - rho phi) with delta-method s.e. (rho fixed). */
+  longRun: { r: { b: number; se: number }; dd: { b: number; se: number } };
+  /** Shares of Var(dp): b_r^lr and -b_d^lr, not rescaled. */
+  varianceShares: { r: number; dd: number };
+  /** Joint Newey-West covariance of (a_r, b_r, a_d, b_d, a_phi, phi). */
+  covariance: { names: string[]; values: number[][] };
+  /** The yearly data: years, year-end close dates, P, D, dp (T each); r and dd (T - 1 each, from the second year). */
+  series: { years: string[]; closes: string[]; price: number[]; dividend: number[]; dp: number[]; r: number[]; dd: number[] };
+  warnings: ResultWarning[];
+  notes: string[];
+}
+
+/** One asset's drift split (METHODS 10), annualised; null where the asset has no prices to split. */
+export interface DriftRow {
+  asset: string;
+  /** 'prices': from stored prices and dividends; 'returns': stored as returns (no split). */
+  source: 'prices' | 'returns';
+  /** mean(r) / dt. */
+  drift: number;
+  /** mean(P_t / P_{t-1} - 1) / dt. */
+  priceGrowth: number | null;
+  /** mean(r - g) / dt: the dividend flow. */
+  dividendYield: number | null;
+  /** sd(ln R) / sqrt(dt), sd dividing by T - 1. */
+  sigma: number;
+  /** mean(ln R) / dt. */
+  logDrift: number;
+  /** drift - sigma^2 / 2, printed beside logDrift. */
+  driftLessHalfVariance: number;
+  /** Newey-West s.e. of the annualised means. */
+  se: { drift: number; priceGrowth: number | null; dividendYield: number | null; logDrift: number };
+}
+
+export interface DriftResult {
+  kind: 'drift';
+  label: string;
+  frequency: Frequency;
+  periodsPerYear: number;
+  /** The common sample of the assets kept: first and last period label and T. */
+  sample: { first: string; last: string; T: number };
+  lags: number;
+  lagsRule: string;
+  assets: DriftRow[];
+  /** Assets left out, and why. */
+  dropped: { asset: string; reason: string }[];
+  warnings: ResultWarning[];
+  notes: string[];
+}
+
+/**
+ * Discounted-value paths of a fit (METHODS 10): for excess returns the discounted gains
+ * G_i,t = sum_{s <= t} m_s R^e_i,s (G_i,0 = 0 before the first period), whose mean
+ * increment G_i,T / T is the pricing error; for gross returns Lambda_t V_i,t =
+ * prod_{s <= t} m_s R_i,s (1 before the first period), whose mean increment ratio is
+ * E_T[m R_i] = 1 + pricing error.
+ */
+export interface DiscountedPaths {
+  /** 'gains' (excess returns, flat at 0 when priced) or 'value' (gross returns, flat at 1). */
+  form: 'gains' | 'value';
+  periods: string[];
+  series: Record<string, number[]>;
+  /** Assets left out to keep the record small (largest |t| of the pricing error kept), with the rule. */
+  omitted?: { count: number; rule: string };
+  /** How m_t was obtained for a beta-representation fit. */
+  note?: string;
+}
+
 export type AnyResult = FitResult | BacktestResult | CompareResult;
+
+/** Results of the present-value analyses (METHODS 10). */
+export type ValueResult = PresentValueResult | DriftResult;
 
 /** The caution every results screen and report carries. */
 export const CAUTION = 'Statistical model diagnostics only; not investment advice.';

@@ -101,6 +101,68 @@ export const compareSpecSchema = z
   })
   .strict();
 
+const yearOrDate = z.string().regex(/^\d{4}(-\d{2}-\d{2})?$/, 'expected a year (YYYY) or a date (YYYY-MM-DD)');
+const lagsSchema = z.union([z.number().int().min(0).max(1000), z.literal('auto')]).default('auto');
+
+/**
+ * The dividend-price decomposition of one asset (`asset`) or of the aggregate of a set of
+ * assets (`aggregate: true`, `assets` or every stored asset), on calendar years from the
+ * year of `start` to the year of `end` (METHODS 10).
+ */
+export const presentValueSpecSchema = z
+  .object({
+    analysis: z.literal('present-value'),
+    label: z.string().optional(),
+    asset: z.string().min(1).optional(),
+    aggregate: z.boolean().default(false),
+    assets: z.union([z.literal('all'), z.array(z.string().min(1)).min(1)]).default('all'),
+    frequency: z.literal('annual').default('annual'),
+    start: yearOrDate.optional(),
+    end: yearOrDate.optional(),
+    lags: lagsSchema,
+  })
+  .strict();
+
+/** The drift split of each asset's return (METHODS 10) on the common sample of the assets. */
+export const driftSpecSchema = z
+  .object({
+    analysis: z.literal('drift'),
+    label: z.string().optional(),
+    assets: z.union([z.literal('all'), z.array(z.string().min(1)).min(1)]).default('all'),
+    frequency: z.enum(FREQUENCIES).default('monthly'),
+    start: isoDate.optional(),
+    end: isoDate.optional(),
+    lags: lagsSchema,
+  })
+  .strict();
+
+export type PresentValueSpec = z.infer<typeof presentValueSpecSchema>;
+export type PresentValueSpecInput = z.input<typeof presentValueSpecSchema>;
+export type DriftSpec = z.infer<typeof driftSpecSchema>;
+export type DriftSpecInput = z.input<typeof driftSpecSchema>;
+
+/** Parses a present-value spec; exactly one of `asset` and `aggregate: true`. */
+export function parsePresentValueSpec(input: unknown, root = 'spec'): PresentValueSpec {
+  const r = presentValueSpecSchema.safeParse(input);
+  if (!r.success) throw new DeflatorError('SPEC_INVALID', formatSpecIssues(r.error, root), 'fix the keys named above; docs/spec.md lists every key');
+  const s = r.data;
+  const problems: string[] = [];
+  if (s.asset !== undefined && s.aggregate) problems.push(`${root}.asset: give one asset or "aggregate": true, not both`);
+  if (s.asset === undefined && !s.aggregate) problems.push(`${root}.asset: name one asset, or set "aggregate": true`);
+  if (s.asset !== undefined && s.assets !== 'all') problems.push(`${root}.assets: lists the assets of an aggregate; with one asset leave it out`);
+  if (s.start && s.end && s.start.slice(0, 4) > s.end.slice(0, 4)) problems.push(`${root}.start: ${s.start} is after end ${s.end}`);
+  if (problems.length) throw new DeflatorError('SPEC_INVALID', problems.join('\n'), 'fix the keys named above; docs/spec.md lists every key');
+  return s;
+}
+
+/** Parses a drift spec. */
+export function parseDriftSpec(input: unknown, root = 'spec'): DriftSpec {
+  const r = driftSpecSchema.safeParse(input);
+  if (!r.success) throw new DeflatorError('SPEC_INVALID', formatSpecIssues(r.error, root), 'fix the keys named above; docs/spec.md lists every key');
+  if (r.data.start && r.data.end && r.data.start > r.data.end) throw new DeflatorError('SPEC_INVALID', `${root}.start: ${r.data.start} is after end ${r.data.end}`, 'fix the keys named above; docs/spec.md lists every key');
+  return r.data;
+}
+
 export type FitSpec = z.infer<typeof fitSpecSchema>;
 export type FitSpecInput = z.input<typeof fitSpecSchema>;
 export type CompareSpec = z.infer<typeof compareSpecSchema>;

@@ -19,7 +19,8 @@ import { standardErrors } from './gmmInference.js';
 import { hjDistance } from './hjDistance.js';
 import { assertFiniteSeries, checkAssets, checkFactors, checkIdentification, checkSampleLength } from './inputChecks.js';
 import { DemeanedLinearModel, GrossLinearModel, RawLinearModel } from './linearSdf.js';
-import { autoLags } from './longRunCovariance.js';
+import { lagsChoice } from './longRunCovariance.js';
+import { discountedPaths } from '../values/discountedValue.js';
 import { mean, type MomentModel } from './momentModel.js';
 import { factorCovariance, riskPremia, RISK_PREMIA_NOTE } from './riskPremia.js';
 import { sdfMoments, volatilityBound } from './volatilityBound.js';
@@ -100,8 +101,7 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
     if (spec.returns === 'excess') notes.push(`delta is fixed at ${spec.model.delta ?? 1} (excess returns do not identify it).`);
   }
   const e = spec.estimator;
-  const lags = e.lags === 'auto' ? autoLags(T) : e.lags;
-  const lagsRule = e.lags === 'auto' ? `automatic, floor(4 (T/100)^(2/9)) = ${lags}` : lags === 0 ? 'none (0 lags: heteroskedasticity-robust only)' : `user, ${lags}`;
+  const { lags, rule: lagsRule } = lagsChoice(e.lags, T);
   checkIdentification(model.q, model.p, model.nAssets, `the ${kind} model`);
   checkSampleLength(T, model.q, lags);
   return {
@@ -255,6 +255,14 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
     bound,
     convergence: { iterations: est.iterations, converged: est.converged, criterion: est.criterion },
     notes,
+    discounted: discountedPaths({
+      form: spec.returns === 'excess' ? 'gains' : 'value',
+      periods: panel.periods,
+      assets,
+      returns: model.returns,
+      sdf: m,
+      priority: pricingErrors.map((e) => e.t),
+    }),
   };
   assertAllFinite(result);
   return { result, estimate: est, prepared: prep };

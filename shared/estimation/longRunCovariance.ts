@@ -25,6 +25,16 @@ export function autoLags(T: number): number {
   return Math.floor(4 * Math.pow(T / 100, 2 / 9));
 }
 
+/**
+ * The lag count a spec's `lags` asks for at T observations, and the words the reports print
+ * for it: "auto" is the rule above.
+ */
+export function lagsChoice(lags: number | 'auto', T: number): { lags: number; rule: string } {
+  const L = lags === 'auto' ? autoLags(T) : lags;
+  const rule = lags === 'auto' ? `automatic, floor(4 (T/100)^(2/9)) = ${L}` : L === 0 ? 'none (0 lags: heteroskedasticity-robust only)' : `user, ${L}`;
+  return { lags: L, rule };
+}
+
 /** Bartlett weights w_j = 1 - j/(L+1), j = 1..L (index 0 holds w_0 = 1). */
 export function bartlettWeights(lags: number): Float64Array {
   const w = new Float64Array(lags + 1);

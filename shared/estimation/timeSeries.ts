@@ -34,8 +34,9 @@ import type { FitSpec } from '../spec.js';
 import { chiSquareSf, fSf, normalTwoSidedP } from '../stats/distributions.js';
 import { crossSectionFit } from './crossSectionFit.js';
 import { assertAllFinite } from './finiteGuard.js';
-import { autoLags, longRunCovariance } from './longRunCovariance.js';
+import { lagsChoice, longRunCovariance } from './longRunCovariance.js';
 import { olsMany } from './ols.js';
+import { discountedPaths, linearSdfForPremia } from '../values/discountedValue.js';
 
 /** The inputs of a beta-representation fit, checked. */
 export interface BetaInputs {
@@ -93,8 +94,7 @@ export function betaInputs(spec: FitSpec, panel: ReturnsPanel, method: 'time-ser
   const K = factors.length;
   if (K === 0) throw new DeflatorError('SPEC_INVALID', 'spec.model.factors: a beta-representation fit needs at least one factor', 'name the factors in model.factors');
   const e = spec.estimator;
-  const lags = e.lags === 'auto' ? autoLags(T) : e.lags;
-  const lagsRule = e.lags === 'auto' ? `automatic, floor(4 (T/100)^(2/9)) = ${lags}` : lags === 0 ? 'none (0 lags: heteroskedasticity-robust only)' : `user, ${lags}`;
+  const { lags, rule: lagsRule } = lagsChoice(e.lags, T);
   return { T, N, K, assets: [...panel.assets], returns: [...panel.returns], factorNames, factors, lags, lagsRule, periodsPerYear: PERIODS_PER_YEAR[panel.frequency] };
 }
 
@@ -312,6 +312,15 @@ export function timeSeriesFit(spec: FitSpec, panel: ReturnsPanel): FitResult {
     betas,
     assetRegressions,
     notes,
+    discounted: discountedPaths({
+      form: 'gains',
+      periods: panel.periods,
+      assets: inp.assets,
+      returns: inp.returns,
+      sdf: linearSdfForPremia(inp.factors, fq.means, inp.factorNames),
+      priority: pricingErrors.map((e) => e.t),
+      note: "m_t = 1 - fbar' Sigma_f^-1 (f_t - fbar), the linear discount factor that prices the factor means: its mean increments are the intercepts a_i",
+    }),
   };
   assertAllFinite(result);
   return result;

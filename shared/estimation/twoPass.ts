@@ -38,6 +38,7 @@ import type { ReturnsPanel } from '../panel.js';
 import type { FitResult, ParamEstimate, PricingErrorRow, TestResult } from '../results.js';
 import type { FitSpec } from '../spec.js';
 import { chiSquareSf } from '../stats/distributions.js';
+import { discountedPaths, linearSdfForPremia } from '../values/discountedValue.js';
 import { crossSectionFit } from './crossSectionFit.js';
 import { assertAllFinite } from './finiteGuard.js';
 import { betaInputs, betaRows, betaSampleHeader, factorCovarianceQuadForm, normalParam, seriesMean, timeSeriesRegressions } from './timeSeries.js';
@@ -196,6 +197,18 @@ export function twoPassFit(spec: FitSpec, panel: ReturnsPanel): FitResult {
     betas,
     assetRegressions,
     notes,
+    discounted: discountedPaths({
+      form: 'gains',
+      periods: panel.periods,
+      assets: inp.assets,
+      returns: inp.returns,
+      sdf: linearSdfForPremia(inp.factors, lambdaF, inp.factorNames),
+      offset: intercept ? lambda[0] : 0,
+      priority: pricingErrors.map((e) => e.t),
+      note: intercept
+        ? "m_t = 1 - lambda' Sigma_f^-1 (f_t - fbar) applied to R^e - gamma_0 (the zero-beta rate, lambda.const): its mean increments are the pricing errors"
+        : "m_t = 1 - lambda' Sigma_f^-1 (f_t - fbar): its mean increments are the pricing errors",
+    }),
   };
   assertAllFinite(result);
   return result;

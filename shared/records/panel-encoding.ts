@@ -11,12 +11,20 @@
  *   u32 encoding version    (PANEL_ENCODING_VERSION)
  *   string frequency, string returnKind
  *   u32 T, u32 N, u32 K
- *   u8 flags                bit 0: riskfreeGross present; bit 1: consumptionGrowth present
+ *   u8 flags                bit 0: riskfreeGross present; bit 1: consumptionGrowth present;
+ *                           bit 2: priceRatios present (drift splits)
  *   T strings               period labels
  *   N strings               asset names
  *   K strings               factor names
  *   float64 LE values       asset 0 periods 0..T-1, asset 1 ..., then factor 0 ... factor K-1,
- *                           then riskfreeGross (T) if present, then consumptionGrowth (T) if present.
+ *                           then riskfreeGross (T) if present, then consumptionGrowth (T) if present,
+ *                           then, if priceRatios are present, per asset a u8 (1: ratios follow, T
+ *                           float64; 0: none, an asset stored as returns).
+ * A panel without price ratios encodes exactly as before they existed.
+ *
+ * Yearly values of a present-value decomposition are encoded by `encodeYearly` (magic "DFLY",
+ * same version): u32 T, u32 N, the years' close labels (T strings), the asset names (N
+ * strings), a string for the weighting, then price (T float64) and dividend (T float64).
  *
  * Every NaN is written as the one quiet NaN 0x7FF8000000000000 (payloads carry no data);
  * -0 keeps its sign bit. sampleNotes are descriptive text, not data, and are left out.
@@ -102,7 +110,7 @@ export function encodePanel(panel: ReturnsPanel): Uint8Array {
   w.u32(T);
   w.u32(N);
   w.u32(K);
-  w.u8((panel.riskfreeGross ? 1 : 0) | (panel.consumptionGrowth ? 2 : 0));
+  w.u8((panel.riskfreeGross ? 1 : 0) | (panel.consumptionGrowth ? 2 : 0) | (panel.priceRatios ? 4 : 0));
   for (const p of panel.periods) w.str(p);
   for (const a of panel.assets) w.str(a);
   for (const f of panel.factors) w.str(f.name);
@@ -119,7 +127,58 @@ export function encodePanel(panel: ReturnsPanel): Uint8Array {
     checkLength(what, s.length, T);
     for (let t = 0; t < T; t++) w.f64(s[t]);
   }
+  if (panel.priceRatios) {
+    if (panel.priceRatios.length !== N) throw new DeflatorError('INPUT_INVALID', `panel has ${N} assets but ${panel.priceRatios.length} price-ratio entries`, 'rebuild the panel from the store');
+    panel.priceRatios.forEach((r, i) => {
+      w.u8(r ? 1 : 0);
+      if (!r) return;
+      checkLength(`price ratios of ${panel.assets[i]}`, r.length, T);
+      for (let t = 0; t < T; t++) w.f64(r[t]);
+    });
+  }
   return w.result();
+}
+
+/** The yearly values a present-value decomposition used (shared/returns/yearly.ts). */
+export interface YearlyInput {
+  closes: string[];
+  assets: string[];
+  weighting: string;
+  price: ArrayLike<number>;
+  dividend: ArrayLike<number>;
+}
+
+/** Canonical bytes of yearly values (layout in the file comment). */
+export function encodeYearly(v: YearlyInput): Uint8Array {
+  const T = v.closes.length;
+  checkLength('prices', v.price.length, T);
+  checkLength('dividends', v.dividend.length, T);
+  const w = new ByteWriter();
+  w.bytes(Uint8Array.from([0x44, 0x46, 0x4c, 0x59]));
+  w.u32(PANEL_ENCODING_VERSION);
+  w.u32(T);
+  w.u32(v.assets.length);
+  for (const c of v.closes) w.str(c);
+  for (const a of v.assets) w.str(a);
+  w.str(v.weighting);
+  for (let t = 0; t < T; t++) w.f64(v.price[t]);
+  for (let t = 0; t < T; t++) w.f64(v.dividend[t]);
+  return w.result();
+}
+
+/** The fingerprint stored with a present-value run (frequency 'annual', K = 0). */
+export function fingerprintYearly(v: YearlyInput): PanelFingerprint {
+  const T = v.closes.length;
+  return {
+    sha256: toHex(new Sha256().update(encodeYearly(v)).digest()),
+    encoding: PANEL_ENCODING_VERSION,
+    frequency: 'annual',
+    start: v.closes[0] ?? '',
+    end: v.closes[T - 1] ?? '',
+    T,
+    N: v.assets.length,
+    K: 0,
+  };
 }
 
 /** SHA-256 (hex) of the canonical encoding: the panel fingerprint stored with every run. */

@@ -19,16 +19,25 @@ import { consumptionPeriods, factorPeriods, riskfreePeriods, type PeriodSeries }
 import { assetLastDates, periodLabels } from './table.js';
 import { commonWindow } from './window.js';
 
+/** The keys of a spec that fix a panel's data (a fit spec has them all). */
+export type PanelSpec = Pick<FitSpec, 'frequency' | 'start' | 'end' | 'assets' | 'returns' | 'riskfree' | 'includeRiskfree' | 'dayCount'> & {
+  model: Pick<FitSpec['model'], 'factors' | 'consumption'>;
+};
+
 export interface BuildPanelInput {
   histories: PriceHistory[];
   series: NamedSeries[];
   portfolios?: ReturnSeries[];
-  spec: FitSpec;
+  spec: PanelSpec;
+  /** Also return each asset's price ratios P*_t / P*_{t-1} (null for assets stored as returns). */
+  priceRatios?: boolean;
 }
 
 interface TestAsset {
   name: string;
   gross: Map<number, number>;
+  /** Split-adjusted closes (price histories only). */
+  price?: Map<number, number>;
   lastDates: Map<number, string>;
   cutShort?: { index: number; note: string };
   unusable?: string;
@@ -77,7 +86,7 @@ function portfolioAsset(p: ReturnSeries, cal: PeriodCalendar, frequency: Frequen
   return { name: p.name, gross, lastDates, ...(gross.size === 0 ? { unusable: 'no returns' } : {}) };
 }
 
-/** Builds the balanced panel a fit, back-test or comparison estimates on. */
+/** Builds the balanced panel a fit, back-test, comparison or drift split estimates on. */
 export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const { spec } = input;
   const frequency = spec.frequency;
@@ -129,6 +138,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
     built.set(h.asset, {
       name: h.asset,
       gross: a.gross,
+      price: a.price,
       lastDates: assetLastDates(a),
       ...(a.unusable ? { unusable: a.unusable } : {}),
       ...(a.cutShort ? { cutShort: { index: a.cutShort.index, note: `last ${frequency} period cut short by the end of the data: ${a.cutShort.from ? `from ${a.cutShort.from} ` : ''}to ${a.cutShort.to}` } } : {}),
@@ -280,5 +290,16 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   };
   if (rfGross) panel.riskfreeGross = rfGross;
   if (consumption) panel.consumptionGrowth = series(consumption.values);
+  if (input.priceRatios) {
+    panel.priceRatios = kept.map((a) => {
+      const price = a.price;
+      if (!price) return null;
+      const out = new Float64Array(T);
+      // Every period of the window has a return, so the period before it has a close.
+      for (let k = w.lo; k <= w.hi; k++) out[k - w.lo] = (price.get(k) as number) / (price.get(k - 1) as number);
+      return out;
+    });
+    if (spec.includeRiskfree && rf && rfGross) panel.priceRatios.push(null);
+  }
   return panel;
 }

@@ -20,6 +20,12 @@ export interface AssetPeriods {
   stored: Frequency | null;
   /** Period index -> value index V at the period's last close (V = 1 at the asset's first close). */
   close: Map<number, number>;
+  /**
+   * Period index -> price at the period's last close in units of the asset's first share
+   * (P_t times the product of the split factors up to t), so that the ratio of two closes
+   * is price growth without dividends: P*_t / P*_{t-1} (METHODS 10).
+   */
+  price: Map<number, number>;
   /** Period index -> gross return over the period (only where the previous period has a close). */
   gross: Map<number, number>;
   /** Period index -> day number of the last close in the period. */
@@ -59,8 +65,10 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   const rowDays: number[] = [];
   const rowDates: typeof dates = [];
   const rowGross: number[] = []; // NaN for the first priced row
+  const rowPrice: number[] = []; // price in units of the first share
   let prevPrice = Number.NaN;
   let factor = 1;
+  let splitProduct = 1;
   let carried = 0;
   for (let i = 0; i < n; i++) {
     const p = h.price[i];
@@ -71,6 +79,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     if (!Number.isFinite(d) || d < 0) throw invalid(h.asset, h.dates[i], `dividend ${rawD} is not a non-negative number`);
     if (!Number.isFinite(a) || a <= 0) throw invalid(h.asset, h.dates[i], `split factor ${rawA} is not a positive number`);
     factor *= a;
+    splitProduct *= a;
     if (Number.isNaN(p)) {
       carried += d * factor;
       continue;
@@ -84,12 +93,13 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     rowDays.push(dates[i].day);
     rowDates.push(dates[i]);
     rowGross.push(r);
+    rowPrice.push(p * splitProduct);
     prevPrice = p;
     factor = 1;
     carried = 0;
   }
 
-  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
+  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), price: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
   const f = cal.frequency;
   if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
     out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
@@ -102,12 +112,14 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
 
   // Group rows by period (rows are ascending, so are their periods).
   let value = 1;
+  let lastPrice = Number.NaN;
   let k: number | null = null;
   let product = 1;
   let prevClosedK: number | null = null;
   const flush = (): void => {
     if (k === null) return;
     out.close.set(k, value);
+    out.price.set(k, lastPrice);
     if (prevClosedK !== null && prevClosedK === k - 1) out.gross.set(k, product);
     prevClosedK = k;
   };
@@ -126,6 +138,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
       value *= r;
       product *= r;
     }
+    lastPrice = rowPrice[j];
     out.lastDay.set(idx, rowDays[j]);
     out.lastDate.set(idx, rowDates[j].date);
   }
