@@ -9,7 +9,8 @@ import { periodCalendar, parseAscending } from './periods.js';
 import { riskfreePeriods, sortedKeys, type DayCount } from './series.js';
 
 export { returnsTable, RETURN_KINDS, type ReturnKind, type ReturnsTable, type ReturnsTableOptions } from './table.js';
-export { buildPanel, type BuildPanelInput } from './panel.js';
+export { buildPanel, type BuildPanelInput, type PanelSpec } from './panel.js';
+export { yearlyValues, type YearlyValues, type YearlyOptions } from './yearly.js';
 export { periodKey, storedFrequency, parseDate, type CalendarDate } from './periods.js';
 export { yieldToGross, type DayCount, type YieldConvention } from './series.js';
 

@@ -36,8 +36,8 @@ export interface BuildPanelInput {
 interface TestAsset {
   name: string;
   gross: Map<number, number>;
-  /** Split-adjusted closes (price histories only). */
-  price?: Map<number, number>;
+  /** Price ratios without dividends (price histories only). */
+  priceGross?: Map<number, number>;
   lastDates: Map<number, string>;
   cutShort?: { index: number; note: string };
   unusable?: string;
@@ -138,7 +138,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
     built.set(h.asset, {
       name: h.asset,
       gross: a.gross,
-      price: a.price,
+      priceGross: a.priceGross,
       lastDates: assetLastDates(a),
       ...(a.unusable ? { unusable: a.unusable } : {}),
       ...(a.cutShort ? { cutShort: { index: a.cutShort.index, note: `last ${frequency} period cut short by the end of the data: ${a.cutShort.from ? `from ${a.cutShort.from} ` : ''}to ${a.cutShort.to}` } } : {}),
@@ -291,14 +291,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   if (rfGross) panel.riskfreeGross = rfGross;
   if (consumption) panel.consumptionGrowth = series(consumption.values);
   if (input.priceRatios) {
-    panel.priceRatios = kept.map((a) => {
-      const price = a.price;
-      if (!price) return null;
-      const out = new Float64Array(T);
-      // Every period of the window has a return, so the period before it has a close.
-      for (let k = w.lo; k <= w.hi; k++) out[k - w.lo] = (price.get(k) as number) / (price.get(k - 1) as number);
-      return out;
-    });
+    panel.priceRatios = kept.map((a) => (a.priceGross ? series(a.priceGross) : null));
     if (spec.includeRiskfree && rf && rfGross) panel.priceRatios.push(null);
   }
   return panel;

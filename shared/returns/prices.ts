@@ -21,11 +21,12 @@ export interface AssetPeriods {
   /** Period index -> value index V at the period's last close (V = 1 at the asset's first close). */
   close: Map<number, number>;
   /**
-   * Period index -> price at the period's last close in units of the asset's first share
-   * (P_t times the product of the split factors up to t), so that the ratio of two closes
-   * is price growth without dividends: P*_t / P*_{t-1} (METHODS 10).
+   * Period index -> price ratio over the period without dividends, P*_t / P*_{t-1} of the
+   * split-adjusted closes (METHODS 10), where `gross` has the period: the product of the row
+   * ratios P_t a_t / P_{t-1}, computed like the row returns without the dividend, so an asset
+   * that pays nothing has ratios equal to its gross returns bit for bit.
    */
-  price: Map<number, number>;
+  priceGross: Map<number, number>;
   /** Period index -> gross return over the period (only where the previous period has a close). */
   gross: Map<number, number>;
   /** Period index -> day number of the last close in the period. */
@@ -65,10 +66,9 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   const rowDays: number[] = [];
   const rowDates: typeof dates = [];
   const rowGross: number[] = []; // NaN for the first priced row
-  const rowPrice: number[] = []; // price in units of the first share
+  const rowPriceGross: number[] = []; // P_t a_t / P_{t-1}: the row return without the dividend
   let prevPrice = Number.NaN;
   let factor = 1;
-  let splitProduct = 1;
   let carried = 0;
   for (let i = 0; i < n; i++) {
     const p = h.price[i];
@@ -79,27 +79,28 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     if (!Number.isFinite(d) || d < 0) throw invalid(h.asset, h.dates[i], `dividend ${rawD} is not a non-negative number`);
     if (!Number.isFinite(a) || a <= 0) throw invalid(h.asset, h.dates[i], `split factor ${rawA} is not a positive number`);
     factor *= a;
-    splitProduct *= a;
     if (Number.isNaN(p)) {
       carried += d * factor;
       continue;
     }
     if (!Number.isFinite(p) || p <= 0) throw invalid(h.asset, h.dates[i], `price ${p} is not a positive number`);
     let r = Number.NaN;
+    let g = Number.NaN;
     if (!Number.isNaN(prevPrice)) {
       r = ((p + d) * factor + carried) / prevPrice;
+      g = (p * factor) / prevPrice;
       if (!Number.isFinite(r) || r <= 0) throw invalid(h.asset, h.dates[i], `the return from the previous close is ${r}`);
     }
     rowDays.push(dates[i].day);
     rowDates.push(dates[i]);
     rowGross.push(r);
-    rowPrice.push(p * splitProduct);
+    rowPriceGross.push(g);
     prevPrice = p;
     factor = 1;
     carried = 0;
   }
 
-  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), price: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
+  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), priceGross: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
   const f = cal.frequency;
   if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
     out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
@@ -112,15 +113,17 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
 
   // Group rows by period (rows are ascending, so are their periods).
   let value = 1;
-  let lastPrice = Number.NaN;
   let k: number | null = null;
   let product = 1;
+  let priceProduct = 1;
   let prevClosedK: number | null = null;
   const flush = (): void => {
     if (k === null) return;
     out.close.set(k, value);
-    out.price.set(k, lastPrice);
-    if (prevClosedK !== null && prevClosedK === k - 1) out.gross.set(k, product);
+    if (prevClosedK !== null && prevClosedK === k - 1) {
+      out.gross.set(k, product);
+      out.priceGross.set(k, priceProduct);
+    }
     prevClosedK = k;
   };
   let lastPeriodStart: string | null = null;
@@ -132,13 +135,14 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
       lastPeriodStart = k !== null ? (out.lastDate.get(k) ?? null) : null;
       k = idx;
       product = 1;
+      priceProduct = 1;
     }
     const r = rowGross[j];
     if (!Number.isNaN(r)) {
       value *= r;
       product *= r;
+      priceProduct *= rowPriceGross[j];
     }
-    lastPrice = rowPrice[j];
     out.lastDay.set(idx, rowDays[j]);
     out.lastDate.set(idx, rowDates[j].date);
   }

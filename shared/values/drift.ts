@@ -8,20 +8,19 @@ import { PERIODS_PER_YEAR } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel } from '../panel.js';
 import type { DriftResult, ResultWarning } from '../results.js';
-import { buildPanel } from '../returns/panel.js';
+import { buildPanel, type PanelSpec } from '../returns/panel.js';
 import type { DriftSpec } from '../spec.js';
 import { lagsChoice } from '../estimation/longRunCovariance.js';
 import { driftSplit } from './driftSplit.js';
 
+/** The panel keys of a drift spec: gross returns of its assets, no series. */
+export function driftPanelSpec(spec: DriftSpec): PanelSpec {
+  return { frequency: spec.frequency, start: spec.start, end: spec.end, assets: spec.assets, returns: 'gross', includeRiskfree: false, model: { factors: [] } };
+}
+
 /** The panel a drift spec reads: gross returns with each asset's price ratios. */
 export function driftPanel(spec: DriftSpec, histories: PriceHistory[], portfolios: ReturnSeries[] = [], series: NamedSeries[] = []): ReturnsPanel {
-  return buildPanel({
-    histories,
-    series,
-    portfolios,
-    spec: { frequency: spec.frequency, start: spec.start, end: spec.end, assets: spec.assets, returns: 'gross', includeRiskfree: false, model: { factors: [] } },
-    priceRatios: true,
-  });
+  return buildPanel({ histories, series, portfolios, spec: driftPanelSpec(spec), priceRatios: true });
 }
 
 /** Drift, price growth, dividend yield, sigma and the log drift of every asset of the panel (METHODS 10). */

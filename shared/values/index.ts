@@ -6,4 +6,4 @@ export { dividendPriceDecomposition, COEFFICIENT_NAMES, FEW_YEARS, NEAR_UNIT_ROO
 export { driftSplit, type DriftInput } from './driftSplit.js';
 export { discountedPaths, linearSdfForPremia, MAX_DISCOUNTED_VALUES, type DiscountedInput } from './discountedValue.js';
 export { presentValue, presentValueInputs, presentValueHistories } from './presentValue.js';
-export { driftAnalysis, driftPanel } from './drift.js';
+export { driftAnalysis, driftPanel, driftPanelSpec } from './drift.js';

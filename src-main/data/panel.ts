@@ -6,14 +6,15 @@
 import type { NamedSeries, PriceHistory, ReturnSeries, SeriesKind } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
-import { buildPanel, type BuildPanelInput } from '../../shared/returns/index.js';
-import type { FitSpec } from '../../shared/spec.js';
+import { buildPanel, type BuildPanelInput, type PanelSpec } from '../../shared/returns/index.js';
+import type { DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
+import { driftPanelSpec } from '../../shared/values/drift.js';
 import type { Store } from '../store/store.js';
 
 const list = (names: string[]) => (names.length ? names.join(', ') : '(none)');
 
 /** The series names a spec needs, with the kinds each may have. */
-export function seriesNeeded(spec: FitSpec): { name: string; role: string; key: string; kinds: SeriesKind[] }[] {
+export function seriesNeeded(spec: PanelSpec): { name: string; role: string; key: string; kinds: SeriesKind[] }[] {
   const out: { name: string; role: string; key: string; kinds: SeriesKind[] }[] = [];
   if (spec.riskfree) out.push({ name: spec.riskfree, role: 'risk-free', key: 'spec.riskfree', kinds: ['riskfree'] });
   for (const f of spec.model.factors) out.push({ name: f, role: 'factor', key: 'spec.model.factors', kinds: ['factor', 'other'] });
@@ -22,7 +23,7 @@ export function seriesNeeded(spec: FitSpec): { name: string; role: string; key: 
 }
 
 /** What buildPanel needs for this spec, read from the store (no more than that). */
-export function loadPanelInput(store: Store, spec: FitSpec): BuildPanelInput {
+export function loadPanelInput(store: Store, spec: PanelSpec): BuildPanelInput {
   let histories: PriceHistory[];
   let portfolios: ReturnSeries[] = [];
   if (spec.assets === 'all') {
@@ -63,4 +64,28 @@ export function loadPanelInput(store: Store, spec: FitSpec): BuildPanelInput {
 /** The balanced panel a fit, back-test or comparison runs on. */
 export function loadPanel(store: Store, spec: FitSpec): ReturnsPanel {
   return buildPanel(loadPanelInput(store, spec));
+}
+
+/** The panel of a drift split: gross returns and price ratios of the spec's assets. */
+export function loadDriftPanel(store: Store, spec: DriftSpec): ReturnsPanel {
+  return buildPanel({ ...loadPanelInput(store, driftPanelSpec(spec)), priceRatios: true });
+}
+
+/** The price histories a present-value spec reads (one asset, the listed assets, or all). */
+export function loadPresentValueHistories(store: Store, spec: PresentValueSpec): PriceHistory[] {
+  const wanted = spec.asset !== undefined ? [spec.asset] : spec.assets === 'all' ? undefined : spec.assets;
+  if (wanted) {
+    const stored = new Set(store.assets());
+    const missing = wanted.filter((a) => !stored.has(a));
+    if (missing.length) {
+      throw new DeflatorError(
+        'NOT_FOUND',
+        `asset(s) ${missing.map((m) => `"${m}"`).join(', ')} not in ${store.path}; stored assets: ${list([...stored].slice(0, 30))}${stored.size > 30 ? ', ...' : ''}`,
+        'check the names with `deflator info --db DB`',
+      );
+    }
+  }
+  const histories = store.loadHistories(wanted);
+  if (histories.length === 0) throw new DeflatorError('DATA_MISSING', `no price histories in ${store.path}`, 'import prices first (`deflator import prices`), or run `deflator demo`');
+  return histories;
 }

@@ -10,6 +10,8 @@ import { register as returns } from './returns.js';
 import { register as fit } from './fit.js';
 import { register as backtest } from './backtest.js';
 import { register as compare } from './compare.js';
+import { register as presentValue } from './present-value.js';
+import { register as drift } from './drift.js';
 import { register as portfolio } from './portfolio.js';
 import { register as runs } from './runs.js';
 import { register as show } from './show.js';
@@ -19,4 +21,4 @@ import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, portfolio, fit, backtest, compare, runs, show, replay, exportRun, serve];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, portfolio, fit, backtest, compare, presentValue, drift, runs, show, replay, exportRun, serve];

@@ -56,9 +56,12 @@ describe(`drift split vs pandas ${fx.versions.pandas} and statsmodels ${fx.versi
       expect(a.driftLessHalfVariance).toBe(a.drift - (a.sigma * a.sigma) / 2);
     }
     console.info(`[drift] largest |drift - (price growth + dividend yield)| over 30 demo assets: ${worst.toExponential(2)}`);
-    // Non-payers: the whole drift is price growth.
-    const none = res.assets.find((a) => a.asset === 'fallowmere-grain');
-    expect(none?.dividendYield).toBe(0);
+    // Non-payers: the whole drift is price growth, exactly (their price ratios are their gross returns bit for bit).
+    for (const name of ['fallowmere-grain', 'islet-ropeworks', 'kestrelmark-mills']) {
+      const none = res.assets.find((a) => a.asset === name);
+      expect(none?.dividendYield, name).toBe(0);
+      expect(none?.priceGrowth, name).toBe(none?.drift);
+    }
   });
 
   it('an asset stored as returns shows drift and sigma, and says why the split is missing', () => {

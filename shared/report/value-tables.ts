@@ -1,0 +1,83 @@
+/**
+ * The tables of the present-value analyses (METHODS 10) in the neutral table model of
+ * tables.ts, which the terminal report and every export read.
+ */
+import type { DriftResult, PresentValueResult } from '../results.js';
+import type { CellValue, ReportColumn, ReportTable } from './tables.js';
+import type { NumberFormat } from './numbers.js';
+
+const text = (key: string, label = key): ReportColumn => ({ key, label, type: 'text' });
+const num = (key: string, label: string, format: NumberFormat = 'value'): ReportColumn => ({ key, label, type: 'number', format });
+
+const REGRESSION_LABELS = { r: 'return r(t+1)', dd: 'dividend growth dd(t+1)', dp: 'dividend-price ratio dp(t+1)' } as const;
+
+export function presentValueTables(r: PresentValueResult): ReportTable[] {
+  const summary: CellValue[][] = [
+    ['years used (T)', r.sample.T, `${r.sample.first}-${r.sample.last}`],
+    ['mean dp', r.meanDp, 'over all T years'],
+    ['rho', r.rho, '1 / (1 + exp(mean dp))'],
+    ['identity b_r - b_d + rho phi', r.identity.value, 'near 1'],
+    ['identity gap', r.identity.gap, 'value - 1: the linearisation error'],
+    ['Newey-West lags', r.lags, r.lagsRule],
+  ];
+  const regs = (['r', 'dd', 'dp'] as const).map((k) => {
+    const g = r.regressions[k];
+    return [REGRESSION_LABELS[k], g.a, g.seA, g.b, g.seB, g.tB, g.r2] as CellValue[];
+  });
+  const T = r.sample.T;
+  const years: CellValue[][] = r.series.years.map((y, t) => [y, r.series.closes[t], r.series.price[t], r.series.dividend[t], r.series.dp[t], t > 0 ? r.series.r[t - 1] : null, t > 0 ? r.series.dd[t - 1] : null]);
+  return [
+    { id: 'summary', title: 'Dividend-price decomposition', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: summary },
+    {
+      id: 'regressions',
+      title: `Predictive regressions on dp(t), ${T - 1} years (Newey-West s.e.)`,
+      columns: [text('regression', 'Regression of'), num('a', 'a'), num('seA', 's.e.(a)'), num('b', 'b (phi for dp)'), num('seB', 's.e.(b)'), num('tB', 't(b)', 'stat'), num('r2', 'R2')],
+      rows: regs,
+    },
+    {
+      id: 'long-run',
+      title: 'Long-run coefficients and variance shares of dp',
+      columns: [text('part', 'Part'), num('b', 'Long-run coefficient'), num('se', 's.e. (delta method)'), num('share', 'Share of Var(dp)')],
+      rows: [
+        ['returns: b_r / (1 - rho phi)', r.longRun.r.b, r.longRun.r.se, r.varianceShares.r],
+        ['dividend growth: b_d / (1 - rho phi)', r.longRun.dd.b, r.longRun.dd.se, r.varianceShares.dd],
+      ],
+    },
+    {
+      id: 'years',
+      title: 'Yearly values',
+      columns: [text('year', 'Year'), text('close', 'Year-end close'), num('price', 'P (year end)'), num('dividend', 'D (paid in year)'), num('dp', 'dp = ln(D/P)'), num('r', 'r = ln R'), num('dd', 'dd = ln D growth')],
+      rows: years,
+    },
+    {
+      id: 'covariance',
+      title: 'Joint Newey-West covariance of the coefficients',
+      columns: [text('coefficient', 'Coefficient'), ...r.covariance.names.map((n) => num(n, n))],
+      rows: r.covariance.names.map((n, i) => [n, ...r.covariance.values[i]]),
+    },
+  ];
+}
+
+export function driftTables(r: DriftResult): ReportTable[] {
+  return [
+    {
+      id: 'drift',
+      title: `Drift split, annualised (${r.frequency}, ${r.periodsPerYear} periods per year; decimals per year)`,
+      columns: [
+        text('asset', 'Asset'),
+        text('source', 'Data'),
+        num('drift', 'Drift mu'),
+        num('seDrift', 's.e.'),
+        num('priceGrowth', 'Price growth'),
+        num('sePriceGrowth', 's.e.'),
+        num('dividendYield', 'Dividend yield'),
+        num('seDividendYield', 's.e.'),
+        num('sigma', 'sigma'),
+        num('logDrift', 'Log drift'),
+        num('seLogDrift', 's.e.'),
+        num('driftLessHalfVariance', 'mu - sigma^2/2'),
+      ],
+      rows: r.assets.map((a) => [a.asset, a.source, a.drift, a.se.drift, a.priceGrowth, a.se.priceGrowth, a.dividendYield, a.se.dividendYield, a.sigma, a.logDrift, a.se.logDrift, a.driftLessHalfVariance]),
+    },
+  ];
+}

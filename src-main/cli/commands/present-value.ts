@@ -1,0 +1,87 @@
+/**
+ * `deflator present-value --db DB (--asset NAME | --aggregate [--assets a,b,c])
+ * [--frequency annual] [--start Y] [--end Y] [--lags L] [--json]`: the dividend-price
+ * decomposition of one asset or of the aggregate of a set of assets (METHODS 10).
+ * Prints the readable report, or with --json exactly the documented keys plus "warnings".
+ */
+import type { Command } from 'commander';
+import { DeflatorError } from '../../../shared/errors.js';
+import { valueResultText } from '../../../shared/report/value-text.js';
+import { parsePresentValueSpec, type PresentValueSpec } from '../../../shared/spec.js';
+import { presentValueJson } from '../../../shared/values/json.js';
+import { presentValue } from '../../../shared/values/presentValue.js';
+import { loadPresentValueHistories } from '../../data/panel.js';
+import { Store } from '../../store/store.js';
+
+interface Flags {
+  db: string;
+  asset?: string;
+  aggregate?: boolean;
+  assets?: string;
+  frequency: string;
+  start?: string;
+  end?: string;
+  lags: string;
+  json?: boolean;
+}
+
+/** "auto" or a whole number of lags, as a spec holds it. */
+export function parseLags(flag: string): number | 'auto' {
+  if (flag === 'auto') return 'auto';
+  if (!/^\d{1,4}$/.test(flag)) throw new DeflatorError('INPUT_INVALID', `--lags: "${flag}" is not a whole number or "auto"`, 'pass --lags auto, --lags 0 (heteroskedasticity only) or a number of lags');
+  return Number(flag);
+}
+
+/** Comma-separated names, trimmed; empty entries dropped. */
+export function parseNames(flag: string | undefined): string[] | undefined {
+  if (flag === undefined) return undefined;
+  const names = flag.split(',').map((s) => s.trim()).filter(Boolean);
+  if (!names.length) throw new DeflatorError('INPUT_INVALID', '--assets names no asset', 'pass comma-separated asset names, e.g. --assets a,b,c');
+  return names;
+}
+
+export function presentValueSpecFromFlags(o: Omit<Flags, 'db' | 'json'>): PresentValueSpec {
+  if (o.asset !== undefined && o.aggregate) throw new DeflatorError('INPUT_INVALID', '--asset and --aggregate both given', 'pass --asset NAME for one asset, or --aggregate [--assets a,b,c] for their aggregate');
+  if (o.asset === undefined && !o.aggregate) throw new DeflatorError('INPUT_INVALID', 'neither --asset nor --aggregate given', 'pass --asset NAME for one asset, or --aggregate [--assets a,b,c] for their aggregate');
+  if (o.assets !== undefined && !o.aggregate) throw new DeflatorError('INPUT_INVALID', '--assets lists the assets of an aggregate', 'add --aggregate, or pass one asset with --asset');
+  if (o.frequency !== 'annual') throw new DeflatorError('INPUT_INVALID', `--frequency ${o.frequency}: the decomposition is computed on calendar years only`, 'leave --frequency out, or pass --frequency annual');
+  const assets = parseNames(o.assets);
+  return parsePresentValueSpec(
+    {
+      analysis: 'present-value',
+      ...(o.asset !== undefined ? { asset: o.asset } : { aggregate: true, ...(assets ? { assets } : {}) }),
+      frequency: 'annual',
+      ...(o.start !== undefined ? { start: o.start } : {}),
+      ...(o.end !== undefined ? { end: o.end } : {}),
+      lags: parseLags(o.lags),
+    },
+    'options',
+  );
+}
+
+export function register(program: Command): void {
+  program
+    .command('present-value')
+    .description('dividend-price decomposition of one asset or an aggregate: does the dividend yield forecast returns or dividend growth?')
+    .requiredOption('--db <path>', 'project database')
+    .option('--asset <name>', 'one asset (prices and dividends per current share)')
+    .option('--aggregate', 'the aggregate of a set of assets (sum of market values and of dividends x shares)')
+    .option('--assets <names>', 'with --aggregate: comma-separated asset names (default: every stored asset)')
+    .option('--frequency <f>', 'annual (calendar years; the only frequency)', 'annual')
+    .option('--start <year>', 'first year (YYYY, or a date: its year)')
+    .option('--end <year>', 'last year (YYYY, or a date: its year)')
+    .option('--lags <L>', 'Newey-West lags: a number, 0 (heteroskedasticity only) or auto = floor(4 (n/100)^(2/9))', 'auto')
+    .option('--json', 'print {asset|assets, frequency, sample, rho, regressions, identity, longRun, varianceShares, warnings}')
+    .action((o: Flags) => {
+      const spec = presentValueSpecFromFlags(o);
+      const store = new Store(o.db, { mustExist: true });
+      try {
+        const histories = loadPresentValueHistories(store, spec);
+        const result = presentValue(spec, histories);
+        if (o.json) process.stdout.write(`${JSON.stringify(presentValueJson(result), null, 2)}\n`);
+        else process.stdout.write(valueResultText(result));
+      } finally {
+        store.close();
+      }
+    });
+}
