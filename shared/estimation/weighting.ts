@@ -45,11 +45,24 @@ export function secondMomentMatrix(returns: readonly Float64Array[]): Mat {
   return { rows: n, cols: n, data: out };
 }
 
+/**
+ * E[RR'] and its Cholesky factor are computed once per set of return series (the model's
+ * `returns` array): the first stage with the HJ weight, the HJ distance and the HJ
+ * bootstrap's full-sample estimate of one fit share them (an N x N x T product, the most
+ * expensive step of a fit with thousands of assets). Keyed by the array object, so a
+ * resampled draw (a new array) gets its own.
+ */
+const hjCache = new WeakMap<readonly Float64Array[], Weighting>();
+
 /** The Hansen-Jagannathan weight W = (E[RR'])^{-1} on the test-asset moments (METHODS 3). */
 export function hjWeighting(returns: readonly Float64Array[], assetNames: readonly string[]): Weighting {
-  return inverseWeighting(secondMomentMatrix(returns), {
+  const hit = hjCache.get(returns);
+  if (hit) return hit;
+  const w = inverseWeighting(secondMomentMatrix(returns), {
     name: "the second-moment matrix E[RR'] of the test-asset returns (Hansen-Jagannathan weight)",
     labels: assetNames,
     hint: 'two test assets are (almost) the same portfolio; drop one of them',
   });
+  hjCache.set(returns, w);
+  return w;
 }

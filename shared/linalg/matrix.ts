@@ -4,6 +4,7 @@
  * thousand rows with thousands of test assets, so every hot loop runs along contiguous
  * rows, and allocation is explicit.
  */
+import { gram, seriesDot } from './gramKernel.js';
 
 /** A dense row-major matrix: entry (i, j) is data[i * cols + j]. */
 export interface Mat {
@@ -191,80 +192,20 @@ export function dot(x: ArrayLike<number>, y: ArrayLike<number>): number {
 /**
  * sum_t x[t] y[t] over two series of equal length, with four partial sums (the hot loop
  * of every covariance and second-moment matrix; about twice as fast as one accumulator).
+ * Defined in ./gramKernel.ts with the Gram kernel, whose every entry equals it bit for bit.
  */
-export function seriesDot(x: Float64Array, y: Float64Array): number {
-  const n = x.length;
-  let s0 = 0;
-  let s1 = 0;
-  let s2 = 0;
-  let s3 = 0;
-  let t = 0;
-  for (; t + 3 < n; t += 4) {
-    s0 += x[t] * y[t];
-    s1 += x[t + 1] * y[t + 1];
-    s2 += x[t + 2] * y[t + 2];
-    s3 += x[t + 3] * y[t + 3];
-  }
-  for (; t < n; t++) s0 += x[t] * y[t];
-  return s0 + s1 + s2 + s3;
-}
+export { seriesDot };
 
 /**
  * The symmetric q x q matrix with entries (a, b) and (b, a) equal to seriesDot(x[a], y[b])
  * for b >= a (x = y gives a Gram matrix; the long-run covariance passes its filtered and
- * plain series). Unscaled: the caller divides by T as it did per entry. Rows are taken two at a time, so each
- * pass over y[b] serves two sums: half the memory traffic of one seriesDot per entry, which
- * for thousands of long series is what bounds the loop. Each sum keeps seriesDot's four
- * partial sums and their order, so every entry equals seriesDot's to the last bit.
+ * plain series). Unscaled: the caller divides by T as it did per entry. Computed by the
+ * kernel layer's Gram kernel (./gramKernel.ts: WebAssembly SIMD, register- and
+ * cache-blocked, where the engine has it; plain JavaScript elsewhere), every entry equal
+ * to seriesDot's to the last bit on either route.
  */
 export function seriesProductsUpper(x: readonly Float64Array[], y: readonly Float64Array[]): Float64Array {
-  const q = x.length;
-  const out = new Float64Array(q * q);
-  const put = (a: number, b: number, s: number) => {
-    out[a * q + b] = s;
-    out[b * q + a] = s;
-  };
-  let a = 0;
-  for (; a + 1 < q; a += 2) {
-    const x0 = x[a];
-    const x1 = x[a + 1];
-    put(a, a, seriesDot(x0, y[a]));
-    for (let b = a + 1; b < q; b++) {
-      const yb = y[b];
-      const n = yb.length;
-      let s0 = 0;
-      let s1 = 0;
-      let s2 = 0;
-      let s3 = 0;
-      let r0 = 0;
-      let r1 = 0;
-      let r2 = 0;
-      let r3 = 0;
-      let t = 0;
-      for (; t + 3 < n; t += 4) {
-        const y0 = yb[t];
-        const y1 = yb[t + 1];
-        const y2 = yb[t + 2];
-        const y3 = yb[t + 3];
-        s0 += x0[t] * y0;
-        s1 += x0[t + 1] * y1;
-        s2 += x0[t + 2] * y2;
-        s3 += x0[t + 3] * y3;
-        r0 += x1[t] * y0;
-        r1 += x1[t + 1] * y1;
-        r2 += x1[t + 2] * y2;
-        r3 += x1[t + 3] * y3;
-      }
-      for (; t < n; t++) {
-        s0 += x0[t] * yb[t];
-        r0 += x1[t] * yb[t];
-      }
-      put(a, b, s0 + s1 + s2 + s3);
-      put(a + 1, b, r0 + r1 + r2 + r3);
-    }
-  }
-  if (a < q) put(a, a, seriesDot(x[a], y[a]));
-  return out;
+  return gram(x, y);
 }
 
 /** Largest absolute entry (0 for an empty matrix). */
