@@ -181,16 +181,21 @@ export function fingerprintYearly(v: YearlyInput): PanelFingerprint {
   };
 }
 
+/** SHA-256 (hex) of bytes. The host may pass a native one (src-main passes node:crypto's): the same digest, faster. */
+export type Sha256Hex = (bytes: Uint8Array) => string;
+
+const jsSha256: Sha256Hex = (bytes) => toHex(new Sha256().update(bytes).digest());
+
 /** SHA-256 (hex) of the canonical encoding: the panel fingerprint stored with every run. */
-export function panelFingerprint(panel: ReturnsPanel): string {
-  return toHex(new Sha256().update(encodePanel(panel)).digest());
+export function panelFingerprint(panel: ReturnsPanel, sha256: Sha256Hex = jsSha256): string {
+  return sha256(encodePanel(panel));
 }
 
 /** The fingerprint stored with a run: the digest plus the panel's shape. */
-export function fingerprintPanel(panel: ReturnsPanel): PanelFingerprint {
+export function fingerprintPanel(panel: ReturnsPanel, sha256: Sha256Hex = jsSha256): PanelFingerprint {
   const T = panel.periods.length;
   return {
-    sha256: panelFingerprint(panel),
+    sha256: panelFingerprint(panel, sha256),
     encoding: PANEL_ENCODING_VERSION,
     frequency: panel.frequency,
     start: panel.periods[0] ?? '',

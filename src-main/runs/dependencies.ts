@@ -6,6 +6,7 @@
  * data has changed since (re-imported, replaced or deleted): the run is then stale.
  */
 import { createHash } from 'node:crypto';
+import type { NamedSeries, PriceHistory, ReturnSeries } from '../../shared/data.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
@@ -70,7 +71,11 @@ export class DataFingerprinter {
   private readonly cache = new Map<string, SubjectFingerprint | null>();
   private readonly st;
 
-  constructor(private readonly store: Store) {
+  constructor(
+    private readonly store: Store,
+    known: readonly SubjectFingerprint[] = [],
+  ) {
+    for (const k of known) this.cache.set(`${k.kind}\u0000${k.name}`, k);
     const db = store.db;
     this.st = {
       assetId: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
@@ -94,10 +99,9 @@ export class DataFingerprinter {
   }
 
   /**
-   * SHA-256 over a subject's stored rows, in date order. Per row: the date as u32 length
-   * + UTF-8, then float64 little-endian values: asset (price, dividend, adjust, a u8 flag
-   * and shares when present), series (value), portfolio (a u8 flag and net when present).
-   * Prefixed by kind and name. null when the subject is no longer stored.
+   * The subject's digest (`subjectDigest`) from its stored rows; null when the subject is
+   * no longer stored. Digests given to the constructor (computed by the panel load from
+   * the rows it read, src-main/services) are used as they are.
    */
   subject(ref: SubjectRef): SubjectFingerprint | null {
     const key = `${ref.kind}\u0000${ref.name}`;
@@ -105,47 +109,16 @@ export class DataFingerprinter {
     const id = this.id(ref);
     let fp: SubjectFingerprint | null = null;
     if (id !== undefined) {
-      const h = createHash('sha256');
-      const str = (s: string) => {
-        const b = Buffer.from(s, 'utf8');
-        const n = Buffer.alloc(4);
-        n.writeUInt32LE(b.length);
-        h.update(n).update(b);
-      };
-      const f = Buffer.alloc(8);
-      const num = (x: number) => {
-        f.writeDoubleLE(x);
-        h.update(f);
-      };
-      const flag = (on: boolean) => h.update(Buffer.from([on ? 1 : 0]));
-      str(ref.kind);
-      str(ref.name);
-      let rows = 0;
       if (ref.kind === 'asset') {
-        for (const [d, p, dv, a, sh] of this.st.assetRows.iterate(id) as Iterable<[string, number, number, number, number | null]>) {
-          str(d);
-          num(p);
-          num(dv);
-          num(a);
-          flag(sh !== null);
-          if (sh !== null) num(sh);
-          rows++;
-        }
+        const rows = this.st.assetRows.all(id) as [string, number, number, number, number | null][];
+        fp = subjectDigest({ kind: 'asset', name: ref.name, dates: rows.map((r) => r[0]), values: [rows.map((r) => r[1]), rows.map((r) => r[2]), rows.map((r) => r[3])], optional: rows.map((r) => r[4]) });
       } else if (ref.kind === 'series') {
-        for (const [d, v] of this.st.seriesRows.iterate(id) as Iterable<[string, number]>) {
-          str(d);
-          num(v);
-          rows++;
-        }
+        const rows = this.st.seriesRows.all(id) as [string, number][];
+        fp = subjectDigest({ kind: 'series', name: ref.name, dates: rows.map((r) => r[0]), values: [rows.map((r) => r[1])] });
       } else {
-        for (const [d, v] of this.st.portfolioRows.iterate(id) as Iterable<[string, number | null]>) {
-          str(d);
-          flag(v !== null);
-          if (v !== null) num(v);
-          rows++;
-        }
+        const rows = this.st.portfolioRows.all(id) as [string, number | null][];
+        fp = subjectDigest({ kind: 'portfolio', name: ref.name, dates: rows.map((r) => r[0]), values: [], optional: rows.map((r) => r[1]) });
       }
-      fp = { kind: ref.kind, name: ref.name, sha256: h.digest('hex'), rows };
     }
     this.cache.set(key, fp);
     return fp;
@@ -168,3 +141,66 @@ export class DataFingerprinter {
     return [...byImport.values()].sort((a, b) => (a.importId ?? 0) - (b.importId ?? 0));
   }
 }
+
+/** One subject's stored rows, column by column, for its digest. */
+export interface SubjectRows {
+  kind: SubjectKind;
+  name: string;
+  /** Dates (assets, series) or periods (portfolios), ascending. */
+  dates: readonly string[];
+  /** The always-present values per row: asset price, dividend, adjust; series value; none for portfolios. */
+  values: readonly ArrayLike<number>[];
+  /** The optional value per row (asset shares, portfolio net): null (or NaN) when absent. */
+  optional?: ArrayLike<number | null>;
+}
+
+/**
+ * SHA-256 over a subject's stored rows, in date order. Per row: the date as u32 length +
+ * UTF-8, then float64 little-endian values: asset (price, dividend, adjust, a u8 flag and
+ * shares when present), series (value), portfolio (a u8 flag and net when present).
+ * Prefixed by kind and name (each as u32 length + UTF-8). The bytes are laid out in one
+ * buffer per subject and hashed once.
+ */
+export function subjectDigest(s: SubjectRows): SubjectFingerprint {
+  const n = s.dates.length;
+  const present = (i: number): boolean => {
+    const v = s.optional?.[i];
+    return v !== undefined && v !== null && !Number.isNaN(v);
+  };
+  let size = 8 + Buffer.byteLength(s.kind) + Buffer.byteLength(s.name);
+  for (let i = 0; i < n; i++) size += 4 + Buffer.byteLength(s.dates[i]) + 8 * s.values.length + (s.optional ? (present(i) ? 9 : 1) : 0);
+  const buf = Buffer.allocUnsafe(size);
+  let o = 0;
+  const str = (t: string) => {
+    const len = buf.write(t, o + 4, 'utf8');
+    buf.writeUInt32LE(len, o);
+    o += 4 + len;
+  };
+  str(s.kind);
+  str(s.name);
+  for (let i = 0; i < n; i++) {
+    str(s.dates[i]);
+    for (const col of s.values) o = buf.writeDoubleLE(col[i], o);
+    if (s.optional) {
+      const on = present(i);
+      buf[o++] = on ? 1 : 0;
+      if (on) o = buf.writeDoubleLE(s.optional[i] as number, o);
+    }
+  }
+  return { kind: s.kind, name: s.name, sha256: createHash('sha256').update(buf.subarray(0, o)).digest('hex'), rows: n };
+}
+
+/** Digests of what a panel load read (src-main/data/panel.ts loadPanelInput), without reading the store again. */
+export function loadedDigests(input: { histories: readonly PriceHistory[]; series: readonly NamedSeries[]; portfolios?: readonly ReturnSeries[] }): SubjectFingerprint[] {
+  const out: SubjectFingerprint[] = [];
+  for (const h of input.histories) {
+    const n = h.dates.length;
+    out.push(subjectDigest({ kind: 'asset', name: h.asset, dates: h.dates, values: [h.price, h.dividend, h.adjust ?? new Float64Array(n).fill(1)], optional: h.shares ?? new Float64Array(n).fill(NaN) }));
+  }
+  for (const x of input.series) out.push(subjectDigest({ kind: 'series', name: x.name, dates: x.dates, values: [x.values] }));
+  for (const p of input.portfolios ?? []) out.push(subjectDigest({ kind: 'portfolio', name: p.name, dates: p.periods, values: [], optional: p.net }));
+  return out;
+}
+
+/** SHA-256 (hex) by node:crypto, for shared/records' fingerprints (the same digest as its own code, faster). */
+export const nodeSha256 = (bytes: Uint8Array): string => createHash('sha256').update(bytes).digest('hex');

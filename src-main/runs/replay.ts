@@ -20,6 +20,7 @@ import { computeAnalysis, loadAnalysisData, type Analysis } from '../services/an
 import type { Compute } from '../services/compute.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
+import { nodeSha256 } from './dependencies.js';
 import { getRun, staleItems } from './runs.js';
 
 export type { ReplayReport };
@@ -134,7 +135,7 @@ export function uniqueFingerprints(panels: ReturnsPanel[]): PanelFingerprint[] {
   const seen = new Set<string>();
   const out: PanelFingerprint[] = [];
   for (const p of panels) {
-    const fp = fingerprintPanel(p);
+    const fp = fingerprintPanel(p, nodeSha256);
     if (seen.has(fp.sha256)) continue;
     seen.add(fp.sha256);
     out.push(fp);

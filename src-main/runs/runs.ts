@@ -12,7 +12,7 @@ import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSummary, RunTag, StaleItem, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
-import { DataFingerprinter, runSubjects } from './dependencies.js';
+import { DataFingerprinter, nodeSha256, runSubjects } from './dependencies.js';
 
 export interface RecordRunInput {
   /** The spec as parsed (defaults filled in): what replay runs again. */
@@ -30,6 +30,11 @@ export interface RecordRunInput {
   threads?: number;
   /** Back-tests: the engine asked for, when not 'auto' (e.g. 'fit'). */
   engine?: string;
+  /**
+   * Digests of subjects the caller already read (src-main/services: the panel load's own
+   * rows, `loadedDigests`), so that the store is not read again for them.
+   */
+  subjects?: readonly SubjectFingerprint[];
 }
 
 interface RunRow {
@@ -83,10 +88,10 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
   if (!given.length) throw new DeflatorError('INPUT_INVALID', 'recordRun: no panel given', 'pass the returns panel the result was computed on');
   const panels: PanelFingerprint[] = [];
   for (const p of given) {
-    const fp = isPanel(p) ? fingerprintPanel(p) : p;
+    const fp = isPanel(p) ? fingerprintPanel(p, nodeSha256) : p;
     if (!panels.some((q) => q.sha256 === fp.sha256)) panels.push(fp);
   }
-  const data = new DataFingerprinter(store);
+  const data = new DataFingerprinter(store, input.subjects);
   const refs = runSubjects(store, input.spec, given.filter(isPanel));
   const subjects = refs.map((r) => data.subject(r)).filter((s): s is SubjectFingerprint => s !== null);
   const files = data.files(refs);

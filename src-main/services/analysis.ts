@@ -13,11 +13,13 @@
  */
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
-import type { RunRecord, RunTag } from '../../shared/records/run-record.js';
+import type { RunRecord, RunTag, SubjectFingerprint } from '../../shared/records/run-record.js';
 import { parseCompareSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
 import type { BacktestEngine } from '../../shared/backtest/index.js';
 import { DeflatorError } from '../../shared/errors.js';
-import { loadPanel } from '../data/panel.js';
+import { loadPanelInput } from '../data/panel.js';
+import { buildPanel } from '../../shared/returns/index.js';
+import { loadedDigests } from '../runs/dependencies.js';
 import { recordRun } from '../runs/runs.js';
 import type { Store } from '../store/store.js';
 import type { Compute, RunTaskOptions } from './compute.js';
@@ -38,6 +40,8 @@ export function compareAnalysis(spec: CompareSpec): Analysis & { kind: 'compare'
 /** What the load step read: one panel per fit spec (a fit or back-test has one). */
 export interface AnalysisData {
   panels: ReturnsPanel[];
+  /** Digests of the stored subjects the load read, from the rows it read (for the run record). */
+  subjects?: SubjectFingerprint[];
 }
 
 /** The fit specs an analysis reads panels for, in order. */
@@ -46,8 +50,15 @@ export function analysisFits(a: Analysis): FitSpec[] {
 }
 
 /** Load panel: reads exactly what the spec(s) name from the store and builds the panel(s). */
-export function loadAnalysisData(store: Store, a: Analysis): AnalysisData {
-  return { panels: analysisFits(a).map((f) => loadPanel(store, f)) };
+export function loadAnalysisData(store: Store, a: Analysis, opts: { digests?: boolean } = {}): AnalysisData {
+  const panels: ReturnsPanel[] = [];
+  const subjects = new Map<string, SubjectFingerprint>();
+  for (const f of analysisFits(a)) {
+    const input = loadPanelInput(store, f);
+    panels.push(buildPanel(input));
+    if (opts.digests) for (const s of loadedDigests(input)) subjects.set(`${s.kind}\u0000${s.name}`, s);
+  }
+  return opts.digests ? { panels, subjects: [...subjects.values()] } : { panels };
 }
 
 /** Run: the fit, back-test or comparison of the loaded data, on `compute` (the pool, or this thread). */
@@ -73,6 +84,7 @@ export function recordAnalysis(store: Store, a: Analysis, result: AnyResult, dat
     result,
     panel: a.kind === 'compare' ? data.panels : data.panels[0],
     ...(threads !== undefined ? { threads } : {}),
+    ...(data.subjects ? { subjects: data.subjects } : {}),
     ...(a.kind === 'backtest' && a.engine && a.engine !== 'auto' ? { engine: a.engine } : {}),
   });
 }
@@ -94,7 +106,7 @@ export interface AnalysisOutcome<A extends Analysis = Analysis> {
  * recorded only after the computation succeeded (a cancelled or failed run leaves nothing).
  */
 export async function runAnalysis<A extends Analysis>(store: Store, a: A, compute: Compute, opts: RunAnalysisOptions = {}): Promise<AnalysisOutcome<A>> {
-  const data = loadAnalysisData(store, a);
+  const data = loadAnalysisData(store, a, { digests: opts.record !== false });
   const result = await computeAnalysis(a, data, compute, opts);
   if (opts.record === false) return { result: result as ResultOf<A> & Partial<RunTag>, data };
   // A cancelled call records nothing: checked in the same synchronous step as the record
