@@ -50,8 +50,14 @@ export interface BootstrapFailure {
 }
 
 export interface HjBootstrapDeps {
-  /** HJ^2 for models without a closed form (the consumption model): fitted on the resampled panel. */
-  hjSquared?: (spec: FitSpec, panel: ReturnsPanel) => number;
+  /**
+   * HJ^2 for models without a closed form (the consumption model): fitted on the resampled
+   * panel, from `warm` (the full-sample estimate) when given, the estimator falling back to
+   * its own start where that fails or lands in a local minimum (gmmHjSquared).
+   */
+  hjSquared?: (spec: FitSpec, panel: ReturnsPanel, warm?: Float64Array | null) => number;
+  /** The full-sample HJ-weighted estimate of such a model: the warm start of every replication. */
+  hjStart?: (spec: FitSpec, panel: ReturnsPanel) => Float64Array;
   onProgress?: (done: number, total: number) => void;
   signal?: CancelToken;
 }
@@ -77,14 +83,27 @@ export function resamplePanel(panel: ReturnsPanel, idx: Int32Array): ReturnsPane
   return out;
 }
 
-/** HJ^2 of one model on the panel (resampled by idx when given). */
-export function modelHjSquared(spec: FitSpec, panel: ReturnsPanel, idx: Int32Array | null, deps: HjBootstrapDeps): number {
+/** HJ^2 of one model on the panel (resampled by idx when given; `warm`: see HjBootstrapDeps.hjSquared). */
+export function modelHjSquared(spec: FitSpec, panel: ReturnsPanel, idx: Int32Array | null, deps: HjBootstrapDeps, warm?: Float64Array | null): number {
   if (linearHjApplies(spec.model)) {
     const { assets, factors } = modelSeries(spec.model, panel, spec.includeRiskfree);
     return linearHjSquared(spec.model.kind as 'linear' | 'linear-raw' | 'linear-gross', assets, factors, idx);
   }
   if (!deps.hjSquared) throw new DeflatorError('SPEC_INVALID', `the HJ bootstrap of a ${spec.model.kind} model needs the estimator`, 'pass hjSquared (the worker does this)');
-  return deps.hjSquared(spec, idx ? resamplePanel(panel, idx) : panel);
+  return deps.hjSquared(spec, idx ? resamplePanel(panel, idx) : panel, warm);
+}
+
+/** Each model's warm start for the replications: its full-sample estimate where it needs a solver, else null. */
+function warmStarts(chunk: HjBootstrapChunk, deps: HjBootstrapDeps): (Float64Array | null)[] {
+  return chunk.fits.map((spec, m) => {
+    if (linearHjApplies(spec.model) || !deps.hjStart) return null;
+    try {
+      return deps.hjStart(spec, chunk.panels[m]);
+    } catch (e) {
+      if (e instanceof DeflatorError && e.code !== 'CANCELLED') return null;
+      throw e;
+    }
+  });
 }
 
 /** Replications [from, to) of the bootstrap. */
@@ -98,13 +117,14 @@ export function hjBootstrapDraws(chunk: HjBootstrapChunk, deps: HjBootstrapDeps 
   const count = chunk.to - chunk.from;
   const values = new Float64Array(count * M);
   const reasons = new Map<string, BootstrapFailure>();
+  const warm = warmStarts(chunk, deps);
   for (let r = chunk.from; r < chunk.to; r++) {
     if (deps.signal?.aborted) throw new DeflatorError('CANCELLED', 'the bootstrap was cancelled', 'nothing was saved; run it again');
     const idx = replicationIndices(T, chunk.block, chunk.seed, r);
     for (let m = 0; m < M; m++) {
       let v = Number.NaN;
       try {
-        v = modelHjSquared(chunk.fits[m], chunk.panels[m], idx, deps);
+        v = modelHjSquared(chunk.fits[m], chunk.panels[m], idx, deps, warm[m]);
       } catch (e) {
         if (!(e instanceof DeflatorError) || e.code === 'CANCELLED' || e.code === 'SPEC_INVALID') throw e;
         const f = reasons.get(e.code);

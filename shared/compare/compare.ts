@@ -202,6 +202,7 @@ export function compareModels(spec: CompareSpec, fits: FitSpec[], rawPanels: Ret
     const st = bootstrapSettings(spec, panels[0].periods.length);
     const draws = hjBootstrapDraws(bootstrapChunk(spec, fits, panels, members, 0, st.replications), {
       hjSquared: deps.hjSquared,
+      ...(deps.hjStart ? { hjStart: deps.hjStart } : {}),
       signal: deps.signal,
       onProgress: (d, t) => deps.onStage?.('bootstrap', d, t),
     });

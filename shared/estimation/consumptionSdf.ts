@@ -17,6 +17,8 @@ import { SdfMomentModel, type SdfModelKind } from './momentModel.js';
 
 /** Grid of risk-aversion values scanned for a starting value (common practice: a coarse scan before a local solver). */
 const GAMMA_GRID = { from: -20, to: 200, step: 0.5 };
+/** Spacing of the local-minimum guard's points over the same range. */
+const GUARD_STEP = 10;
 
 export class ConsumptionModel extends SdfMomentModel {
   readonly kind: SdfModelKind = 'consumption';
@@ -97,11 +99,24 @@ export class ConsumptionModel extends SdfMomentModel {
 
   /** Best gamma on a grid (identity weight); with delta free, delta is profiled out in closed form. */
   start(): Float64Array {
+    return this.scan(GAMMA_GRID.step).best;
+  }
+
+  /**
+   * The local-minimum guard of a warm start: every GUARD_STEP-th point of the scan's gamma
+   * range (delta profiled as in the scan), 23 points against the scan's 441.
+   */
+  guardPoints(): Float64Array[] {
+    return this.scan(GUARD_STEP).points;
+  }
+
+  private scan(step: number): { best: Float64Array; points: Float64Array[] } {
     const { T, nAssets } = this;
+    const points: Float64Array[] = [];
     let best = Infinity;
     let bestTheta = this.fixedDelta === undefined ? Float64Array.of(1, 0) : Float64Array.of(0);
     const h = new Float64Array(nAssets);
-    for (let gamma = GAMMA_GRID.from; gamma <= GAMMA_GRID.to + 1e-9; gamma += GAMMA_GRID.step) {
+    for (let gamma = GAMMA_GRID.from; gamma <= GAMMA_GRID.to + 1e-9; gamma += step) {
       const x = this.power(gamma);
       for (let i = 0; i < nAssets; i++) {
         const r = this.returns[i];
@@ -127,11 +142,13 @@ export class ConsumptionModel extends SdfMomentModel {
         obj = 0;
         for (let i = 0; i < nAssets; i++) obj += delta * delta * h[i] * h[i];
       }
+      const theta = this.fixedDelta === undefined ? Float64Array.of(delta, gamma) : Float64Array.of(gamma);
+      if (Number.isFinite(obj)) points.push(theta);
       if (Number.isFinite(obj) && obj < best) {
         best = obj;
-        bestTheta = this.fixedDelta === undefined ? Float64Array.of(delta, gamma) : Float64Array.of(gamma);
+        bestTheta = theta;
       }
     }
-    return bestTheta;
+    return { best: bestTheta, points };
   }
 }

@@ -74,9 +74,13 @@ export function sWeighting(model: MomentModel, S: Mat, what: string): Weighting 
   });
 }
 
-/** The first-stage estimate under W1 on the asset moments (pinned block held exactly). */
-export function firstStage(model: MomentModel, W1: Weighting, label: string, maxIterations: number): FixedWeightSolution {
-  const start = model.start();
+/**
+ * The first-stage estimate under W1 on the asset moments (pinned block held exactly), from
+ * the model's own start (a scan where it has one), or from `from` (e.g. the full-sample
+ * estimate, for a bootstrap replication).
+ */
+export function firstStage(model: MomentModel, W1: Weighting, label: string, maxIterations: number, from?: Float64Array): FixedWeightSolution {
+  const start = from ? from.slice() : model.start();
   const assetMoments = Array.from({ length: model.nAssets }, (_, i) => i);
   if (model.pinned) {
     const pin = model.pinned;

@@ -24,7 +24,8 @@ import { discountedPaths } from '../values/discountedValue.js';
 import { mean, type MomentModel } from './momentModel.js';
 import { factorCovariance, riskPremia, RISK_PREMIA_NOTE } from './riskPremia.js';
 import { sdfMoments, volatilityBound } from './volatilityBound.js';
-import { hjWeighting } from './weighting.js';
+import { hjWeighting, type Weighting } from './weighting.js';
+import type { FixedWeightSolution } from './gaussNewton.js';
 
 export interface PreparedGmm {
   model: MomentModel;
@@ -122,10 +123,48 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
  * the fit (no inference, no p-value): the quantity a bootstrap of HJ distances needs per
  * draw. Equals `fit(spec, panel).hj.distance ** 2`.
  */
-export function gmmHjSquared(spec: FitSpec, panel: ReturnsPanel): number {
+export function gmmHjSquared(spec: FitSpec, panel: ReturnsPanel, warm?: Float64Array | null): number {
   const { model } = prepareGmm(spec, panel);
   const W = hjWeighting(model.returns, model.momentNames.slice(0, model.nAssets));
-  return Math.max(0, firstStage(model, W, 'Hansen-Jagannathan distance', spec.estimator.maxIterations).objective);
+  const label = 'Hansen-Jagannathan distance';
+  if (warm && warm.length === model.p) {
+    const sol = warmFirstStage(model, W, label, spec.estimator.maxIterations, warm);
+    if (sol) return Math.max(0, sol.objective);
+  }
+  return Math.max(0, firstStage(model, W, label, spec.estimator.maxIterations).objective);
+}
+
+/** The HJ-weighted first-stage estimate theta on the panel (the warm start gmmHjSquared takes on resampled panels). */
+export function gmmHjEstimate(spec: FitSpec, panel: ReturnsPanel): Float64Array {
+  const { model } = prepareGmm(spec, panel);
+  const W = hjWeighting(model.returns, model.momentNames.slice(0, model.nAssets));
+  return firstStage(model, W, 'Hansen-Jagannathan distance', spec.estimator.maxIterations).theta;
+}
+
+/**
+ * The first stage started from `warm` (a bootstrap replication: the full-sample estimate),
+ * or null when that does not serve and the model's own start (the scan) must be used: the
+ * solver failed from there, or the local-minimum guard found a guard point
+ * (model.guardPoints) with a lower objective than the solution, so the solution is a local
+ * minimum the scan would not have chosen.
+ */
+function warmFirstStage(model: MomentModel, W: Weighting, label: string, maxIterations: number, warm: Float64Array): FixedWeightSolution | null {
+  let sol: FixedWeightSolution;
+  try {
+    sol = firstStage(model, W, label, maxIterations, warm);
+  } catch (e) {
+    if (e instanceof DeflatorError && e.code !== 'CANCELLED') return null;
+    throw e;
+  }
+  const N = model.nAssets;
+  for (const c of model.guardPoints?.() ?? []) {
+    const g = model.meanMoments(c).subarray(0, N);
+    const Wg = W.applyVec(g);
+    let q = 0;
+    for (let i = 0; i < N; i++) q += g[i] * Wg[i];
+    if (q < sol.objective * (1 - 1e-9)) return null;
+  }
+  return sol;
 }
 
 function param(name: string, estimate: number, se: number, note?: string): ParamEstimate {

@@ -63,6 +63,12 @@ export interface MomentModel {
   momentHessian?(theta: Float64Array, v: Float64Array): Mat;
   /** A starting value for the first-stage solver under weight W on the asset moments. */
   start(): Float64Array;
+  /**
+   * Models with several local minima (nonlinear in theta): a few spread-out parameter
+   * values whose objective a solution started elsewhere must not exceed (the local-minimum
+   * guard of a warm start: gmmHjSquared).
+   */
+  guardPoints?(): Float64Array[];
 }
 
 /**

@@ -3,7 +3,7 @@
  * estimator plugged in, progress and the cancel flag passed through.
  */
 import { fit } from '../../shared/estimation/fit.js';
-import { gmmHjSquared } from '../../shared/estimation/gmmFit.js';
+import { gmmHjEstimate, gmmHjSquared } from '../../shared/estimation/gmmFit.js';
 import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { FitSpec } from '../../shared/spec.js';
@@ -18,11 +18,19 @@ export interface TaskContext {
 
 /**
  * HJ^2 of a model without a closed form (the consumption model): the estimator's own
- * HJ-weighted first stage (W = E[RR']^{-1}), without the rest of a fit.
+ * HJ-weighted first stage (W = E[RR']^{-1}), without the rest of a fit; on a bootstrap
+ * replication started from the full-sample estimate (`warm`), the estimator's scan only
+ * where that fails or stops in a local minimum.
  */
-export function fittedHjSquared(spec: FitSpec, panel: ReturnsPanel): number {
+export function fittedHjSquared(spec: FitSpec, panel: ReturnsPanel, warm?: Float64Array | null): number {
   if (spec.estimator.method !== 'gmm') throw new DeflatorError('SPEC_INVALID', `the HJ bootstrap needs a GMM model; ${spec.label ?? spec.model.kind} uses ${spec.estimator.method}`, 'compare HJ distances of GMM models only');
-  return gmmHjSquared(spec, panel);
+  return gmmHjSquared(spec, panel, warm);
+}
+
+/** The full-sample HJ-weighted estimate: the warm start of the bootstrap replications. */
+export function fittedHjStart(spec: FitSpec, panel: ReturnsPanel): Float64Array {
+  if (spec.estimator.method !== 'gmm') throw new DeflatorError('SPEC_INVALID', `the HJ bootstrap needs a GMM model; ${spec.label ?? spec.model.kind} uses ${spec.estimator.method}`, 'compare HJ distances of GMM models only');
+  return gmmHjEstimate(spec, panel);
 }
 
 type Handlers = { [K in TaskKind]: (payload: TaskMap[K]['payload'], ctx: TaskContext) => TaskMap[K]['result'] };
@@ -36,8 +44,9 @@ export const handlers: Handlers = {
       fit,
       backtest: (s, panel) => backtest(s, panel, { fit, signal: ctx.signal }),
       hjSquared: fittedHjSquared,
+      hjStart: fittedHjStart,
       onStage: (stage, done, total) => ctx.progress(done, total, stage),
       signal: ctx.signal,
     }),
-  hjBootstrap: (p, ctx) => hjBootstrapDraws(p, { hjSquared: fittedHjSquared, onProgress: ctx.progress, signal: ctx.signal }),
+  hjBootstrap: (p, ctx) => hjBootstrapDraws(p, { hjSquared: fittedHjSquared, hjStart: fittedHjStart, onProgress: ctx.progress, signal: ctx.signal }),
 };
