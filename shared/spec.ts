@@ -6,8 +6,11 @@
 import * as z from 'zod';
 import { FREQUENCIES } from './data.js';
 import { DeflatorError } from './errors.js';
+import { isCalendarDate } from './returns/periods.js';
+import { controlProblems } from './text.js';
 
-const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
+/** A calendar date written as YYYY-MM-DD (2010-02-30 and 2010-13-01 are refused). */
+export const isoDate = z.string().refine(isCalendarDate, 'expected a calendar date as YYYY-MM-DD (e.g. 2010-02-28)');
 
 export const MODEL_KINDS = ['linear', 'linear-raw', 'linear-gross', 'consumption'] as const;
 export const METHODS = ['gmm', 'time-series', 'two-pass'] as const;
@@ -204,8 +207,18 @@ function crossCheck(spec: FitSpec, where: string): string[] {
   return problems;
 }
 
+/**
+ * Labels and names reach terminals and reports: a string holding a control character
+ * (shared/text.ts) is refused, naming its key, before anything else is checked.
+ */
+function refuseControls(input: unknown, root: string): void {
+  const problems = controlProblems(input, root);
+  if (problems.length) throw new DeflatorError('SPEC_INVALID', problems.join('\n'), 'labels and names may not hold control characters (a terminal would act on them): remove them');
+}
+
 /** Parses and validates a fit (or back-test) spec; throws SPEC_INVALID naming every bad key. */
 export function parseFitSpec(input: unknown, root = 'spec'): FitSpec {
+  refuseControls(input, root);
   const r = fitSpecSchema.safeParse(input);
   if (!r.success) throw new DeflatorError('SPEC_INVALID', formatSpecIssues(r.error, root), 'fix the keys named above; docs/spec.md lists every key');
   const problems = crossCheck(r.data, root);
@@ -215,6 +228,7 @@ export function parseFitSpec(input: unknown, root = 'spec'): FitSpec {
 
 /** Parses a comparison spec and expands it into one full fit spec per model. */
 export function parseCompareSpec(input: unknown, root = 'spec'): { spec: CompareSpec; fits: FitSpec[] } {
+  refuseControls(input, root);
   const r = compareSpecSchema.safeParse(input);
   if (!r.success) throw new DeflatorError('SPEC_INVALID', formatSpecIssues(r.error, root), 'fix the keys named above; docs/spec.md lists every key');
   const c = r.data;
@@ -240,6 +254,19 @@ export function parseCompareSpec(input: unknown, root = 'spec'): { spec: Compare
 
 function defaultLabel(kind: string, factors: string[], consumption?: string): string {
   return kind === 'consumption' ? `consumption(${consumption ?? ''})` : `${kind}(${factors.join(',')})`;
+}
+
+/**
+ * The JSON of a spec file's text. A UTF-8 byte-order mark (U+FEFF, which some editors
+ * write at the start of a file) is skipped, as the CSV import does; anything else that
+ * is not JSON is SPEC_INVALID naming `source` and the parser's position.
+ */
+export function specJson(text: string, source = 'the spec'): unknown {
+  try {
+    return JSON.parse(text.charCodeAt(0) === 0xfeff ? text.slice(1) : text);
+  } catch (e) {
+    throw new DeflatorError('SPEC_INVALID', `${source} is not valid JSON: ${e instanceof Error ? e.message : String(e)}`, 'fix the JSON syntax (a missing comma or quote)');
+  }
 }
 
 /** Does this JSON look like a comparison spec? */

@@ -9,7 +9,7 @@
  */
 import * as z from 'zod';
 import { FREQUENCIES, RF_FORMS, SERIES_KINDS } from '../data.js';
-import { compareSpecSchema, fitSpecSchema } from '../spec.js';
+import { compareSpecSchema, fitSpecSchema, isoDate } from '../spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../results.js';
 import type { AppInfo, AssetHistory, Coverage, ImportReport } from './types.js';
 import { RUN_KINDS, type RunRecord, type RunSummary, type RunTag, type StaleItem } from '../records/run-record.js';
@@ -103,8 +103,8 @@ export const CALLS = {
       .object({
         model: z.string().max(200).optional(),
         kind: z.enum(RUN_KINDS).optional(),
-        from: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
-        to: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+        from: isoDate.optional(),
+        to: isoDate.optional(),
       })
       .strict(),
     { summary: 'recorded runs, newest first, with stale flags; filter by model text, kind, recording date' },

@@ -5,7 +5,7 @@
 import * as z from 'zod';
 import { FREQUENCIES, PERIODS_PER_YEAR, type Frequency } from '../data.js';
 import { DeflatorError } from '../errors.js';
-import { formatSpecIssues } from '../spec.js';
+import { formatSpecIssues, isoDate } from '../spec.js';
 
 export const CHARACTERISTICS = ['momentum', 'yield', 'price', 'size'] as const;
 export type Characteristic = (typeof CHARACTERISTICS)[number];
@@ -31,8 +31,8 @@ export const sortSpecSchema = z
     /** Only these assets (default: every stored asset). */
     assets: z.array(z.string().min(1)).min(1).optional(),
     /** First and last period considered (ISO dates). */
-    start: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
-    end: z.string().regex(/^\d{4}-\d{2}-\d{2}$/).optional(),
+    start: isoDate.optional(),
+    end: isoDate.optional(),
   })
   .strict();
 

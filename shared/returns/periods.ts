@@ -50,6 +50,15 @@ export interface CalendarDate {
   date: string;
 }
 
+/** Is this a calendar date written as YYYY-MM-DD (year 0001-9999; 2010-02-30 and 2010-13-01 are not)? */
+export function isCalendarDate(date: unknown): date is string {
+  if (typeof date !== 'string' || date.length !== 10 || date[4] !== '-' || date[7] !== '-') return false;
+  const year = digits(date, 0, 4);
+  const month = digits(date, 5, 7);
+  const dom = digits(date, 8, 10);
+  return year >= 1 && month >= 1 && month <= 12 && dom >= 1 && dom <= daysInMonth(year, month);
+}
+
 /** Parses an ISO date (YYYY-MM-DD); `where` names the field for the error message. */
 export function parseDate(date: string, where = 'date'): CalendarDate {
   if (typeof date === 'string' && date.length === 10 && date[4] === '-' && date[7] === '-') {

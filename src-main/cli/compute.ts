@@ -4,12 +4,34 @@
  * at most --threads (default: the cores). The pool module (and piscina) is loaded only
  * when a pool is started.
  */
+import { DeflatorError } from '../../shared/errors.js';
 import { defaultThreads, sizedCompute, type ClosableCompute } from '../services/compute.js';
 import { Store } from '../store/store.js';
 
 export { defaultThreads };
 
 export type CliCompute = ReturnType<typeof sizedCompute>;
+
+/** Threads per core at most: more only wait for a core, each with its own memory. */
+export const THREADS_PER_CORE = 2;
+
+/**
+ * The thread count a `--threads` flag asks for, bounded by the machine: absent, the
+ * cores; a whole number of at least 1, else INPUT_INVALID; more than THREADS_PER_CORE
+ * per core (extra threads only wait for a core, each with its own memory: 100000 would
+ * exhaust it) is cut to that with a note on stderr. The numbers never depend on it.
+ */
+export function threadsFlag(value: string | undefined, flag = '--threads', cores = defaultThreads(), note: (text: string) => void = (t) => process.stderr.write(t)): number {
+  if (value === undefined) return cores;
+  const n = Number(value);
+  const most = Math.max(1, cores) * THREADS_PER_CORE;
+  if (!/^\s*\d+\s*$/.test(value) || !Number.isSafeInteger(n) || n < 1) throw new DeflatorError('INPUT_INVALID', `${flag} ${value}: expected a whole number of at least 1`, `e.g. ${flag} ${cores} (this machine has ${cores} cores)`);
+  if (n > most) {
+    note(`deflator: ${flag} ${n} is more than this machine's ${cores} cores can use (at most ${most}); using ${most}\n`);
+    return most;
+  }
+  return n;
+}
 
 /** Runs fn with a Compute sized to each task, and releases its pool afterwards. */
 export async function withCompute<T>(threads: number, fn: (compute: CliCompute) => Promise<T>): Promise<T> {

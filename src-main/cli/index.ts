@@ -4,7 +4,9 @@
  */
 import { Command, CommanderError } from 'commander';
 import { describeError, isDeflatorError } from '../../shared/errors.js';
+import { escapeControls } from '../../shared/text.js';
 import { VERSION } from '../version.js';
+import { guardTerminal } from './terminal.js';
 import { COMMANDS } from './commands/registry.js';
 
 export function buildProgram(): Command {
@@ -25,8 +27,7 @@ export async function main(argv: string[]): Promise<number> {
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode;
     // a message quotes file contents: show control characters, never send them to the terminal
-    const shown = describeError(e).replace(/[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`);
-    process.stderr.write(`deflator: ${shown}\n`);
+    process.stderr.write(`deflator: ${escapeControls(describeError(e))}\n`);
     return isDeflatorError(e) ? 1 : 3;
   }
 }
@@ -39,5 +40,6 @@ for (const stream of [process.stdout, process.stderr]) {
   });
 }
 
+guardTerminal();
 const code = await main(process.argv.slice(2));
 process.exitCode = code;

@@ -4,12 +4,22 @@ import { createReadStream, statSync } from 'node:fs';
 import path from 'node:path';
 import type { Frequency } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
+import { codePointAt, controlCharAt } from '../../shared/text.js';
 import type { ImportLogEntry, ImportWarning } from '../store/store.js';
 import type { CsvRow } from './csv.js';
 import { THOUSANDS_SEPARATORS, type ThousandsName } from './fields.js';
 
-/** Size of a file to import; NOT_FOUND names it when it cannot be read. */
+/**
+ * Size of a file to import; NOT_FOUND names it when it cannot be read. A file name (the
+ * base name, which the import log keeps and `info` and the app show) holding a control
+ * character is refused, as names inside files are.
+ */
 export function fileSize(file: string): number {
+  const base = path.basename(file);
+  const control = controlCharAt(base);
+  if (control >= 0) {
+    throw new DeflatorError('INPUT_INVALID', `the file name ${JSON.stringify(base)} holds the control character ${codePointAt(base, control)}`, 'file names may not hold control characters (a terminal would act on them): rename the file');
+  }
   try {
     const st = statSync(file);
     if (!st.isFile()) throw new DeflatorError('INPUT_INVALID', `${file} is not a file`, 'name a CSV file');
@@ -72,12 +82,10 @@ export function thousandsByte(name: ThousandsName | undefined): number {
  * Where a name holds a control character (C0 other than tab and line breaks, DEL, C1), or
  * -1. Names reach terminals (info, reports), where an escape sequence would act.
  */
-export function controlInName(name: string): number {
-  return name.search(/[\u0000-\u0008\u000b\u000c\u000e-\u001f\u007f-\u009f]/);
-}
+export const controlInName = controlCharAt;
 
 /** "U+001B" for the character at i. */
-export const codePoint = (name: string, i: number) => `U+${name.charCodeAt(i).toString(16).toUpperCase().padStart(4, '0')}`;
+export const codePoint = codePointAt;
 
 /** Header names as written (trimmed), with a lower-case index; duplicates and blanks are errors. */
 export function readHeader(row: CsvRow, file: string): { names: string[]; index: Map<string, number> } {

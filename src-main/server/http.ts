@@ -42,6 +42,13 @@ export interface ServerOptions {
   port?: number;
   /** Largest accepted request body (bytes); uploads of CSV text travel in the body. */
   maxBodyBytes?: number;
+  /**
+   * Time allowed to receive a whole request, headers and body (ms; default 120 s: a
+   * 300 MB upload over loopback takes a few seconds). A request still arriving then gets
+   * 408 and its connection is closed, so a slow sender cannot hold the server's sockets.
+   * The reply itself has no limit: a long fit takes what it takes.
+   */
+  requestTimeoutMs?: number;
 }
 
 export interface RunningServer {
@@ -308,15 +315,17 @@ export function startServer(opts: ServerOptions): Promise<RunningServer> {
     await serveStatic(req, res, pathname);
   }
 
-  const server = createServer((req, res) => {
+  const requestTimeout = opts.requestTimeoutMs ?? 120_000;
+  const server = createServer({ connectionsCheckingInterval: Math.max(50, Math.min(30_000, Math.floor(requestTimeout / 4))) }, (req, res) => {
     handle(req, res).catch((e: unknown) => {
       if (!res.headersSent) sendJson(res, errorReply('INTERNAL', `server failure: ${e instanceof Error ? e.message : String(e)}`), 500);
       else res.end();
     });
   });
-  // keep slow clients from pinning sockets forever, but let long fits finish
-  server.requestTimeout = 0;
-  server.headersTimeout = 30_000;
+  // keep slow clients from pinning sockets forever (the whole request must arrive in
+  // time); the reply has no limit, so long fits finish
+  server.requestTimeout = requestTimeout;
+  server.headersTimeout = Math.min(30_000, requestTimeout);
 
   return new Promise((resolve, reject) => {
     server.once('error', reject);

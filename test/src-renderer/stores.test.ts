@@ -135,7 +135,10 @@ describe('model set-up store', () => {
     expect(s.loadSpecText(text)).toBe(true);
     expect(s.specText).toBe(text);
     expect(s.loadSpecText('{"model":')).toBe(false);
-    expect(s.loadError).toMatch(/not JSON/);
+    expect(s.loadError).toMatch(/not valid JSON/);
+    // a file saved with a UTF-8 byte-order mark loads like one without
+    expect(s.loadSpecText(`\uFEFF${text}`)).toBe(true);
+    expect(s.specText).toBe(text);
     expect(s.loadSpecText('{"model":{"kind":"linear","factors":["M"]},"colour":1}')).toBe(false);
     expect(s.loadError).toContain('colour');
   });

@@ -11,7 +11,7 @@ import { DeflatorError } from '../../../shared/errors.js';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
 import { runAnalysis } from '../../services/analysis.js';
 import { printedReport } from '../../services/report.js';
-import { defaultThreads, withCompute, withStore } from '../compute.js';
+import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { readFitSpec } from './fit.js';
 
@@ -67,7 +67,7 @@ export function register(program: Command): void {
     .action(async (specFile: string, o: BacktestFlags) => {
       if (o.engine !== 'auto' && o.engine !== 'fit') throw new DeflatorError('INPUT_INVALID', `--engine: "${o.engine}" is not auto or fit`, 'pass --engine auto or --engine fit');
       const spec = withWindowFlags(readFitSpec(specFile), o);
-      const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
+      const threads = threadsFlag(o.threads);
       const bar = progressBar('windows');
       const outcome = await withStore(o.db, (store) =>
         withCompute(threads, (compute) =>

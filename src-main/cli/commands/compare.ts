@@ -6,13 +6,13 @@
  * worker pool sized to the work (fits side by side, bootstrap in chunks) with a progress bar on stderr
  * when it is a terminal; records the run (unless --no-record) after success only.
  */
-import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
+import { readSpecFile } from '../spec-file.js';
 import { isCompareSpec, parseCompareSpec } from '../../../shared/spec.js';
 import { runAnalysis } from '../../services/analysis.js';
 import { printedReport } from '../../services/report.js';
-import { defaultThreads, withCompute, withStore } from '../compute.js';
+import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { positiveInt } from './backtest.js';
 
@@ -24,21 +24,6 @@ interface CompareFlags {
   replications?: string;
   seed?: string;
   block?: string;
-}
-
-function readJson(file: string): unknown {
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (e) {
-    const code = (e as { code?: string }).code;
-    throw new DeflatorError('NOT_FOUND', `spec file ${file}: ${code === 'ENOENT' ? 'no such file' : (e as Error).message}`, 'pass the path of a JSON comparison spec (sample-data/specs/compare-*.json)');
-  }
-  try {
-    return JSON.parse(text);
-  } catch (e) {
-    throw new DeflatorError('SPEC_INVALID', `spec file ${file} is not valid JSON: ${(e as Error).message}`, 'fix the JSON syntax (a missing comma or quote)');
-  }
 }
 
 export function register(program: Command): void {
@@ -54,7 +39,7 @@ export function register(program: Command): void {
     .option('--json', 'print the result as JSON: {models: [{label, test, hj, fit, oos}], hjTests, best, ...}')
     .option('--no-record', 'do not record the run in the database')
     .action(async (specFile: string, o: CompareFlags) => {
-      const raw = readJson(specFile);
+      const raw = readSpecFile(specFile, 'pass the path of a JSON comparison spec (sample-data/specs/compare-*.json)');
       if (!isCompareSpec(raw)) throw new DeflatorError('SPEC_INVALID', `spec file ${specFile} has no "compare" list`, 'list the models under "compare": [{"model": ...}, ...]; for one model use deflator fit');
       const input = raw as Record<string, unknown>;
       const bs = { ...((input.bootstrap as Record<string, unknown> | undefined) ?? {}) };
@@ -67,7 +52,7 @@ export function register(program: Command): void {
       }
       if (o.block !== undefined) bs.block = o.block === 'auto' ? 'auto' : positiveInt('--block', o.block);
       const { spec, fits } = parseCompareSpec(Object.keys(bs).length ? { ...input, bootstrap: bs } : input);
-      const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
+      const threads = threadsFlag(o.threads);
       const bar = progressBar('compare');
       const outcome = await withStore(o.db, (store) =>
         withCompute(threads, (compute) => runAnalysis(store, { kind: 'compare', spec, fits }, compute, { record: o.record, onProgress: (d, t, stage) => bar.update(d, t, stage) })),

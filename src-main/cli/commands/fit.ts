@@ -5,13 +5,12 @@
  * database (unless --no-record) so that `deflator show`, `export` and `replay` find it.
  * One fit is one piece of work: it runs in this process (src-main/services).
  */
-import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
-import { DeflatorError } from '../../../shared/errors.js';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
 import { runAnalysis } from '../../services/analysis.js';
 import { printedReport } from '../../services/report.js';
 import { withCompute, withStore } from '../compute.js';
+import { readSpecFile } from '../spec-file.js';
 
 interface FitOptions {
   db: string;
@@ -21,20 +20,7 @@ interface FitOptions {
 
 /** Reads and validates a fit spec file (SPEC_INVALID names the key or the JSON position). */
 export function readFitSpec(file: string): FitSpec {
-  let text: string;
-  try {
-    text = readFileSync(file, 'utf8');
-  } catch (e) {
-    const code = (e as { code?: string }).code;
-    throw new DeflatorError('NOT_FOUND', `spec file ${file}: ${code === 'ENOENT' ? 'no such file' : (e as Error).message}`, 'pass the path of a JSON spec (sample-data/specs/ has examples)');
-  }
-  let json: unknown;
-  try {
-    json = JSON.parse(text);
-  } catch (e) {
-    throw new DeflatorError('SPEC_INVALID', `spec file ${file} is not valid JSON: ${(e as Error).message}`, 'fix the JSON syntax (a missing comma or quote)');
-  }
-  return parseFitSpec(json, 'spec');
+  return parseFitSpec(readSpecFile(file), 'spec');
 }
 
 export function register(program: Command): void {

@@ -10,7 +10,7 @@ import { DeflatorError } from '../../../shared/errors.js';
 import { toExactJson } from '../../../shared/records/exact-json.js';
 import { formatReplay, poolRecompute, replayRun } from '../../runs/replay.js';
 import { parseRunId } from '../../runs/runs.js';
-import { defaultThreads, withCompute, withStore } from '../compute.js';
+import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
 
 export const REPLAY_MISMATCH_EXIT = 4;
 
@@ -34,10 +34,9 @@ export function register(program: Command): void {
       const id = parseRunId(run);
       const limit = Number(opts.limit);
       if (!Number.isInteger(limit) || limit < 1) throw new DeflatorError('INPUT_INVALID', `--limit ${opts.limit}: expected a whole number of at least 1`, 'e.g. --limit 50');
-      const given = opts.threads === undefined ? undefined : Number(opts.threads);
-      if (given !== undefined && !(Number.isInteger(given) && given >= 1)) throw new DeflatorError('INPUT_INVALID', `--threads ${opts.threads}: expected a whole number of at least 1`, 'e.g. --threads 2');
+      const threads = threadsFlag(opts.threads);
       const report = await withStore(opts.db, (store) =>
-        withCompute(given ?? defaultThreads(), async (compute) => {
+        withCompute(threads, async (compute) => {
           const r = await replayRun(store, id, poolRecompute(compute), { limit });
           // the threads the recomputation actually used (in this process: 1)
           r.usedThreads = compute.threads;

@@ -7,6 +7,7 @@ import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { isRunKind, type RunSummary } from '../../../shared/records/run-record.js';
 import { alignColumns } from '../../../shared/report/text.js';
+import { isCalendarDate } from '../../../shared/returns/periods.js';
 import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
 
@@ -19,8 +20,6 @@ interface RunsOptions {
   to?: string;
   delete?: string;
 }
-
-const DATE = /^\d{4}-\d{2}-\d{2}/;
 
 export function formatRuns(runs: RunSummary[]): string {
   if (!runs.length) return 'No recorded runs.';
@@ -66,7 +65,7 @@ export function register(program: Command): void {
         }
         if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, 'use --kind fit, backtest or compare');
         for (const [k, v] of [['--from', opts.from], ['--to', opts.to]] as const) {
-          if (v !== undefined && !DATE.test(v)) throw new DeflatorError('INPUT_INVALID', `${k} ${v}: expected a date as YYYY-MM-DD`, `e.g. ${k} 2026-01-31`);
+          if (v !== undefined && !isCalendarDate(v)) throw new DeflatorError('INPUT_INVALID', `${k} ${v}: expected a calendar date as YYYY-MM-DD`, `e.g. ${k} 2026-01-31`);
         }
         const filter: RunFilter = {};
         if (opts.model) filter.model = opts.model;

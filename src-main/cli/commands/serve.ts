@@ -4,7 +4,7 @@
  * --db names another; prints the address and runs until Ctrl+C.
  */
 import type { Command } from 'commander';
-import { closeSync, constants, existsSync, fchmodSync, fstatSync, openSync, rmSync, writeSync } from 'node:fs';
+import { closeSync, constants, existsSync, fchmodSync, fstatSync, openSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { DeflatorError } from '../../../shared/errors.js';
@@ -13,6 +13,7 @@ import { openApp } from '../../app/open.js';
 import { demoDatabasePath, userDataDir } from '../../app/paths.js';
 import { findSampleData } from '../../data/demo.js';
 import { startServer } from '../../server/http.js';
+import { threadsFlag } from '../compute.js';
 
 interface ServeOptions {
   db?: string;
@@ -38,7 +39,7 @@ export function writeKeyFile(file: string, text: string): void {
   try {
     if (!fstatSync(fd).isFile()) throw new DeflatorError('INPUT_INVALID', `--key-file ${file} is not a regular file`, 'name a new file in a folder of your own');
     fchmodSync(fd, 0o600);
-    writeSync(fd, text);
+    writeFileSync(fd, text);
   } finally {
     closeSync(fd);
   }
@@ -79,10 +80,7 @@ export function register(program: Command): void {
       const port = portOf(opts.port);
       const dataDir = userDataDir();
       const dbPath = opts.db ? path.resolve(opts.db) : demoDatabasePath(dataDir);
-      const threads = opts.threads === undefined ? undefined : Number(opts.threads);
-      if (threads !== undefined && !(Number.isInteger(threads) && threads >= 1)) {
-        throw new DeflatorError('INPUT_INVALID', `--threads ${opts.threads} is not a positive whole number`, 'leave --threads out to use every core');
-      }
+      const threads = opts.threads === undefined ? undefined : threadsFlag(opts.threads);
       const web = rendererDir();
       if (!web) process.stderr.write('deflator: dist/renderer is missing, so only the API is served; run `npm run build` for the screens\n');
       const { createPool } = await import('../../workers/pool.js'); // loaded by the commands that start a pool only

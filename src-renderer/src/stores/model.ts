@@ -6,7 +6,7 @@ import { defineStore } from 'pinia';
 import { DeflatorError } from '../../../shared/errors.js';
 import { FREQUENCIES } from '../../../shared/data.js';
 import type { Frequency } from '../../../shared/data.js';
-import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../../shared/spec.js';
+import { isCompareSpec, parseCompareSpec, parseFitSpec, specJson } from '../../../shared/spec.js';
 import type { FitSpec, FitSpecInput, CompareSpec } from '../../../shared/spec.js';
 import { fieldsOf } from '../lib/errors.js';
 
@@ -181,9 +181,9 @@ export const useModelStore = defineStore('model', {
       this.loadError = null;
       let raw: unknown;
       try {
-        raw = JSON.parse(text);
+        raw = specJson(text, 'the file'); // a leading byte-order mark is fine
       } catch (e) {
-        this.loadError = `not JSON: ${e instanceof Error ? e.message : String(e)}`;
+        this.loadError = e instanceof Error ? e.message : String(e);
         return false;
       }
       try {
