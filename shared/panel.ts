@@ -29,6 +29,51 @@ export interface ReturnsPanel {
   priceRatios?: (Float64Array | null)[];
   /** What alignment did: assets dropped and why, periods lost. */
   sampleNotes: SampleNote[];
+  /**
+   * Instruments (METHODS 9), where the spec names them: each series at period t holds
+   * z_{t-lag}, the value observed `lag` periods before, so that it multiplies period t's
+   * returns and factors as they stand.
+   */
+  instruments?: PanelInstruments;
+  /**
+   * Set on a panel whose test assets and factors are already the scaled ones
+   * (shared/estimation/instruments.ts, `conditionPanel`): what each of them is.
+   */
+  conditioning?: Conditioning;
+}
+
+export interface PanelInstruments {
+  lag: number;
+  /** Instrument series in the spec's order (the constant is implied, not stored). */
+  series: { name: string; values: Float64Array }[];
+  /** Period labels that returns and factors cover but the lagged instruments do not (lost to the lag). */
+  lost: string[];
+}
+
+/** One payoff (test asset of a conditioned panel): the test asset and the instrument scaling it. */
+export interface ScaledPart {
+  /** The test asset (or factor) name. */
+  base: string;
+  /** The instrument's name, "const" for the constant. */
+  instrument: string;
+  /** Index into `instruments.series`, -1 for the constant. */
+  z: number;
+}
+
+export interface Conditioning {
+  scale: 'returns' | 'factors' | 'both';
+  lag: number;
+  /** "const" first, then the series. */
+  instruments: string[];
+  /** Per test asset of the conditioned panel (instrument-major). */
+  payoffs: ScaledPart[];
+  /** Per factor of the conditioned panel (instrument-major). */
+  factorParts: ScaledPart[];
+  /** The unscaled test assets and factors. */
+  baseAssets: string[];
+  baseFactors: string[];
+  /** Periods lost to the lag (labels). */
+  lost: string[];
 }
 
 export interface SampleNote {
@@ -41,8 +86,33 @@ export interface SampleNote {
 export interface SampleInfo {
   start: string;
   end: string;
+  /** Periods in the sample (with instruments: periods whose lagged instruments exist, METHODS 9). */
   T: number;
   N: number;
   K: number;
   lags: number;
+}
+
+/**
+ * The panel with every period-indexed series (returns, factors, risk-free, consumption
+ * growth, price ratios, instruments) passed through `pick`: a window's slice, the periods models share,
+ * a bootstrap resample. `periods` are the new labels. The one place that knows which
+ * series a panel holds, so a new one is added here once.
+ */
+export function mapPanelPeriods(panel: ReturnsPanel, periods: string[], pick: (s: Float64Array) => Float64Array, sampleNotes: SampleNote[] = panel.sampleNotes): ReturnsPanel {
+  const out: ReturnsPanel = {
+    frequency: panel.frequency,
+    periods,
+    assets: panel.assets,
+    returnKind: panel.returnKind,
+    returns: panel.returns.map(pick),
+    factors: panel.factors.map((f) => ({ name: f.name, values: pick(f.values) })),
+    sampleNotes,
+  };
+  if (panel.riskfreeGross) out.riskfreeGross = pick(panel.riskfreeGross);
+  if (panel.consumptionGrowth) out.consumptionGrowth = pick(panel.consumptionGrowth);
+  if (panel.priceRatios) out.priceRatios = panel.priceRatios.map((r) => (r ? pick(r) : null));
+  if (panel.instruments) out.instruments = { ...panel.instruments, series: panel.instruments.series.map((z) => ({ name: z.name, values: pick(z.values) })) };
+  if (panel.conditioning) out.conditioning = panel.conditioning;
+  return out;
 }

@@ -22,6 +22,8 @@ export interface ParamEstimate {
 
 export interface PricingErrorRow {
   asset: string;
+  /** With instruments (METHODS 9): the instrument scaling this asset's moment, "const" for the constant. */
+  instrument?: string;
   /** Per-period pricing error (decimal). */
   alpha: number;
   se: number;
@@ -117,6 +119,14 @@ export interface SampleHeader extends SampleInfo {
   assets: string[];
   factors: string[];
   notes: string[];
+  /** Instruments (METHODS 9), "const" first; absent without instruments. */
+  instruments?: string[];
+  /** What the instruments scale: the returns (managed portfolios), the factors, or both. */
+  instrumentScale?: 'returns' | 'factors' | 'both';
+  /** Periods between an instrument's date and the returns it scales. */
+  instrumentLag?: number;
+  /** Period labels the returns and factors cover but the lagged instruments do not. */
+  lostToLag?: string[];
 }
 
 export interface FitResult {
@@ -164,7 +174,8 @@ export interface BacktestResult {
   failures: { end: string; reason: string }[];
   oos: { rmse: number; rmsePooled: number; r2: number };
   inSample: { rmse: number; r2: number; mape: number };
-  perAsset: { asset: string; alphaOos: number; alphaIn: number; meanReturnOos: number }[];
+  /** Per test asset (with instruments: per payoff, asset and instrument; METHODS 9). */
+  perAsset: { asset: string; instrument?: string; alphaOos: number; alphaIn: number; meanReturnOos: number }[];
   paths: { end: string; params: { name: string; estimate: number; se: number }[] }[];
   windowList: BacktestWindow[];
   spec: { window: number; step: number; horizon: number; expanding: boolean };

@@ -16,6 +16,22 @@ export const MODEL_KINDS = ['linear', 'linear-raw', 'linear-gross', 'consumption
 export const METHODS = ['gmm', 'time-series', 'two-pass'] as const;
 export const STAGES = ['first', 'second', 'iterated', 'cue'] as const;
 export const WEIGHTS = ['identity', 'hj'] as const;
+export const INSTRUMENT_SCALES = ['returns', 'factors', 'both'] as const;
+/** The name of the constant instrument, always first (METHODS 9). */
+export const CONSTANT_INSTRUMENT = 'const';
+
+/**
+ * Conditioning information (METHODS 9): stored series z_t known at the end of period t,
+ * multiplying the returns (managed portfolios), the factors (scaled factors) or both of
+ * period t + lag. A constant is always the first instrument.
+ */
+export const instrumentsSchema = z
+  .object({
+    series: z.array(z.string().min(1)).default([]),
+    scale: z.enum(INSTRUMENT_SCALES).default('returns'),
+    lag: z.number().int().min(1).max(1000).default(1),
+  })
+  .strict();
 
 export const modelSchema = z
   .object({
@@ -81,6 +97,7 @@ export const fitSpecSchema = z
     model: modelSchema,
     estimator: estimatorSchema.default(estimatorSchema.parse({})),
     backtest: backtestSchema.optional(),
+    instruments: instrumentsSchema.optional(),
   })
   .strict();
 
@@ -91,6 +108,8 @@ export const compareEntrySchema = z
     estimator: estimatorSchema.optional(),
     returns: z.enum(['excess', 'gross']).optional(),
     includeRiskfree: z.boolean().optional(),
+    /** This model's instruments (in place of the comparison's own "instruments"). */
+    instruments: instrumentsSchema.optional(),
   })
   .strict();
 
@@ -100,6 +119,8 @@ export const compareSpecSchema = z
     estimator: estimatorSchema.optional(),
     backtest: backtestSchema.optional(),
     bootstrap: bootstrapSchema.optional(),
+    /** Instruments of every model that does not name its own. */
+    instruments: instrumentsSchema.optional(),
     compare: z.array(compareEntrySchema).min(1),
   })
   .strict();
@@ -173,6 +194,8 @@ export type ModelSpec = z.infer<typeof modelSchema>;
 export type EstimatorSpec = z.infer<typeof estimatorSchema>;
 export type BacktestSpec = z.infer<typeof backtestSchema>;
 export type BootstrapSpec = z.infer<typeof bootstrapSchema>;
+export type InstrumentsSpec = z.infer<typeof instrumentsSchema>;
+export type InstrumentScale = (typeof INSTRUMENT_SCALES)[number];
 
 /** "spec.estimator.stage: expected one of ..." for each problem, one per line. */
 export function formatSpecIssues(error: z.ZodError, root = 'spec'): string {
@@ -203,6 +226,18 @@ function crossCheck(spec: FitSpec, where: string): string[] {
     if (m.kind !== 'linear') problems.push(`${where}.estimator.method: ${e.method} regressions apply to the linear (beta-representation) model with excess returns`);
   }
   if (spec.start && spec.end && spec.start > spec.end) problems.push(`${where}.start: ${spec.start} is after end ${spec.end}`);
+  const ins = spec.instruments;
+  if (ins) {
+    if (e.method !== 'gmm') problems.push(`${where}.instruments: ${e.method} regressions take no instruments; instruments scale the moments of a GMM fit (estimator.method "gmm")`);
+    if (ins.scale !== 'returns' && m.kind === 'consumption') problems.push(`${where}.instruments.scale: "${ins.scale}" scales the factors of a linear model; the consumption model has none (use "returns")`);
+    const seen = new Set<string>();
+    for (const name of ins.series) {
+      if (name === CONSTANT_INSTRUMENT) problems.push(`${where}.instruments.series: "${CONSTANT_INSTRUMENT}" is the constant, always the first instrument; list only stored series`);
+      else if (seen.has(name)) problems.push(`${where}.instruments.series: "${name}" is listed twice`);
+      else if (name === spec.riskfree) problems.push(`${where}.instruments.series: "${name}" is the risk-free series; instruments are series of any other kind`);
+      seen.add(name);
+    }
+  }
   if (spec.backtest && spec.backtest.horizon < 1) problems.push(`${where}.backtest.horizon: must be at least 1`);
   return problems;
 }
@@ -246,6 +281,7 @@ export function parseCompareSpec(input: unknown, root = 'spec'): { spec: Compare
       model: entry.model,
       estimator: entry.estimator ?? c.estimator ?? estimatorSchema.parse({}),
       backtest: c.backtest,
+      instruments: entry.instruments ?? c.instruments,
     };
     return parseFitSpec(JSON.parse(JSON.stringify(full)), `${root}.compare.${i}`);
   });

@@ -19,6 +19,7 @@
 import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel } from '../panel.js';
 import type { FitSpec } from '../spec.js';
+import { meanPrice, payoffPrices } from '../estimation/instruments.js';
 
 export interface ParamLike {
   name: string;
@@ -51,11 +52,15 @@ export function heldOutErrors(spec: FitSpec, panel: ReturnsPanel, params: readon
   const alpha = new Float64Array(N);
   const benchmark = new Float64Array(N);
   const meanReturn = new Float64Array(N);
+  // Gross payoffs cost 1, or E[z] over the held-out periods for a return scaled by z (METHODS 9).
+  const prices = payoffPrices(panel);
+  const price = new Float64Array(N).fill(gross ? 1 : 0);
+  if (prices) prices.forEach((z, i) => (price[i] = meanPrice(z, from, to)));
   for (let i = 0; i < N; i++) {
     let s = 0;
     for (let t = from; t < to; t++) s += panel.returns[i][t];
     meanReturn[i] = s / h;
-    benchmark[i] = gross ? meanReturn[i] - 1 : meanReturn[i];
+    benchmark[i] = gross ? meanReturn[i] - price[i] : meanReturn[i];
   }
   const names = panel.factors.map((f) => f.name);
   const method = spec.estimator.method;
@@ -99,7 +104,7 @@ export function heldOutErrors(spec: FitSpec, panel: ReturnsPanel, params: readon
   for (let i = 0; i < N; i++) {
     let s = 0;
     for (let t = from; t < to; t++) s += panel.returns[i][t] * m[t - from];
-    alpha[i] = s / h - (gross ? 1 : 0);
+    alpha[i] = s / h - (gross ? price[i] : 0);
   }
   return { alpha, benchmark, meanReturn };
 }

@@ -17,6 +17,7 @@ import type { ReturnsPanel } from '../panel.js';
 import type { FitSpec } from '../spec.js';
 import type { BacktestResult, FitResult, SampleHeader } from '../results.js';
 import { PERIODS_PER_YEAR } from '../data.js';
+import { conditionPanel, instrumentHeader, meanPrice, payoffKey, payoffPrices } from '../estimation/instruments.js';
 import { CrossMoments } from './crossMoments.js';
 import { fitLinearWindow, parameterNames, type LinearKind, type WindowParam } from './linearWindow.js';
 import { heldOutErrors } from './oos.js';
@@ -59,7 +60,17 @@ export interface WindowRecord {
 export function incrementalApplies(spec: FitSpec): boolean {
   const e = spec.estimator;
   const k = spec.model.kind;
-  return e.method === 'gmm' && (k === 'linear' || k === 'linear-raw' || k === 'linear-gross') && (e.stage === 'first' || e.stage === 'second') && e.inferenceS === 'weighting';
+  return e.method === 'gmm' && (k === 'linear' || k === 'linear-raw' || k === 'linear-gross') && (e.stage === 'first' || e.stage === 'second') && e.inferenceS === 'weighting' && !scaledGrossPayoffs(spec);
+}
+
+/**
+ * Gross returns scaled by instruments: the payoff R z costs z, not 1, which the rolling
+ * sums (built for E[m R] = 1) do not carry; such back-tests fit each window
+ * (docs/methods.md, back-testing with instruments).
+ */
+function scaledGrossPayoffs(spec: FitSpec): boolean {
+  const ins = spec.instruments;
+  return spec.returns === 'gross' && ins !== undefined && ins.series.length > 0 && ins.scale !== 'factors';
 }
 
 /** Does this back-test roll its cross-moment sums from window to window (so that its chunks matter)? */
@@ -75,7 +86,9 @@ function cancelled(): DeflatorError {
  * The panel the back-test prices: with "includeRiskfree" the risk-free asset is one of
  * the test assets (appended under the spec's riskfree name), in and out of sample.
  */
-export function backtestPanel(spec: FitSpec, panel: ReturnsPanel): ReturnsPanel {
+export function backtestPanel(spec: FitSpec, raw: ReturnsPanel): ReturnsPanel {
+  // With instruments the test assets are the scaled payoffs and the factors the scaled ones (METHODS 9).
+  const panel = conditionPanel(spec, raw);
   if (!spec.includeRiskfree) return panel;
   const name = spec.riskfree ?? 'riskfree';
   if (panel.assets.includes(name)) return panel;
@@ -197,13 +210,14 @@ function runWithFit(spec: FitSpec, panel: ReturnsPanel, fit: FitFunction, win: W
   const alphaIn = new Float64Array(N);
   const benchIn = new Float64Array(N);
   const gross = panel.returnKind === 'gross';
+  const prices = payoffPrices(panel);
   for (let i = 0; i < N; i++) {
-    const row = res.pricingErrors.find((r) => r.asset === panel.assets[i]);
+    const row = res.pricingErrors.find((r) => payoffKey(r) === panel.assets[i]);
     if (!row) throw new DeflatorError('NOT_FOUND', `the window's fit has no pricing error for asset ${panel.assets[i]}`, 'report this with the spec');
     alphaIn[i] = row.alpha;
     let s = 0;
     for (let t = win.start; t < win.end; t++) s += panel.returns[i][t];
-    benchIn[i] = s / (win.end - win.start) - (gross ? 1 : 0);
+    benchIn[i] = s / (win.end - win.start) - (gross ? meanPrice(prices?.[i] ?? null, win.start, win.end) : 0);
   }
   const oos = heldOutErrors(spec, panel, oosParams, win.oosStart, win.oosEnd);
   checkFinite(params, alphaIn, oos.alpha);
@@ -235,12 +249,13 @@ export function backtestHeader(spec: FitSpec, panel: ReturnsPanel, firstLags: nu
     'in-sample and out-of-sample R^2 both against the zero-alpha benchmark m = 1',
     ...panel.sampleNotes.map((n) => `${n.subject}: ${n.reason}`),
   ];
+  const cond = panel.conditioning;
   return {
     start: panel.periods[0],
     end: panel.periods[panel.periods.length - 1],
     T: panel.periods.length,
-    N: panel.assets.length,
-    K: panel.factors.length,
+    N: cond ? cond.baseAssets.length : panel.assets.length,
+    K: cond ? cond.baseFactors.length : panel.factors.length,
     lags: firstLags,
     frequency: panel.frequency,
     periodsPerYear: PERIODS_PER_YEAR[panel.frequency],
@@ -251,9 +266,10 @@ export function backtestHeader(spec: FitSpec, panel: ReturnsPanel, firstLags: nu
     weighting: e.weight,
     centered: e.centered,
     lagsRule: e.lags === 'auto' ? 'auto: floor(4 (n/100)^(2/9)), n = window length' : `fixed: ${e.lags}`,
-    assets: panel.assets.slice(),
-    factors: panel.factors.map((f) => f.name),
+    assets: cond ? cond.baseAssets.slice() : panel.assets.slice(),
+    factors: cond ? cond.baseFactors.slice() : panel.factors.map((f) => f.name),
     notes,
+    ...(cond ? instrumentHeader(cond) : {}),
   };
 }
 
@@ -274,7 +290,8 @@ export function summarizeBacktest(spec: FitSpec, rawPanel: ReturnsPanel, records
     const alphaOos = mean(ok.map((r) => (r.alphaOos as Float64Array)[i]));
     const alphaIn = mean(ok.map((r) => (r.alphaIn as Float64Array)[i]));
     const meanReturnOos = mean(ok.map((r) => (r.meanOos as Float64Array)[i]));
-    return { asset, alphaOos, alphaIn, meanReturnOos };
+    const part = panel.conditioning?.payoffs[i];
+    return part ? { asset: part.base, instrument: part.instrument, alphaOos, alphaIn, meanReturnOos } : { asset, alphaOos, alphaIn, meanReturnOos };
   });
   const benchOos = panel.assets.map((_, i) => mean(ok.map((r) => (r.benchOos as Float64Array)[i])));
   const benchIn = panel.assets.map((_, i) => mean(ok.map((r) => (r.benchIn as Float64Array)[i])));

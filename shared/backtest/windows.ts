@@ -6,7 +6,7 @@
  */
 import { DeflatorError } from '../errors.js';
 import type { BacktestSpec } from '../spec.js';
-import type { ReturnsPanel } from '../panel.js';
+import { mapPanelPeriods, type ReturnsPanel } from '../panel.js';
 
 export interface WindowBounds {
   /** Estimation periods [start, end), panel indices. */
@@ -64,18 +64,7 @@ export function windowChunks(bt: BacktestSpec, count: number): [number, number][
 
 /** The panel restricted to periods [start, end) (views, no copies). */
 export function slicePanel(panel: ReturnsPanel, start: number, end: number): ReturnsPanel {
-  const out: ReturnsPanel = {
-    frequency: panel.frequency,
-    periods: panel.periods.slice(start, end),
-    assets: panel.assets,
-    returnKind: panel.returnKind,
-    returns: panel.returns.map((r) => r.subarray(start, end)),
-    factors: panel.factors.map((f) => ({ name: f.name, values: f.values.subarray(start, end) })),
-    sampleNotes: panel.sampleNotes,
-  };
-  if (panel.riskfreeGross) out.riskfreeGross = panel.riskfreeGross.subarray(start, end);
-  if (panel.consumptionGrowth) out.consumptionGrowth = panel.consumptionGrowth.subarray(start, end);
-  return out;
+  return mapPanelPeriods(panel, panel.periods.slice(start, end), (s) => s.subarray(start, end));
 }
 
 /** Newey-West lags for a window of n periods: the spec's number, or floor(4 (n/100)^(2/9)) (METHODS 3). */

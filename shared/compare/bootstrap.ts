@@ -15,11 +15,12 @@
  * replications across workers gives the same draws and the same p.
  */
 import { DeflatorError } from '../errors.js';
-import type { ReturnsPanel } from '../panel.js';
+import { mapPanelPeriods, type ReturnsPanel } from '../panel.js';
 import type { FitSpec } from '../spec.js';
 import { replicationIndices } from '../bootstrap/blocks.js';
 import type { CancelToken } from '../backtest/run.js';
 import { linearHjApplies, linearHjSquared, modelSeries } from './hjSquared.js';
+import { conditionPanel, payoffPrices } from '../estimation/instruments.js';
 
 export interface HjBootstrapChunk {
   /** One spec per model taking part (models with an HJ distance). */
@@ -69,36 +70,26 @@ export function resamplePanel(panel: ReturnsPanel, idx: Int32Array): ReturnsPane
     for (let t = 0; t < idx.length; t++) out[t] = s[idx[t]];
     return out;
   };
-  const out: ReturnsPanel = {
-    frequency: panel.frequency,
-    periods: Array.from(idx, (t) => panel.periods[t]),
-    assets: panel.assets,
-    returnKind: panel.returnKind,
-    returns: panel.returns.map(pick),
-    factors: panel.factors.map((f) => ({ name: f.name, values: pick(f.values) })),
-    sampleNotes: panel.sampleNotes,
-  };
-  if (panel.riskfreeGross) out.riskfreeGross = pick(panel.riskfreeGross);
-  if (panel.consumptionGrowth) out.consumptionGrowth = pick(panel.consumptionGrowth);
-  return out;
+  return mapPanelPeriods(panel, Array.from(idx, (t) => panel.periods[t]), pick);
 }
 
 /** HJ^2 of one model on the panel (resampled by idx when given; `warm`: see HjBootstrapDeps.hjSquared). */
-export function modelHjSquared(spec: FitSpec, panel: ReturnsPanel, idx: Int32Array | null, deps: HjBootstrapDeps, warm?: Float64Array | null): number {
+export function modelHjSquared(spec: FitSpec, raw: ReturnsPanel, idx: Int32Array | null, deps: HjBootstrapDeps, warm?: Float64Array | null): number {
+  const panel = conditionPanel(spec, raw);
   if (linearHjApplies(spec.model)) {
     const { assets, factors } = modelSeries(spec.model, panel, spec.includeRiskfree);
-    return linearHjSquared(spec.model.kind as 'linear' | 'linear-raw' | 'linear-gross', assets, factors, idx);
+    return linearHjSquared(spec.model.kind as 'linear' | 'linear-raw' | 'linear-gross', assets, factors, idx, payoffPrices(panel));
   }
   if (!deps.hjSquared) throw new DeflatorError('SPEC_INVALID', `the HJ bootstrap of a ${spec.model.kind} model needs the estimator`, 'pass hjSquared (the worker does this)');
   return deps.hjSquared(spec, idx ? resamplePanel(panel, idx) : panel, warm);
 }
 
 /** Each model's warm start for the replications: its full-sample estimate where it needs a solver, else null. */
-function warmStarts(chunk: HjBootstrapChunk, deps: HjBootstrapDeps): (Float64Array | null)[] {
+function warmStarts(chunk: HjBootstrapChunk, panels: ReturnsPanel[], deps: HjBootstrapDeps): (Float64Array | null)[] {
   return chunk.fits.map((spec, m) => {
     if (linearHjApplies(spec.model) || !deps.hjStart) return null;
     try {
-      return deps.hjStart(spec, chunk.panels[m]);
+      return deps.hjStart(spec, panels[m]);
     } catch (e) {
       if (e instanceof DeflatorError && e.code !== 'CANCELLED') return null;
       throw e;
@@ -114,17 +105,19 @@ export function hjBootstrapDraws(chunk: HjBootstrapChunk, deps: HjBootstrapDeps 
   for (const p of chunk.panels) {
     if (p.periods.length !== T) throw new DeflatorError('INPUT_INVALID', 'HJ bootstrap: the models\' panels have different numbers of periods', 'align the panels on common periods first');
   }
+  // Instruments scale each model's payoffs and factors once; a resample then picks periods of the scaled series.
+  const panels = chunk.panels.map((p, m) => conditionPanel(chunk.fits[m], p));
   const count = chunk.to - chunk.from;
   const values = new Float64Array(count * M);
   const reasons = new Map<string, BootstrapFailure>();
-  const warm = warmStarts(chunk, deps);
+  const warm = warmStarts(chunk, panels, deps);
   for (let r = chunk.from; r < chunk.to; r++) {
     if (deps.signal?.aborted) throw new DeflatorError('CANCELLED', 'the bootstrap was cancelled', 'nothing was saved; run it again');
     const idx = replicationIndices(T, chunk.block, chunk.seed, r);
     for (let m = 0; m < M; m++) {
       let v = Number.NaN;
       try {
-        v = modelHjSquared(chunk.fits[m], chunk.panels[m], idx, deps, warm[m]);
+        v = modelHjSquared(chunk.fits[m], panels[m], idx, deps, warm[m]);
       } catch (e) {
         if (!(e instanceof DeflatorError) || e.code === 'CANCELLED' || e.code === 'SPEC_INVALID') throw e;
         const f = reasons.get(e.code);

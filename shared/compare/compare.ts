@@ -9,7 +9,7 @@
  * a factor with a shorter history shortens every model's sample (stated in the notes).
  */
 import { DeflatorError, isDeflatorError } from '../errors.js';
-import type { ReturnsPanel } from '../panel.js';
+import { mapPanelPeriods, type ReturnsPanel } from '../panel.js';
 import type { CompareSpec, FitSpec } from '../spec.js';
 import type { BacktestResult, CompareResult, CompareRow, FitResult } from '../results.js';
 import { blockLength } from '../bootstrap/blocks.js';
@@ -38,16 +38,12 @@ export function alignPanels(panels: ReturnsPanel[]): { panels: ReturnsPanel[]; d
     dropped = Math.max(dropped, p.periods.length - keep.length);
     if (keep.length === p.periods.length) return p;
     const pick = (s: Float64Array): Float64Array => Float64Array.from(keep, (t) => s[t]);
-    const q: ReturnsPanel = {
-      ...p,
-      periods: keep.map((t) => p.periods[t]),
-      returns: p.returns.map(pick),
-      factors: p.factors.map((f) => ({ name: f.name, values: pick(f.values) })),
-      sampleNotes: [...p.sampleNotes, { subject: '*', reason: `cut to the ${keep.length} periods all compared models share` }],
-    };
-    if (p.riskfreeGross) q.riskfreeGross = pick(p.riskfreeGross);
-    if (p.consumptionGrowth) q.consumptionGrowth = pick(p.consumptionGrowth);
-    return q;
+    return mapPanelPeriods(
+      p,
+      keep.map((t) => p.periods[t]),
+      pick,
+      [...p.sampleNotes, { subject: '*', reason: `cut to the ${keep.length} periods all compared models share` }],
+    );
   });
   return { panels: out, dropped };
 }

@@ -27,7 +27,13 @@ export function linearHjApplies(model: ModelSpec): boolean {
  * HJ^2 of the model on the periods idx (all periods when idx is null). `assets` are the
  * test-asset return series, `factors` the model's factor series, both on the panel's periods.
  */
-export function linearHjSquared(kind: 'linear' | 'linear-raw' | 'linear-gross', assets: readonly Float64Array[], factors: readonly Float64Array[], idx: Int32Array | null): number {
+export function linearHjSquared(
+  kind: 'linear' | 'linear-raw' | 'linear-gross',
+  assets: readonly Float64Array[],
+  factors: readonly Float64Array[],
+  idx: Int32Array | null,
+  prices?: readonly (Float64Array | null)[],
+): number {
   const N = assets.length;
   const K = factors.length;
   const T = idx ? idx.length : assets[0].length;
@@ -66,7 +72,13 @@ export function linearHjSquared(kind: 'linear' | 'linear-raw' | 'linear-gross', 
     if (kind === 'linear-gross') {
       X[i * p] = Rbar[i];
       for (let k = 0; k < K; k++) X[i * p + 1 + k] = -ERf[i * K + k];
-      y[i] = 1;
+      // The payoff's price: 1, or E[z] over the periods for a gross return scaled by z (METHODS 9).
+      const z = prices?.[i];
+      if (z) {
+        let sz = 0;
+        for (let t = 0; t < T; t++) sz += at(z, t);
+        y[i] = sz / T;
+      } else y[i] = 1;
     } else {
       for (let k = 0; k < K; k++) X[i * p + k] = -(ERf[i * K + k] - (kind === 'linear' ? Rbar[i] * fbar[k] : 0));
       y[i] = -Rbar[i];
@@ -88,9 +100,15 @@ export function linearHjSquared(kind: 'linear' | 'linear-raw' | 'linear-gross', 
   return q;
 }
 
-/** Test-asset and factor series of a model on a panel (the risk-free asset appended when the spec makes it a test asset). */
+/**
+ * Test-asset and factor series of a model on a panel (the risk-free asset appended when
+ * the spec makes it a test asset). On a conditioned panel (instruments, METHODS 9) the
+ * test assets are the scaled payoffs, the risk-free one among them, and the factors the
+ * scaled ones.
+ */
 export function modelSeries(model: ModelSpec, panel: ReturnsPanel, includeRiskfree: boolean): { assets: Float64Array[]; factors: Float64Array[] } {
   const assets = panel.returns.slice();
+  if (panel.conditioning) return { assets, factors: panel.factors.map((f) => f.values) };
   if (includeRiskfree) {
     if (!panel.riskfreeGross) throw new DeflatorError('DATA_MISSING', 'includeRiskfree is set but the panel has no risk-free series', 'name the risk-free series in "riskfree"');
     assets.push(panel.riskfreeGross);

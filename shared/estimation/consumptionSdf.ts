@@ -34,9 +34,10 @@ export class ConsumptionModel extends SdfMomentModel {
   /**
    * @param returns gross returns (delta free) or excess returns (delta fixed at `fixedDelta`).
    * @param growth consumption growth C_t / C_{t-1}, positive.
+   * @param prices gross returns scaled by an instrument z: per asset the price series z (E[m R z] = E[z]), null for a plain return.
    */
-  constructor(returns: readonly Float64Array[], assetNames: readonly string[], growth: Float64Array, returnKind: 'gross' | 'excess', fixedDelta = 1) {
-    super(returns, returnKind === 'gross' ? 1 : 0);
+  constructor(returns: readonly Float64Array[], assetNames: readonly string[], growth: Float64Array, returnKind: 'gross' | 'excess', fixedDelta = 1, prices?: readonly (Float64Array | null)[]) {
+    super(returns, returnKind === 'gross' ? 1 : 0, returnKind === 'gross' ? prices : undefined);
     if (growth.length !== this.T) throw new RangeError(`ConsumptionModel: consumption growth has ${growth.length} periods, returns ${this.T}`);
     this.logGrowth = new Float64Array(this.T);
     for (let t = 0; t < this.T; t++) {
@@ -127,16 +128,19 @@ export class ConsumptionModel extends SdfMomentModel {
       let obj: number;
       let delta: number;
       if (this.fixedDelta === undefined) {
-        // min_delta sum_i (delta h_i - 1)^2  =>  delta = sum h / sum h^2.
+        // min_delta sum_i (delta h_i - c_i)^2  =>  delta = sum h c / sum h^2 (c_i = 1, or E[z] for a scaled payoff).
+        const c = this.targetMeans;
         let sh = 0;
         let shh = 0;
+        let scc = 0;
         for (let i = 0; i < nAssets; i++) {
-          sh += h[i];
+          sh += h[i] * c[i];
           shh += h[i] * h[i];
+          scc += c[i] * c[i];
         }
         if (!(shh > 0) || !Number.isFinite(shh)) continue;
         delta = sh / shh;
-        obj = nAssets - (sh * sh) / shh;
+        obj = scc - (sh * sh) / shh;
       } else {
         delta = this.fixedDelta;
         obj = 0;

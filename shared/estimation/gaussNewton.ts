@@ -14,9 +14,14 @@
  * minimiser and the second confirms it.
  *
  * Stops when the undamped step (Newton where H is positive definite, else Gauss-Newton)
- * moves every parameter by less than 1e-14 (1 + |theta_k|), or when, below 1e-10, the step
- * has stopped shrinking (the rounding floor); fails with NO_CONVERGENCE, naming the reason,
- * when the iteration cap is reached or no damping lowers Q.
+ * moves every parameter by less than 1e-14 (1 + |theta_k|), or when the step has stopped
+ * shrinking at the rounding floor: below 1e-10 in that measure, or with a predicted
+ * decrease of Q (r' step, the Newton decrement; Boyd and Vandenberghe, Convex
+ * Optimization, 2004, 9.5) below 1e-14 Q that no longer falls. The second measure does not
+ * depend on the parameters' units, so a badly scaled but well-posed problem (loadings of
+ * 1e3 beside factor means of 1e-4, as scaled factors give) stops at its floor instead of
+ * running out of iterations. Fails with NO_CONVERGENCE, naming the reason, when the
+ * iteration cap is reached or no damping lowers Q.
  */
 import { DeflatorError } from '../errors.js';
 import { cholesky, cholSolveVec } from '../linalg/cholesky.js';
@@ -52,6 +57,8 @@ export interface FixedWeightSolution {
 }
 
 export const STEP_TOL = 1e-14;
+/** Below this share of Q a predicted decrease that no longer shrinks is rounding (see the stopping rule). */
+export const DECREMENT_FLOOR = 1e-14;
 
 /** Q(theta) = g_s' W g_s on the selected moments. */
 export function objectiveAt(p: FixedWeightProblem, theta: Float64Array): number {
@@ -72,6 +79,7 @@ export function solveFixedWeight(p: FixedWeightProblem, start: Float64Array): Fi
   let lambda = 0;
   let lastStep = Infinity;
   let prevRel = Infinity;
+  let prevDecrement = Infinity;
   let newtonSteps = 0;
   // Accept a step that lowers Q, allowing for rounding in Q itself (1e-13 relative).
   const lowers = (QTrial: number) => Number.isFinite(QTrial) && QTrial <= Q + 1e-13 * Math.abs(Q);
@@ -105,9 +113,17 @@ export function solveFixedWeight(p: FixedWeightProblem, start: Float64Array): Fi
     const newton = newtonStep(p, theta, WgVec, A, r, free);
     const step0 = newton ?? cholSolveVec(L0, r);
     const rel0 = relativeSize(step0, theta, free);
-    // Converged: the undamped step is below the tolerance, or it has stopped shrinking at the rounding floor.
-    const floor = rel0 < 1e-10 && rel0 > 0.5 * prevRel;
+    // The decrease of Q the undamped step predicts (r'A^-1 r, or r'H^-1 r for Newton): unlike
+    // the step's size in the parameters' own units it does not depend on their scale.
+    let decrement = 0;
+    for (let a = 0; a < nf; a++) decrement += r[a] * step0[a];
+    // Converged: the undamped step is below the tolerance, or it has stopped shrinking at the
+    // rounding floor, measured in the parameters' units or by the predicted decrease of Q
+    // (badly scaled parameters, e.g. loadings on factors scaled by an instrument, reach the
+    // floor of the second long before the first).
+    const floor = (rel0 < 1e-10 && rel0 > 0.5 * prevRel) || (decrement <= DECREMENT_FLOOR * Math.abs(Q) && decrement > 0.25 * prevDecrement);
     prevRel = rel0;
+    prevDecrement = decrement;
     if (rel0 < STEP_TOL || floor) {
       const trial = stepped(theta, step0, free);
       const gTrial = select(model.meanMoments(trial), p.moments);

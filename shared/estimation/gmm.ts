@@ -175,7 +175,9 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
     const S = momentCovariance(model, cue.theta, opts.lags, opts.centered);
     const g = model.meanMoments(cue.theta);
     const d = model.jacobian(cue.theta);
-    const inf = gmmInference(model, g, d, S, { kind: 'efficient' });
+    // At the CUE a g = d'S^-1 g is not zero (its first-order condition carries dS/dtheta), so
+    // the pricing-error statistic takes the Moore-Penrose inverse on the moments as they are.
+    const inf = gmmInference(model, g, d, S, { kind: 'efficient' }, undefined, { equilibrate: false });
     return {
       ...inf,
       stage: 'cue',

@@ -7,7 +7,7 @@
  */
 import { PERIODS_PER_YEAR } from '../data.js';
 import { DeflatorError } from '../errors.js';
-import type { ReturnsPanel } from '../panel.js';
+import type { Conditioning, ReturnsPanel } from '../panel.js';
 import type { FitResult, ParamEstimate, PricingErrorRow, TestResult } from '../results.js';
 import type { FitSpec } from '../spec.js';
 import { chiSquareSf, normalTwoSidedP } from '../stats/distributions.js';
@@ -17,6 +17,7 @@ import { assertAllFinite } from './finiteGuard.js';
 import { firstStage, gmmEstimate, type GmmEstimate, type GmmOptions } from './gmm.js';
 import { standardErrors } from './gmmInference.js';
 import { hjDistance } from './hjDistance.js';
+import { checkInstruments, conditionPanel, instrumentHeader, modelFactorNames, payoffPrices } from './instruments.js';
 import { assertFiniteSeries, checkAssets, checkFactors, checkIdentification, checkSampleLength } from './inputChecks.js';
 import { DemeanedLinearModel, GrossLinearModel, RawLinearModel } from './linearSdf.js';
 import { lagsChoice } from './longRunCovariance.js';
@@ -38,6 +39,8 @@ export interface PreparedGmm {
   notes: string[];
   /** Notes on the sample itself (alignment, added test assets) for the header. */
   sampleNotes: string[];
+  /** With instruments: what each test asset (payoff) and factor of the model is (METHODS 9). */
+  conditioning?: Conditioning;
 }
 
 /** Default label of a fit, e.g. "linear(mkt,size)". */
@@ -47,7 +50,11 @@ export function defaultFitLabel(spec: FitSpec): string {
 }
 
 /** Spec + panel -> the moment model, with every input check (METHODS 7). */
-export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
+export function prepareGmm(spec: FitSpec, rawPanel: ReturnsPanel): PreparedGmm {
+  const conditioned = rawPanel.conditioning !== undefined;
+  const panel = conditionPanel(spec, rawPanel);
+  // A window of an already conditioned panel: its instruments must still move independently.
+  if (conditioned) checkInstruments(panel);
   const notes: string[] = [];
   const sampleNotes: string[] = panel.sampleNotes.map((s) => `${s.subject}: ${s.reason}`);
   const T = panel.periods.length;
@@ -68,13 +75,16 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
       assets.push(name);
       returns.push(panel.riskfreeGross);
       sampleNotes.push(`The risk-free asset "${name}" is one of the test assets.`);
+    } else if (panel.conditioning && !conditioned && !rawPanel.assets.includes(name)) {
+      // conditionPanel put it among the test assets (before scaling them).
+      sampleNotes.push(`The risk-free asset "${name}" is one of the test assets.`);
     }
   }
   const kind = spec.model.kind;
   const factorNames: string[] = [];
   const factors: Float64Array[] = [];
   if (kind !== 'consumption') {
-    for (const name of spec.model.factors) {
+    for (const name of modelFactorNames(spec, panel)) {
       const f = panel.factors.find((x) => x.name === name);
       if (!f) throw new DeflatorError('DATA_MISSING', `factor "${name}" is not in the panel (it has: ${panel.factors.map((x) => x.name).join(', ') || 'none'})`, 'import the factor series or fix model.factors');
       if (f.values.length !== T) throw new DeflatorError('INPUT_INVALID', `factor "${name}" has ${f.values.length} periods, the panel ${T}`, 'the panel must be balanced');
@@ -89,14 +99,14 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
   let model: MomentModel;
   if (kind === 'linear') model = new DemeanedLinearModel(returns, assets, named);
   else if (kind === 'linear-raw') model = new RawLinearModel(returns, assets, named);
-  else if (kind === 'linear-gross') model = new GrossLinearModel(returns, assets, named);
+  else if (kind === 'linear-gross') model = new GrossLinearModel(returns, assets, named, payoffPrices(panel));
   else {
     const growth = panel.consumptionGrowth;
     const cname = spec.model.consumption ?? 'consumption';
     if (!growth) throw new DeflatorError('DATA_MISSING', `the panel has no consumption growth for "${cname}"`, 'import the consumption series and name it in model.consumption');
     if (growth.length !== T) throw new DeflatorError('INPUT_INVALID', `consumption growth has ${growth.length} periods, the panel ${T}`, 'the panel must be balanced');
     assertFiniteSeries(`consumption growth "${cname}"`, growth, panel.periods);
-    model = new ConsumptionModel(returns, assets, growth, spec.returns, spec.model.delta ?? 1);
+    model = new ConsumptionModel(returns, assets, growth, spec.returns, spec.model.delta ?? 1, payoffPrices(panel));
     factorNames.push(cname);
     factors.push(growth);
     if (spec.returns === 'excess') notes.push(`delta is fixed at ${spec.model.delta ?? 1} (excess returns do not identify it).`);
@@ -115,6 +125,7 @@ export function prepareGmm(spec: FitSpec, panel: ReturnsPanel): PreparedGmm {
     options: { stage: e.stage, firstWeight: e.weight, lags, centered: e.centered, inferenceS: e.inferenceS, maxIterations: e.maxIterations },
     notes,
     sampleNotes,
+    ...(panel.conditioning ? { conditioning: panel.conditioning } : {}),
   };
 }
 
@@ -192,6 +203,7 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
   const N = model.nAssets;
   const ppy = PERIODS_PER_YEAR[panel.frequency];
   const est = gmmEstimate(model, prep.options);
+  const cond = prep.conditioning;
   const notes = [...prep.notes, ...est.notes];
 
   const seTheta = standardErrors(est.covTheta, model.paramNames, 'parameter estimates');
@@ -213,12 +225,14 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
   const meanReturns = model.returns.map((r) => mean(r));
   const pricingErrors: PricingErrorRow[] = [];
   const alpha = new Float64Array(N);
+  const payoffs = prep.conditioning?.payoffs;
   for (let i = 0; i < N; i++) {
     const a = est.g[i];
     alpha[i] = a;
     const se = seG[i];
     pricingErrors.push({
-      asset: assets[i],
+      asset: payoffs ? payoffs[i].base : assets[i],
+      ...(payoffs ? { instrument: payoffs[i].instrument } : {}),
       alpha: a,
       se,
       t: se > 0 ? a / se : 0,
@@ -252,7 +266,8 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
   if (!fit.r2Defined) notes.push('R^2_cs is not defined (all test assets have the same mean return); reported as 0.');
   let bound;
   try {
-    const b = volatilityBound({ returns: model.returns, assetNames: assets, kind: spec.returns, sdf: m });
+    const prices = model.prices ? Float64Array.from(model.prices, (z) => (z ? mean(z) : 1)) : undefined;
+    const b = volatilityBound({ returns: model.returns, assetNames: assets, kind: spec.returns, sdf: m, ...(prices ? { prices } : {}) });
     bound = { curve: b.curve, maxSharpe: b.maxSharpe, model: b.model };
     if (b.riskless.length) notes.push(`Volatility bound: ${b.riskless.join(', ')} left out of the bound (riskless over the sample).`);
   } catch (e) {
@@ -268,8 +283,8 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
       start: panel.periods[0],
       end: panel.periods[T - 1],
       T,
-      N,
-      K: prep.factorNames.length,
+      N: cond ? cond.baseAssets.length : N,
+      K: cond && spec.model.kind !== 'consumption' ? cond.baseFactors.length : prep.factorNames.length,
       lags,
       frequency: panel.frequency,
       periodsPerYear: ppy,
@@ -280,9 +295,10 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
       weighting: est.weightingText,
       centered: prep.options.centered,
       lagsRule: prep.lagsRule,
-      assets,
-      factors: prep.factorNames,
+      assets: cond ? [...cond.baseAssets] : assets,
+      factors: cond && spec.model.kind !== 'consumption' ? [...cond.baseFactors] : prep.factorNames,
       notes: prep.sampleNotes,
+      ...(cond ? instrumentHeader(cond) : {}),
     },
     params,
     pricingErrors,

@@ -60,17 +60,49 @@ export interface GmmInference {
  * Covariances and test statistics at theta, with S the long-run covariance that
  * inference uses. `g` and `d` are g_T and the Jacobian at theta.
  */
-export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat, w: WeightingForInference, LSGiven?: Mat): GmmInference {
+export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat, w: WeightingForInference, LSGiven?: Mat, opts: { equilibrate?: boolean } = {}): GmmInference {
   const { q, p, T } = model;
   const { covTheta, covG, LS, constraint } = gmmCovariances(model, d, S, w, LSGiven);
   const df = q - p;
-  // g' Var(g)^+ g with Var(g) = (1/T) M S M': T times the projected form (file comment).
-  const stat = T * projectedCovariancePinvForm(g, d, LS, constraint, { labels: model.paramNames });
+  // g' Var(g)^+ g with Var(g) = (1/T) M S M': T times the projected form (file comment),
+  // on the moments rescaled to unit long-run variance (see equilibrated below) unless the
+  // caller's g is off null(a) by construction (the CUE: there the Moore-Penrose convention
+  // on the moments as they are is the definition).
+  const e = opts.equilibrate === false ? { g, d, LS, constraint } : equilibrated(S, LS, g, d, constraint);
+  const stat = T * projectedCovariancePinvForm(e.g, e.d, e.LS, e.constraint, { labels: model.paramNames });
   const Sg = cholSolveVec(LS, g);
   let J = 0;
   for (let i = 0; i < q; i++) J += g[i] * Sg[i];
   J *= T;
   return { covTheta, covG, pricingErrorStat: Math.max(0, stat), df, J };
+}
+
+/**
+ * The moments rescaled by D = diag(S)^-1/2 (x -> D x, so S -> D S D with Cholesky factor
+ * D L, d -> D d, and the row space of a -> a D^-1, spanned by D^-1 times the constraint's
+ * columns). For g in null(a) the pricing-error statistic is the same either way; g leaves
+ * null(a) only by the solver's rounding, and the Euclidean projection that removes that
+ * part depends on the moments' units: with moments of very different sizes (returns scaled
+ * by an instrument of 1e-6, say) it moves the statistic in its sixth digit. Rescaled, the
+ * statistic does not depend on the units of any moment (docs/methods.md, Instruments).
+ */
+function equilibrated(S: Mat, LS: Mat, g: Float64Array, d: Mat, constraint: Mat): { g: Float64Array; d: Mat; LS: Mat; constraint: Mat } {
+  const q = S.rows;
+  const D = Float64Array.from({ length: q }, (_, i) => 1 / Math.sqrt(S.data[i * q + i]));
+  const rows = (m: Mat, f: (i: number) => number): Mat => {
+    const out = new Float64Array(m.data.length);
+    for (let i = 0; i < m.rows; i++) {
+      const c = f(i);
+      for (let j = 0; j < m.cols; j++) out[i * m.cols + j] = m.data[i * m.cols + j] * c;
+    }
+    return { rows: m.rows, cols: m.cols, data: out };
+  };
+  return {
+    g: Float64Array.from(g, (x, i) => x * D[i]),
+    d: rows(d, (i) => D[i]),
+    LS: rows(LS, (i) => D[i]),
+    constraint: rows(constraint, (i) => 1 / D[i]),
+  };
 }
 
 /**

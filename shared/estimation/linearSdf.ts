@@ -242,8 +242,9 @@ export class GrossLinearModel extends SdfMomentModel {
   readonly factors: readonly Float64Array[];
   private readonly cross: LinearCrossMoments;
 
-  constructor(grossReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[]) {
-    super(grossReturns, 1);
+  /** `prices`: per asset, the price series of a payoff that does not cost 1 (a gross return scaled by an instrument), else null. */
+  constructor(grossReturns: readonly Float64Array[], assetNames: readonly string[], factors: readonly NamedFactor[], prices?: readonly (Float64Array | null)[]) {
+    super(grossReturns, 1, prices);
     this.factors = factors.map((f) => f.values);
     this.cross = new LinearCrossMoments(grossReturns, this.factors);
     this.q = this.nAssets;
@@ -252,11 +253,12 @@ export class GrossLinearModel extends SdfMomentModel {
     this.momentNames = [...assetNames];
   }
 
-  /** g_i = a E[R_i] - sum_k b_k E[R_i f_k] - 1. */
+  /** g_i = a E[R_i] - sum_k b_k E[R_i f_k] - 1 (- E[z] for a payoff R_i z). */
   override meanMoments(theta: Float64Array): Float64Array {
     const { meanR, meanRF, K } = this.cross;
+    const price = this.targetMeans;
     return Float64Array.from(meanR, (m, i) => {
-      let s = theta[0] * m - 1;
+      let s = theta[0] * m - price[i];
       for (let k = 0; k < K; k++) s -= theta[k + 1] * meanRF[i * K + k];
       return s;
     });

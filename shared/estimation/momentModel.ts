@@ -42,6 +42,11 @@ export interface MomentModel {
   readonly returns: readonly Float64Array[];
   /** Constant subtracted from each asset moment: 1 for E[mR] = 1, 0 for E[mR^e] = 0. */
   readonly target: number;
+  /**
+   * Where an asset's payoff does not cost `target`: its price series (a gross return
+   * scaled by an instrument z costs z, E[m R z] = E[z]; METHODS 9), null elsewhere.
+   */
+  readonly prices?: readonly (Float64Array | null)[];
   /** True when every moment is affine in theta (one Gauss-Newton step solves a fixed-W stage). */
   readonly affine: boolean;
   readonly pinned?: PinnedBlock;
@@ -87,12 +92,22 @@ export abstract class SdfMomentModel implements MomentModel {
   readonly pinned?: PinnedBlock;
   readonly returns: readonly Float64Array[];
   readonly target: number;
+  readonly prices?: readonly (Float64Array | null)[];
+  /** Per asset, the mean price subtracted from its mean moment: `target`, or the mean of its price series. */
+  protected readonly targetMeans: Float64Array;
 
-  constructor(returns: readonly Float64Array[], target: number) {
+  constructor(returns: readonly Float64Array[], target: number, prices?: readonly (Float64Array | null)[]) {
     this.returns = returns;
     this.nAssets = returns.length;
     this.T = returns.length > 0 ? returns[0].length : 0;
     this.target = target;
+    this.targetMeans = new Float64Array(this.nAssets).fill(target);
+    if (prices) {
+      this.prices = prices;
+      prices.forEach((z, i) => {
+        if (z) this.targetMeans[i] = mean(z);
+      });
+    }
   }
 
   abstract sdf(theta: Float64Array): Float64Array;
@@ -153,11 +168,13 @@ export abstract class SdfMomentModel implements MomentModel {
     const T = this.T;
     const c = this.target;
     const out: Float64Array[] = [];
-    for (const r of this.returns) {
+    this.returns.forEach((r, i) => {
       const u = new Float64Array(T);
-      for (let t = 0; t < T; t++) u[t] = r[t] * m[t] - c;
+      const z = this.prices?.[i];
+      if (z) for (let t = 0; t < T; t++) u[t] = r[t] * m[t] - z[t];
+      else for (let t = 0; t < T; t++) u[t] = r[t] * m[t] - c;
       out.push(u);
-    }
+    });
     for (const a of this.auxMoments(theta)) out.push(a);
     return out;
   }
@@ -170,7 +187,7 @@ export abstract class SdfMomentModel implements MomentModel {
       const r = this.returns[i];
       let s = 0;
       for (let t = 0; t < T; t++) s += r[t] * m[t];
-      g[i] = s / T - this.target;
+      g[i] = s / T - this.targetMeans[i];
     }
     const aux = this.auxMoments(theta);
     for (let j = 0; j < aux.length; j++) {

@@ -7,6 +7,8 @@
  * discount factor that prices the assets is
  *   sigma_min(v) = sqrt( (1 - v mu_R)' Sigma_R^{-1} (1 - v mu_R) ),
  * mu_R and Sigma_R the sample mean and covariance (divide by T) of the gross returns.
+ * Payoffs x with prices p other than 1 (gross returns scaled by instruments, whose price
+ * is E[z]) give (p - v mu_x)' Sigma_x^{-1} (p - v mu_x) (Hansen and Jagannathan 1991, sec. 2).
  * Excess returns: sigma(m)/E(m) >= max Sharpe ratio = sqrt(mu_e' Sigma_e^{-1} mu_e).
  * For gross returns `maxSharpe` is the largest Sharpe ratio of a zero-cost portfolio of
  * the assets, sqrt(mu'S^-1 mu - (1'S^-1 mu)^2 / 1'S^-1 1), which bounds sigma(m)/E(m) the
@@ -24,6 +26,11 @@ export interface BoundInput {
   sdf?: Float64Array;
   /** Points on the curve (gross returns). */
   points?: number;
+  /**
+   * Gross payoffs that do not cost 1 (returns scaled by an instrument z cost E[z],
+   * METHODS 9): the mean price of each, in place of the 1 of a plain gross return.
+   */
+  prices?: Float64Array;
 }
 
 export interface BoundOutput extends VolatilityBound {
@@ -83,17 +90,17 @@ export function volatilityBound(input: BoundInput): BoundOutput {
   for (let i = 0; i < n; i++) muSmu += mu[i] * sMu[i];
   const maxSharpe = Math.sqrt(Math.max(0, muSmu));
   if (input.kind === 'excess') return { maxSharpe, model, riskless };
-  // sigma^2(v) = 1'S^-1 1 - 2 v 1'S^-1 mu + v^2 mu'S^-1 mu.
-  const ones = new Float64Array(n).fill(1);
-  const sOne = cholSolveVec(L, ones);
+  // sigma^2(v) = p'S^-1 p - 2 v p'S^-1 mu + v^2 mu'S^-1 mu, p the payoffs' prices (1 for a gross return).
+  const price = input.prices ? Float64Array.from(keep, (i) => (input.prices as Float64Array)[i]) : new Float64Array(n).fill(1);
+  const sOne = cholSolveVec(L, price);
   let oSo = 0;
   let oSm = 0;
   for (let i = 0; i < n; i++) {
-    oSo += sOne[i];
-    oSm += sMu[i];
+    oSo += price[i] * sOne[i];
+    oSm += price[i] * sMu[i];
   }
   // Gross returns: the largest Sharpe ratio of a zero-cost portfolio of the assets,
-  // mu'S^-1 mu - (1'S^-1 mu)^2 / 1'S^-1 1, bounds sigma(m)/E(m) from below.
+  // mu'S^-1 mu - (p'S^-1 mu)^2 / p'S^-1 p, bounds sigma(m)/E(m) from below.
   const grossSharpe = Math.sqrt(Math.max(0, muSmu - (oSm * oSm) / oSo));
   const sigmaAt = (v: number) => Math.sqrt(Math.max(0, oSo - 2 * v * oSm + v * v * muSmu));
   const vStar = muSmu > 0 ? oSm / muSmu : 1;

@@ -12,7 +12,8 @@
  *   string frequency, string returnKind
  *   u32 T, u32 N, u32 K
  *   u8 flags                bit 0: riskfreeGross present; bit 1: consumptionGrowth present;
- *                           bit 2: priceRatios present (drift splits)
+ *                           bit 2: priceRatios present (drift splits);
+ *                           bit 3: instruments present (at least one series)
  *   T strings               period labels
  *   N strings               asset names
  *   K strings               factor names
@@ -20,7 +21,9 @@
  *                           then riskfreeGross (T) if present, then consumptionGrowth (T) if present,
  *                           then, if priceRatios are present, per asset a u8 (1: ratios follow, T
  *                           float64; 0: none, an asset stored as returns).
- * A panel without price ratios encodes exactly as before they existed.
+ *   instruments (bit 3)     u32 lag, u32 J, J strings (names), then float64 LE values: instrument
+ *                           0 periods 0..T-1 (the value dated lag periods before each), ... J-1.
+ * A panel without price ratios or instruments encodes exactly as before they existed.
  *
  * Yearly values of a present-value decomposition are encoded by `encodeYearly` (magic "DFLY",
  * same version): u32 T, u32 N, the years' close labels (T strings), the asset names (N
@@ -110,7 +113,8 @@ export function encodePanel(panel: ReturnsPanel): Uint8Array {
   w.u32(T);
   w.u32(N);
   w.u32(K);
-  w.u8((panel.riskfreeGross ? 1 : 0) | (panel.consumptionGrowth ? 2 : 0) | (panel.priceRatios ? 4 : 0));
+  const instruments = panel.instruments && panel.instruments.series.length > 0 ? panel.instruments : undefined;
+  w.u8((panel.riskfreeGross ? 1 : 0) | (panel.consumptionGrowth ? 2 : 0) | (panel.priceRatios ? 4 : 0) | (instruments ? 8 : 0));
   for (const p of panel.periods) w.str(p);
   for (const a of panel.assets) w.str(a);
   for (const f of panel.factors) w.str(f.name);
@@ -135,6 +139,15 @@ export function encodePanel(panel: ReturnsPanel): Uint8Array {
       checkLength(`price ratios of ${panel.assets[i]}`, r.length, T);
       for (let t = 0; t < T; t++) w.f64(r[t]);
     });
+  }
+  if (instruments) {
+    w.u32(instruments.lag);
+    w.u32(instruments.series.length);
+    for (const z of instruments.series) w.str(z.name);
+    for (const z of instruments.series) {
+      checkLength(`instrument ${z.name}`, z.values.length, T);
+      for (let t = 0; t < T; t++) w.f64(z.values[t]);
+    }
   }
   return w.result();
 }

@@ -15,12 +15,12 @@ import type { ReturnsPanel, SampleNote } from '../panel.js';
 import type { FitSpec } from '../spec.js';
 import { frequencyRank, parseAscending, periodCalendar, parseDate, type PeriodCalendar } from './periods.js';
 import { historyPeriods, pricedDates } from './prices.js';
-import { consumptionPeriods, factorPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
+import { consumptionPeriods, factorPeriods, instrumentPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
 import { assetLastDates, periodLabels } from './table.js';
 import { commonWindow } from './window.js';
 
 /** The keys of a spec that fix a panel's data (a fit spec has them all). */
-export type PanelSpec = Pick<FitSpec, 'frequency' | 'start' | 'end' | 'assets' | 'returns' | 'riskfree' | 'includeRiskfree' | 'dayCount'> & {
+export type PanelSpec = Pick<FitSpec, 'frequency' | 'start' | 'end' | 'assets' | 'returns' | 'riskfree' | 'includeRiskfree' | 'dayCount' | 'instruments'> & {
   model: Pick<FitSpec['model'], 'factors' | 'consumption'>;
 };
 
@@ -184,6 +184,22 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
     required.push({ role: 'consumption', series: consumption });
   }
 
+  // Instruments (METHODS 9): z dated k multiplies period k + lag, so the series the window
+  // needs is the instrument shifted forward by the lag.
+  const instruments: { series: PeriodSeries; shifted: Map<number, number> }[] = [];
+  const lag = spec.instruments?.lag ?? 1;
+  for (const name of spec.instruments?.series ?? []) {
+    const s = findSeries(input.series, name, ['other', 'factor', 'consumption'], 'instrument', 'spec.instruments.series');
+    const z = instrumentPeriods(s, cal);
+    if (z.values.size === 0) throw noValues(z, 'instrument');
+    if (frequencyRank(z.stored) < frequencyRank(frequency)) {
+      notes.push({ subject: name, reason: s.kind === 'factor' ? `instrument stored at ${z.stored} frequency: compounded to ${frequency} as prod(1 + f) - 1` : `instrument stored at ${z.stored} frequency: the last value in each ${frequency} period` });
+    }
+    const shifted = new Map<number, number>();
+    for (const [k, v] of z.values) shifted.set(k + lag, v);
+    instruments.push({ series: z, shifted });
+  }
+
   // Window bounds from spec.start / spec.end, on the labels of periods with any asset return.
   const usable = assets.filter((a) => !a.unusable);
   for (const a of assets) if (a.unusable) notes.push({ subject: a.name, reason: `dropped: ${a.unusable}` });
@@ -205,10 +221,16 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
 
   const w = commonWindow(
     usable.map((a) => ({ name: a.name, values: a.gross })),
-    required.map((r) => r.series.values),
+    [...required.map((r) => r.series.values), ...instruments.map((z) => z.shifted)],
     bounds,
     describe,
   );
+  // The periods the lag cost: in the window the same spec gives without instruments, not in this one.
+  const lost: number[] = [];
+  if (instruments.length) {
+    const w0 = commonWindow(usable.map((a) => ({ name: a.name, values: a.gross })), required.map((r) => r.series.values), bounds, describe);
+    for (let k = w0.lo; k <= w0.hi; k++) if (k < w.lo || k > w.hi) lost.push(k);
+  }
   for (const d of w.dropped) notes.push({ subject: d.asset, reason: `dropped: ${d.reason}` });
   if (usable.length === 0) {
     throw new DeflatorError(
@@ -238,6 +260,18 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
         throw new DeflatorError(
           'DATA_MISSING',
           `${r.role} series "${r.series.name}" has no value for the ${frequency} period ${describe(k)}, inside the window ${describe(w.lo)}..${describe(w.hi)}`,
+          'fill the series for that period, or set spec.start/spec.end to a window that avoids it',
+        );
+      }
+    }
+  }
+
+  for (const z of instruments) {
+    for (let k = w.lo; k <= w.hi; k++) {
+      if (!z.shifted.has(k)) {
+        throw new DeflatorError(
+          'DATA_MISSING',
+          `instrument series "${z.series.name}" has no value for the ${frequency} period ${describe(k - lag)}, which the lag of ${lag} needs for ${describe(k)}, inside the window ${describe(w.lo)}..${describe(w.hi)}`,
           'fill the series for that period, or set spec.start/spec.end to a window that avoids it',
         );
       }
@@ -278,6 +312,14 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
     for (const v of arr) if (!Number.isFinite(v)) throw new DeflatorError('INPUT_INVALID', 'a return in the panel is not finite', 'check the prices and series for zeros or extreme values');
   }
   notes.push({ subject: '*', reason: `common sample ${periods[0]}..${periods[T - 1]}: T = ${T} ${frequency} periods, N = ${assetNames.length} test assets` });
+  const lostLabels = lost.map(describe);
+  if (spec.instruments) {
+    const names = instruments.map((z) => z.series.name);
+    notes.push({
+      subject: '*',
+      reason: `instruments const${names.length ? `, ${names.join(', ')}` : ''} dated ${lag} period(s) before the returns they scale${lostLabels.length ? `; ${lostLabels.length} period(s) lost to the lag: ${lostLabels.length > 6 ? `${lostLabels.slice(0, 3).join(', ')}, ..., ${lostLabels.slice(-2).join(', ')}` : lostLabels.join(', ')}` : '; no period lost to the lag'}`,
+    });
+  }
 
   const panel: ReturnsPanel = {
     frequency,
@@ -293,6 +335,10 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   if (input.priceRatios) {
     panel.priceRatios = kept.map((a) => (a.priceGross ? series(a.priceGross) : null));
     if (spec.includeRiskfree && rf && rfGross) panel.priceRatios.push(null);
+  }
+  if (spec.instruments) {
+    panel.instruments = { lag, series: instruments.map((z) => ({ name: z.series.name, values: series(z.shifted) })), lost: lostLabels };
+    for (const z of panel.instruments.series) for (const v of z.values) if (!Number.isFinite(v)) throw new DeflatorError('INPUT_INVALID', `instrument series "${z.name}" has a value that is not finite`, 'check the series');
   }
   return panel;
 }

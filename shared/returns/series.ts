@@ -228,6 +228,23 @@ export function consumptionPeriods(s: NamedSeries, cal: PeriodCalendar): PeriodS
   return out;
 }
 
+/**
+ * Instrument values per period (METHODS 9: z_t observed at the end of period t). A
+ * factor-kind series is a per-period value, taken as factorPeriods takes it (compounded
+ * from a higher stored frequency); any other kind (a valuation ratio, a yield spread, a
+ * level) is the last observation in the period.
+ */
+export function instrumentPeriods(s: NamedSeries, cal: PeriodCalendar): PeriodSeries {
+  if (s.kind === 'factor') return factorPeriods(s, cal);
+  const obs = observe(s, cal);
+  const out: PeriodSeries = { name: s.name, values: new Map(), lastDate: new Map(), stored: obs.stored };
+  for (let j = 0; j < obs.values.length; j++) {
+    out.values.set(obs.index[j], obs.values[j]);
+    out.lastDate.set(obs.index[j], obs.dates[j].date);
+  }
+  return out;
+}
+
 /** Sorted period indices of a map. */
 export function sortedKeys(m: Map<number, unknown>): number[] {
   return [...m.keys()].sort((a, b) => a - b);

@@ -19,6 +19,7 @@ export function seriesNeeded(spec: PanelSpec): { name: string; role: string; key
   if (spec.riskfree) out.push({ name: spec.riskfree, role: 'risk-free', key: 'spec.riskfree', kinds: ['riskfree'] });
   for (const f of spec.model.factors) out.push({ name: f, role: 'factor', key: 'spec.model.factors', kinds: ['factor', 'other'] });
   if (spec.model.consumption) out.push({ name: spec.model.consumption, role: 'consumption', key: 'spec.model.consumption', kinds: ['consumption'] });
+  for (const z of spec.instruments?.series ?? []) out.push({ name: z, role: 'instrument', key: 'spec.instruments.series', kinds: ['other', 'factor', 'consumption'] });
   return out;
 }
 
