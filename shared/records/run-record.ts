@@ -70,8 +70,10 @@ export interface RunRecord {
    * it), and, for a run with a back-test, the windows per chunk its rolling sums
    * restarted at (shared/backtest windowsPerChunk). Runs recorded before the chunks
    * were fixed by the spec have no chunkWindows: their chunks followed the threads.
+   * `kernels`: the numerical kernel layer's identity (shared/linalg/identity.ts); absent
+   * on runs recorded before it was recorded.
    */
-  compute?: { threads?: number; engine?: string; chunkWindows?: number };
+  compute?: { threads?: number; engine?: string; chunkWindows?: number; kernels?: { revision: string; products: string } };
 }
 
 /** A data file or stored subject whose current state differs from what the run recorded. */

@@ -13,7 +13,8 @@ import { describeError, isDeflatorError } from '../../shared/errors.js';
 import { diffExact } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { PanelFingerprint, RunRecord } from '../../shared/records/run-record.js';
-import type { ReplayReport } from '../../shared/records/replay-report.js';
+import { judgeDifferences, type ReplayReport } from '../../shared/records/replay-report.js';
+import { KERNEL_REVISION, KERNEL_REVISION_UNRECORDED, REPLAY_TOLERANCE } from '../../shared/linalg/identity.js';
 import { parseCompareSpec, parseFitSpec, type BacktestSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
 import { windowsPerChunk, type BacktestEngine } from '../../shared/backtest/index.js';
 import { computeAnalysis, loadAnalysisData, type Analysis } from '../services/analysis.js';
@@ -116,17 +117,28 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
   if (current.length > recorded.length) {
     for (const extra of current.slice(recorded.length)) report.panels.push({ recorded: '(none)', current: extra.sha256, matches: false });
   }
-  const d = diffExact(record.result, result, opts.limit ?? 200);
+  const d = diffExact(record.result, result, Number.POSITIVE_INFINITY);
   report.compared = countNumbers(record.result);
   report.differing = d.count;
-  report.differences = d.differences;
+  report.differences = d.differences.slice(0, opts.limit ?? 200);
+  const recordedKernels = record.compute?.kernels?.revision ?? KERNEL_REVISION_UNRECORDED;
+  report.recordedKernels = recordedKernels;
+  report.currentKernels = KERNEL_REVISION;
+  report.mode = record.version === VERSION && recordedKernels === KERNEL_REVISION ? 'exact' : 'tolerance';
+  const judged = judgeDifferences(d.differences, REPLAY_TOLERANCE);
+  if (judged.largest) report.largest = judged.largest;
+  if (report.mode === 'tolerance') {
+    report.tolerance = { ...REPLAY_TOLERANCE };
+    report.beyondTolerance = judged.beyond;
+    if (judged.added.length) report.addedKeys = judged.added;
+  }
   if (d.count > 0 && record.kind !== 'fit' && backtestBlock) {
     // The chunks where the rolling sums restart: fixed by the spec now, by the threads before.
     const current = windowsPerChunk(backtestBlock);
     const recorded = record.compute?.chunkWindows ?? null;
     if (recorded !== current) report.chunkWindows = { recorded, current };
   }
-  report.ok = !report.stale && report.panels.every((p) => p.matches) && d.count === 0;
+  report.ok = !report.stale && report.panels.every((p) => p.matches) && (report.mode === 'exact' ? d.count === 0 : judged.beyond === 0);
   return report;
 }
 
@@ -143,11 +155,15 @@ export function uniqueFingerprints(panels: ReturnsPanel[]): PanelFingerprint[] {
   return out;
 }
 
-const show = (v: unknown): string => (typeof v === 'number' ? (Object.is(v, -0) ? '-0' : String(v)) : JSON.stringify(v) ?? String(v));
+const show = (v: unknown): string => {
+  const text = typeof v === 'number' ? (Object.is(v, -0) ? '-0' : String(v)) : (JSON.stringify(v) ?? String(v));
+  return text.length > 120 ? `${text.slice(0, 117)}...` : text;
+};
 
 export function formatReplay(r: ReplayReport): string {
   const lines = [`Replay of run ${r.run} (${r.kind}: ${r.label})`];
   if (r.recordedVersion !== r.currentVersion) lines.push(`  note: recorded by deflator ${r.recordedVersion}, recomputed by ${r.currentVersion}`);
+  if (r.mode === 'tolerance' && r.recordedKernels !== r.currentKernels) lines.push(`  note: recorded with numerical kernels ${r.recordedKernels}, recomputed with ${r.currentKernels}: numbers are compared to a tolerance, not bit for bit`);
   if (r.recordedThreads !== undefined && r.usedThreads !== undefined && r.recordedThreads !== r.usedThreads) {
     lines.push(`  note: recorded with ${r.recordedThreads} worker thread(s), replayed with ${r.usedThreads} (the numbers do not depend on the thread count)`);
   }
@@ -171,11 +187,17 @@ export function formatReplay(r: ReplayReport): string {
     lines.push(`  recompute FAILED: ${r.error}`);
   } else if (r.differing === 0) {
     lines.push(`  numbers: all ${r.compared} stored numbers reproduced bit for bit`);
+  } else if (r.mode === 'tolerance' && r.tolerance && r.beyondTolerance === 0) {
+    lines.push(
+      `  numbers: compared across versions (recorded with kernels ${r.recordedKernels}, recomputed with ${r.currentKernels}) to the tolerance |a - b| <= ${r.tolerance.relative} max(|a|, |b|) + ${r.tolerance.absolute}: all ${r.compared} stored numbers within it; ${r.differing - (r.addedKeys?.length ?? 0)} differ in the last bits${r.largest ? `, the largest by ${r.largest.relative.toExponential(2)} (relative) at ${r.largest.path}` : ''}`,
+    );
+    if (r.addedKeys?.length) lines.push(`  note: this version adds ${r.addedKeys.join(', ')} to the result (not in the stored one)`);
   } else {
-    lines.push(`  numbers: ${r.differing} value(s) differ (of ${r.compared} stored numbers):`);
+    const why = r.mode === 'tolerance' && r.tolerance ? ` (${r.beyondTolerance} beyond the cross-version tolerance ${r.tolerance.relative} relative + ${r.tolerance.absolute})` : '';
+    lines.push(`  numbers: ${r.differing} value(s) differ (of ${r.compared} stored numbers)${why}${r.largest ? `; largest relative difference ${r.largest.relative.toExponential(2)} at ${r.largest.path}` : ''}:`);
     for (const d of r.differences) lines.push(`    ${d.path}: stored ${show(d.stored)}, recomputed ${show(d.recomputed)}`);
     if (r.differing > r.differences.length) lines.push(`    ... and ${r.differing - r.differences.length} more`);
   }
-  lines.push(r.ok ? 'REPLAY OK' : 'REPLAY MISMATCH');
+  lines.push(r.ok ? (r.mode === 'tolerance' && r.differing > (r.addedKeys?.length ?? 0) ? 'REPLAY OK (within the cross-version tolerance)' : 'REPLAY OK') : 'REPLAY MISMATCH');
   return lines.join('\n');
 }

@@ -12,6 +12,7 @@ import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSummary, RunTag, StaleItem, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
+import { kernelIdentity } from '../../shared/linalg/identity.js';
 import { DataFingerprinter, nodeSha256, runSubjects } from './dependencies.js';
 
 export interface RecordRunInput {
@@ -102,10 +103,12 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
     throw new DeflatorError('INPUT_INVALID', `recordRun: threads ${input.threads} is not a whole number of at least 1`, 'pass the pool\'s thread count');
   }
   const chunkWindows = recordedChunkWindows(input.spec, input.result);
-  const compute =
-    input.threads !== undefined || input.engine !== undefined || chunkWindows !== undefined
-      ? { ...(input.threads !== undefined ? { threads: input.threads } : {}), ...(input.engine !== undefined ? { engine: input.engine } : {}), ...(chunkWindows !== undefined ? { chunkWindows } : {}) }
-      : null;
+  const compute = {
+    ...(input.threads !== undefined ? { threads: input.threads } : {}),
+    ...(input.engine !== undefined ? { engine: input.engine } : {}),
+    ...(chunkWindows !== undefined ? { chunkWindows } : {}),
+    kernels: kernelIdentity(),
+  };
   const insert = store.db.prepare(
     'INSERT INTO run (kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects, compute) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
   );
@@ -125,7 +128,7 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
         panels.length > 1 ? JSON.stringify(panels) : null,
         JSON.stringify(files),
         JSON.stringify(subjects),
-        compute === null ? null : JSON.stringify(compute),
+        JSON.stringify(compute),
       ).lastInsertRowid,
     );
     for (const s of subjects) insertSubject.run(runId, s.kind, s.name, s.sha256);

@@ -10,6 +10,7 @@ import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
 import { importPrices } from '../../../src-main/import/index.js';
 import { loadPanel } from '../../../src-main/data/panel.js';
 import { replayRun, formatReplay, type Recompute } from '../../../src-main/runs/replay.js';
+import { kernelIdentity } from '../../../shared/linalg/identity.js';
 import { deleteRun, getRun, listRuns, parseRunId, recordRun, staleItems } from '../../../src-main/runs/runs.js';
 import { Store } from '../../../src-main/store/store.js';
 import { VERSION } from '../../../src-main/version.js';
@@ -113,6 +114,12 @@ describe('run records', () => {
     }
   });
 
+  it('recorded by this version with these kernels: bit for bit is required, and the kernel identity is recorded', async () => {
+    const r = await replayRun(p.store, 1, inProcess);
+    expect(r.mode).toBe('exact');
+    expect([r.recordedKernels, r.currentKernels]).toEqual([kernelIdentity().revision, kernelIdentity().revision]);
+  });
+
   it('reports a changed number with its path, stored and recomputed values', async () => {
     const off: Recompute = {
       ...inProcess,
@@ -131,8 +138,8 @@ describe('run records', () => {
   });
 
   it('a back-test records its windows per chunk; one recorded before the chunks were fixed by the spec still replays, a difference explained', async () => {
-    expect(getRun(p.store, 1).compute).toBeUndefined(); // a fit has no chunks, and no threads were given
-    expect(getRun(p.store, 3).compute).toEqual({ chunkWindows: windowsPerChunk({ window: 60, step: 24 }) });
+    expect(getRun(p.store, 1).compute).toEqual({ kernels: kernelIdentity() }); // a fit has no chunks, and no threads were given
+    expect(getRun(p.store, 3).compute).toEqual({ chunkWindows: windowsPerChunk({ window: 60, step: 24 }), kernels: kernelIdentity() });
     expect(windowsPerChunk({ window: 60, step: 24 })).toBe(16);
     const saved = p.store.db.prepare('SELECT compute FROM run WHERE id = 3').pluck().get();
     // as a run of the previous schema-3 records looks: the thread count only
@@ -151,12 +158,38 @@ describe('run records', () => {
           return r;
         },
       };
+      // recorded without a kernel identity (an earlier kernel revision): held to the cross-version tolerance
       const r = await replayRun(p.store, 3, off);
-      expect(r.ok).toBe(false);
+      expect(r.mode).toBe('tolerance');
+      expect(r.recordedKernels).toBe('linalg-1');
+      expect(r.ok, formatReplay(r)).toBe(true);
       expect(r.error).toBeUndefined();
       expect(r.differing).toBe(1);
+      expect(r.beyondTolerance).toBe(0);
+      expect(r.largest?.path).toBe('oos.rmse');
+      expect(r.largest!.relative).toBeGreaterThan(0);
+      expect(r.largest!.relative).toBeLessThan(1e-14);
       expect(r.chunkWindows).toEqual({ recorded: null, current: 16 });
       expect(formatReplay(r)).toContain("recorded before a back-test's chunks of windows were fixed by its spec");
+      expect(formatReplay(r)).toMatch(/within it; 1 differ in the last bits, the largest by .* at oos\.rmse\nREPLAY OK \(within the cross-version tolerance\)$/);
+      const far: Recompute = {
+        ...inProcess,
+        backtest: async (s, panel) => {
+          const b = backtest(s, panel, { fit });
+          b.oos.rmse *= 1 + 1e-6;
+          return b;
+        },
+      };
+      const bad = await replayRun(p.store, 3, far);
+      expect(bad.ok).toBe(false);
+      expect(bad.beyondTolerance).toBe(1);
+      expect(formatReplay(bad)).toMatch(/1 beyond the cross-version tolerance 1e-8 relative/);
+      // a key a later version adds to results is noted, not counted against the run
+      const more: Recompute = { ...inProcess, backtest: async (s, panel) => Object.assign(backtest(s, panel, { fit }), { extra: [1, 2] }) };
+      const added = await replayRun(p.store, 3, more);
+      expect(added.ok, formatReplay(added)).toBe(true);
+      expect(added.addedKeys).toEqual(['extra']);
+      expect(formatReplay(added)).toContain('this version adds extra to the result');
     } finally {
       p.store.db.prepare('UPDATE run SET compute = ? WHERE id = 3').run(saved);
     }
