@@ -7,7 +7,9 @@
  * that price the companies by construction: R^e_i = alpha_i + beta_i'f + e_i, alpha small;
  * a treasury bill yield (percent, annual compounding) and a money-market account level
  * that earn the same per-period rate; a household consumption level whose growth moves
- * with the broad factor. Daily scenario: four ferry operators over two years, wide layout.
+ * with the broad factor; two instruments (a dividend yield and a term spread, from their
+ * own seeded stream) that predict the factors a little. Daily scenario: four ferry
+ * operators over two years, wide layout.
  */
 import { writeFileSync } from 'node:fs';
 import path from 'node:path';
@@ -198,12 +200,51 @@ for (let t = 0; t < days.length; t++) {
   dailyAccount.push(`${days[t]},${overnight.toFixed(10)}`);
 }
 
+// ---------------------------------------------------------------- monthly instruments
+// Conditioning information for the monthly set, from a stream of its own so that every
+// file above keeps its bytes. Two series observed at month ends (dates[0..T]): the board's
+// dividend yield, a valuation ratio of about 3.5% moving slowly, and the spread of long
+// over short bill yields, about 1.2%. Each month's innovation leans a little towards the
+// next month's factor return (the yield towards harbor, the spread towards ember), so the
+// series predict returns a little (correlation of 0.14 and 0.2 with the next month's factor),
+// as a valuation ratio and a term spread are meant to.
+const instrumentUniform = rng(20250512);
+let instrumentSpare: number | null = null;
+function instrumentNormal(): number {
+  if (instrumentSpare !== null) {
+    const s = instrumentSpare;
+    instrumentSpare = null;
+    return s;
+  }
+  let u = 0;
+  while (u === 0) u = instrumentUniform();
+  const v = instrumentUniform();
+  const r = Math.sqrt(-2 * Math.log(u));
+  instrumentSpare = r * Math.sin(2 * Math.PI * v);
+  return r * Math.cos(2 * Math.PI * v);
+}
+const boardYield: number[] = [];
+const termSpread: number[] = [];
+let yieldGap = 0.004;
+let spreadGap = -0.002;
+for (let t = 0; t <= T; t++) {
+  const nextHarbor = t < T ? factors[t + 1][0] - factorMean[0] : 0;
+  const nextEmber = t < T ? factors[t + 1][1] - factorMean[1] : 0;
+  yieldGap = 0.97 * yieldGap + 0.0012 * instrumentNormal() + 0.03 * nextHarbor;
+  spreadGap = 0.9 * spreadGap + 0.0011 * instrumentNormal() + 0.012 * nextEmber;
+  boardYield.push(round(0.035 + yieldGap, 6));
+  termSpread.push(round(0.012 + spreadGap, 6));
+}
+const instrumentRows = ['date,board_yield,term_spread'];
+for (let t = 0; t <= T; t++) instrumentRows.push(`${dates[t]},${boardYield[t].toFixed(6)},${termSpread[t].toFixed(6)}`);
+
 const write = (file: string, lines: string[]) => writeFileSync(path.join(here, file), lines.join('\n') + '\n');
 write('monthly/prices.csv', priceRows);
 write('monthly/factors.csv', factorRows);
 write('monthly/bill_yield.csv', yieldRows);
 write('monthly/mm_account.csv', accountRows);
 write('monthly/consumption.csv', consumptionRows);
+write('monthly/instruments.csv', instrumentRows);
 write('daily/prices_wide.csv', dailyPrice);
 write('daily/dividends_wide.csv', dailyDiv);
 write('daily/overnight_account.csv', dailyAccount);

@@ -119,13 +119,13 @@ describe('deflator import / info / returns', () => {
     expect(r.stderr).toBe('');
     expect(r.code).toBe(0);
     expect(r.stdout).toMatch(/Assets: 30/);
-    expect(r.stdout).toMatch(/Series: 6/);
+    expect(r.stdout).toMatch(/Series: 8/);
     expect(r.stdout).toMatch(/not investment advice/);
     const again = run(['demo', '--db', db, '--json']);
     expect(again.code).toBe(0);
     const j = JSON.parse(again.stdout) as { info: { assets: unknown[]; imports: unknown[] }; caution: string };
     expect(j.info.assets).toHaveLength(30);
-    expect(j.info.imports).toHaveLength(5); // replaced, not appended to
+    expect(j.info.imports).toHaveLength(6); // replaced, not appended to
     const daily = JSON.parse(run(['demo', '--db', path.join(dir, 'daily.db'), '--set', 'daily', '--json']).stdout) as { info: { assets: { frequency: string }[] } };
     expect(daily.info.assets.map((a) => a.frequency)).toEqual(['daily', 'daily', 'daily', 'daily']);
     // not a deflator database: left alone
