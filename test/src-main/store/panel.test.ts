@@ -79,7 +79,7 @@ describe('loadPanel on the demo data', () => {
 
   it('names what is missing, and what is stored instead', () => {
     expect(() => loadPanel(store, parseFitSpec({ riskfree: 'mm_account', assets: ['nowhere-co'], model: { factors: ['harbor'] } }))).toThrow(/test asset\(s\) "nowhere-co" \(spec\.assets\) not in/);
-    expect(() => loadPanel(store, parseFitSpec({ riskfree: 'mm_account', model: { factors: ['tide'] } }))).toThrow(/factor series "tide" \(spec\.model\.factors\) is not in .*stored factor\/other series: ember, harbor, ledger/);
+    expect(() => loadPanel(store, parseFitSpec({ riskfree: 'mm_account', model: { factors: ['tide'] } }))).toThrow(/factor series "tide" \(spec\.model\.factors\) is not in .*stored factor\/other series: board_yield, ember, harbor, ledger, term_spread/);
     expect(() => loadPanel(store, parseFitSpec({ riskfree: 'harbor', model: { factors: ['ember'] } }))).toThrow(/risk-free series "harbor" \(spec\.riskfree\) is stored as kind "factor"/);
   });
 
