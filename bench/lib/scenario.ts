@@ -45,20 +45,37 @@ export function weekdays(T: number): string[] {
   return out;
 }
 
+/** The last weekday of each of T months from January 1975. */
+export function monthEnds(T: number): string[] {
+  const out: string[] = [];
+  for (let m = 0; m < T; m++) {
+    let t = Date.UTC(1975, m + 1, 0);
+    for (;;) {
+      const w = new Date(t).getUTCDay();
+      if (w !== 0 && w !== 6) break;
+      t -= 86_400_000;
+    }
+    out.push(new Date(t).toISOString().slice(0, 10));
+  }
+  return out;
+}
+
 /**
  * Writes prices.csv (long: date,asset,price; T + 1 rows per asset so that there are T
- * returns), factors.csv (wide, decimal daily returns) and riskfree.csv (per-period rate),
- * then imports them into scenario.db with the CLI. Reuses files that exist.
+ * returns), factors.csv (wide, decimal returns) and riskfree.csv (per-period rate), then
+ * imports them into scenario.db with the CLI. Reuses files that exist. Daily (weekdays) by
+ * default; monthly (month ends) with `monthly`.
  */
-export async function dailyScenario(dir: string, N: number, T: number, K = 3, seed = 20260614): Promise<DailyScenario> {
+export async function dailyScenario(dir: string, N: number, T: number, K = 3, seed = 20260614, monthly = false): Promise<DailyScenario> {
   const factorNames = Array.from({ length: K }, (_, k) => `drift${k + 1}`);
   const s: DailyScenario = { dir, prices: path.join(dir, 'prices.csv'), factors: path.join(dir, 'factors.csv'), riskfree: path.join(dir, 'riskfree.csv'), db: path.join(dir, 'scenario.db'), N, K, T, factorNames };
   if (existsSync(s.db)) return s;
   const u = mulberry32(seed);
   const normal = () => Math.sqrt(-2 * Math.log(1 - u())) * Math.cos(2 * Math.PI * u());
-  const dates = weekdays(T + 1);
-  const f = Array.from({ length: K }, (_, k) => Float64Array.from({ length: T + 1 }, () => 0.0002 + 0.00005 * k + 0.01 * normal()));
-  const rf = Float64Array.from({ length: T + 1 }, (_, t) => 0.0001 + 0.00002 * Math.sin(t / 500));
+  const dates = monthly ? monthEnds(T + 1) : weekdays(T + 1);
+  const scale = monthly ? 4.5 : 1; // monthly moves about sqrt(21) times a daily one
+  const f = Array.from({ length: K }, (_, k) => Float64Array.from({ length: T + 1 }, () => scale * (0.0002 + 0.00005 * k + 0.01 * normal())));
+  const rf = Float64Array.from({ length: T + 1 }, (_, t) => (monthly ? 20 : 1) * (0.0001 + 0.00002 * Math.sin(t / 500)));
   await writeLines(s.factors, async (w) => {
     await w(`date,${factorNames.join(',')}\n`);
     for (let t = 1; t <= T; t++) await w(`${dates[t]},${f.map((x) => x[t].toFixed(6)).join(',')}\n`);
@@ -75,7 +92,7 @@ export async function dailyScenario(dir: string, N: number, T: number, K = 3, se
       let lines = '';
       for (let i = 0; i < N; i++) {
         if (t > 0) {
-          let r = rf[t] + 0.01 * normal();
+          let r = rf[t] + scale * 0.01 * normal();
           for (let k = 0; k < K; k++) r += beta[i][k] * f[k][t];
           price[i] = Math.max(0.01, price[i] * (1 + r));
         }

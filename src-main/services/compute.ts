@@ -9,10 +9,13 @@
  * - the worker pool (src-main/workers/pool.ts `createPool`): the app keeps one for its
  *   whole session, so that the main thread stays free and a task can be cancelled.
  * - `sizedCompute({ threads })`: the CLI's. Per task it counts the pieces the work
- *   splits into (`workPieces`); one piece, or one thread asked for, runs in process,
- *   otherwise it starts a pool of min(threads, pieces) workers (once) and splits the work
- *   there. A back-test whose windows fall into fewer chunks than there are cores, a
- *   single fit, or a comparison without bootstrap therefore never pays for workers.
+ *   splits into (`workPieces`) and estimates its seconds in one thread
+ *   (`estimatedSeconds`); one piece, work too small to pay for a worker's start
+ *   (MIN_SECONDS_PER_THREAD per added thread), or one thread asked for, runs in process;
+ *   otherwise it starts a pool of that many workers (once) and splits the work there. A
+ *   single fit, a small back-test or a comparison without bootstrap never pays for workers
+ *   (measured: two workers made the 480-window back-test of N = 25 take 0.9 s of CPU
+ *   instead of 0.5 s in process).
  */
 import { DeflatorError } from '../../shared/errors.js';
 import { rollsSums, windowSchedule } from '../../shared/backtest/index.js';
@@ -86,6 +89,49 @@ export function workPieces<K extends TaskKind>(kind: K, payload: TaskMap[K]['pay
   return 1;
 }
 
+/**
+ * Seconds a task would take in one thread, roughly (for the pool-size decision only; it
+ * never changes a number). Back-test: windows x (N + K)^2.5 at 4e-8 s (incremental engine)
+ * or 1e-6 s (a fit per window); comparison: each fit (N^2 T at 2e-9 s) and its back-test,
+ * and the bootstrap, per replication N^2 T at 1e-9 s per linear model and 5e-6 s per
+ * asset-period for a model fitted numerically. Calibrated on this project's benchmarks
+ * (bench/process.ts): 480 windows of N = 25 take about 0.07 s, 960 of N = 100 about 4 s.
+ */
+export function estimatedSeconds<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload']): number {
+  if (kind === 'backtest') {
+    const p = payload as TaskMap['backtest']['payload'];
+    if (!p.spec.backtest) return 0;
+    const windows = windowSchedule(p.panel.periods.length, p.spec.backtest).length;
+    const m = p.panel.returns.length + p.panel.factors.length;
+    return windows * m ** 2.5 * (rollsSums(p.spec, p.engine) ? 4e-8 : 1e-6);
+  }
+  if (kind === 'compare') {
+    const p = payload as TaskMap['compare']['payload'];
+    let s = 0;
+    p.fits.forEach((f, i) => {
+      const panel = p.panels[i];
+      if (!panel) return;
+      const N = panel.returns.length;
+      const T = panel.periods.length;
+      s += N * N * T * 2e-9;
+      if (p.spec.backtest) s += estimatedSeconds('backtest', { spec: { ...f, backtest: p.spec.backtest }, panel });
+      const reps = bootstrapSettings(p.spec, T).replications;
+      if (f.estimator.method === 'gmm') s += reps * (f.model.kind === 'consumption' ? N * T * 5e-6 : N * N * T * 1e-9);
+    });
+    return s;
+  }
+  return 0;
+}
+
+/** Work below this many seconds per added worker thread runs in fewer threads (a worker's start and the copy of the panel cost about 0.2 s). */
+export const MIN_SECONDS_PER_THREAD = 0.5;
+
+/** Threads worth using for a task: at most `threads` and its pieces, and one per MIN_SECONDS_PER_THREAD of estimated work. */
+export function threadsFor<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], threads: number): number {
+  const byWork = 1 + Math.floor(estimatedSeconds(kind, payload) / MIN_SECONDS_PER_THREAD);
+  return Math.max(1, Math.min(threads, workPieces(kind, payload), byWork));
+}
+
 export interface SizedComputeOptions {
   /** Threads at most (the CLI's --threads, default the cores). */
   threads: number;
@@ -106,7 +152,7 @@ export function sizedCompute(o: SizedComputeOptions): ClosableCompute & { readon
       return used;
     },
     async runTask<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], opts: RunTaskOptions = {}): Promise<TaskMap[K]['result']> {
-      const want = Math.min(Math.max(1, o.threads), workPieces(kind, payload));
+      const want = threadsFor(kind, payload, o.threads);
       if (want <= 1 && !pool) {
         used = { threads: 1, inProcess: true };
         return local.runTask(kind, payload, opts);
