@@ -20,6 +20,8 @@ export const PERIODS_PER_YEAR: Record<Frequency, number> = {
 /** One asset's price and dividend history, dates ascending (ISO yyyy-mm-dd). */
 export interface PriceHistory {
   asset: string;
+  /** Absent or 'prices': what tells a price history from a return history (ReturnHistory). */
+  source?: 'prices';
   dates: string[];
   /** Price per share at the close of each date. */
   price: Float64Array;
@@ -32,6 +34,47 @@ export interface PriceHistory {
   adjust?: Float64Array;
   /** Shares outstanding, where imported (for value weights and market value sorts). */
   shares?: Float64Array;
+}
+
+/** How a return file writes each return (METHODS section 8): simple net r, gross R = 1 + r, or log ln R. */
+export const RETURN_FORMS = ['net', 'gross', 'log'] as const;
+export type ReturnForm = (typeof RETURN_FORMS)[number];
+
+/** Units of imported values: decimal (0.0125) or percent (1.25, divided by 100 when read). */
+export const VALUE_UNITS = ['decimal', 'percent'] as const;
+export type ValueUnits = (typeof VALUE_UNITS)[number];
+
+/**
+ * One asset whose history arrived as returns (METHODS section 8), stored as given: per
+ * period end t the return over period t (from the end of t-1 to the end of t), in its
+ * form and units. The returns engine converts it to gross returns (R = 1 + r, R, or
+ * exp(l), after dividing percent by 100); the reinvested value is V = 1 at the period
+ * before the first return and V_t = V_{t-1} R_t. `excess`: the file held excess returns
+ * R^e = R - R^f already (a gross form of an excess return is 1 + R^e).
+ */
+export interface ReturnHistory {
+  asset: string;
+  source: 'returns';
+  /** Period ends (ISO), ascending. */
+  dates: string[];
+  /** The returns as written in the file; NaN where a missing-value code stood (a gap, not a zero). */
+  values: Float64Array;
+  form: ReturnForm;
+  units: ValueUnits;
+  excess: boolean;
+}
+
+/** A stored asset: a price history or a return history. */
+export type StoredAsset = PriceHistory | ReturnHistory;
+
+export function isReturnHistory(h: StoredAsset): h is ReturnHistory {
+  return h.source === 'returns';
+}
+
+/** How a stored asset's data arrived, in words for tables and messages: "prices", "net returns (percent, excess)". */
+export function assetSourceText(h: { source?: 'prices' | 'returns'; form?: ReturnForm; units?: ValueUnits; excess?: boolean }): string {
+  if (h.source !== 'returns') return 'prices';
+  return `${h.form ?? 'net'} returns (${h.units ?? 'decimal'}${h.excess ? ', excess' : ''})`;
 }
 
 export const SERIES_KINDS = ['factor', 'riskfree', 'consumption', 'other'] as const;

@@ -216,7 +216,7 @@ function crossCheck(spec: FitSpec, where: string): string[] {
   if (m.kind !== 'consumption' && m.factors.length === 0) problems.push(`${where}.model.factors: a ${m.kind} model needs at least one factor`);
   if (m.kind === 'consumption' && !m.consumption) problems.push(`${where}.model.consumption: the consumption model needs the name of a consumption series`);
   if (m.kind === 'consumption' && m.factors.length > 0) problems.push(`${where}.model.factors: the consumption model takes no factors`);
-  if (spec.returns === 'excess' && !spec.riskfree) problems.push(`${where}.riskfree: excess returns need a risk-free series name`);
+  // excess returns without "riskfree" are fine for assets stored as excess returns (METHODS 8): buildPanel names any asset that needs one
   if (m.kind === 'linear-gross' && spec.returns !== 'gross') problems.push(`${where}.returns: the linear-gross model prices gross returns; set "returns":"gross"`);
   if ((m.kind === 'linear' || m.kind === 'linear-raw') && spec.returns !== 'excess') problems.push(`${where}.returns: the ${m.kind} model prices excess returns; set "returns":"excess"`);
   if (m.delta !== undefined && !(m.kind === 'consumption' && spec.returns === 'excess')) problems.push(`${where}.model.delta: a fixed delta applies only to the consumption model on excess returns`);

@@ -5,10 +5,10 @@
  * period, shares outstanding on that row, and the period's dividends in units that the
  * split factors make comparable across periods.
  */
-import type { Frequency, PriceHistory } from '../data.js';
+import { isReturnHistory, type Frequency, type StoredAsset } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { parseAscending } from '../returns/periods.js';
-import { historyPeriods } from '../returns/prices.js';
+import { assetPeriods } from '../returns/stored-returns.js';
 import { assetLastDates, periodLabels, tradingCalendar } from '../returns/table.js';
 
 export interface SortPanel {
@@ -18,7 +18,11 @@ export interface SortPanel {
   assets: string[];
   /** Per asset, per period: gross return R_t, NaN where none. */
   gross: Float64Array[];
-  /** Last quoted price per share in the period (unadjusted), NaN where none. */
+  /**
+   * Last quoted price per share in the period (unadjusted), NaN where none. For an asset
+   * stored as returns: its value index V at the period's end (only eligibility reads it:
+   * sorts on price, yield or size refuse such assets).
+   */
   price: Float64Array[];
   /** Shares outstanding on the row of that price (the latest figure imported up to that row), NaN where none. */
   shares: Float64Array[];
@@ -28,10 +32,10 @@ export interface SortPanel {
   factorAtPrice: Float64Array[];
 }
 
-export function sortPanel(histories: PriceHistory[], frequency: Frequency): SortPanel {
-  if (histories.length === 0) throw new DeflatorError('DATA_MISSING', 'no price histories to sort', 'import price histories first (deflator import prices)');
+export function sortPanel(histories: StoredAsset[], frequency: Frequency): SortPanel {
+  if (histories.length === 0) throw new DeflatorError('DATA_MISSING', 'no asset histories to sort', 'import prices or returns first (deflator import prices / import returns)');
   const cal = tradingCalendar(frequency, histories.map((h) => h.dates));
-  const ap = histories.map((h) => historyPeriods(h, cal));
+  const ap = histories.map((h) => assetPeriods(h, cal));
   const labels = periodLabels(ap.map(assetLastDates));
   const keys = [...labels.keys()].sort((a, b) => a - b);
   if (keys.length === 0) throw new DeflatorError('DATA_MISSING', 'the histories have no priced rows', 'import price histories first');
@@ -47,6 +51,14 @@ export function sortPanel(histories: PriceHistory[], frequency: Frequency): Sort
   const factorAtPrice = Array.from({ length: N }, () => new Float64Array(T).fill(Number.NaN));
   histories.forEach((h, i) => {
     for (const [k, g] of ap[i].gross) gross[i][k - k0] = g;
+    if (isReturnHistory(h)) {
+      for (const [k, v] of ap[i].close) {
+        if (k - k0 < 0 || k - k0 >= T) continue;
+        price[i][k - k0] = v;
+        factorAtPrice[i][k - k0] = 1;
+      }
+      return;
+    }
     const dates = parseAscending(h.dates, `price history "${h.asset}"`);
     let F = 1;
     let lastShares = Number.NaN;

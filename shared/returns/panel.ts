@@ -9,13 +9,13 @@
  * span of the required series. Assets with a missing period inside the window are
  * dropped and noted. docs/methods.md ("Returns") states the rules.
  */
-import type { Frequency, NamedSeries, PriceHistory, ReturnSeries, SeriesKind } from '../data.js';
+import { isReturnHistory, type Frequency, type NamedSeries, type ReturnSeries, type SeriesKind, type StoredAsset } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel, SampleNote } from '../panel.js';
 import type { FitSpec } from '../spec.js';
 import { frequencyRank, parseAscending, periodCalendar, parseDate, type PeriodCalendar } from './periods.js';
-import { historyPeriods, pricedDates } from './prices.js';
 import { consumptionPeriods, factorPeriods, instrumentPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
+import { assetPeriods, observedDates } from './stored-returns.js';
 import { assetLastDates, periodLabels } from './table.js';
 import { commonWindow } from './window.js';
 
@@ -25,7 +25,8 @@ export type PanelSpec = Pick<FitSpec, 'frequency' | 'start' | 'end' | 'assets' |
 };
 
 export interface BuildPanelInput {
-  histories: PriceHistory[];
+  /** Price histories and assets stored as returns. */
+  histories: StoredAsset[];
   series: NamedSeries[];
   portfolios?: ReturnSeries[];
   spec: PanelSpec;
@@ -38,6 +39,14 @@ interface TestAsset {
   gross: Map<number, number>;
   /** Price ratios without dividends (price histories only). */
   priceGross?: Map<number, number>;
+  /** Stored as excess returns at this frequency: R^e per period, taken as they are in an excess-return panel. */
+  excess?: Map<number, number>;
+  /** The asset's history holds excess returns (METHODS 8). */
+  storedExcess?: boolean;
+  /** What the asset contributes to this spec's panel (set once the spec's return kind is known). */
+  values?: Map<number, number>;
+  /** values are total returns from which R^f is subtracted. */
+  subtractRf?: boolean;
   lastDates: Map<number, string>;
   cutShort?: { index: number; note: string };
   unusable?: string;
@@ -93,12 +102,12 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const portfolios = input.portfolios ?? [];
 
   // Which test assets.
-  let chosenH: PriceHistory[];
+  let chosenH: StoredAsset[];
   let chosenP: ReturnSeries[];
   if (spec.assets === 'all') {
     chosenH = input.histories;
     chosenP = [];
-    if (chosenH.length === 0) throw new DeflatorError('DATA_MISSING', 'spec.assets is "all", but there are no price histories', 'import price histories, or list portfolio names in spec.assets');
+    if (chosenH.length === 0) throw new DeflatorError('DATA_MISSING', 'spec.assets is "all", but there are no stored assets', 'import prices or returns, or list portfolio names in spec.assets');
   } else {
     chosenH = [];
     chosenP = [];
@@ -108,7 +117,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
       seen.add(name);
       const h = input.histories.find((x) => x.asset === name);
       const p = portfolios.find((x) => x.name === name);
-      if (h && p) throw new DeflatorError('CONFLICT', `spec.assets: "${name}" names both a price history and a portfolio`, 'rename the portfolio so that each test asset name is unique');
+      if (h && p) throw new DeflatorError('CONFLICT', `spec.assets: "${name}" names both a stored asset and a portfolio`, 'rename the portfolio so that each test asset name is unique');
       if (h) chosenH.push(h);
       else if (p) chosenP.push(p);
       else {
@@ -121,24 +130,27 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
     }
   }
   const dupe = chosenH.find((h, i) => chosenH.findIndex((x) => x.asset === h.asset) !== i);
-  if (dupe) throw new DeflatorError('INPUT_INVALID', `price history "${dupe.asset}" is given twice`, 'pass each asset once');
+  if (dupe) throw new DeflatorError('INPUT_INVALID', `asset "${dupe.asset}" is given twice`, 'pass each asset once');
 
   // Periods.
   let cal: PeriodCalendar;
   if (frequency === 'daily') {
     const days: number[] = [];
-    for (const h of chosenH) for (const d of pricedDates(h)) days.push(parseDate(d, `price history "${h.asset}"`).day);
+    for (const h of chosenH) for (const d of observedDates(h)) days.push(parseDate(d, `${isReturnHistory(h) ? 'return' : 'price'} history "${h.asset}"`).day);
     for (const p of chosenP) for (const d of p.periods) days.push(parseDate(d, `portfolio "${p.name}"`).day);
     cal = periodCalendar('daily', days);
   } else cal = periodCalendar(frequency);
 
+  const rfSeries = spec.riskfree ? findSeries(input.series, spec.riskfree, ['riskfree'], 'risk-free', 'spec.riskfree') : undefined;
   const built = new Map<string, TestAsset>();
   for (const h of chosenH) {
-    const a = historyPeriods(h, cal);
+    const a = assetPeriods(h, cal, { ...(rfSeries ? { riskfree: rfSeries } : {}), dayCount: spec.dayCount ?? 'periods' });
     built.set(h.asset, {
       name: h.asset,
       gross: a.gross,
-      priceGross: a.priceGross,
+      ...(a.priceGross ? { priceGross: a.priceGross } : {}),
+      ...(a.excess ? { excess: a.excess } : {}),
+      ...(isReturnHistory(h) && h.excess ? { storedExcess: true } : {}),
       lastDates: assetLastDates(a),
       ...(a.unusable ? { unusable: a.unusable } : {}),
       ...(a.cutShort ? { cutShort: { index: a.cutShort.index, note: `last ${frequency} period cut short by the end of the data: ${a.cutShort.from ? `from ${a.cutShort.from} ` : ''}to ${a.cutShort.to}` } } : {}),
@@ -151,14 +163,45 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const labels = periodLabels(assets.map((a) => a.lastDates));
   const describe = (k: number): string => labels.get(k) ?? cal.keyOf(k);
 
+  // What each asset contributes (METHODS 8): an asset stored as excess returns gives them as
+  // they are to an excess-return panel; every other asset gives R - R^f; a gross-return
+  // panel takes R, which for stored excess returns is R^e + R^f.
+  const excessPanel = spec.returns === 'excess';
+  for (const a of assets) {
+    a.values = excessPanel && a.excess ? a.excess : a.gross;
+    a.subtractRf = excessPanel && !a.excess;
+  }
+  if (!rfSeries) {
+    const names = (xs: TestAsset[]) => listNames(xs.map((a) => `"${a.name}"`));
+    if (excessPanel) {
+      const need = assets.filter((a) => !a.excess);
+      if (need.length) {
+        throw new DeflatorError(
+          'SPEC_INVALID',
+          `spec.riskfree: excess returns of ${names(need)} need a risk-free series, and the spec names none${need.some((a) => a.storedExcess) ? ` (${need.filter((a) => a.storedExcess).map((a) => `${a.name}: ${a.unusable ?? 'stored as excess returns'}`).join('; ')})` : ''}`,
+          'set "riskfree" to the name of a risk-free series (only assets stored as excess returns at the spec\'s frequency need none)',
+        );
+      }
+    } else {
+      const need = assets.filter((a) => a.storedExcess);
+      if (need.length) {
+        throw new DeflatorError(
+          'SPEC_INVALID',
+          `spec.riskfree: test asset(s) ${names(need)} hold excess returns; a gross-return spec uses R = R^e + R^f, and the spec names no risk-free series`,
+          'set "riskfree" to the name of a risk-free series, or fit on excess returns ("returns":"excess")',
+        );
+      }
+    }
+  }
+
   // Series the spec needs.
   const notes: SampleNote[] = [];
   const required: { role: string; series: PeriodSeries }[] = [];
   const noValues = (s: PeriodSeries, role: string): DeflatorError =>
     new DeflatorError('DATA_MISSING', `${role} series "${s.name}" has no value at ${frequency} frequency`, `check its dates, or choose a frequency the series supports`);
   let rf: PeriodSeries | undefined;
-  if (spec.riskfree) {
-    const s = findSeries(input.series, spec.riskfree, ['riskfree'], 'risk-free', 'spec.riskfree');
+  if (rfSeries) {
+    const s = rfSeries;
     rf = riskfreePeriods(s, cal, spec.dayCount ?? 'periods');
     if (rf.values.size === 0) throw noValues(rf, 'risk-free');
     if (s.rfForm === undefined) notes.push({ subject: s.name, reason: 'the series does not say how it is quoted; read as a per-period rate, R^f_t = 1 + rf_t' });
@@ -204,7 +247,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const usable = assets.filter((a) => !a.unusable);
   for (const a of assets) if (a.unusable) notes.push({ subject: a.name, reason: `dropped: ${a.unusable}` });
   const withReturns = new Set<number>();
-  for (const a of usable) for (const k of a.gross.keys()) withReturns.add(k);
+  for (const a of usable) for (const k of (a.values as Map<number, number>).keys()) withReturns.add(k);
   const order = [...withReturns].sort((x, y) => x - y);
   const windowText = `${spec.start ?? 'the first period'}..${spec.end ?? 'the last period'}`;
   const bounds: { lo?: number; hi?: number } = {};
@@ -220,7 +263,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   }
 
   const w = commonWindow(
-    usable.map((a) => ({ name: a.name, values: a.gross })),
+    usable.map((a) => ({ name: a.name, values: a.values as Map<number, number> })),
     [...required.map((r) => r.series.values), ...instruments.map((z) => z.shifted)],
     bounds,
     describe,
@@ -228,7 +271,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   // The periods the lag cost: in the window the same spec gives without instruments, not in this one.
   const lost: number[] = [];
   if (instruments.length) {
-    const w0 = commonWindow(usable.map((a) => ({ name: a.name, values: a.gross })), required.map((r) => r.series.values), bounds, describe);
+    const w0 = commonWindow(usable.map((a) => ({ name: a.name, values: a.values as Map<number, number> })), required.map((r) => r.series.values), bounds, describe);
     for (let k = w0.lo; k <= w0.hi; k++) if (k < w.lo || k > w.hi) lost.push(k);
   }
   for (const d of w.dropped) notes.push({ subject: d.asset, reason: `dropped: ${d.reason}` });
@@ -291,8 +334,8 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const assetNames: string[] = [];
   const returns: Float64Array[] = [];
   for (const a of kept) {
-    const g = series(a.gross);
-    if (spec.returns === 'excess') {
+    const g = series(a.values as Map<number, number>);
+    if (a.subtractRf) {
       if (!rfGross) throw new DeflatorError('SPEC_INVALID', 'spec.riskfree: excess returns need a risk-free series name', 'set "riskfree" to the name of a risk-free series');
       for (let t = 0; t < T; t++) g[t] -= rfGross[t];
     }

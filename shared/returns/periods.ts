@@ -124,6 +124,31 @@ function calendarKey(index: number, f: Exclude<Frequency, 'daily'>): string {
   }
 }
 
+/** Last calendar day (day number) of a calendar period: Sunday of an ISO week, the month's, quarter's or year's last day. */
+export function lastDayOf(index: number, f: Exclude<Frequency, 'daily'>): number {
+  switch (f) {
+    case 'weekly':
+      return index * 7 + 3;
+    case 'monthly': {
+      const year = Math.floor(index / 12);
+      const month = (index % 12) + 1;
+      return daysFromCivil(year, month, daysInMonth(year, month));
+    }
+    case 'quarterly': {
+      const year = Math.floor(index / 4);
+      const month = (index % 4) * 3 + 3;
+      return daysFromCivil(year, month, daysInMonth(year, month));
+    }
+    case 'annual':
+      return daysFromCivil(index, 12, 31);
+  }
+}
+
+/** The calendar date of a day number. */
+export function calendarDateOfDay(day: number): CalendarDate {
+  return parseDate(dateOfDay(day));
+}
+
 /** Last day (day number) of a calendar period, stepped back over a weekend: the last weekday of the period. */
 function lastWeekdayOf(index: number, f: Exclude<Frequency, 'daily'>): number {
   let last: number;

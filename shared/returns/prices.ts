@@ -26,7 +26,7 @@ export interface AssetPeriods {
    * ratios P_t a_t / P_{t-1}, computed like the row returns without the dividend, so an asset
    * that pays nothing has ratios equal to its gross returns bit for bit.
    */
-  priceGross: Map<number, number>;
+  priceGross?: Map<number, number>;
   /** Period index -> gross return over the period (only where the previous period has a close). */
   gross: Map<number, number>;
   /** Period index -> day number of the last close in the period. */
@@ -37,6 +37,12 @@ export interface AssetPeriods {
   cutShort?: { index: number; from: string | null; to: string };
   /** Why the asset yields no returns at this frequency, when it yields none. */
   unusable?: string;
+  /**
+   * Assets stored as excess returns (shared/returns/stored-returns.ts): period index -> the
+   * excess return R^e as stored, at the stored frequency only. `gross` then holds R^e + R^f
+   * where a risk-free series was given, and is empty otherwise.
+   */
+  excess?: Map<number, number>;
 }
 
 /** Dates with a price (rows whose price is NaN are no observation): the history's trading dates. */
@@ -122,7 +128,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     out.close.set(k, value);
     if (prevClosedK !== null && prevClosedK === k - 1) {
       out.gross.set(k, product);
-      out.priceGross.set(k, priceProduct);
+      out.priceGross?.set(k, priceProduct);
     }
     prevClosedK = k;
   };

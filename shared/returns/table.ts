@@ -2,11 +2,12 @@
  * A returns table for display and export: every asset on the union of periods, null
  * where an asset has no value, with the common sample described beside it.
  */
-import type { Frequency, NamedSeries, PriceHistory } from '../data.js';
+import { isReturnHistory, type Frequency, type NamedSeries, type StoredAsset } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { parseDate, periodCalendar, type PeriodCalendar } from './periods.js';
-import { historyPeriods, pricedDates, type AssetPeriods } from './prices.js';
+import type { AssetPeriods } from './prices.js';
 import { riskfreePeriods, type DayCount, type PeriodSeries } from './series.js';
+import { assetPeriods, observedDates } from './stored-returns.js';
 import { commonWindow } from './window.js';
 
 export type ReturnKind = 'gross' | 'net' | 'log' | 'excess' | 'index';
@@ -60,7 +61,7 @@ export function assetLastDates(a: AssetPeriods): Map<number, string> {
   return a.lastDate;
 }
 
-function checkNames(histories: readonly PriceHistory[]): void {
+function checkNames(histories: readonly StoredAsset[]): void {
   const seen = new Set<string>();
   for (const h of histories) {
     if (seen.has(h.asset)) throw new DeflatorError('INPUT_INVALID', `price history "${h.asset}" is given twice`, 'pass each asset once');
@@ -84,29 +85,43 @@ function transform(kind: ReturnKind, gross: number, rf: number | undefined): num
 }
 
 /**
- * Returns of every history at one frequency and kind (METHODS section 1): gross R_t,
- * net R_t - 1, log ln R_t, excess R_t - R^f_t (needs `riskfree`), or the total-return
- * index V (1 at the asset's first period close; V_t = V_{t-1} R_t).
+ * Returns of every history at one frequency and kind (METHODS sections 1 and 8): gross
+ * R_t, net R_t - 1, log ln R_t, excess R_t - R^f_t (needs `riskfree`, except for assets
+ * stored as excess returns at their own frequency, taken as stored), or the total-return
+ * index V (1 at the asset's first period close, or at the period before a return
+ * history's first return; V_t = V_{t-1} R_t). Assets stored as excess returns need
+ * `riskfree` for every other kind (R = R^e + R^f); without it they are listed as dropped.
  */
-export function returnsTable(histories: PriceHistory[], opts: ReturnsTableOptions): ReturnsTable {
+export function returnsTable(histories: StoredAsset[], opts: ReturnsTableOptions): ReturnsTable {
   const { frequency, kind } = opts;
-  if (histories.length === 0) throw new DeflatorError('INPUT_INVALID', 'no price histories were given', 'import price histories first, or name at least one asset');
-  if (kind === 'excess' && !opts.riskfree) {
-    throw new DeflatorError('DATA_MISSING', 'excess returns need a risk-free series, and none was given', 'name a risk-free series (kind "riskfree"), or ask for gross, net, log or index returns');
-  }
+  if (histories.length === 0) throw new DeflatorError('INPUT_INVALID', 'no asset histories were given', 'import prices or returns first, or name at least one asset');
   checkNames(histories);
-  const cal = tradingCalendar(frequency, histories.map(pricedDates));
-  const assets = histories.map((h) => historyPeriods(h, cal));
+  const cal = tradingCalendar(frequency, histories.map(observedDates));
+  const dayCount = opts.dayCount ?? 'periods';
+  const assets = histories.map((h) => assetPeriods(h, cal, { ...(opts.riskfree ? { riskfree: opts.riskfree } : {}), dayCount }));
+  if (kind === 'excess' && !opts.riskfree) {
+    const need = histories.filter((h, i) => !(isReturnHistory(h) && h.excess && assets[i].excess && assets[i].excess.size > 0)).map((h) => h.asset);
+    if (need.length) {
+      throw new DeflatorError(
+        'DATA_MISSING',
+        `excess returns need a risk-free series, and none was given (for ${need.slice(0, 10).join(', ')}${need.length > 10 ? `, ... ${need.length} in all` : ''})`,
+        'name a risk-free series (kind "riskfree"), or ask for gross, net, log or index returns',
+      );
+    }
+  }
   const labels = periodLabels(assets.map(assetLastDates));
   let rf: PeriodSeries | undefined;
-  if (kind === 'excess' && opts.riskfree) rf = riskfreePeriods(opts.riskfree, cal, opts.dayCount ?? 'periods');
+  if (kind === 'excess' && opts.riskfree) rf = riskfreePeriods(opts.riskfree, cal, dayCount);
 
   const values = new Map<string, Map<number, number>>();
   const flags: ReturnsTable['sample']['flags'] = [];
   const unusable: { asset: string; reason: string }[] = [];
   for (const a of assets) {
     const m = new Map<number, number>();
-    if (kind === 'index') {
+    const excessOnly = a.excess !== undefined && !opts.riskfree && kind !== 'excess';
+    if (excessOnly) {
+      // stored as excess returns and no risk-free series: no total return to show
+    } else if (kind === 'index') {
       // V relative to the asset's first period close, so the index starts at 1.
       let base: number | undefined;
       for (const k of [...a.close.keys()].sort((x, y) => x - y)) {
@@ -114,13 +129,17 @@ export function returnsTable(histories: PriceHistory[], opts: ReturnsTableOption
         base ??= v;
         m.set(k, v / base);
       }
+    } else if (kind === 'excess' && a.excess) {
+      // stored as excess returns: taken as they are
+      for (const [k, x] of a.excess) m.set(k, x);
     } else {
       for (const [k, g] of a.gross) {
         const x = transform(kind, g, rf?.values.get(k));
         if (x !== undefined) m.set(k, x);
       }
     }
-    if (a.unusable && (kind !== 'index' || a.close.size === 0)) unusable.push({ asset: a.asset, reason: a.unusable });
+    if (excessOnly) unusable.push({ asset: a.asset, reason: `holds excess returns: ${kind === 'index' ? 'the index' : `${kind} returns`} need R = R^e + R^f, so name a risk-free series` });
+    else if (a.unusable && (kind !== 'index' || a.close.size === 0) && !(kind === 'excess' && a.excess && a.excess.size > 0)) unusable.push({ asset: a.asset, reason: a.unusable });
     values.set(a.asset, m);
     if (a.cutShort) {
       flags.push({

@@ -3,7 +3,7 @@
  * and hands them to the returns engine (shared/returns buildPanel). The fit, back-test and
  * compare commands and the app all build their panel here.
  */
-import type { NamedSeries, PriceHistory, ReturnSeries, SeriesKind } from '../../shared/data.js';
+import type { NamedSeries, PriceHistory, ReturnSeries, SeriesKind, StoredAsset } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { buildPanel, type BuildPanelInput, type PanelSpec } from '../../shared/returns/index.js';
@@ -25,10 +25,10 @@ export function seriesNeeded(spec: PanelSpec): { name: string; role: string; key
 
 /** What buildPanel needs for this spec, read from the store (no more than that). */
 export function loadPanelInput(store: Store, spec: PanelSpec): BuildPanelInput {
-  let histories: PriceHistory[];
+  let histories: StoredAsset[];
   let portfolios: ReturnSeries[] = [];
   if (spec.assets === 'all') {
-    histories = store.loadHistories();
+    histories = store.loadAssets();
   } else {
     const assets = new Set(store.assets());
     const ports = new Set(store.portfolioNames());
@@ -40,7 +40,7 @@ export function loadPanelInput(store: Store, spec: PanelSpec): BuildPanelInput {
         'import them, or correct spec.assets; `deflator info --db DB` lists what is stored',
       );
     }
-    histories = store.loadHistories(spec.assets.filter((a) => assets.has(a)));
+    histories = store.loadAssets(spec.assets.filter((a) => assets.has(a)));
     const wantedPorts = spec.assets.filter((a) => ports.has(a));
     if (wantedPorts.length) portfolios = store.loadPortfolios(wantedPorts);
   }

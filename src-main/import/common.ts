@@ -5,8 +5,8 @@ import path from 'node:path';
 import type { Frequency } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { codePointAt, controlCharAt } from '../../shared/text.js';
-import type { ImportLogEntry, ImportWarning } from '../store/store.js';
-import type { CsvRow } from './csv.js';
+import type { ImportLogEntry, ImportWarning, Store } from '../store/store.js';
+import { DELIMITERS, type CsvRow, type DelimiterName } from './csv.js';
 import { THOUSANDS_SEPARATORS, type ThousandsName } from './fields.js';
 
 /**
@@ -88,16 +88,29 @@ export const controlInName = controlCharAt;
 export const codePoint = codePointAt;
 
 /** Header names as written (trimmed), with a lower-case index; duplicates and blanks are errors. */
-export function readHeader(row: CsvRow, file: string): { names: string[]; index: Map<string, number> } {
+export function readHeader(row: CsvRow, file: string, delimiter: DelimiterName = 'comma'): { names: string[]; index: Map<string, number> } {
   const names: string[] = [];
   const index = new Map<string, number>();
   if (row.count === 1) {
-    // one column holding semicolons or tabs: a file separated by another character
+    // one column holding another delimiter: a file separated by another character
     const only = row.text(0);
-    const at = only.search(/[;\t|]/);
+    const others = (Object.keys(DELIMITERS) as DelimiterName[]).filter((d) => d !== delimiter);
+    let at = -1;
+    let found: DelimiterName = 'comma';
+    for (const d of others) {
+      const k = only.indexOf(DELIMITERS[d]);
+      if (k >= 0 && (at < 0 || k < at)) {
+        at = k;
+        found = d;
+      }
+    }
     if (at >= 0) {
-      const what = only[at] === ';' ? 'semicolons' : only[at] === '|' ? 'vertical bars' : 'tabs';
-      throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}, column ${at + 1}: the header is one column separated by ${what}, not commas`, 'deflator reads comma-separated files (RFC 4180): save the file as CSV with commas (CSV UTF-8)');
+      const words: Record<DelimiterName, string> = { comma: 'commas', semicolon: 'semicolons', tab: 'tabs', bar: 'vertical bars' };
+      throw new DeflatorError(
+        'INPUT_INVALID',
+        `${file}, line ${row.line}, column ${at + 1}: the header is one column separated by ${words[found]}, not ${words[delimiter]}`,
+        `name the file's delimiter: --delimiter ${found} (or save the file as CSV with commas, CSV UTF-8)`,
+      );
     }
   }
   for (let i = 0; i < row.count; i++) {
@@ -121,3 +134,87 @@ export function readHeader(row: CsvRow, file: string): { names: string[]; index:
 
 /** The file name the log records (the base name; the messages use the path as given). */
 export const logName = (file: string) => path.basename(file);
+
+/**
+ * The parts of an import's recorded options that decide which rows its bytes give, with
+ * defaults filled in (so entries written before an option existed compare equal to an
+ * import that leaves it out). Thresholds, reject limits and --replace are not among them.
+ */
+export function readingKey(kind: ImportLogEntry['kind'], o: Record<string, unknown>): Record<string, unknown> {
+  const base: Record<string, unknown> = {
+    'data kind': kind,
+    'date format': o.dateFormat ?? 'YYYY-MM-DD',
+    delimiter: o.delimiter ?? 'comma',
+    'decimal mark': o.decimal ?? 'point',
+    'thousands separator': o.thousands ?? 'none',
+    'missing-value codes': Array.isArray(o.missing) && o.missing.length ? o.missing.join(',') : 'none',
+  };
+  const columns = (c: unknown) => (c && typeof c === 'object' && Object.keys(c).length ? JSON.stringify(c) : 'default');
+  if (kind === 'prices') return { ...base, layout: o.layout ?? 'long', columns: columns(o.columns) };
+  if (kind === 'series') return { ...base, 'series kind': o.kind, units: o.units ?? 'decimal', 'risk-free form': o.rfForm ?? 'none', 'date column': o.dateColumn ?? 'date' };
+  return { ...base, layout: o.layout ?? 'wide', columns: columns(o.columns), form: o.form ?? 'net', units: o.units ?? 'decimal', excess: o.excess === true ? 'yes' : 'no' };
+}
+
+/** The differences between two reading keys, in words ("units: percent now, decimal then"). */
+export function readingDifferences(then: Record<string, unknown>, now: Record<string, unknown>): string[] {
+  const keys = [...new Set([...Object.keys(now), ...Object.keys(then)])];
+  return keys.filter((k) => String(then[k] ?? '(not used)') !== String(now[k] ?? '(not used)')).map((k) => `${k}: ${String(now[k] ?? '(not used)')} now, ${String(then[k] ?? '(not used)')} then`);
+}
+
+export interface EarlierImports {
+  /** An earlier import of these bytes read the same way: this import is not needed. */
+  same?: ImportLogEntry;
+  /** Earlier imports of these bytes read another way (another kind, units, form, layout ...). */
+  differing: { entry: ImportLogEntry; differences: string[] }[];
+}
+
+/** Earlier imports of the same bytes, split into those read the same way and the others. */
+export function earlierImports(store: Store, sha256: string, kind: ImportLogEntry['kind'], recorded: Record<string, unknown>): EarlierImports {
+  const now = readingKey(kind, recorded);
+  const out: EarlierImports = { differing: [] };
+  for (const entry of store.findImports(sha256)) {
+    const differences = readingDifferences(readingKey(entry.kind, entry.options), now);
+    if (differences.length === 0) out.same ??= entry;
+    else out.differing.push({ entry, differences });
+  }
+  return out;
+}
+
+/**
+ * The refusal for bytes imported before with other options: says what differs and how to
+ * bring the file in read this way.
+ */
+export function readDifferentlyError(file: string, differing: EarlierImports['differing']): DeflatorError {
+  const { entry, differences } = differing[0];
+  const ids = differing.map((d) => d.entry.id);
+  return new DeflatorError(
+    'CONFLICT',
+    `${file}: these bytes were imported before (import ${entry.id}, ${entry.fileName}, ${entry.importedAt}) and read another way: ${differences.join('; ')}`,
+    `to bring the file in read this way, import it again with --replace (the earlier import of these bytes is taken out in the same transaction), or take it out first: ${ids.map((id) => `\`deflator import remove ${id} --db DB\``).join(', ')}`,
+  );
+}
+
+/** The report of an import skipped because the same bytes were imported before, read the same way. */
+export function alreadyImported(file: string, sha256: string, before: ImportLogEntry, started: number): ImportReport {
+  return {
+    status: 'already-imported', file, sha256, kind: before.kind, importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
+    rowsRejected: before.rowsRejected, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
+  };
+}
+
+/**
+ * Replace mode, right after the session began: earlier imports of the same bytes read
+ * another way are taken out in this import's transaction (so a file imported with the
+ * wrong kind, units or form can be brought in again). Returns what was taken out, for
+ * the report and a warning each.
+ */
+export function takeOutDiffering(store: Store, differing: EarlierImports['differing']): { replaced: NonNullable<ImportReport['replaced']>; warnings: ImportWarning[] } {
+  const replaced: NonNullable<ImportReport['replaced']> = [];
+  const warnings: ImportWarning[] = [];
+  for (const d of differing) {
+    const removed = store.removeImport(d.entry.id);
+    replaced.push({ importId: d.entry.id, fileName: d.entry.fileName, rows: removed.rows, removed: true });
+    warnings.push({ kind: 'replaced', subject: '', message: `took out import ${d.entry.id} (${d.entry.fileName}: the same bytes read another way: ${d.differences.join('; ')}), ${removed.rows} row${removed.rows === 1 ? '' : 's'}` });
+  }
+  return { replaced, warnings };
+}

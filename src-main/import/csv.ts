@@ -1,5 +1,6 @@
 /**
- * A streaming CSV reader per RFC 4180: fields separated by commas, records by CRLF or LF
+ * A streaming CSV reader per RFC 4180: fields separated by commas (or another delimiter
+ * the user names: semicolon, tab, vertical bar), records by CRLF or LF
  * (a lone CR is accepted too), fields optionally enclosed in double quotes, a quote inside
  * a quoted field written as two quotes, and commas and line breaks allowed inside quotes.
  * Reads the file in fixed-size chunks (memory does not grow with the file), checks that
@@ -18,9 +19,16 @@ const QUOTE = 0x22;
 const COMMA = 0x2c;
 const CR = 0x0d;
 const LF = 0x0a;
-/** 1 for the bytes that end an unquoted field (or are not allowed in one). */
-const SPECIAL = new Uint8Array(256);
-SPECIAL[QUOTE] = SPECIAL[COMMA] = SPECIAL[CR] = SPECIAL[LF] = 1;
+/** 1 for the bytes that end an unquoted field (or are not allowed in one), for a delimiter. */
+function specialBytes(delimiter: number): Uint8Array {
+  const special = new Uint8Array(256);
+  special[QUOTE] = special[delimiter] = special[CR] = special[LF] = 1;
+  return special;
+}
+
+/** Field delimiters a file may use (RFC 4180 says comma; the others are common exports). */
+export const DELIMITERS = { comma: ',', semicolon: ';', tab: '\t', bar: '|' } as const;
+export type DelimiterName = keyof typeof DELIMITERS;
 
 /** One record. Valid only during the callback: the bytes are reused afterwards. */
 export class CsvRow {
@@ -79,6 +87,10 @@ export interface CsvReadOptions {
   chunkSize?: number;
   /** Fed every byte of the file as it is read (e.g. a SHA-256 of the file). */
   hash?: { update(data: Uint8Array): unknown };
+  /** The field delimiter's byte (default a comma). */
+  delimiter?: number;
+  /** Stop after this many records (a preview); the rest of the file is not read. */
+  maxRecords?: number;
 }
 
 export interface CsvReadSummary {
@@ -131,6 +143,10 @@ function completeUtf8End(buf: Buffer, from: number, to: number): number {
  */
 export async function readCsv(file: string, onRow: (row: CsvRow) => void, options: CsvReadOptions = {}): Promise<CsvReadSummary> {
   const chunk = options.chunkSize ?? 1 << 20;
+  const DELIM = options.delimiter ?? COMMA;
+  if (DELIM === QUOTE || DELIM === CR || DELIM === LF || DELIM > 0x7f) throw new DeflatorError('INPUT_INVALID', 'the field delimiter must be an ASCII character other than a double quote or a line break', 'use a comma, semicolon, tab or vertical bar');
+  const SPECIAL = specialBytes(DELIM);
+  const maxRecords = options.maxRecords ?? Number.POSITIVE_INFINITY;
   const fh = await open(file, 'r').catch((e: NodeJS.ErrnoException) => {
     throw new DeflatorError('NOT_FOUND', `cannot read ${file}: ${e.code === 'ENOENT' ? 'no such file' : e.message}`, 'check the file name and path');
   });
@@ -200,7 +216,7 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
           i = k + 1;
           if (i < len) {
             const c = buf[i];
-            if (c !== COMMA && c !== LF && c !== CR) fail(i, ln, 'unexpected text after a closing double quote', 'a quoted field must be followed by a comma or the end of the line (RFC 4180)');
+            if (c !== DELIM && c !== LF && c !== CR) fail(i, ln, 'unexpected text after a closing double quote', `a quoted field must be followed by ${DELIM === COMMA ? 'a comma' : 'the delimiter'} or the end of the line (RFC 4180)`);
           }
         } else {
           let j = i;
@@ -220,7 +236,7 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
           return i;
         }
         const c = buf[i];
-        if (c === COMMA) {
+        if (c === DELIM) {
           i++;
           continue;
         }
@@ -294,6 +310,7 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
         }
         line = row.endLine + 1;
         pos = next;
+        if (records >= maxRecords) return { bytes: bytesRead, records, lines: line - 1 };
       }
       len = realLen;
       options.onProgress?.(bytesRead, size);

@@ -1,7 +1,8 @@
 /**
- * Field parsers working on byte ranges: decimal numbers (point as the decimal mark,
- * thousands separators only when asked for) and calendar dates (ISO 8601 YYYY-MM-DD by
- * default; other orders only when the user names the format).
+ * Field parsers working on byte ranges: decimal numbers (a point as the decimal mark, or
+ * a comma when asked for; thousands separators only when asked for) and dates (ISO 8601
+ * YYYY-MM-DD by default; other orders, and period keys such as YYYYMM or YYYYQn, only
+ * when the user names the format).
  */
 import { DeflatorError } from '../../shared/errors.js';
 import { dayNumber, daysInMonth } from '../data/calendar.js';
@@ -11,6 +12,7 @@ const TAB = 0x09;
 const ZERO = 0x30;
 const NINE = 0x39;
 const DOT = 0x2e;
+const COMMA = 0x2c;
 const PLUS = 0x2b;
 const MINUS = 0x2d;
 
@@ -18,17 +20,22 @@ const MINUS = 0x2d;
 const POW10 = Array.from({ length: 23 }, (_, k) => Number(`1e${k}`));
 const TWO53 = 2 ** 53;
 
-/** Separators the thousands option accepts (the decimal mark is always '.'). */
-export const THOUSANDS_SEPARATORS = { comma: ',', space: ' ', apostrophe: "'", underscore: '_' } as const;
+/** Separators the thousands option accepts ('point' only with a comma as the decimal mark). */
+export const THOUSANDS_SEPARATORS = { comma: ',', space: ' ', apostrophe: "'", underscore: '_', point: '.' } as const;
 export type ThousandsName = keyof typeof THOUSANDS_SEPARATORS;
+
+/** Decimal marks: a point (default) or a comma (1,5: files written with a comma as the decimal mark, separated by ; or tabs). */
+export const DECIMAL_MARKS = { point: '.', comma: ',' } as const;
+export type DecimalName = keyof typeof DECIMAL_MARKS;
 
 /**
  * Parses a decimal number in buf[s, e), spaces around it allowed; NaN if the text is not
- * one. `sep` is the thousands separator's byte (0: none allowed). The result is the
- * correctly rounded double: small cases by Clinger's exact fast path (an integer below
- * 2^53 times or divided by an exact power of ten), the rest by Number().
+ * one. `sep` is the thousands separator's byte (0: none allowed), `dec` the decimal
+ * mark's (a point by default). The result is the correctly rounded double: small cases
+ * by Clinger's exact fast path (an integer below 2^53 times or divided by an exact power
+ * of ten), the rest by Number().
  */
-export function parseNumber(buf: Uint8Array, s: number, e: number, sep = 0): number {
+export function parseNumber(buf: Uint8Array, s: number, e: number, sep = 0, dec = DOT): number {
   while (s < e && (buf[s] === SPACE || buf[s] === TAB)) s++;
   while (e > s && (buf[e - 1] === SPACE || buf[e - 1] === TAB)) e--;
   if (s === e) return NaN;
@@ -58,7 +65,7 @@ export function parseNumber(buf: Uint8Array, s: number, e: number, sep = 0): num
     } else break;
   }
   if (sawSep && groupLen !== 3) return NaN;
-  if (i < e && buf[i] === DOT) {
+  if (i < e && buf[i] === dec) {
     i++;
     for (; i < e; i++) {
       const c = buf[i];
@@ -94,7 +101,8 @@ export function parseNumber(buf: Uint8Array, s: number, e: number, sep = 0): num
   else {
     // the bytes are ASCII here (checked above): decode them at once, not char by char
     // (a 64 MB field built by += took 11 s and 2.4 GB)
-    const bytes = sep === 0 ? buf.subarray(s, e) : buf.subarray(s, e).filter((c) => c !== sep);
+    let bytes = sep === 0 ? buf.subarray(s, e) : buf.subarray(s, e).filter((c) => c !== sep);
+    if (dec !== DOT) bytes = bytes.map((c) => (c === dec ? DOT : c === DOT ? COMMA : c));
     const text = Buffer.from(bytes.buffer, bytes.byteOffset, bytes.length).toString('latin1');
     v = Math.abs(Number(text));
     if (Number.isNaN(v)) return NaN;
@@ -104,30 +112,46 @@ export function parseNumber(buf: Uint8Array, s: number, e: number, sep = 0): num
 }
 
 /** What is wrong with a field parseNumber refused: a decimal beyond a double's range, or not a number at all. */
-export function numberProblem(text: string): string {
-  const t = text.trim();
+export function numberProblem(text: string, dec: DecimalName = 'point'): string {
+  const t = dec === 'comma' ? text.trim().replace(/\./g, '#').replace(',', '.') : text.trim();
   const decimal = /^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$/.test(t);
   return decimal && !Number.isFinite(Number(t)) ? 'is beyond the range of a double (magnitude above 1.8e308)' : 'is not a number';
 }
 
-/** A date layout: the order of year, month and day and the separator between them. */
+/** A date layout: the order of year, month and day and the separator between them, or a period key. */
 export interface DateFormat {
   name: string;
   order: ('Y' | 'M' | 'D')[];
   /** Separator byte, 0 for none (YYYYMMDD). */
   sep: number;
+  /** Period keys (METHODS 8): the date read is the period's last calendar day. */
+  period?: 'month' | 'quarter' | 'year';
 }
 
 export const ISO_DATE: DateFormat = { name: 'YYYY-MM-DD', order: ['Y', 'M', 'D'], sep: MINUS };
 
+/** Calendar-date layouts the --date-format option accepts. */
+export const DAY_FORMATS = ['YYYY-MM-DD', 'YYYY/MM/DD', 'YYYY.MM.DD', 'YYYYMMDD', 'DD/MM/YYYY', 'DD.MM.YYYY', 'DD-MM-YYYY', 'MM/DD/YYYY', 'MM.DD.YYYY', 'MM-DD-YYYY'] as const;
+/** Period keys (METHODS 8): a month, a quarter or a year, read as its last calendar day. */
+export const PERIOD_FORMATS = ['YYYYMM', 'YYYY-MM', 'YYYYQn', 'YYYY-Qn', 'YYYY'] as const;
 /** Layouts the --date-format option accepts. */
-export const DATE_FORMATS = ['YYYY-MM-DD', 'YYYY/MM/DD', 'YYYY.MM.DD', 'YYYYMMDD', 'DD/MM/YYYY', 'DD.MM.YYYY', 'DD-MM-YYYY', 'MM/DD/YYYY', 'MM.DD.YYYY', 'MM-DD-YYYY'] as const;
+export const DATE_FORMATS = [...DAY_FORMATS, ...PERIOD_FORMATS] as const;
+
+const PERIOD_LAYOUTS: Record<(typeof PERIOD_FORMATS)[number], DateFormat> = {
+  YYYYMM: { name: 'YYYYMM', order: ['Y', 'M'], sep: 0, period: 'month' },
+  'YYYY-MM': { name: 'YYYY-MM', order: ['Y', 'M'], sep: MINUS, period: 'month' },
+  YYYYQn: { name: 'YYYYQn', order: ['Y'], sep: 0, period: 'quarter' },
+  'YYYY-Qn': { name: 'YYYY-Qn', order: ['Y'], sep: MINUS, period: 'quarter' },
+  YYYY: { name: 'YYYY', order: ['Y'], sep: 0, period: 'year' },
+};
 
 export function dateFormat(name: string): DateFormat {
   const upper = name.toUpperCase();
-  if (!(DATE_FORMATS as readonly string[]).includes(upper)) {
-    throw new DeflatorError('INPUT_INVALID', `unknown date format "${name}"`, `use one of ${DATE_FORMATS.join(', ')}`);
+  const known = DATE_FORMATS.find((f) => f.toUpperCase() === upper);
+  if (known === undefined) {
+    throw new DeflatorError('INPUT_INVALID', `unknown date format "${name}"`, `use one of ${DATE_FORMATS.join(', ')} (YYYYQn reads 2024Q1)`);
   }
+  if (known in PERIOD_LAYOUTS) return PERIOD_LAYOUTS[known as keyof typeof PERIOD_LAYOUTS];
   const sepChar = upper.replace(/[YMD]/g, '')[0];
   const order = upper.replace(/[^YMD]/g, '').replace(/(.)\1+/g, '$1').split('') as DateFormat['order'];
   return { name: upper, order, sep: sepChar ? sepChar.charCodeAt(0) : 0 };
@@ -199,6 +223,30 @@ export class DateParser {
       const c = buf[k] - ZERO;
       return c >= 0 && c <= 9 ? c : -1000;
     };
+    if (fmt.period) {
+      // YYYYMM, YYYY-MM, YYYYQn, YYYY-Qn, YYYY: the period's last calendar day
+      const o = fmt.sep === 0 ? 0 : 1;
+      const len = fmt.period === 'year' ? 4 : 6 + o;
+      if (e - s !== len) return bad;
+      y = digit(s) * 1000 + digit(s + 1) * 100 + digit(s + 2) * 10 + digit(s + 3);
+      if (y < 0 || (o === 1 && buf[s + 4] !== fmt.sep)) return bad;
+      if (fmt.period === 'month') {
+        m = digit(s + 4 + o) * 10 + digit(s + 5 + o);
+        if (m < 0) return bad;
+      } else if (fmt.period === 'quarter') {
+        if ((buf[s + 4 + o] | 0x20) !== 0x71) return bad; // Q or q
+        const q = digit(s + 5 + o);
+        if (q < 0) return bad;
+        if (q < 1 || q > 4) return `quarter ${q} does not exist`;
+        m = q * 3;
+      } else m = 12;
+      if (y < 1) return 'there is no year 0000; years start at 0001';
+      if (m < 1 || m > 12) return `month ${m} does not exist`;
+      d = daysInMonth(y, m);
+      const day = dayNumber(y, m, d);
+      if (!this.iso.has(day)) this.iso.set(day, `${String(y).padStart(4, '0')}-${pad2(m)}-${pad2(d)}`);
+      return day;
+    }
     if (this.isIso || fmt.sep === 0) {
       const len = fmt.sep === 0 ? 8 : 10;
 
@@ -248,10 +296,18 @@ export class DateParser {
   }
 }
 
-/** A hint for a date that failed to parse in the default ISO layout. */
+/** Layouts (other than `fmt`) that read `text` as a valid date. */
+export function layoutsReading(text: string, fmt: DateFormat): string[] {
+  const b = Buffer.from(text.trim(), 'utf8');
+  return DATE_FORMATS.filter((name) => name !== fmt.name && typeof new DateParser(dateFormat(name)).parse(b, 0, b.length) === 'number');
+}
+
+/** A hint for a date that failed to parse in the layout given (or the default ISO one). */
 export function dateHint(text: string, fmt: DateFormat): string {
   if (fmt.name === 'YYYY-MM-DD' && /^\s*\d{1,2}[/.-]\d{1,2}[/.-]\d{4}\s*$/.test(text)) {
     return 'this looks like a day-first or month-first date; deflator never guesses which: name the layout with --date-format (e.g. DD/MM/YYYY or MM/DD/YYYY)';
   }
+  const others = layoutsReading(text, fmt);
+  if (others.length) return `the date reads as ${others.join(' or ')}: name that layout with --date-format ${others[0]}${fmt.name === 'YYYY-MM-DD' ? '' : ` (this import expects ${fmt.name})`}`;
   return `write dates as ${fmt.name}${fmt.name === 'YYYY-MM-DD' ? ' (ISO 8601), or name another layout with --date-format' : ''}`;
 }

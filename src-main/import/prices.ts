@@ -9,22 +9,20 @@ import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { ImportSession } from '../store/session.js';
 import type { ImportWarning, Store } from '../store/store.js';
 import { DEFAULT_THRESHOLDS, HistoryChecker, WarningSink, detectFrequency, type CheckThresholds } from './checks.js';
-import { codePoint, controlInName, fileSize, logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
-import { readCsv, type CsvRow } from './csv.js';
-import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
+import { alreadyImported, codePoint, controlInName, earlierImports, fileSize, logName, readDifferentlyError, readHeader, sha256File, takeOutDiffering, type ImportReport, type ProgressCallback } from './common.js';
+import type { CsvRow } from './csv.js';
+import { dateHint, type DateParser } from './fields.js';
+import { Reading, type ReadingOptions } from './reading.js';
 
 export const PRICE_COLUMNS = ['date', 'asset', 'price', 'dividend', 'adjust', 'shares'] as const;
 export type PriceColumn = (typeof PRICE_COLUMNS)[number];
 
-export interface PriceImportOptions {
+export interface PriceImportOptions extends ReadingOptions {
   layout?: 'long' | 'wide';
   /** Wide layout only: a second wide file of dividends per share (same date column, asset columns). */
   dividends?: string;
   /** Column names when they differ from date, asset, price, dividend, adjust, shares (matched case-insensitively). */
   columns?: Partial<Record<PriceColumn, string>>;
-  /** A named date layout (fields.ts DATE_FORMATS); ISO YYYY-MM-DD when absent. */
-  dateFormat?: string;
-  thousands?: ThousandsName;
   thresholds?: Partial<CheckThresholds>;
   /** Rows with a bad value to skip (each listed as a warning) before the import fails; default 0. */
   maxRejects?: number;
@@ -41,8 +39,8 @@ interface Ctx {
   /** SHA-256 of the file, fed as it is read. */
   hash: Hash;
   session: ImportSession;
+  reading: Reading;
   dates: DateParser;
-  sep: number;
   thresholds: CheckThresholds;
   sink: WarningSink;
   checkers: Map<number, HistoryChecker>;
@@ -161,10 +159,11 @@ function readDate(ctx: Ctx, row: CsvRow, i: number, names: string[]): number {
   return r;
 }
 
-function readNumber(ctx: Ctx, row: CsvRow, i: number, names: string[], what: string): number {
-  const v = parseNumber(row.buf, row.start[i], row.end[i], ctx.sep);
-  if (Number.isNaN(v)) {
-    fieldError(ctx, row, i, names, `"${textOf(row, i)}" ${numberProblem(row.text(i))} (expected the ${what})`, ctx.sep ? 'write numbers with a point as the decimal mark' : 'write numbers with a point as the decimal mark and no thousands separators (or pass the thousands-separator option)');
+/** The number in a cell; undefined where the cell is empty or a missing-value code. */
+function readNumber(ctx: Ctx, row: CsvRow, i: number, names: string[], what: string): number | undefined {
+  const v = ctx.reading.value(row, i);
+  if (v !== undefined && Number.isNaN(v)) {
+    fieldError(ctx, row, i, names, `"${textOf(row, i)}" ${ctx.reading.numberProblem(row.text(i))} (expected the ${what})`, ctx.reading.numberHint(row.text(i)));
   }
   return v;
 }
@@ -222,22 +221,36 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
     if (slot < 0 && name === '') fieldError(ctx, row, a, names, 'the asset name is empty', 'name the asset on every row');
     if (slot < 0 && controlInName(name) >= 0) fieldError(ctx, row, a, names, `the asset name holds the control character ${codePoint(name, controlInName(name))}`, 'names may not hold control characters (a terminal would act on them): remove it');
     const price = readNumber(ctx, row, col.price, names, 'price');
+    if (price === undefined) {
+      // a missing-value code where the price stands: no observation on this row
+      if (!row.blank(col.price)) return;
+      fieldError(ctx, row, col.price, names, `"" is not a number (expected the price)`, 'every row of a long file needs a price; leave the row out when there is no price');
+    }
     if (!(price > 0)) fieldError(ctx, row, col.price, names, `price ${price} is not positive`, 'prices must be greater than zero; leave the row out when there is no price');
     let dividend = 0;
-    if (col.dividend >= 0 && !row.blank(col.dividend)) {
-      dividend = readNumber(ctx, row, col.dividend, names, 'dividend');
-      if (dividend < 0) fieldError(ctx, row, col.dividend, names, `dividend ${dividend} is negative`, 'dividends are cash paid per share: zero or more');
-      if (Object.is(dividend, -0)) dividend = 0;
+    if (col.dividend >= 0) {
+      const d = readNumber(ctx, row, col.dividend, names, 'dividend');
+      if (d !== undefined) {
+        dividend = d;
+        if (dividend < 0) fieldError(ctx, row, col.dividend, names, `dividend ${dividend} is negative`, 'dividends are cash paid per share: zero or more');
+        if (Object.is(dividend, -0)) dividend = 0;
+      }
     }
     let adjust = 1;
-    if (col.adjust >= 0 && !row.blank(col.adjust)) {
-      adjust = readNumber(ctx, row, col.adjust, names, 'adjustment factor');
-      if (!(adjust > 0)) fieldError(ctx, row, col.adjust, names, `adjustment factor ${adjust} is not positive`, 'a 2-for-1 split has factor 2; leave the cell empty (or 1) where there is none');
+    if (col.adjust >= 0) {
+      const a = readNumber(ctx, row, col.adjust, names, 'adjustment factor');
+      if (a !== undefined) {
+        adjust = a;
+        if (!(adjust > 0)) fieldError(ctx, row, col.adjust, names, `adjustment factor ${adjust} is not positive`, 'a 2-for-1 split has factor 2; leave the cell empty (or 1) where there is none');
+      }
     }
     let shares: number | null = null;
-    if (col.shares >= 0 && !row.blank(col.shares)) {
-      shares = readNumber(ctx, row, col.shares, names, 'shares outstanding');
-      if (shares < 0) fieldError(ctx, row, col.shares, names, `shares outstanding ${shares} is negative`, 'shares outstanding must be zero or more');
+    if (col.shares >= 0) {
+      const sh = readNumber(ctx, row, col.shares, names, 'shares outstanding');
+      if (sh !== undefined) {
+        shares = sh;
+        if (shares < 0) fieldError(ctx, row, col.shares, names, `shares outstanding ${shares} is negative`, 'shares outstanding must be zero or more');
+      }
     }
     let id: number;
     if (slot >= 0) id = seen.ids[slot];
@@ -249,12 +262,12 @@ async function importLong(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
     const date = ctx.dates.text(day);
     session.observation(id, date, day, price, dividend, adjust, shares, ctx.file, row.line);
   };
-  await readCsv(
+  await ctx.reading.read(
     ctx.file,
     (row) => {
       if (header) {
         header = false;
-        const h = readHeader(row, ctx.file);
+        const h = readHeader(row, ctx.file, ctx.reading.delimiterName);
         names = h.names;
         const used = new Set<number>();
         for (const c of PRICE_COLUMNS) {
@@ -295,7 +308,7 @@ interface WideColumns {
 }
 
 function wideHeader(ctx: Ctx, row: CsvRow, dateName: string, what: string): { names: string[]; dateCol: number; assetCols: number[] } {
-  const h = readHeader(row, ctx.file);
+  const h = readHeader(row, ctx.file, ctx.reading.delimiterName);
   const dateCol = h.index.get(dateName.toLowerCase());
   if (dateCol === undefined) {
     throw new DeflatorError('INPUT_INVALID', `${ctx.file}, line ${row.line}: no "${dateName}" column in the header (${h.names.join(', ')})`, `a wide ${what} file needs a date column and one column per asset; map the date column's name with the date-column option`);
@@ -316,7 +329,7 @@ async function importWide(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
   const { session } = ctx;
   let cols: WideColumns | null = null;
   let prevDay = -Infinity;
-  await readCsv(
+  await ctx.reading.read(
     ctx.file,
     (row) => {
       if (!cols) {
@@ -335,11 +348,11 @@ async function importWide(ctx: Ctx, options: PriceImportOptions, onProgress: Pro
         // validate the whole line before queueing any of it, so a rejected line stores nothing
         const prices: number[] = [];
         for (const a of c.assets) {
-          if (row.blank(a.col)) {
+          const price = readNumber(ctx, row, a.col, c.names, `price of ${a.name}`);
+          if (price === undefined) {
             prices.push(NaN);
             continue;
           }
-          const price = readNumber(ctx, row, a.col, c.names, `price of ${a.name}`);
           if (!(price > 0)) fieldError(ctx, row, a.col, c.names, `price ${price} is not positive`, 'prices must be greater than zero; leave the cell empty when there is no price');
           prices.push(price);
         }
@@ -364,7 +377,7 @@ async function importWideDividends(ctx: Ctx, file: string, divHash: Hash, option
   let cols: WideColumns | null = null;
   let prevDay = -Infinity;
   let stored = 0;
-  await readCsv(
+  await ctx.reading.read(
     file,
     (row) => {
       if (!cols) {
@@ -388,8 +401,8 @@ async function importWideDividends(ctx: Ctx, file: string, divHash: Hash, option
         prevDay = day;
         const date = dctx.dates.text(day);
         for (const a of c.assets) {
-          if (row.blank(a.col)) continue;
           const d = readNumber(dctx, row, a.col, c.names, `dividend of ${a.name}`);
+          if (d === undefined) continue;
           if (d < 0) fieldError(dctx, row, a.col, c.names, `dividend ${d} is negative`, 'dividends are cash paid per share: zero or more');
           if (d === 0) continue;
           if (!session.setDividend(a.id, date, d)) {
@@ -416,8 +429,8 @@ export async function importPrices(store: Store, file: string, options: PriceImp
   const layout = options.layout ?? 'long';
   if (layout !== 'long' && layout !== 'wide') throw new DeflatorError('INPUT_INVALID', `unknown layout "${String(layout)}"`, 'use long or wide');
   if (options.dividends && layout !== 'wide') throw new DeflatorError('INPUT_INVALID', 'a separate dividends file goes with the wide layout only', 'use --layout wide, or put a dividend column in the long file');
-  const dates = new DateParser(options.dateFormat ? dateFormat(options.dateFormat) : ISO_DATE);
-  const sep = thousandsByte(options.thousands);
+  const reading = new Reading(options);
+  const dates = reading.dates;
   const thresholds: CheckThresholds = { ...DEFAULT_THRESHOLDS, ...options.thresholds };
   const maxRejects = options.maxRejects ?? 0;
   if (!(maxRejects >= 0)) throw new DeflatorError('INPUT_INVALID', `maximum rejected rows must be zero or more, not ${maxRejects}`, 'pass a count of rows');
@@ -430,19 +443,23 @@ export async function importPrices(store: Store, file: string, options: PriceImp
   const session = new ImportSession(store);
   session.replace = options.replace === true;
   const sink = new WarningSink();
-  const ctx: Ctx = { file, hash: createHash('sha256'), session, dates, sep, thresholds, sink, checkers: new Map(), maxRejects, rejected: 0, read: 0, first: Infinity, last: -Infinity };
+  const ctx: Ctx = { file, hash: createHash('sha256'), session, reading, dates, thresholds, sink, checkers: new Map(), maxRejects, rejected: 0, read: 0, first: Infinity, last: -Infinity };
   const divHash = createHash('sha256');
-  /** The earlier import of these same bytes, if any (then this import is not needed). */
-  const earlier = (sha256: string, divSha: string | undefined): ImportReport | undefined => {
-    const before = store.findImport(sha256, 'prices');
-    if (!before) return undefined;
+  /**
+   * The earlier import of these same bytes read the same way, if any (then this import is
+   * not needed); bytes read another way are refused (or, with replace, taken out first).
+   */
+  const earlier = (sha256: string, divSha: string | undefined, refuseDiffering: boolean): ImportReport | undefined => {
+    const e = earlierImports(store, sha256, 'prices', recorded);
+    const before = e.same;
+    if (!before) {
+      if (refuseDiffering && e.differing.length) throw readDifferentlyError(file, e.differing);
+      return undefined;
+    }
     if (divSha && !store.findImport(divSha, 'dividends')) {
       throw new DeflatorError('CONFLICT', `${file} was already imported (${before.importedAt}) with another dividends file than ${options.dividends}`, `take the earlier import out with \`deflator import remove ${before.id} --db DB\`, then import both files again`);
     }
-    return {
-      status: 'already-imported', file, sha256, kind: 'prices', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
-      rowsRejected: before.rowsRejected, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
-    };
+    return alreadyImported(file, sha256, before, started);
   };
   // the checks see each asset's rows in file order as the session writes them
   let hookId = -1;
@@ -457,16 +474,27 @@ export async function importPrices(store: Store, file: string, options: PriceImp
   const recorded = {
     layout,
     ...(options.columns ? { columns: options.columns } : {}),
-    dateFormat: dates.format.name,
-    ...(options.thousands ? { thousands: options.thousands } : {}),
+    ...reading.record(),
     thresholds,
     maxRejects,
     ...(options.dividends ? { dividends: logName(options.dividends) } : {}),
     ...(options.replace ? { replace: true } : {}),
   };
+  // replace mode: the same bytes imported before are found first (read the same way:
+  // nothing to do; read another way: taken out in this import's transaction)
+  let differing: ReturnType<typeof earlierImports>['differing'] = [];
+  if (options.replace) {
+    const e = earlierImports(store, await sha256File(file), 'prices', recorded);
+    if (e.same) {
+      const again = earlier(e.same.sha256, options.dividends ? await sha256File(options.dividends) : undefined, false);
+      if (again) return again;
+    }
+    differing = e.differing;
+  }
   try {
     // the file's SHA-256 is computed as it is read; the log entry gets it at the end
     const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'prices', options: recorded });
+    const takenOut = takeOutDiffering(store, differing);
     if (layout === 'long') await importLong(ctx, options, onProgress);
     else await importWide(ctx, options, onProgress);
     if (ctx.read === 0) throw new DeflatorError('INPUT_INVALID', `${file} has a header but no data rows`, 'add data rows below the header');
@@ -484,7 +512,7 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     }
     const sha256 = ctx.hash.digest('hex');
     const divSha = options.dividends ? divHash.digest('hex') : undefined;
-    const again = earlier(sha256, divSha);
+    const again = earlier(sha256, divSha, true);
     if (again) {
       session.rollback();
       return again;
@@ -503,7 +531,7 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     const frequency = detectFrequency(ctx.checkers.values());
     for (const c of ctx.checkers.values()) c.finish(frequency);
     const settled = session.settleReplaced();
-    const warnings: ImportWarning[] = [...settled.warnings, ...sink.final()];
+    const warnings: ImportWarning[] = [...takenOut.warnings, ...settled.warnings, ...sink.final()];
     session.finishLog(logId, { read: ctx.read, stored: priceRows, rejected: priceRejected }, warnings);
     if (divLog) session.finishLog(divLog, { read: divRead, stored: divStored, rejected: ctx.rejected - priceRejected }, []);
     session.commit();
@@ -511,14 +539,14 @@ export async function importPrices(store: Store, file: string, options: PriceImp
     return {
       status: 'imported', file, sha256, kind: 'prices', importId: logId, rowsRead: ctx.read, rowsStored: priceRows, rowsRejected: ctx.rejected, subjects, frequency,
       first: Number.isFinite(ctx.first) ? dates.text(ctx.first) : null, last: Number.isFinite(ctx.last) ? dates.text(ctx.last) : null, warnings,
-      ...(options.replace ? { replaced: settled.replaced } : {}), seconds: (performance.now() - started) / 1000,
+      ...(options.replace ? { replaced: [...takenOut.replaced, ...settled.replaced] } : {}), seconds: (performance.now() - started) / 1000,
     };
   } catch (e) {
     session.rollback();
     // bytes imported before usually clash with their own rows: say "already imported" instead
     if (isDeflatorError(e)) {
       const hashes = await Promise.all([sha256File(file), options.dividends ? sha256File(options.dividends) : undefined]).catch(() => null);
-      const again = hashes && earlier(hashes[0], hashes[1]);
+      const again = hashes && earlier(hashes[0], hashes[1], !options.replace);
       if (again) return again;
     }
     throw e;

@@ -11,22 +11,20 @@ import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { ImportSession } from '../store/session.js';
 import type { Store } from '../store/store.js';
 import { HistoryChecker, WarningSink, detectFrequency } from './checks.js';
-import { fileSize, logName, readHeader, sha256File, thousandsByte, type ImportReport, type ProgressCallback } from './common.js';
-import { readCsv } from './csv.js';
-import { DateParser, ISO_DATE, dateFormat, dateHint, numberProblem, parseNumber, type ThousandsName } from './fields.js';
+import { alreadyImported, earlierImports, fileSize, logName, readDifferentlyError, readHeader, sha256File, takeOutDiffering, type ImportReport, type ProgressCallback } from './common.js';
+import { dateHint } from './fields.js';
+import { Reading, type ReadingOptions } from './reading.js';
 
 export const UNITS = ['decimal', 'percent'] as const;
 export type Units = (typeof UNITS)[number];
 
-export interface SeriesImportOptions {
+export interface SeriesImportOptions extends ReadingOptions {
   kind: SeriesKind;
   units?: Units;
   /** Risk-free series only; default 'rate' (a per-period rate). */
   rfForm?: RiskfreeForm;
   /** Name of the date column (default "date", matched case-insensitively). */
   dateColumn?: string;
-  dateFormat?: string;
-  thousands?: ThousandsName;
   /** Values whose (series, date) is stored from an earlier import replace them, in the same transaction (a corrected file). */
   replace?: boolean;
   onProgress?: ProgressCallback;
@@ -49,18 +47,31 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   if (options.rfForm !== undefined && kind !== 'riskfree') throw new DeflatorError('INPUT_INVALID', `a risk-free form was given for a ${kind} series`, 'the risk-free form applies to --kind riskfree only');
   const rfForm: RiskfreeForm | null = kind === 'riskfree' ? (options.rfForm ?? 'rate') : null;
   if (rfForm !== null && !(RF_FORMS as readonly string[]).includes(rfForm)) throw new DeflatorError('INPUT_INVALID', `unknown risk-free form "${rfForm}"`, `use one of ${RF_FORMS.join(', ')}`);
-  const dates = new DateParser(options.dateFormat ? dateFormat(options.dateFormat) : ISO_DATE);
-  const sep = thousandsByte(options.thousands);
+  const reading = new Reading(options);
+  const dates = reading.dates;
   const dateName = (options.dateColumn ?? 'date').toLowerCase();
-
-  const earlier = (sha256: string): ImportReport | undefined => {
-    const before = store.findImport(sha256, 'series');
-    if (!before) return undefined;
-    return {
-      status: 'already-imported', file, sha256, kind: 'series', importId: before.id, importedAt: before.importedAt, rowsRead: before.rowsRead, rowsStored: before.rowsStored,
-      rowsRejected: 0, subjects: [], frequency: null, first: null, last: null, warnings: [], seconds: (performance.now() - started) / 1000,
-    };
+  const recorded = {
+    kind,
+    units,
+    ...(rfForm ? { rfForm } : {}),
+    ...(options.dateColumn ? { dateColumn: options.dateColumn } : {}),
+    ...reading.record(),
+    ...(options.replace ? { replace: true } : {}),
   };
+
+  /** The earlier import of these bytes read the same way (nothing to do); read another way: refused, unless replacing. */
+  const earlier = (sha256: string, refuseDiffering: boolean): ImportReport | undefined => {
+    const e = earlierImports(store, sha256, 'series', recorded);
+    if (e.same) return alreadyImported(file, sha256, e.same, started);
+    if (refuseDiffering && e.differing.length) throw readDifferentlyError(file, e.differing);
+    return undefined;
+  };
+  let differing: ReturnType<typeof earlierImports>['differing'] = [];
+  if (options.replace) {
+    const e = earlierImports(store, await sha256File(file), 'series', recorded);
+    if (e.same) return alreadyImported(file, e.same.sha256, e.same, started);
+    differing = e.differing;
+  }
   const hash = createHash('sha256');
   const total = fileSize(file);
   const progress = options.onProgress;
@@ -78,14 +89,15 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   let last = -Infinity;
   const scale = units === 'percent' ? 100 : 1;
   try {
-    const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'series', options: { kind, units, ...(rfForm ? { rfForm } : {}), dateFormat: dates.format.name, ...(options.thousands ? { thousands: options.thousands } : {}), ...(options.replace ? { replace: true } : {}) } });
-    await readCsv(
+    const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'series', options: recorded });
+    const takenOut = takeOutDiffering(store, differing);
+    await reading.read(
       file,
       (row) => {
         const where = (i: number) => `${file}, line ${row.fieldLine[i] ?? row.line}, column ${i + 1} (${names[i] ?? '?'})`;
         if (header) {
           header = false;
-          const h = readHeader(row, file);
+          const h = readHeader(row, file, reading.delimiterName);
           names = h.names;
           const dc = h.index.get(dateName);
           if (dc === undefined) {
@@ -125,15 +137,15 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
         if (day > last) last = day;
         const date = dates.text(day);
         for (const c of columns) {
-          if (row.blank(c.col)) continue;
-          const raw = parseNumber(row.buf, row.start[c.col], row.end[c.col], sep);
+          const raw = reading.value(row, c.col);
+          if (raw === undefined) continue;
           if (Number.isNaN(raw)) {
             const text = row.text(c.col);
-            throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: "${text.length > 40 ? `${text.slice(0, 40)}...` : text}" ${numberProblem(text)}`, 'write numbers with a point as the decimal mark; leave the cell empty where there is no value');
+            throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: "${text.length > 40 ? `${text.slice(0, 40)}...` : text}" ${reading.numberProblem(text)}`, reading.numberHint(text));
           }
           const v = raw / scale;
           const problem = valueProblem(kind, rfForm, v);
-          if (problem) throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${problem}`, 'check the value and the --kind/--units/--rf-form options');
+          if (problem) throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${problem}`, reading.usualCodeHint(raw) ?? 'check the value and the --kind/--units/--rf-form options');
           session.seriesValue(c.id, names[c.col], date, v, { file, line: row.line });
           c.checker.pushDate(date, day);
         }
@@ -144,7 +156,7 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
     if (read === 0) throw new DeflatorError('INPUT_INVALID', `${file} has a header but no data rows`, 'add data rows below the header');
     session.flushSeries(file);
     const sha256 = hash.digest('hex');
-    const again = earlier(sha256);
+    const again = earlier(sha256, true);
     if (again) {
       session.rollback();
       return again;
@@ -153,19 +165,20 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
     const frequency = detectFrequency(checkers);
     for (const c of checkers) c.finish(frequency);
     const settled = session.settleReplaced();
-    const warnings = [...settled.warnings, ...sink.final()];
+    const warnings = [...takenOut.warnings, ...settled.warnings, ...sink.final()];
     session.finishLog(logId, { read, stored: session.rowsStored, rejected: 0 }, warnings);
     session.commit();
     return {
       status: 'imported', file, sha256, kind: 'series', importId: logId, rowsRead: read, rowsStored: session.rowsStored, rowsRejected: 0, subjects: columns.map((c) => names[c.col]),
       frequency, first: Number.isFinite(first) ? dates.text(first) : null, last: Number.isFinite(last) ? dates.text(last) : null, warnings,
-      ...(options.replace ? { replaced: settled.replaced } : {}), seconds: (performance.now() - started) / 1000,
+      ...(options.replace ? { replaced: [...takenOut.replaced, ...settled.replaced] } : {}), seconds: (performance.now() - started) / 1000,
     };
   } catch (e) {
     session.rollback();
     // bytes imported before usually clash with their own rows: say "already imported" instead
     if (isDeflatorError(e)) {
-      const again = await sha256File(file).then(earlier, () => undefined);
+      const sha = await sha256File(file).catch(() => undefined);
+      const again = sha === undefined ? undefined : earlier(sha, !options.replace);
       if (again) return again;
     }
     throw e;

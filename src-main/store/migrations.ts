@@ -90,6 +90,53 @@ export const MIGRATIONS: Migration[] = [
   },
   { version: 2, name: RUNS_MIGRATION_NAME, up: RUNS_MIGRATION_SQL },
   { version: 3, name: RUNS_COMPUTE_MIGRATION_NAME, up: RUNS_COMPUTE_MIGRATION_SQL },
+  {
+    version: 4,
+    name: 'assets stored as returns: asset form/units/excess, return observations, import kind "returns"',
+    up: (db) => {
+      db.exec(`
+        -- form NULL: a price history (rows in observation); otherwise the asset arrived as
+        -- returns of that form, in those units, excess returns when excess = 1 (rows in
+        -- return_observation, values as written in the file, NULL for a missing-value code).
+        ALTER TABLE asset ADD COLUMN form  TEXT    CHECK (form IS NULL OR form IN ('net', 'gross', 'log'));
+        ALTER TABLE asset ADD COLUMN units TEXT    CHECK (units IS NULL OR units IN ('decimal', 'percent'));
+        ALTER TABLE asset ADD COLUMN excess INTEGER CHECK (excess IS NULL OR excess IN (0, 1));
+
+        CREATE TABLE return_observation (
+          asset_id  INTEGER NOT NULL REFERENCES asset (id),
+          date      TEXT    NOT NULL,
+          value     REAL,
+          import_id INTEGER NOT NULL REFERENCES import_log (id),
+          PRIMARY KEY (asset_id, date)
+        ) WITHOUT ROWID;
+      `);
+      // import_log.kind gains 'returns'. SQLite cannot alter a CHECK constraint: rebuild the
+      // table. Rows of other tables reference it, so the foreign keys are checked at commit
+      // (defer_foreign_keys): dropping the old table counts their rows as orphans, and
+      // inserting the same ids into the new one counts them back.
+      db.pragma('defer_foreign_keys = ON');
+      db.exec(`
+        CREATE TABLE import_log_copy AS SELECT * FROM import_log;
+        DROP TABLE import_log;
+        CREATE TABLE import_log (
+          id            INTEGER PRIMARY KEY,
+          file_name     TEXT    NOT NULL,
+          sha256        TEXT    NOT NULL,
+          kind          TEXT    NOT NULL CHECK (kind IN ('prices', 'dividends', 'series', 'returns')),
+          rows_read     INTEGER NOT NULL DEFAULT 0,
+          rows_stored   INTEGER NOT NULL DEFAULT 0,
+          rows_rejected INTEGER NOT NULL DEFAULT 0,
+          warnings      TEXT    NOT NULL DEFAULT '[]',
+          options       TEXT    NOT NULL DEFAULT '{}',
+          imported_at   TEXT    NOT NULL
+        );
+        INSERT INTO import_log (id, file_name, sha256, kind, rows_read, rows_stored, rows_rejected, warnings, options, imported_at)
+          SELECT id, file_name, sha256, kind, rows_read, rows_stored, rows_rejected, warnings, options, imported_at FROM import_log_copy;
+        DROP TABLE import_log_copy;
+        CREATE INDEX import_log_by_hash ON import_log (sha256);
+      `);
+    },
+  },
 ];
 
 /** The schema version this build writes. */

@@ -6,7 +6,7 @@
 import Database from 'better-sqlite3';
 import { createHash } from 'node:crypto';
 import { existsSync } from 'node:fs';
-import type { Frequency, NamedSeries, PriceHistory, ReturnSeries, RiskfreeForm, SeriesKind } from '../../shared/data.js';
+import type { Frequency, NamedSeries, PriceHistory, ReturnForm, ReturnHistory, ReturnSeries, RiskfreeForm, SeriesKind, StoredAsset, ValueUnits } from '../../shared/data.js';
 import { FREQUENCIES } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { coverage, type Coverage } from '../data/calendar.js';
@@ -21,7 +21,7 @@ export interface StoreOptions {
 }
 
 export interface ImportWarning {
-  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'replaced' | 'more';
+  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'replaced' | 'missing' | 'small-returns' | 'more';
   /** Asset or series name; '' for file-level warnings. */
   subject: string;
   from?: string;
@@ -33,7 +33,7 @@ export interface ImportLogEntry {
   id: number;
   fileName: string;
   sha256: string;
-  kind: 'prices' | 'dividends' | 'series';
+  kind: 'prices' | 'dividends' | 'series' | 'returns';
   rowsRead: number;
   rowsStored: number;
   rowsRejected: number;
@@ -56,6 +56,14 @@ export interface RemovedImport {
 
 export interface AssetCoverage extends Coverage {
   name: string;
+  /** How the history arrived: prices (and dividends), or returns (METHODS 8). */
+  source: 'prices' | 'returns';
+  /** Return histories: the form, units and whether they are excess returns, as imported. */
+  form?: ReturnForm;
+  units?: ValueUnits;
+  excess?: boolean;
+  /** Return histories: periods whose value was a missing-value code (gaps; `count` excludes them). */
+  missing?: number;
   dividends: number;
   splits: number;
 }
@@ -98,6 +106,14 @@ interface LogRow {
   imported_at: string;
 }
 
+interface AssetRow {
+  id: number;
+  name: string;
+  form: ReturnForm | null;
+  units: ValueUnits | null;
+  excess: number | null;
+}
+
 interface SeriesRow {
   id: number;
   name: string;
@@ -121,8 +137,12 @@ const toLogEntry = (r: LogRow): ImportLogEntry => ({
 
 function prepareStatements(db: Database.Database) {
   return {
-    assetNames: db.prepare('SELECT id, name FROM asset ORDER BY name'),
+    assetNames: db.prepare('SELECT id, name, form, units, excess FROM asset ORDER BY name'),
     assetByName: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
+    assetRowByName: db.prepare('SELECT id, name, form, units, excess FROM asset WHERE name = ?'),
+    returnRows: db.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw(),
+    returnDates: db.prepare('SELECT date FROM return_observation WHERE asset_id = ? AND value IS NOT NULL ORDER BY date').pluck(),
+    returnMissing: db.prepare('SELECT count(*) FROM return_observation WHERE asset_id = ? AND value IS NULL').pluck(),
     history: db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
     historyDates: db.prepare('SELECT date FROM observation WHERE asset_id = ? ORDER BY date').pluck(),
     assetEvents: db.prepare('SELECT sum(dividend <> 0), sum(adjust <> 1) FROM observation WHERE asset_id = ?').raw(),
@@ -138,6 +158,7 @@ function prepareStatements(db: Database.Database) {
     portfolioDelete: db.prepare('DELETE FROM portfolio WHERE id = ?'),
     log: db.prepare('SELECT * FROM import_log ORDER BY id'),
     logByHash: db.prepare('SELECT * FROM import_log WHERE sha256 = ? AND kind = ? ORDER BY id LIMIT 1'),
+    logsByHash: db.prepare("SELECT * FROM import_log WHERE sha256 = ? AND kind <> 'dividends' ORDER BY id"),
     logById: db.prepare('SELECT * FROM import_log WHERE id = ?'),
   };
 }
@@ -244,14 +265,32 @@ export class Store {
   }
 
   /**
-   * Price histories, dates ascending. Without `assets`, every stored asset (sorted by name);
-   * with it, exactly those in that order (NOT_FOUND names the first unknown one).
+   * Price histories only (see loadAssets for every stored asset). Without `assets`, every
+   * stored price history; a named asset stored as returns is INPUT_INVALID.
    */
   loadHistories(assets?: string[]): PriceHistory[] {
+    const all = this.loadAssets(assets);
+    const out: PriceHistory[] = [];
+    for (const h of all) {
+      if (h.source !== 'returns') out.push(h);
+      else if (assets) throw new DeflatorError('INPUT_INVALID', `asset "${h.asset}" was imported as returns, not prices`, 'use it where returns are read (returns, fit, back-test, comparison, momentum sorts)');
+    }
+    return out;
+  }
+
+  /**
+   * Asset histories, dates ascending: price histories, and assets stored as returns
+   * (ReturnHistory, values as imported, NaN for a missing-value code). Without `assets`,
+   * every stored asset (sorted by name); with it, exactly those in that order (NOT_FOUND
+   * names the first unknown one).
+   */
+  loadAssets(assets?: string[]): StoredAsset[] {
     const wanted = assets ?? this.assets();
     return wanted.map((name) => {
-      const id = this.st.assetByName.get(name) as number | undefined;
-      if (id === undefined) throw new DeflatorError('NOT_FOUND', `asset "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored assets');
+      const a = this.st.assetRowByName.get(name) as AssetRow | undefined;
+      if (a === undefined) throw new DeflatorError('NOT_FOUND', `asset "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored assets');
+      if (a.form !== null) return this.returnHistory(a);
+      const id = a.id;
       const rows = this.st.history.all(id) as [string, number, number, number, number | null][];
       const n = rows.length;
       const h: PriceHistory = { asset: name, dates: new Array<string>(n), price: new Float64Array(n), dividend: new Float64Array(n) };
@@ -275,6 +314,19 @@ export class Store {
       if (withShares) h.shares = shares;
       return h;
     });
+  }
+
+  private returnHistory(a: AssetRow): ReturnHistory {
+    const rows = this.st.returnRows.all(a.id) as [string, number | null][];
+    return {
+      asset: a.name,
+      source: 'returns',
+      dates: rows.map((r) => r[0]),
+      values: Float64Array.from(rows, (r) => (r[1] === null ? Number.NaN : r[1])),
+      form: a.form as ReturnForm,
+      units: a.units ?? 'decimal',
+      excess: a.excess === 1,
+    };
   }
 
   /** Named series in decimals, dates ascending; same selection rules as loadHistories. */
@@ -343,6 +395,11 @@ export class Store {
     return (this.st.log.all() as LogRow[]).map(toLogEntry);
   }
 
+  /** Every earlier import (dividends files aside) of a file with these bytes, oldest first. */
+  findImports(sha256: string): ImportLogEntry[] {
+    return (this.st.logsByHash.all(sha256) as LogRow[]).map(toLogEntry);
+  }
+
   /** The earlier import of a file with these bytes, if any. */
   findImport(sha256: string, kind: ImportLogEntry['kind']): ImportLogEntry | undefined {
     const r = this.st.logByHash.get(sha256, kind) as LogRow | undefined;
@@ -381,17 +438,20 @@ export class Store {
       const entries = [entry];
       const next = this.importById(importId + 1);
       if (entry.kind === 'prices' && next && next.kind === 'dividends' && next.options.prices === entry.fileName && entry.options.dividends === next.fileName) entries.push(next);
-      const isPrices = entry.kind === 'prices';
-      const subjectsSql = isPrices
-        ? 'SELECT id, name FROM asset WHERE id IN (SELECT DISTINCT asset_id FROM observation WHERE import_id = ?) ORDER BY name'
+      const isAssets = entry.kind === 'prices' || entry.kind === 'returns';
+      const table = entry.kind === 'prices' ? 'observation' : entry.kind === 'returns' ? 'return_observation' : 'series_observation';
+      const subjectsSql = isAssets
+        ? `SELECT id, name FROM asset WHERE id IN (SELECT DISTINCT asset_id FROM ${table} WHERE import_id = ?) ORDER BY name`
         : 'SELECT id, name FROM series WHERE id IN (SELECT DISTINCT series_id FROM series_observation WHERE import_id = ?) ORDER BY name';
       const touched = db.prepare(subjectsSql).all(importId) as { id: number; name: string }[];
-      const rows = db.prepare(isPrices ? 'DELETE FROM observation WHERE import_id = ?' : 'DELETE FROM series_observation WHERE import_id = ?').run(importId).changes;
-      const hasRows = db.prepare(isPrices ? 'SELECT 1 FROM observation WHERE asset_id = ? LIMIT 1' : 'SELECT 1 FROM series_observation WHERE series_id = ? LIMIT 1').pluck();
-      const dropSubject = db.prepare(isPrices ? 'DELETE FROM asset WHERE id = ?' : 'DELETE FROM series WHERE id = ?');
+      const rows = db.prepare(`DELETE FROM ${table} WHERE import_id = ?`).run(importId).changes;
+      const hasRows = db
+        .prepare(isAssets ? 'SELECT 1 WHERE EXISTS (SELECT 1 FROM observation WHERE asset_id = $id) OR EXISTS (SELECT 1 FROM return_observation WHERE asset_id = $id)' : 'SELECT 1 FROM series_observation WHERE series_id = $id LIMIT 1')
+        .pluck();
+      const dropSubject = db.prepare(isAssets ? 'DELETE FROM asset WHERE id = ?' : 'DELETE FROM series WHERE id = ?');
       const subjectsRemoved: string[] = [];
       for (const t of touched) {
-        if (hasRows.get(t.id) !== undefined) continue;
+        if (hasRows.get({ id: t.id }) !== undefined) continue;
         dropSubject.run(t.id);
         subjectsRemoved.push(t.name);
       }
@@ -403,9 +463,22 @@ export class Store {
 
   /** What is stored: coverage per asset, series and portfolio, and the import log. */
   info(): StoreInfo {
-    const assets = (this.st.assetNames.all() as { id: number; name: string }[]).map((a) => {
+    const assets = (this.st.assetNames.all() as AssetRow[]).map((a): AssetCoverage => {
+      if (a.form !== null) {
+        return {
+          name: a.name,
+          source: 'returns',
+          form: a.form,
+          units: a.units ?? 'decimal',
+          excess: a.excess === 1,
+          ...coverage(this.st.returnDates.all(a.id) as string[]),
+          missing: this.st.returnMissing.get(a.id) as number,
+          dividends: 0,
+          splits: 0,
+        };
+      }
       const [dividends, splits] = this.st.assetEvents.get(a.id) as [number | null, number | null];
-      return { name: a.name, ...coverage(this.st.historyDates.all(a.id) as string[]), dividends: dividends ?? 0, splits: splits ?? 0 };
+      return { name: a.name, source: 'prices', ...coverage(this.st.historyDates.all(a.id) as string[]), dividends: dividends ?? 0, splits: splits ?? 0 };
     });
     const series = (this.st.seriesAll.all() as SeriesRow[]).map((s) => ({
       name: s.name,
@@ -441,8 +514,9 @@ export class Store {
       else h.update(`\u0000S${String(v)}`);
     };
     const tables = [
-      'SELECT id, name FROM asset ORDER BY id',
+      'SELECT id, name, form, units, excess FROM asset ORDER BY id',
       'SELECT asset_id, date, price, dividend, adjust, shares, import_id FROM observation ORDER BY asset_id, date',
+      'SELECT asset_id, date, value, import_id FROM return_observation ORDER BY asset_id, date',
       'SELECT id, name, kind, units, rf_form FROM series ORDER BY id',
       'SELECT series_id, date, value, import_id FROM series_observation ORDER BY series_id, date',
       'SELECT id, name, frequency, rules FROM portfolio ORDER BY id',

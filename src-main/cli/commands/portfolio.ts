@@ -90,7 +90,7 @@ export function register(program: Command): void {
       });
       const store = new Store(o.db, { mustExist: true });
       try {
-        const res = sortPortfolios(store.loadHistories(), spec);
+        const res = sortPortfolios(store.loadAssets(), spec);
         const existing = new Set(store.portfolioNames());
         const clash = res.series.map((s) => s.name).filter((n) => existing.has(n));
         if (clash.length && !o.replace) throw new DeflatorError('CONFLICT', `portfolio(s) ${clash.join(', ')} already exist in ${o.db}`, 'choose another --name, or pass --replace');

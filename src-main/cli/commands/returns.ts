@@ -67,7 +67,7 @@ export function register(program: Command): void {
       const store = new Store(o.db, { mustExist: true });
       try {
         const assets = o.assets ? o.assets.split(',').map((s) => s.trim()).filter(Boolean) : undefined;
-        const histories = store.loadHistories(assets);
+        const histories = store.loadAssets(assets);
         let riskfree;
         if (o.riskfree) {
           [riskfree] = store.loadSeries([o.riskfree]);
