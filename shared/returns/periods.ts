@@ -248,6 +248,36 @@ export function storedFrequency(dates: readonly CalendarDate[]): Frequency | nul
   return 'daily';
 }
 
+/**
+ * Frequency from the median spacing in calendar days (weekends and holidays make daily
+ * data's spacing 1-5 days; month ends 28-31; quarter ends 89-92).
+ */
+export function frequencyFromSpacing(medianDays: number): Frequency {
+  if (medianDays <= 4) return 'daily';
+  if (medianDays <= 10) return 'weekly';
+  if (medianDays <= 45) return 'monthly';
+  if (medianDays <= 135) return 'quarterly';
+  return 'annual';
+}
+
+/**
+ * The frequency of a series of period returns (each row the return over one period): from
+ * the median spacing of consecutive dates, so that two monthly returns of a column that
+ * starts late (March and April) read as monthly, not as one return per quarter; raised to
+ * a higher frequency where two dates would share a period. Null for fewer than two dates.
+ */
+export function spacingFrequency(dates: readonly CalendarDate[]): Frequency | null {
+  if (dates.length < 2) return null;
+  const gaps: number[] = [];
+  for (let i = 1; i < dates.length; i++) gaps.push(dates[i].day - dates[i - 1].day);
+  gaps.sort((a, b) => a - b);
+  const m = gaps.length % 2 === 1 ? gaps[(gaps.length - 1) / 2] : (gaps[gaps.length / 2 - 1] + gaps[gaps.length / 2]) / 2;
+  let f = frequencyFromSpacing(m);
+  const lowest = storedFrequency(dates) as Frequency;
+  if (frequencyRank(lowest) < frequencyRank(f)) f = lowest;
+  return f;
+}
+
 /** Checks that dates are strictly ascending; throws INPUT_INVALID naming the first offending pair. */
 export function parseAscending(dates: readonly string[], where: string): CalendarDate[] {
   const out: CalendarDate[] = new Array(dates.length);

@@ -43,6 +43,8 @@ export interface AssetPeriods {
    * where a risk-free series was given, and is empty otherwise.
    */
   excess?: Map<number, number>;
+  /** Assets stored as returns: periods holding a missing return (a gap; the value index V carries over it). */
+  missing?: number[];
 }
 
 /** Dates with a price (rows whose price is NaN are no observation): the history's trading dates. */

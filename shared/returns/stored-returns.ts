@@ -23,7 +23,7 @@
  */
 import { isReturnHistory, type NamedSeries, type ReturnForm, type ReturnHistory, type StoredAsset, type ValueUnits } from '../data.js';
 import { DeflatorError } from '../errors.js';
-import { calendarDateOfDay, dateOfDay, frequencyRank, lastDayOf, parseAscending, periodCalendar, storedFrequency, type PeriodCalendar } from './periods.js';
+import { calendarDateOfDay, dateOfDay, frequencyRank, lastDayOf, parseAscending, periodCalendar, spacingFrequency, type PeriodCalendar } from './periods.js';
 import { historyPeriods, pricedDates, type AssetPeriods } from './prices.js';
 import { riskfreePeriods, type DayCount } from './series.js';
 
@@ -92,7 +92,7 @@ export function returnHistoryPeriods(h: ReturnHistory, cal: PeriodCalendar, opts
   const n = h.dates.length;
   if (h.values.length !== n) throw new DeflatorError('INPUT_INVALID', `${where}: ${n} dates but ${h.values.length} returns`, 'give one return per date');
   const dates = parseAscending(h.dates, where);
-  const stored = storedFrequency(dates);
+  const stored = spacingFrequency(dates);
   const f = cal.frequency;
   const out: AssetPeriods = { asset: h.asset, stored, close: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
   if (stored !== null && frequencyRank(stored) > frequencyRank(f)) {
@@ -172,6 +172,7 @@ export function returnHistoryPeriods(h: ReturnHistory, cal: PeriodCalendar, opts
     let present = false;
     for (; j < n && targetOf[j] === k; j++) {
       const g = gross[j];
+      if (Number.isNaN(h.values[j])) (out.missing ??= []).push(k);
       if (Number.isNaN(g)) ok = false;
       else {
         value *= g;

@@ -141,6 +141,9 @@ export function returnsTable(histories: StoredAsset[], opts: ReturnsTableOptions
     if (excessOnly) unusable.push({ asset: a.asset, reason: `holds excess returns: ${kind === 'index' ? 'the index' : `${kind} returns`} need R = R^e + R^f, so name a risk-free series` });
     else if (a.unusable && (kind !== 'index' || a.close.size === 0) && !(kind === 'excess' && a.excess && a.excess.size > 0)) unusable.push({ asset: a.asset, reason: a.unusable });
     values.set(a.asset, m);
+    if (kind === 'index' && a.missing && !excessOnly) {
+      for (const k of new Set(a.missing)) flags.push({ asset: a.asset, period: labels.get(k) ?? cal.keyOf(k), note: 'no return (a missing value): the index leaves this period out and carries its level over the gap' });
+    }
     if (a.cutShort) {
       flags.push({
         asset: a.asset,

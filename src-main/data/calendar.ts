@@ -25,17 +25,9 @@ export function daysInMonth(y: number, m: number): number {
   return m === 4 || m === 6 || m === 9 || m === 11 ? 30 : 31;
 }
 
-/**
- * Frequency from the median spacing in calendar days (weekends and holidays make daily
- * data's spacing 1-5 days; month ends 28-31; quarter ends 89-92).
- */
-export function frequencyFromSpacing(medianDays: number): Frequency {
-  if (medianDays <= 4) return 'daily';
-  if (medianDays <= 10) return 'weekly';
-  if (medianDays <= 45) return 'monthly';
-  if (medianDays <= 135) return 'quarterly';
-  return 'annual';
-}
+/** Frequency from the median spacing in calendar days (one rule, in the returns engine). */
+export { frequencyFromSpacing } from '../../shared/returns/periods.js';
+import { frequencyFromSpacing } from '../../shared/returns/periods.js';
 
 /**
  * A spacing longer than this many calendar days is a gap at that frequency: more than a

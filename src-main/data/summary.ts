@@ -1,4 +1,5 @@
 /** Plain-text views of what the store holds and of an import, for the terminal. */
+import { assetSourceText } from '../../shared/data.js';
 import type { ImportReport } from '../import/index.js';
 import type { ImportWarning, StoreInfo } from '../store/store.js';
 
@@ -27,9 +28,9 @@ export function formatImportReport(r: ImportReport): string {
   if (r.status === 'already-imported') {
     return `${r.file}: already imported (same SHA-256 ${r.sha256.slice(0, 12)}..., import #${r.importId} at ${r.importedAt ?? '?'}); nothing changed`;
   }
-  const what = r.kind === 'series' ? `series ${r.subjects.join(', ')}` : `${r.subjects.length} asset${r.subjects.length === 1 ? '' : 's'}`;
+  const what = r.kind === 'series' ? `series ${r.subjects.join(', ')}` : `${r.subjects.length} asset${r.subjects.length === 1 ? '' : 's'}${r.kind === 'returns' ? ' as returns' : ''}`;
   const lines = [
-    `${r.file}: imported ${r.rowsStored} ${r.kind === 'series' ? 'values' : 'observations'} from ${r.rowsRead} rows (${what}; ${r.first ?? '?'} to ${r.last ?? '?'}, ${r.frequency ?? 'frequency unknown'})` +
+    `${r.file}: imported ${r.rowsStored} ${r.kind === 'series' ? 'values' : r.kind === 'returns' ? 'returns' : 'observations'} from ${r.rowsRead} rows (${what}; ${r.first ?? '?'} to ${r.last ?? '?'}, ${r.frequency ?? 'frequency unknown'})` +
       `${r.rowsRejected ? `; ${r.rowsRejected} rows rejected` : ''} in ${r.seconds.toFixed(2)} s`,
   ];
   const w = formatWarnings(r.warnings);
@@ -43,8 +44,8 @@ export function formatInfo(info: StoreInfo): string {
   if (info.assets.length) {
     out.push(
       textTable(
-        ['asset', 'first', 'last', 'count', 'frequency', 'gaps', 'dividends', 'splits'],
-        info.assets.map((a) => [a.name, a.first ?? '', a.last ?? '', a.count, a.frequency ?? '', a.gaps.length, a.dividends, a.splits]),
+        ['asset', 'data', 'first', 'last', 'count', 'frequency', 'gaps', 'missing', 'dividends', 'splits'],
+        info.assets.map((a) => [a.name, assetSourceText(a), a.first ?? '', a.last ?? '', a.count, a.frequency ?? '', a.gaps.length, a.missing ?? 0, a.dividends, a.splits]),
       ),
     );
   }

@@ -35,7 +35,7 @@ export interface ReadingRecord {
 }
 
 /** Codes that often stand for "no value" in downloaded files (common practice, not a standard): a refused number equal to one gets a hint. */
-const USUAL_CODES = [-99.99, -999, -99, -9999, -999.99, -99.999, -9.99, 999, 9999];
+const USUAL_CODES = [-99.99, -999, -99, -9999, -999.99, -99.999, -99.9, -999.9];
 
 /** Splits a comma-separated list of missing-value codes ("-99.99,-999,NA"); blanks are dropped. */
 export function missingCodeList(text: string): string[] {
@@ -55,6 +55,8 @@ export class Reading {
   /** Thousands separator byte, 0 for none. */
   readonly thousands: number;
   readonly missingCodes: string[];
+  /** The user named the missing-value codes (even none): no value is then suspected of being one. */
+  readonly missingDeclared: boolean;
   private readonly numericCodes = new Set<number>();
   private readonly textCodes = new Set<string>();
 
@@ -81,6 +83,7 @@ export class Reading {
     if (this.thousands !== 0 && this.thousands === this.decimal) {
       throw new DeflatorError('INPUT_INVALID', `the thousands separator "${o.thousands}" is also the decimal mark`, 'choose another thousands separator (with --decimal comma: point, space or apostrophe)');
     }
+    this.missingDeclared = o.missing !== undefined;
     this.missingCodes = [...new Set((o.missing ?? []).map((c) => c.trim()).filter((c) => c !== ''))];
     for (const code of this.missingCodes) {
       const b = Buffer.from(code, 'utf8');
@@ -126,6 +129,19 @@ export class Reading {
   usualCodeHint(v: number): string | null {
     if (!USUAL_CODES.includes(v) || this.numericCodes.has(v)) return null;
     return `if ${v} marks a missing value, pass --missing ${[...this.missingCodes, String(v)].join(',')}`;
+  }
+
+  /**
+   * A value equal to a code often used for "missing" (-99.99, -999, ...) while the user named
+   * no missing-value codes: the refusal's text, or null. Returns and factors use it: read as
+   * a number, such a cell becomes a return near -100 % (or below) instead of a gap.
+   */
+  suspectedCode(v: number): { what: string; hint: string } | null {
+    if (this.missingDeclared || !USUAL_CODES.includes(v)) return null;
+    return {
+      what: `${v} is a code often used for a missing value, and no missing-value codes were named`,
+      hint: `if ${v} marks a missing value, pass --missing ${v} (several: --missing "${v},-999,NA"); if it is a real value, pass --missing "" (no codes) to read it as a number`,
+    };
   }
 
   /** What the import log records (defaults left out). */

@@ -143,6 +143,8 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
             const text = row.text(c.col);
             throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: "${text.length > 40 ? `${text.slice(0, 40)}...` : text}" ${reading.numberProblem(text)}`, reading.numberHint(text));
           }
+          const suspect = reading.suspectedCode(raw);
+          if (suspect) throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${suspect.what}`, suspect.hint);
           const v = raw / scale;
           const problem = valueProblem(kind, rfForm, v);
           if (problem) throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${problem}`, reading.usualCodeHint(raw) ?? 'check the value and the --kind/--units/--rf-form options');

@@ -5,7 +5,7 @@
  * or rolls everything back: a failed import leaves the database exactly as it was.
  */
 import type Database from 'better-sqlite3';
-import type { RiskfreeForm, SeriesKind } from '../../shared/data.js';
+import type { ReturnForm, RiskfreeForm, SeriesKind, ValueUnits } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { isoDayNumber } from '../data/calendar.js';
 import { isBusy, lockedError, type ImportLogEntry, type ImportWarning, type Store } from './store.js';
@@ -50,9 +50,23 @@ function sessionStatements(db: Database.Database) {
     logInsert: db.prepare("INSERT INTO import_log (file_name, sha256, kind, options, imported_at) VALUES (?, ?, ?, ?, strftime('%Y-%m-%dT%H:%M:%fZ', 'now'))"),
     logHash: db.prepare('UPDATE import_log SET sha256 = ? WHERE id = ?'),
     logFinish: db.prepare('UPDATE import_log SET rows_read = ?, rows_stored = ?, rows_rejected = ?, warnings = ? WHERE id = ?'),
-    assetGet: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
+    assetGet: db.prepare('SELECT id, form, units, excess FROM asset WHERE name = ?'),
     assetHasRows: db.prepare('SELECT 1 FROM observation WHERE asset_id = ? LIMIT 1').pluck(),
+    assetHasReturns: db.prepare('SELECT 1 FROM return_observation WHERE asset_id = ? LIMIT 1').pluck(),
     assetInsert: db.prepare('INSERT INTO asset (name) VALUES (?)'),
+    returnAssetInsert: db.prepare('INSERT INTO asset (name, form, units, excess) VALUES (?, ?, ?, ?)'),
+    returnAssetSet: db.prepare('UPDATE asset SET form = ?, units = ?, excess = ? WHERE id = ?'),
+    retOne: db.prepare(`INSERT INTO return_observation (asset_id, date, value, import_id) VALUES ${valuesList(1, SERIES_COLS)}`),
+    retMany: db.prepare(`INSERT INTO return_observation (asset_id, date, value, import_id) VALUES ${valuesList(BATCH, SERIES_COLS)}`),
+    retOwner: db.prepare('SELECT import_id FROM return_observation WHERE asset_id = ? AND date = ?').pluck(),
+    retDelete: db.prepare('DELETE FROM return_observation WHERE asset_id = ? AND date = ?'),
+    // missing values (NULL) of this import before an asset's first or after its last return: not gaps, just no data yet
+    retTrim: db.prepare(`
+      DELETE FROM return_observation AS o WHERE import_id = ? AND value IS NULL AND (
+        date < coalesce((SELECT min(date) FROM return_observation r WHERE r.asset_id = o.asset_id AND r.value IS NOT NULL), '~')
+        OR date > coalesce((SELECT max(date) FROM return_observation r WHERE r.asset_id = o.asset_id AND r.value IS NOT NULL), '')
+      )`),
+    assetDelete: db.prepare('DELETE FROM asset WHERE id = ?'),
     obsOne: db.prepare(`INSERT INTO observation (asset_id, date, price, dividend, adjust, shares, import_id) VALUES ${valuesList(1, OBS_COLS)}`),
     obsMany: db.prepare(`INSERT INTO observation (asset_id, date, price, dividend, adjust, shares, import_id) VALUES ${valuesList(BATCH, OBS_COLS)}`),
     obsOwner: db.prepare('SELECT import_id FROM observation WHERE asset_id = ? AND date = ?').pluck(),
@@ -65,9 +79,23 @@ function sessionStatements(db: Database.Database) {
     serOwner: db.prepare('SELECT import_id FROM series_observation WHERE series_id = ? AND date = ?').pluck(),
     obsDelete: db.prepare('DELETE FROM observation WHERE asset_id = ? AND date = ?'),
     serDelete: db.prepare('DELETE FROM series_observation WHERE series_id = ? AND date = ?'),
-    importHasRows: db.prepare('SELECT EXISTS (SELECT 1 FROM observation WHERE import_id = ?) OR EXISTS (SELECT 1 FROM series_observation WHERE import_id = ?)').pluck(),
+    importHasRows: db.prepare('SELECT EXISTS (SELECT 1 FROM observation WHERE import_id = $id) OR EXISTS (SELECT 1 FROM series_observation WHERE import_id = $id) OR EXISTS (SELECT 1 FROM return_observation WHERE import_id = $id)').pluck(),
     logDelete: db.prepare('DELETE FROM import_log WHERE id = ?'),
   };
+}
+
+interface AssetMeta {
+  id: number;
+  form: ReturnForm | null;
+  units: ValueUnits | null;
+  excess: number | null;
+}
+
+/** How a file's returns are written (METHODS 8): stored with each asset. */
+export interface ReturnMeta {
+  form: ReturnForm;
+  units: ValueUnits;
+  excess: boolean;
 }
 
 function newChunk(size: number) {
@@ -115,6 +143,8 @@ export class ImportSession {
   private readonly serBuf: (string | number)[] = [];
   private readonly serLines: number[] = [];
   private readonly serNames: string[] = [];
+  private readonly retBuf: (string | number | null)[] = [];
+  private readonly retLines: number[] = [];
   rowsStored = 0;
   /**
    * Replace mode: a row whose (asset or series, date) is stored from an earlier import
@@ -158,9 +188,19 @@ export class ImportSession {
   assetId(name: string): number {
     let id = this.assetIds.get(name);
     if (id !== undefined) return id;
-    const found = this.st.assetGet.get(name) as number | undefined;
+    const found = this.st.assetGet.get(name) as AssetMeta | undefined;
     if (found !== undefined) {
-      id = found;
+      id = found.id;
+      if (found.form !== null) {
+        if (this.st.assetHasReturns.get(id) !== undefined) {
+          throw new DeflatorError(
+            'CONFLICT',
+            `asset "${name}" is stored as returns (${found.form}, ${found.units ?? 'decimal'}${found.excess ? ', excess' : ''}); this file gives it prices`,
+            'an asset holds either prices or returns: rename the column or asset, or take the returns import out first (`deflator info --db DB` lists the imports)',
+          );
+        }
+        this.st.returnAssetSet.run(null, null, null, id);
+      }
       if (this.st.assetHasRows.get(id) !== undefined) this.preexisting.add(id);
     } else {
       id = Number(this.st.assetInsert.run(name).lastInsertRowid);
@@ -313,7 +353,7 @@ export class ImportSession {
     for (const [owner, rows] of [...this.replaced].sort((a, b) => a[0] - b[0])) {
       const entry = this.store.importById(owner);
       const name = entry ? entry.fileName : `import ${owner}`;
-      const empty = this.st.importHasRows.get(owner, owner) === 0;
+      const empty = this.st.importHasRows.get({ id: owner }) === 0;
       if (empty && entry) {
         const next = this.store.importById(owner + 1);
         if (next && next.kind === 'dividends' && next.options.prices === entry.fileName && entry.options.dividends === next.fileName) this.st.logDelete.run(next.id);
@@ -409,6 +449,105 @@ export class ImportSession {
     this.serBuf.length = 0;
     this.serLines.length = 0;
     this.serNames.length = 0;
+  }
+
+  /**
+   * Id of an asset stored as returns, created if new. An asset already stored must hold
+   * returns of the same form, units and excess flag (new dates are appended); an asset
+   * holding prices is a conflict.
+   */
+  returnAssetId(name: string, meta: ReturnMeta, origin: RowOrigin & { column?: number }): number {
+    let id = this.assetIds.get(name);
+    if (id !== undefined) return id;
+    const found = this.st.assetGet.get(name) as AssetMeta | undefined;
+    const where = `${origin.file}, line ${origin.line}${origin.column ? `, column ${origin.column}` : ''}`;
+    const says = `${meta.form}, ${meta.units}${meta.excess ? ', excess' : ''}`;
+    if (found) {
+      id = found.id;
+      const hasPrices = this.st.assetHasRows.get(id) !== undefined;
+      const hasReturns = this.st.assetHasReturns.get(id) !== undefined;
+      if (hasPrices) {
+        throw new DeflatorError(
+          'CONFLICT',
+          `${where}: asset "${name}" is stored as prices; this file gives it returns (${says})`,
+          'an asset holds either prices or returns: rename the column or asset, or take the price import out first (`deflator info --db DB` lists the imports)',
+        );
+      }
+      if (hasReturns && (found.form !== meta.form || (found.units ?? 'decimal') !== meta.units || (found.excess === 1) !== meta.excess)) {
+        throw new DeflatorError(
+          'CONFLICT',
+          `${where}: asset "${name}" is stored as ${found.form} returns (${found.units ?? 'decimal'}${found.excess ? ', excess' : ''}); this import says ${says}`,
+          'import it with the same --form/--units/--excess, or rename the column',
+        );
+      }
+      if (hasReturns) this.preexisting.add(id);
+      else this.st.returnAssetSet.run(meta.form, meta.units, meta.excess ? 1 : 0, id);
+    } else {
+      id = Number(this.st.returnAssetInsert.run(name, meta.form, meta.units, meta.excess ? 1 : 0).lastInsertRowid);
+    }
+    this.assetIds.set(name, id);
+    this.assetNames.set(id, name);
+    return id;
+  }
+
+  /** Queues one stored return (null: a missing-value code, a gap). */
+  returnValue(assetId: number, date: string, value: number | null, origin: RowOrigin): void {
+    this.retBuf.push(assetId, date, value, this.importId);
+    this.retLines.push(origin.line);
+    if (this.retLines.length === BATCH) this.flushReturns(origin.file);
+  }
+
+  flushReturns(file: string): void {
+    const n = this.retLines.length;
+    if (n === 0) return;
+    if (n === BATCH) {
+      try {
+        this.st.retMany.run(this.retBuf);
+        this.rowsStored += n;
+        this.retBuf.length = 0;
+        this.retLines.length = 0;
+        return;
+      } catch (e) {
+        if (!isPrimaryKeyClash(e)) throw e;
+      }
+    }
+    for (let r = 0; r < n; r++) {
+      const row = this.retBuf.slice(r * SERIES_COLS, (r + 1) * SERIES_COLS);
+      try {
+        this.st.retOne.run(row);
+        this.rowsStored++;
+      } catch (e) {
+        if (!isPrimaryKeyClash(e)) throw e;
+        const id = row[0] as number;
+        const date = row[1] as string;
+        const owner = this.st.retOwner.get(id, date) as number;
+        if (!this.replace || this.logIds.includes(owner)) this.clash('asset', this.assetName(id), date, owner, { file, line: this.retLines[r] });
+        this.st.retDelete.run(id, date);
+        this.st.retOne.run(row);
+        this.rowsStored++;
+        this.replaced.set(owner, (this.replaced.get(owner) ?? 0) + 1);
+      }
+    }
+    this.retBuf.length = 0;
+    this.retLines.length = 0;
+  }
+
+  /**
+   * After the last return row: missing values before an asset's first return or after its
+   * last are dropped (a column that starts later is not a gap); assets this import created
+   * that are left with no rows are taken out again. Returns their names and the rows dropped.
+   */
+  trimReturns(file: string): { dropped: number; emptyAssets: string[] } {
+    this.flushReturns(file);
+    const dropped = this.st.retTrim.run(this.importId).changes;
+    this.rowsStored -= dropped;
+    const emptyAssets: string[] = [];
+    for (const [name, id] of this.assetIds) {
+      if (this.st.assetHasReturns.get(id) !== undefined || this.st.assetHasRows.get(id) !== undefined) continue;
+      this.st.assetDelete.run(id);
+      emptyAssets.push(name);
+    }
+    return { dropped, emptyAssets };
   }
 
   /** Records the SHA-256 of an entry's file (known once the file has been read). */

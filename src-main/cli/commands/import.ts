@@ -1,16 +1,37 @@
 /**
- * `deflator import prices FILE --db DB` and `deflator import series FILE --db DB --kind K`:
- * streaming CSV import, one transaction per file (a failed import stores nothing). A file
- * whose bytes were imported before is reported and skipped (exit 0). Progress goes to
+ * `deflator import prices FILE --db DB`, `deflator import returns FILE --db DB` and
+ * `deflator import series FILE --db DB --kind K`: streaming CSV import, one transaction per
+ * file (a failed import stores nothing). A file whose bytes were imported before, read the
+ * same way, is reported and skipped (exit 0); read another way (other kind, units, form,
+ * layout ...) it is refused with what differs, or replaced with --replace. Progress goes to
  * stderr when it is a terminal; --json prints the import report on stdout. --replace lets a
  * corrected file's rows take the place of the stored ones; `deflator import remove ID`
  * takes one import back out (and says which recorded runs that makes stale).
  */
 import type { Command } from 'commander';
-import { RF_FORMS, SERIES_KINDS, type RiskfreeForm, type SeriesKind } from '../../../shared/data.js';
+import { RETURN_FORMS, RF_FORMS, SERIES_KINDS, VALUE_UNITS, type ReturnForm, type RiskfreeForm, type SeriesKind, type ValueUnits } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { formatImportReport } from '../../data/summary.js';
-import { DATE_FORMATS, DEFAULT_THRESHOLDS, THOUSANDS_SEPARATORS, importPrices, importSeries, type ImportReport, type PriceColumn, type ThousandsName, type Units } from '../../import/index.js';
+import {
+  DATE_FORMATS,
+  DECIMAL_MARKS,
+  DEFAULT_MAX_RETURN,
+  DEFAULT_THRESHOLDS,
+  DELIMITERS,
+  THOUSANDS_SEPARATORS,
+  importPrices,
+  importReturns,
+  importSeries,
+  missingCodeList,
+  type DecimalName,
+  type DelimiterName,
+  type ImportReport,
+  type PriceColumn,
+  type ReadingOptions,
+  type ReturnColumn,
+  type ThousandsName,
+  type Units,
+} from '../../import/index.js';
 import { listRuns } from '../../runs/runs.js';
 import { Store, type RemovedImport } from '../../store/store.js';
 
@@ -62,12 +83,37 @@ function report(r: ImportReport, json: boolean | undefined): void {
   process.stdout.write(json ? `${JSON.stringify(r, null, 2)}\n` : `${formatImportReport(r)}\n`);
 }
 
-interface PriceFlags {
+/** How the file's bytes are read: the options every import command takes. */
+interface ReadingFlags {
+  dateFormat?: string;
+  thousands?: ThousandsName;
+  delimiter?: DelimiterName;
+  decimal?: DecimalName;
+  missing?: string;
+}
+
+function readingOptions(o: ReadingFlags): ReadingOptions {
+  return {
+    ...(o.dateFormat ? { dateFormat: o.dateFormat } : {}),
+    ...(o.thousands ? { thousands: o.thousands } : {}),
+    ...(o.delimiter ? { delimiter: o.delimiter } : {}),
+    ...(o.decimal ? { decimal: o.decimal } : {}),
+    ...(o.missing !== undefined ? { missing: missingCodeList(o.missing) } : {}),
+  };
+}
+
+/** "semicolon", ";", "tab", "\t" -> the delimiter's name. */
+function delimiterName(text: string): DelimiterName {
+  const t = text === '\\t' ? '\t' : text;
+  const byName = (Object.keys(DELIMITERS) as DelimiterName[]).find((n) => n === t.toLowerCase() || DELIMITERS[n] === t);
+  if (!byName) throw new DeflatorError('INPUT_INVALID', `--delimiter: "${text}" is not one of ${Object.keys(DELIMITERS).join(', ')}`, 'pass --delimiter comma|semicolon|tab|bar (or the character itself, quoted)');
+  return byName;
+}
+
+interface PriceFlags extends ReadingFlags {
   db: string;
   layout: 'long' | 'wide';
   dividends?: string;
-  dateFormat?: string;
-  thousands?: ThousandsName;
   dateColumn?: string;
   assetColumn?: string;
   priceColumn?: string;
@@ -82,14 +128,27 @@ interface PriceFlags {
   json?: boolean;
 }
 
-interface SeriesFlags {
+interface SeriesFlags extends ReadingFlags {
   db: string;
   kind: SeriesKind;
   units: Units;
   rfForm?: RiskfreeForm;
   dateColumn?: string;
-  dateFormat?: string;
-  thousands?: ThousandsName;
+  replace?: boolean;
+  json?: boolean;
+}
+
+interface ReturnFlags extends ReadingFlags {
+  db: string;
+  layout: 'wide' | 'long';
+  form: ReturnForm;
+  units: ValueUnits;
+  excess?: boolean;
+  dateColumn?: string;
+  assetColumn?: string;
+  returnColumn?: string;
+  maxReturn: number;
+  maxRejects: number;
   replace?: boolean;
   json?: boolean;
 }
@@ -103,7 +162,7 @@ function importId(text: string): number {
 
 function formatRemoved(r: RemovedImport, nowStale: { id: number; label: string }[], stillStale: number[]): string {
   const [main, ...rest] = r.entries;
-  const what = main.kind === 'series' ? 'series value' : 'price observation';
+  const what = main.kind === 'series' ? 'series value' : main.kind === 'returns' ? 'stored return' : 'price observation';
   const lines = [
     `removed import ${main.id} (${main.fileName}, ${main.kind}, imported ${main.importedAt}): ${r.rows} ${what}${r.rows === 1 ? '' : 's'} deleted`,
   ];
@@ -120,19 +179,30 @@ function formatRemoved(r: RemovedImport, nowStale: { id: number; label: string }
 }
 
 const thousandsNames = Object.keys(THOUSANDS_SEPARATORS) as ThousandsName[];
+const decimalNames = Object.keys(DECIMAL_MARKS) as DecimalName[];
+
+/** The reading options (delimiter, decimal mark, missing codes, date layout, thousands) of every import command. */
+function withReadingOptions(cmd: Command): Command {
+  return cmd
+    .option('--date-format <format>', `date layout when not ISO YYYY-MM-DD: ${DATE_FORMATS.join(', ')} (period keys read as the period's last day)`)
+    .option('--delimiter <d>', `field delimiter: ${Object.keys(DELIMITERS).join(', ')} (default comma)`, delimiterName)
+    .option('--decimal <mark>', `decimal mark: ${decimalNames.join(', ')} (comma: 1,5; with --delimiter semicolon or tab)`, oneOf('--decimal', decimalNames))
+    .option('--thousands <separator>', `allow thousands separators in numbers: ${thousandsNames.join(', ')} (off by default)`, oneOf('--thousands', thousandsNames))
+    .option('--missing <codes>', 'comma-separated missing-value codes, e.g. "-99.99,-999,NA" (an empty cell is always missing): no value for that period, a gap, never a zero');
+}
 
 export function register(program: Command): void {
-  const imp = program.command('import').description('import price/dividend histories or named series (factors, risk-free, consumption) from CSV into a database');
+  const imp = program.command('import').description('import price/dividend histories, return histories or named series (factors, risk-free, consumption) from CSV into a database');
 
-  imp
-    .command('prices')
-    .description('import prices and dividends (long: date,asset,price[,dividend,adjust,shares]; wide: date + one price column per asset)')
-    .argument('<file>', 'CSV file (UTF-8, RFC 4180)')
-    .requiredOption('--db <path>', 'database file (created on first import)')
-    .option('--layout <layout>', 'long (one row per date and asset) or wide (one column per asset)', oneOf('--layout', ['long', 'wide'] as const), 'long')
-    .option('--dividends <file>', 'wide layout: a second wide file of dividends per share (same columns as the prices)')
-    .option('--date-format <format>', `date layout when not ISO YYYY-MM-DD: ${DATE_FORMATS.join(', ')}`)
-    .option('--thousands <separator>', `allow thousands separators in numbers: ${thousandsNames.join(', ')} (off by default)`, oneOf('--thousands', thousandsNames))
+  withReadingOptions(
+    imp
+      .command('prices')
+      .description('import prices and dividends (long: date,asset,price[,dividend,adjust,shares]; wide: date + one price column per asset)')
+      .argument('<file>', 'CSV file (UTF-8, RFC 4180)')
+      .requiredOption('--db <path>', 'database file (created on first import)')
+      .option('--layout <layout>', 'long (one row per date and asset) or wide (one column per asset)', oneOf('--layout', ['long', 'wide'] as const), 'long')
+      .option('--dividends <file>', 'wide layout: a second wide file of dividends per share (same columns as the prices)'),
+  )
     .option('--date-column <name>', 'name of the date column (default date)')
     .option('--asset-column <name>', 'long layout: name of the asset column (default asset)')
     .option('--price-column <name>', 'long layout: name of the price column (default price)')
@@ -160,8 +230,7 @@ export function register(program: Command): void {
           layout: o.layout,
           ...(o.dividends ? { dividends: o.dividends } : {}),
           ...(Object.keys(columns).length ? { columns } : {}),
-          ...(o.dateFormat ? { dateFormat: o.dateFormat } : {}),
-          ...(o.thousands ? { thousands: o.thousands } : {}),
+          ...readingOptions(o),
           thresholds: { maxReturn: o.maxReturn, maxDividendYield: o.maxDividendYield, stalePeriods: o.stalePeriods },
           maxRejects: o.maxRejects,
           ...(o.replace ? { replace: true } : {}),
@@ -175,17 +244,17 @@ export function register(program: Command): void {
       }
     });
 
-  imp
-    .command('series')
-    .description('import named series from a wide CSV (date + one column per series; each keeps its column name)')
-    .argument('<file>', 'CSV file (UTF-8, RFC 4180)')
-    .requiredOption('--db <path>', 'database file (created on first import)')
-    .requiredOption('--kind <kind>', `what the series are: ${SERIES_KINDS.join(', ')}`, oneOf('--kind', SERIES_KINDS))
-    .option('--units <units>', 'decimal, or percent (divided by 100 on import)', oneOf('--units', ['decimal', 'percent'] as const), 'decimal')
-    .option('--rf-form <form>', `risk-free only: how it is quoted: ${RF_FORMS.join(', ')} (default rate = per-period rate)`, oneOf('--rf-form', RF_FORMS))
-    .option('--date-column <name>', 'name of the date column (default date)')
-    .option('--date-format <format>', `date layout when not ISO YYYY-MM-DD: ${DATE_FORMATS.join(', ')}`)
-    .option('--thousands <separator>', `allow thousands separators in numbers: ${thousandsNames.join(', ')}`, oneOf('--thousands', thousandsNames))
+  withReadingOptions(
+    imp
+      .command('series')
+      .description('import named series from a wide CSV (date + one column per series; each keeps its column name)')
+      .argument('<file>', 'CSV file (UTF-8, RFC 4180)')
+      .requiredOption('--db <path>', 'database file (created on first import)')
+      .requiredOption('--kind <kind>', `what the series are: ${SERIES_KINDS.join(', ')}`, oneOf('--kind', SERIES_KINDS))
+      .option('--units <units>', 'decimal, or percent (divided by 100 on import)', oneOf('--units', ['decimal', 'percent'] as const), 'decimal')
+      .option('--rf-form <form>', `risk-free only: how it is quoted: ${RF_FORMS.join(', ')} (default rate = per-period rate)`, oneOf('--rf-form', RF_FORMS))
+      .option('--date-column <name>', 'name of the date column (default date)'),
+  )
     .option('--replace', 'values whose (series, date) is already stored replace the stored values (a corrected file), in the same transaction')
     .option('--json', 'print the import report as JSON')
     .action(async (file: string, o: SeriesFlags) => {
@@ -197,8 +266,53 @@ export function register(program: Command): void {
           units: o.units,
           ...(o.rfForm ? { rfForm: o.rfForm } : {}),
           ...(o.dateColumn ? { dateColumn: o.dateColumn } : {}),
-          ...(o.dateFormat ? { dateFormat: o.dateFormat } : {}),
-          ...(o.thousands ? { thousands: o.thousands } : {}),
+          ...readingOptions(o),
+          ...(o.replace ? { replace: true } : {}),
+          ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
+        });
+        bar.done();
+        report(r, o.json);
+      } finally {
+        bar.done();
+        store.close();
+      }
+    });
+
+  withReadingOptions(
+    imp
+      .command('returns')
+      .description('import assets that arrive as returns (wide: date + one return column per asset; long: date,asset,return), e.g. portfolio or fund returns')
+      .argument('<file>', 'CSV file (UTF-8, RFC 4180)')
+      .requiredOption('--db <path>', 'database file (created on first import)')
+      .option('--layout <layout>', 'wide (a date column and one column per asset) or long (one row per date and asset)', oneOf('--layout', ['wide', 'long'] as const), 'wide')
+      .option('--form <form>', `how each return is written: ${RETURN_FORMS.join(', ')} (net r, gross R = 1 + r, log ln R)`, oneOf('--form', RETURN_FORMS), 'net')
+      .option('--units <units>', `${VALUE_UNITS.join(' or ')} (percent: 1.25 means 1.25 %)`, oneOf('--units', VALUE_UNITS), 'decimal')
+      .option('--excess', 'the file holds excess returns (R - R^f) already: excess-return specs need no risk-free series for these assets'),
+  )
+    .option('--date-column <name>', 'name of the date column (default date)')
+    .option('--asset-column <name>', 'long layout: name of the asset column (default asset)')
+    .option('--return-column <name>', 'long layout: name of the return column (default return)')
+    .option('--max-return <fraction>', 'warn about one-period returns beyond this, e.g. 0.5 or 50%', fraction('--max-return'), DEFAULT_MAX_RETURN)
+    .option('--max-rejects <n>', 'skip up to this many rows with a bad value (each listed as a warning) instead of failing', count('--max-rejects'), 0)
+    .option('--replace', 'rows whose (asset, date) is already stored replace the stored rows, and the same bytes imported before with other options are taken out, in the same transaction')
+    .option('--json', 'print the import report as JSON')
+    .action(async (file: string, o: ReturnFlags) => {
+      const columns: Partial<Record<ReturnColumn, string>> = {};
+      if (o.dateColumn) columns.date = o.dateColumn;
+      if (o.assetColumn) columns.asset = o.assetColumn;
+      if (o.returnColumn) columns.return = o.returnColumn;
+      const bar = progressBar(`importing ${file}`);
+      const store = new Store(o.db);
+      try {
+        const r = await importReturns(store, file, {
+          layout: o.layout,
+          form: o.form,
+          units: o.units,
+          ...(o.excess ? { excess: true } : {}),
+          ...(Object.keys(columns).length ? { columns } : {}),
+          ...readingOptions(o),
+          maxReturn: o.maxReturn,
+          maxRejects: o.maxRejects,
           ...(o.replace ? { replace: true } : {}),
           ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
         });

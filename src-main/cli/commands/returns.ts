@@ -1,6 +1,8 @@
 /**
  * `deflator returns --db DB --frequency F`: the return table (gross, net, log, excess or
- * total-return index) of the stored histories, as a readable table, CSV or JSON.
+ * total-return index) of the stored assets (prices or returns), as a readable table, CSV
+ * or JSON. --riskfree gives excess returns, and the total returns of assets stored as
+ * excess returns (R = R^e + R^f).
  */
 import type { Command } from 'commander';
 import { FREQUENCIES, type Frequency } from '../../../shared/data.js';
@@ -48,11 +50,11 @@ function readable(t: ReturnsTable): string {
 export function register(program: Command): void {
   program
     .command('returns')
-    .description('compute returns from the stored prices and dividends at a frequency (table by default, or --csv / --json)')
+    .description('compute returns from the stored prices and dividends (or stored returns) at a frequency (table by default, or --csv / --json)')
     .requiredOption('--db <path>', 'database file')
     .requiredOption('--frequency <f>', FREQUENCIES.join(' | '))
     .option('--kind <kind>', RETURN_KINDS.join(' | '), 'net')
-    .option('--riskfree <name>', 'risk-free series for excess returns')
+    .option('--riskfree <name>', 'risk-free series: for excess returns, and for the total returns of assets stored as excess returns')
     .option('--assets <names>', 'comma-separated asset names (default: every stored asset)')
     .option('--day-count <rule>', 'risk-free yields: periods (dt = 1/periods per year) or actual365', 'periods')
     .option('--csv', 'print CSV (period, then one column per asset)')
@@ -62,8 +64,6 @@ export function register(program: Command): void {
       const kind = pick<ReturnKind>('--kind', o.kind, RETURN_KINDS);
       const dayCount = pick('--day-count', o.dayCount, ['periods', 'actual365'] as const);
       if (o.csv && o.json) throw new DeflatorError('INPUT_INVALID', '--csv and --json both given', 'choose one output format');
-      if (kind === 'excess' && !o.riskfree) throw new DeflatorError('INPUT_INVALID', 'excess returns need --riskfree NAME', 'name a stored risk-free series (deflator info --db DB lists them)');
-      if (o.riskfree && kind !== 'excess') throw new DeflatorError('INPUT_INVALID', `--riskfree is used only with --kind excess (not ${kind})`, 'drop --riskfree, or pass --kind excess');
       const store = new Store(o.db, { mustExist: true });
       try {
         const assets = o.assets ? o.assets.split(',').map((s) => s.trim()).filter(Boolean) : undefined;
