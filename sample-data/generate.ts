@@ -11,7 +11,7 @@
  * own seeded stream) that predict the factors a little. Daily scenario: four ferry
  * operators over two years, wide layout.
  */
-import { writeFileSync } from 'node:fs';
+import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { mulberry32 } from '../shared/random.js';
 
@@ -253,3 +253,77 @@ write(
   ['asset,payout,beta_harbor_ember_ledger,alpha,idiosyncratic_sd', ...table.map((r) => `${r.asset},${r.values.join(',')}`)],
 );
 process.stdout.write(`wrote ${priceRows.length - 1} monthly price rows (${companies.length} assets x ${dates.length} dates), ${days.length * ferries.length} daily cells\n`);
+
+// ---------------------------------------------------------------- returns scenario (its own seeded stream)
+// The Corvane board's research desk publishes twelve portfolios as returns, not prices:
+// quay size (small, mid, large) by beacon tilt (t1 low ... t4 high), monthly 1990-01 to
+// 2024-12, YYYYMM dates, percent, -99.99 where a portfolio had no return (large-t4 held
+// no company before 1990-07; small-t1 was suspended in 1998-08 and 1998-09). Three traded
+// factors (excess returns) and the per-month bill rate come in the same layout.
+{
+  const draw = rng(20261202);
+  let spareR: number | null = null;
+  const gauss = (): number => {
+    if (spareR !== null) {
+      const s = spareR;
+      spareR = null;
+      return s;
+    }
+    let u = 0;
+    while (u === 0) u = draw();
+    const v = draw();
+    const r = Math.sqrt(-2 * Math.log(u));
+    spareR = r * Math.sin(2 * Math.PI * v);
+    return r * Math.cos(2 * Math.PI * v);
+  };
+  const span = (lo: number, hi: number) => lo + (hi - lo) * draw();
+  const months: string[] = [];
+  for (let yy = 1990; yy <= 2024; yy++) for (let mm = 1; mm <= 12; mm++) months.push(`${yy}${mm < 10 ? '0' : ''}${mm}`);
+  // per-month bill rate (percent), mean-reverting around 0.25 % a month
+  const bill: number[] = [];
+  let level = 0.42;
+  for (let t = 0; t < months.length; t++) {
+    level = Math.max(0.0, level + 0.03 * (0.25 - level) + 0.02 * gauss());
+    bill.push(Number(level.toFixed(4)));
+  }
+  // three factors (monthly excess returns, percent): the broad tideline, keel (small minus large), beacon (high minus low tilt)
+  const fNames = ['tideline', 'keel', 'beacon'] as const;
+  const fMean = [0.6, 0.2, 0.3];
+  const fMix = [
+    [4.3, 0, 0],
+    [0.8, 2.6, 0],
+    [-0.5, 0.3, 2.4],
+  ];
+  const fac = months.map(() => {
+    const z = [gauss(), gauss(), gauss()];
+    return fMean.map((mu, k) => Number((mu + fMix[k][0] * z[0] + fMix[k][1] * z[1] + fMix[k][2] * z[2]).toFixed(2)));
+  });
+  const sizes = ['small', 'mid', 'large'] as const;
+  const ports: { name: string; beta: number[]; alpha: number; sd: number }[] = [];
+  sizes.forEach((sz, i) => {
+    for (let tilt = 1; tilt <= 4; tilt++) {
+      ports.push({
+        name: `${sz}-t${tilt}`,
+        beta: [span(0.85, 1.2), 0.9 - 0.7 * i + span(-0.1, 0.1), -0.6 + 0.4 * tilt + span(-0.1, 0.1)],
+        alpha: 0.05 * gauss(),
+        sd: span(1.2, 2.6) - 0.3 * i,
+      });
+    }
+  });
+  const missing = (p: string, m: string) => (p === 'large-t4' && m < '199007') || (p === 'small-t1' && (m === '199808' || m === '199809'));
+  const portRows = ['date,' + ports.map((p) => p.name).join(',')];
+  months.forEach((m, t) => {
+    const cells = ports.map((p) => {
+      const excess = p.alpha + p.beta[0] * fac[t][0] + p.beta[1] * fac[t][1] + p.beta[2] * fac[t][2] + p.sd * gauss();
+      return missing(p.name, m) ? '-99.99' : (bill[t] + excess).toFixed(2);
+    });
+    portRows.push(`${m},${cells.join(',')}`);
+  });
+  const facRows = ['date,' + fNames.join(','), ...months.map((m, t) => `${m},${fac[t].map((v) => v.toFixed(2)).join(',')}`)];
+  const billRows = ['date,bill_rate', ...months.map((m, t) => `${m},${bill[t].toFixed(4)}`)];
+  mkdirSync(path.join(here, 'returns'), { recursive: true });
+  write('returns/portfolios.csv', portRows);
+  write('returns/factors.csv', facRows);
+  write('returns/bill_rate.csv', billRows);
+  process.stdout.write(`wrote ${ports.length} return portfolios x ${months.length} months, ${fNames.length} factors, the bill rate\n`);
+}

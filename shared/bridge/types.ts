@@ -22,6 +22,12 @@ export interface CoverageRow {
   longestGapDays?: number;
   /** How a risk-free series was quoted, where known. */
   rfForm?: string;
+  /** Assets: how the history arrived (absent for older replies: prices). */
+  source?: 'prices' | 'returns';
+  /** Assets stored as returns: "net returns (percent, excess)" and the like. */
+  data?: string;
+  /** Assets stored as returns: periods holding a missing value (gaps). */
+  missing?: number;
 }
 
 export interface Coverage {
@@ -38,15 +44,22 @@ export interface AppInfo {
   counts: { assets: number; series: number; portfolios: number };
 }
 
-/** Price against the total-return index of one asset (METHODS section 1). */
+/** Price against the total-return index of one asset (METHODS sections 1 and 8). */
 export interface AssetHistory {
   asset: string;
   frequency: Frequency | 'stored';
   dates: string[];
+  /** Price per share (split-adjusted); empty for an asset stored as returns (it has no price). */
   price: number[];
-  /** Total-return index V_t, scaled to start at the first price so both lines share an axis. */
+  /** Total-return index V_t, scaled to start at the first price so both lines share an axis (1 at the period before the first return for an asset stored as returns). */
   totalReturn: number[];
   dividends: number;
+  /** How the history arrived (absent: prices). */
+  source?: 'prices' | 'returns';
+  /** What the index line is: "total-return index", or "excess-return index" for excess returns compounded (no risk-free series). */
+  indexLabel?: string;
+  /** Assets stored as returns: "net returns (percent)" and the like. */
+  data?: string;
 }
 
 export interface ImportWarning {

@@ -1,7 +1,8 @@
 /**
  * An asset's price against its total-return index (dividends reinvested, METHODS
  * section 1), both starting at the first price: the gap between the lines is the
- * cumulated dividend yield.
+ * cumulated dividend yield. An asset stored as returns (METHODS 8) has no price: only
+ * its index line is drawn, under the label the reply gives.
  */
 import type { AssetHistory } from '../bridge/types.js';
 import { baseOption, num, valueAxis } from './common.js';
@@ -29,8 +30,10 @@ export function priceHistoryOption(h: AssetHistory, opts: { log?: boolean } = {}
     yAxis: valueAxis(opts.log ? 'level (log scale)' : 'level', opts.log ? { type: 'log', scale: true } : { scale: true }),
     dataZoom: many ? [{ type: 'slider', height: 18, bottom: 8, borderColor: PALETTE.rule, fillerColor: 'rgba(43,95,125,0.10)' }, { type: 'inside' }] : [],
     series: [
-      { type: 'line', name: 'price', data: clean(h.price), showSymbol: false, lineStyle: { color: PALETTE.faint, width: 1.5 }, itemStyle: { color: PALETTE.faint } },
-      { type: 'line', name: 'total-return index', data: clean(h.totalReturn), showSymbol: false, lineStyle: { color: PALETTE.primary, width: 1.8 }, itemStyle: { color: PALETTE.primary } },
+      ...(h.price.length
+        ? [{ type: 'line' as const, name: 'price', data: clean(h.price), showSymbol: false, lineStyle: { color: PALETTE.faint, width: 1.5 }, itemStyle: { color: PALETTE.faint } }]
+        : []),
+      { type: 'line' as const, name: h.indexLabel ?? 'total-return index', data: clean(h.totalReturn), showSymbol: false, lineStyle: { color: PALETTE.primary, width: 1.8 }, itemStyle: { color: PALETTE.primary } },
     ],
   };
 }

@@ -4,10 +4,10 @@
  * every estimation. Built with plain constructor arguments by src-main/app/open.ts.
  */
 import path from 'node:path';
-import type { Frequency, PriceHistory } from '../../shared/data.js';
+import { assetSourceText, isReturnHistory, type Frequency, type PriceHistory, type ReturnHistory } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
-import { parseAscending } from '../../shared/returns/periods.js';
+import { parseAscending, spacingFrequency } from '../../shared/returns/periods.js';
 import type { CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
 import type { AssetHistory, Coverage, CoverageRow, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
@@ -33,9 +33,13 @@ export class StoreProject implements ProjectData, Importer {
   coverage(): Coverage {
     const info = this.store.info();
     const assets: CoverageRow[] = info.assets.map((a) => {
-      const row: CoverageRow = { name: a.name, kind: 'asset', first: a.first, last: a.last, count: a.count, gaps: a.gaps.length };
+      const row: CoverageRow = { name: a.name, kind: 'asset', first: a.first, last: a.last, count: a.count, gaps: a.gaps.length, source: a.source };
       const l = longest(a.gaps);
       if (l !== undefined) row.longestGapDays = l;
+      if (a.source === 'returns') {
+        row.data = assetSourceText(a);
+        row.missing = a.missing ?? 0;
+      }
       return row;
     });
     const series: CoverageRow[] = info.series.map((s) => {
@@ -51,10 +55,10 @@ export class StoreProject implements ProjectData, Importer {
 
   history(asset: string, frequency?: Frequency): AssetHistory {
     if (!this.store.hasAsset(asset)) {
-      throw new DeflatorError('NOT_FOUND', `no price history named "${asset}" in ${this.databaseName}`, 'pick an asset from the coverage table');
+      throw new DeflatorError('NOT_FOUND', `no asset named "${asset}" in ${this.databaseName}`, 'pick an asset from the coverage table');
     }
-    const h = this.store.loadHistories([asset])[0];
-    return priceAndTotalReturn(h, frequency);
+    const h = this.store.loadAssets([asset])[0];
+    return isReturnHistory(h) ? returnIndex(h, frequency) : priceAndTotalReturn(h, frequency);
   }
 
   async importFile(file: string, kind: 'prices' | 'series', options: ImportOptions, ctx: TaskContext): Promise<ImportReport> {
@@ -136,6 +140,38 @@ export function priceAndTotalReturn(h: PriceHistory, frequency?: Frequency): Ass
     totalReturn.push(v * first);
   });
   return { asset: h.asset, frequency: frequency ?? 'stored', dates, price, totalReturn, dividends };
+}
+
+/**
+ * An asset stored as returns (METHODS 8): its value index V (1 at the period before the
+ * first return, V_t = V_{t-1} R_t; a gap carries the level over), no price line. Excess
+ * returns have no total return without a risk-free series: their line is the excess
+ * returns compounded, prod(1 + R^e), and says so.
+ */
+export function returnIndex(h: ReturnHistory, frequency?: Frequency): AssetHistory {
+  const dates = parseAscending(h.dates, `return history "${h.asset}"`);
+  const f = frequency ?? spacingFrequency(dates) ?? 'monthly';
+  const asTotal: ReturnHistory = h.excess ? { ...h, excess: false } : h;
+  const table = returnsTable([asTotal], { frequency: f, kind: 'index' });
+  const values = table.series[h.asset] ?? [];
+  const out: AssetHistory = {
+    asset: h.asset,
+    frequency: frequency ?? 'stored',
+    dates: [],
+    price: [],
+    totalReturn: [],
+    dividends: 0,
+    source: 'returns',
+    indexLabel: h.excess ? 'excess-return index (excess returns compounded)' : 'total-return index',
+    data: assetSourceText(h),
+  };
+  table.periods.forEach((label, k) => {
+    const v = values[k];
+    if (v === null || v === undefined || !Number.isFinite(v)) return;
+    out.dates.push(label);
+    out.totalReturn.push(v);
+  });
+  return out;
 }
 
 /**

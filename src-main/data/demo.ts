@@ -6,22 +6,29 @@ import Database from 'better-sqlite3';
 import { existsSync, readFileSync, rmSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
-import type { RiskfreeForm, SeriesKind } from '../../shared/data.js';
+import type { ReturnForm, RiskfreeForm, SeriesKind, ValueUnits } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
-import { importPrices, importSeries, type ImportReport, type Units } from '../import/index.js';
+import { importPrices, importReturns, importSeries, type ImportReport, type Units } from '../import/index.js';
 import { Store } from '../store/store.js';
 
-export const DEMO_SETS = ['monthly', 'daily'] as const;
+export const DEMO_SETS = ['monthly', 'daily', 'returns'] as const;
 export type DemoSet = (typeof DEMO_SETS)[number];
 
 export interface ManifestEntry {
   file: string;
-  import: 'prices' | 'series';
+  import: 'prices' | 'series' | 'returns';
   layout?: 'long' | 'wide';
   dividends?: string;
   kind?: SeriesKind;
   units?: Units;
   rfForm?: RiskfreeForm;
+  /** Date layout (e.g. YYYYMM) when not ISO. */
+  dateFormat?: string;
+  /** Missing-value codes. */
+  missing?: string[];
+  /** Return files: form and whether they hold excess returns. */
+  form?: ReturnForm;
+  excess?: boolean;
 }
 
 export interface Manifest {
@@ -93,10 +100,14 @@ export async function buildDemo(dbPath: string, options: { set?: DemoSet; sample
   try {
     for (const e of entries) {
       const file = path.join(dir, e.file);
+      const reading = { ...(e.dateFormat ? { dateFormat: e.dateFormat } : {}), ...(e.missing ? { missing: e.missing } : {}) };
       if (e.import === 'prices') {
-        reports.push(await importPrices(store, file, { layout: e.layout ?? 'long', ...(e.dividends ? { dividends: path.join(dir, e.dividends) } : {}) }));
+        reports.push(await importPrices(store, file, { layout: e.layout ?? 'long', ...(e.dividends ? { dividends: path.join(dir, e.dividends) } : {}), ...reading }));
+      } else if (e.import === 'returns') {
+        const units: ValueUnits = e.units ?? 'decimal';
+        reports.push(await importReturns(store, file, { layout: e.layout ?? 'wide', form: e.form ?? 'net', units, ...(e.excess ? { excess: true } : {}), ...reading }));
       } else {
-        reports.push(await importSeries(store, file, { kind: e.kind ?? 'other', units: e.units ?? 'decimal', ...(e.rfForm ? { rfForm: e.rfForm } : {}) }));
+        reports.push(await importSeries(store, file, { kind: e.kind ?? 'other', units: e.units ?? 'decimal', ...(e.rfForm ? { rfForm: e.rfForm } : {}), ...reading }));
       }
     }
   } finally {

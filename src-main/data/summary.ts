@@ -44,8 +44,8 @@ export function formatInfo(info: StoreInfo): string {
   if (info.assets.length) {
     out.push(
       textTable(
-        ['asset', 'data', 'first', 'last', 'count', 'frequency', 'gaps', 'missing', 'dividends', 'splits'],
-        info.assets.map((a) => [a.name, assetSourceText(a), a.first ?? '', a.last ?? '', a.count, a.frequency ?? '', a.gaps.length, a.missing ?? 0, a.dividends, a.splits]),
+        ['asset', 'first', 'last', 'count', 'frequency', 'gaps', 'dividends', 'splits', 'missing', 'data'],
+        info.assets.map((a) => [a.name, a.first ?? '', a.last ?? '', a.count, a.frequency ?? '', a.gaps.length, a.dividends, a.splits, a.missing ?? 0, assetSourceText(a)]),
       ),
     );
   }

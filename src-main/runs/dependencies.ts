@@ -6,7 +6,7 @@
  * data has changed since (re-imported, replaced or deleted): the run is then stale.
  */
 import { createHash } from 'node:crypto';
-import type { NamedSeries, PriceHistory, ReturnSeries } from '../../shared/data.js';
+import { isReturnHistory, type NamedSeries, type ReturnForm, type ReturnSeries, type StoredAsset, type ValueUnits } from '../../shared/data.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
@@ -82,10 +82,12 @@ export class DataFingerprinter {
       seriesId: db.prepare('SELECT id FROM series WHERE name = ?').pluck(),
       portfolioId: db.prepare('SELECT id FROM portfolio WHERE name = ?').pluck(),
       assetRows: db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
+      assetForm: db.prepare('SELECT form, units, excess FROM asset WHERE id = ?').raw(),
+      returnRows: db.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw(),
       seriesRows: db.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw(),
       portfolioRows: db.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw(),
       assetFiles: db.prepare(
-        'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM observation WHERE asset_id = ?) ORDER BY l.id',
+        'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT import_id FROM observation WHERE asset_id = $id UNION SELECT import_id FROM return_observation WHERE asset_id = $id) ORDER BY l.id',
       ),
       seriesFiles: db.prepare(
         'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM series_observation WHERE series_id = ?) ORDER BY l.id',
@@ -109,7 +111,11 @@ export class DataFingerprinter {
     const id = this.id(ref);
     let fp: SubjectFingerprint | null = null;
     if (id !== undefined) {
-      if (ref.kind === 'asset') {
+      const form = ref.kind === 'asset' ? (this.st.assetForm.get(id) as [ReturnForm | null, ValueUnits | null, number | null] | undefined) : undefined;
+      if (form && form[0] !== null) {
+        const rows = this.st.returnRows.all(id) as [string, number | null][];
+        fp = subjectDigest(returnRows(ref.name, { form: form[0], units: form[1] ?? 'decimal', excess: form[2] === 1 }, rows.map((r) => r[0]), rows.map((r) => r[1])));
+      } else if (ref.kind === 'asset') {
         const rows = this.st.assetRows.all(id) as [string, number, number, number, number | null][];
         fp = subjectDigest({ kind: 'asset', name: ref.name, dates: rows.map((r) => r[0]), values: [rows.map((r) => r[1]), rows.map((r) => r[2]), rows.map((r) => r[3])], optional: rows.map((r) => r[4]) });
       } else if (ref.kind === 'series') {
@@ -132,7 +138,7 @@ export class DataFingerprinter {
       const id = this.id(ref);
       if (id === undefined) continue;
       const st = ref.kind === 'asset' ? this.st.assetFiles : this.st.seriesFiles;
-      for (const row of st.all(id) as { id: number; file_name: string; sha256: string }[]) {
+      for (const row of (ref.kind === 'asset' ? st.all({ id }) : st.all(id)) as { id: number; file_name: string; sha256: string }[]) {
         const f = byImport.get(row.id) ?? { file: row.file_name, sha256: row.sha256, importId: row.id, subjects: [] };
         f.subjects.push(ref.name);
         byImport.set(row.id, f);
@@ -150,15 +156,24 @@ export interface SubjectRows {
   dates: readonly string[];
   /** The always-present values per row: asset price, dividend, adjust; series value; none for portfolios. */
   values: readonly ArrayLike<number>[];
-  /** The optional value per row (asset shares, portfolio net): null (or NaN) when absent. */
+  /** The optional value per row (asset shares, portfolio net, a stored return): null (or NaN) when absent. */
   optional?: ArrayLike<number | null>;
+  /** Hashed after the name: how an asset stored as returns is written ("returns", form, units, "excess" or "total"). */
+  prefix?: readonly string[];
+}
+
+/** An asset stored as returns, for its digest: its form, units and excess flag, then each date and return (absent where missing). */
+export function returnRows(name: string, meta: { form: ReturnForm; units: ValueUnits; excess: boolean }, dates: readonly string[], values: ArrayLike<number | null>): SubjectRows {
+  return { kind: 'asset', name, prefix: ['returns', meta.form, meta.units, meta.excess ? 'excess' : 'total'], dates, values: [], optional: values };
 }
 
 /**
  * SHA-256 over a subject's stored rows, in date order. Per row: the date as u32 length +
  * UTF-8, then float64 little-endian values: asset (price, dividend, adjust, a u8 flag and
  * shares when present), series (value), portfolio (a u8 flag and net when present).
- * Prefixed by kind and name (each as u32 length + UTF-8). The bytes are laid out in one
+ * Prefixed by kind and name (each as u32 length + UTF-8); an asset stored as returns also by
+ * "returns", its form, units and "excess" or "total", and its rows hash a u8 flag and the
+ * stored value when present. The bytes are laid out in one
  * buffer per subject and hashed once.
  */
 export function subjectDigest(s: SubjectRows): SubjectFingerprint {
@@ -168,6 +183,7 @@ export function subjectDigest(s: SubjectRows): SubjectFingerprint {
     return v !== undefined && v !== null && !Number.isNaN(v);
   };
   let size = 8 + Buffer.byteLength(s.kind) + Buffer.byteLength(s.name);
+  for (const p of s.prefix ?? []) size += 4 + Buffer.byteLength(p);
   for (let i = 0; i < n; i++) size += 4 + Buffer.byteLength(s.dates[i]) + 8 * s.values.length + (s.optional ? (present(i) ? 9 : 1) : 0);
   const buf = Buffer.allocUnsafe(size);
   let o = 0;
@@ -178,6 +194,7 @@ export function subjectDigest(s: SubjectRows): SubjectFingerprint {
   };
   str(s.kind);
   str(s.name);
+  for (const p of s.prefix ?? []) str(p);
   for (let i = 0; i < n; i++) {
     str(s.dates[i]);
     for (const col of s.values) o = buf.writeDoubleLE(col[i], o);
@@ -191,9 +208,13 @@ export function subjectDigest(s: SubjectRows): SubjectFingerprint {
 }
 
 /** Digests of what a panel load read (src-main/data/panel.ts loadPanelInput), without reading the store again. */
-export function loadedDigests(input: { histories: readonly PriceHistory[]; series: readonly NamedSeries[]; portfolios?: readonly ReturnSeries[] }): SubjectFingerprint[] {
+export function loadedDigests(input: { histories: readonly StoredAsset[]; series: readonly NamedSeries[]; portfolios?: readonly ReturnSeries[] }): SubjectFingerprint[] {
   const out: SubjectFingerprint[] = [];
   for (const h of input.histories) {
+    if (isReturnHistory(h)) {
+      out.push(subjectDigest(returnRows(h.asset, h, h.dates, h.values)));
+      continue;
+    }
     const n = h.dates.length;
     out.push(subjectDigest({ kind: 'asset', name: h.asset, dates: h.dates, values: [h.price, h.dividend, h.adjust ?? new Float64Array(n).fill(1)], optional: h.shares ?? new Float64Array(n).fill(NaN) }));
   }

@@ -7,7 +7,7 @@ import path from 'node:path';
 import { DeflatorError } from '../../../shared/errors.js';
 import { CAUTION } from '../../../shared/results.js';
 import { readFileSync } from 'node:fs';
-import { parseCompareSpec } from '../../../shared/spec.js';
+import { parseCompareSpec, parseFitSpec } from '../../../shared/spec.js';
 import { DEMO_SETS, buildDemo, findSampleData, type DemoSet } from '../../data/demo.js';
 import { runAnalysis } from '../../services/analysis.js';
 import { analysisJson, analysisText } from '../../services/report.js';
@@ -40,7 +40,7 @@ export function register(program: Command): void {
     .command('demo')
     .description('build a demo database from the bundled, invented sample data and show what it holds')
     .option('--db <path>', 'where to write the demo database (replaced if it is a deflator database)', DEFAULT_DEMO_DB)
-    .option('--set <name>', `sample set: ${DEMO_SETS.join(' | ')} (monthly: 30 assets over 24 years with factors, risk-free and consumption; daily: 4 assets over 2 years)`, 'monthly')
+    .option('--set <name>', `sample set: ${DEMO_SETS.join(' | ')} (monthly: 30 assets over 24 years with factors, risk-free and consumption; daily: 4 assets over 2 years; returns: 12 portfolios as monthly returns, YYYYMM, percent, with factors and the bill rate)`, 'monthly')
     .option('--json', 'print the import reports and store contents as one JSON object')
     .action(async (opts: DemoOptions) => {
       await runDemo(opts);
@@ -92,6 +92,31 @@ async function compareStep(ctx: DemoContext): Promise<void> {
   }
 }
 
+/** The returns set's fit: the twelve return portfolios on three factors. */
+export const DEMO_RETURNS_SPEC = 'specs/returns-linear-second.json';
+
+/**
+ * Fits the returns set's model (sample-data/specs/returns-linear-second.json) on the
+ * portfolios imported as returns, in the worker pool, and records the run.
+ */
+async function returnsFitStep(ctx: DemoContext): Promise<void> {
+  const specPath = path.join(findSampleData(), DEMO_RETURNS_SPEC);
+  const spec = parseFitSpec(JSON.parse(readFileSync(specPath, 'utf8')));
+  const store = new Store(ctx.dbPath, { mustExist: true });
+  try {
+    const bar = progressBar('demo fit');
+    const { result, run } = await withCompute(1, (compute) => runAnalysis(store, { kind: 'fit', spec }, compute, { onProgress: (d, t, stage) => bar.update(d, t, stage) })).finally(() => bar.finish());
+    if (!run) throw new Error('the demo fit was not recorded');
+    const { caution: _c, ...json } = analysisJson(result, run);
+    ctx.json.fit = json;
+    ctx.print(`\nFit on the portfolios imported as returns (sample-data/${DEMO_RETURNS_SPEC})\n`);
+    ctx.print(analysisText(result));
+    ctx.print(`Recorded as run ${run.id}: deflator show ${run.id} --db ${ctx.dbPath}; deflator backtest sample-data/specs/returns-backtest-rolling.json --db ${ctx.dbPath}`);
+  } finally {
+    store.close();
+  }
+}
+
 export async function runDemo(options: DemoOptions): Promise<void> {
   if (!(DEMO_SETS as readonly string[]).includes(options.set)) throw new DeflatorError('INPUT_INVALID', `unknown demo set "${options.set}"`, `use --set ${DEMO_SETS.join(' or --set ')}`);
   const ctx: DemoContext = {
@@ -104,6 +129,7 @@ export async function runDemo(options: DemoOptions): Promise<void> {
   await importStep(ctx);
   // Further demo steps go here, one call each.
   if (ctx.set === 'monthly') await compareStep(ctx);
+  if (ctx.set === 'returns') await returnsFitStep(ctx);
   if (options.json) process.stdout.write(`${JSON.stringify({ ...ctx.json, caution: CAUTION }, null, 2)}\n`);
-  else if (ctx.set !== 'monthly') ctx.print(`\n${CAUTION}`); // the comparison report ends with it
+  else if (ctx.set === 'daily') ctx.print(`\n${CAUTION}`); // the comparison and fit reports end with it
 }

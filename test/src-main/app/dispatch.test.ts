@@ -33,9 +33,9 @@ describe('dispatcher', () => {
 
   it('runs the cross-key spec checks before the engine sees the spec', async () => {
     const a = app();
-    const r = await a.dispatcher.dispatch('fit', { spec: { model: { factors: ['MKT'] } } });
+    const r = await a.dispatcher.dispatch('fit', { spec: { returns: 'gross', riskfree: 'RF', model: { factors: ['MKT'] } } });
     expect(r).toMatchObject({ ok: false, error: { code: 'SPEC_INVALID' } });
-    if (!r.ok) expect(r.error.message).toContain('riskfree');
+    if (!r.ok) expect(r.error.message).toContain('prices excess returns');
     const b = await a.dispatcher.dispatch('backtest', { spec });
     expect(b).toMatchObject({ ok: false, error: { code: 'SPEC_INVALID' } });
     expect(a.engine.calls).toEqual([]);
