@@ -19,22 +19,26 @@ const here = import.meta.dirname;
 
 const rng = mulberry32;
 
-const uniform = rng(20240917);
-let spare: number | null = null;
-/** Standard normal by Box-Muller. */
-function normal(): number {
-  if (spare !== null) {
-    const s = spare;
-    spare = null;
-    return s;
-  }
-  let u = 0;
-  while (u === 0) u = uniform();
-  const v = uniform();
-  const r = Math.sqrt(-2 * Math.log(u));
-  spare = r * Math.sin(2 * Math.PI * v);
-  return r * Math.cos(2 * Math.PI * v);
+/** Standard normal draws by Box-Muller from a uniform stream (each stream keeps its own spare). */
+function normalStream(uniform: () => number): () => number {
+  let spare: number | null = null;
+  return () => {
+    if (spare !== null) {
+      const s = spare;
+      spare = null;
+      return s;
+    }
+    let u = 0;
+    while (u === 0) u = uniform();
+    const v = uniform();
+    const r = Math.sqrt(-2 * Math.log(u));
+    spare = r * Math.sin(2 * Math.PI * v);
+    return r * Math.cos(2 * Math.PI * v);
+  };
 }
+
+const uniform = rng(20240917);
+const normal = normalStream(uniform);
 const between = (lo: number, hi: number) => lo + (hi - lo) * uniform();
 const round = (x: number, d: number) => Number(x.toFixed(d));
 const iso = (d: Date) => d.toISOString().slice(0, 10);
@@ -208,21 +212,7 @@ for (let t = 0; t < days.length; t++) {
 // next month's factor return (the yield towards harbor, the spread towards ember), so the
 // series predict returns a little (correlation of 0.14 and 0.2 with the next month's factor),
 // as a valuation ratio and a term spread are meant to.
-const instrumentUniform = rng(20250512);
-let instrumentSpare: number | null = null;
-function instrumentNormal(): number {
-  if (instrumentSpare !== null) {
-    const s = instrumentSpare;
-    instrumentSpare = null;
-    return s;
-  }
-  let u = 0;
-  while (u === 0) u = instrumentUniform();
-  const v = instrumentUniform();
-  const r = Math.sqrt(-2 * Math.log(u));
-  instrumentSpare = r * Math.sin(2 * Math.PI * v);
-  return r * Math.cos(2 * Math.PI * v);
-}
+const instrumentNormal = normalStream(rng(20250512));
 const boardYield: number[] = [];
 const termSpread: number[] = [];
 let yieldGap = 0.004;

@@ -7,3 +7,4 @@ export * from './volatility-bound.js';
 export * from './price-history.js';
 export * from './backtest.js';
 export * from './compare.js';
+export * from './pricing-error-heatmap.js';

@@ -14,26 +14,11 @@ import { backtest, backtestWindows, engineName, incrementalApplies } from '../..
 import { fit } from '../../../shared/estimation/fit.js';
 import type { ReturnsPanel } from '../../../shared/panel.js';
 import { parseFitSpec } from '../../../shared/spec.js';
-import { expectClose, panelFromFixture, type FixturePanelInput } from './helpers.js';
+import { expectClose, expectSummaryClose, panelFromFixture, type FixtureCase as BaseCase, type FixturePanelInput } from './helpers.js';
 
-interface FixtureWindow {
-  start: number;
-  end: number;
-  lags: number;
-  params: { name: string; estimate: number; se: number }[];
-  alphaIn: number[];
-  alphaOos: number[];
-}
-interface FixtureCase {
-  name: string;
-  kind: 'linear' | 'linear-raw' | 'linear-gross';
-  returns: 'excess' | 'gross';
+type FixtureCase = BaseCase & {
   instruments: { series: string[]; scale: 'returns' | 'factors' | 'both' };
-  estimator: { stage: 'first' | 'second'; weight: 'identity' | 'hj'; lags: number | 'auto'; centered: boolean };
-  backtest: { window: number; step: number; horizon: number; expanding: boolean };
-  windows: FixtureWindow[];
-  summary: { rmse: number; rmsePooled: number; r2: number; inRmse: number; inR2: number; inMape: number; perAssetOos: number[]; perAssetIn: number[] };
-}
+};
 const fx = JSON.parse(readFileSync(path.join(import.meta.dirname, 'fixtures/backtest_instruments_numpy.json'), 'utf8')) as FixturePanelInput & {
   instrumentNames: string[];
   instruments: number[][];
@@ -95,12 +80,7 @@ describe('back-test with instruments against a numpy window loop', () => {
       expect(res.windows).toBe(c.windows.length);
       expect(res.windowsFailed).toBe(0);
       // numpy reference: fixtures/make_backtest_instruments.py (summary block)
-      expectClose(res.oos.rmse, s.rmse, TOL, 'oos.rmse');
-      expectClose(res.oos.rmsePooled, s.rmsePooled, TOL, 'oos.rmsePooled');
-      expectClose(res.oos.r2, s.r2, TOL, 'oos.r2');
-      expectClose(res.inSample.rmse, s.inRmse, TOL, 'inSample.rmse');
-      expectClose(res.inSample.r2, s.inR2, TOL, 'inSample.r2');
-      expectClose(res.inSample.mape, s.inMape, TOL, 'inSample.mape');
+      expectSummaryClose(res, s, TOL);
       const scale = Math.max(...s.perAssetOos.map(Math.abs));
       s.perAssetOos.forEach((a, i) => expectClose(res.perAsset[i].alphaOos, a, TOL, `perAsset[${i}].alphaOos`, scale));
       // labels: asset and instrument per payoff, instrument-major

@@ -10,25 +10,8 @@ import path from 'node:path';
 import { describe, it, expect } from 'vitest';
 import { backtest, backtestWindows } from '../../../shared/backtest/index.js';
 import { parseFitSpec } from '../../../shared/spec.js';
-import { expectClose, panelFromFixture, type FixturePanelInput } from './helpers.js';
+import { expectClose, expectSummaryClose, panelFromFixture, type FixtureCase, type FixturePanelInput } from './helpers.js';
 
-interface FixtureWindow {
-  start: number;
-  end: number;
-  lags: number;
-  params: { name: string; estimate: number; se: number }[];
-  alphaIn: number[];
-  alphaOos: number[];
-}
-interface FixtureCase {
-  name: string;
-  kind: 'linear' | 'linear-raw' | 'linear-gross';
-  returns: 'excess' | 'gross';
-  estimator: { stage: 'first' | 'second'; weight: 'identity' | 'hj'; lags: number | 'auto'; centered: boolean };
-  backtest: { window: number; step: number; horizon: number; expanding: boolean };
-  windows: FixtureWindow[];
-  summary: { rmse: number; rmsePooled: number; r2: number; inRmse: number; inR2: number; inMape: number; perAssetOos: number[]; perAssetIn: number[] };
-}
 const fx = JSON.parse(readFileSync(path.join(import.meta.dirname, 'fixtures/backtest_numpy.json'), 'utf8')) as FixturePanelInput & { cases: FixtureCase[] };
 
 const TOL = 1e-8; // relative, against numpy (fixtures/make_backtest.py)
@@ -74,12 +57,7 @@ describe('back-test against numpy, window by window', () => {
       // numpy reference: fixtures/make_backtest.py (summary block)
       expect(res.windows).toBe(c.windows.length);
       expect(res.windowsFailed).toBe(0);
-      expectClose(res.oos.rmse, s.rmse, TOL, 'oos.rmse');
-      expectClose(res.oos.rmsePooled, s.rmsePooled, TOL, 'oos.rmsePooled');
-      expectClose(res.oos.r2, s.r2, TOL, 'oos.r2');
-      expectClose(res.inSample.rmse, s.inRmse, TOL, 'inSample.rmse');
-      expectClose(res.inSample.r2, s.inR2, TOL, 'inSample.r2');
-      expectClose(res.inSample.mape, s.inMape, TOL, 'inSample.mape');
+      expectSummaryClose(res, s, TOL);
       res.perAsset.forEach((row, i) => {
         expectClose(row.alphaOos, s.perAssetOos[i], TOL, `perAsset[${i}].alphaOos`, 1e-6);
         expectClose(row.alphaIn, s.perAssetIn[i], TOL, `perAsset[${i}].alphaIn`, 1e-6);

@@ -11,32 +11,9 @@ import { parseFitSpec } from '../../../shared/spec.js';
 import { gmmFitDetailed } from '../../../shared/estimation/gmmFit.js';
 import { hjDistance } from '../../../shared/estimation/hjDistance.js';
 import { longRunCovariance } from '../../../shared/estimation/longRunCovariance.js';
-import { columns, expectClose, panelFromFixture, type FixtureData } from './helpers.js';
+import { columns, expectClose, panelFromFixture, type FixtureData, type GmmReferenceCase } from './helpers.js';
 
-interface RefCase {
-  name: string;
-  spec: { kind: string; stage: string; weight: string; lags: number | 'auto'; centered: boolean; includeRiskfree?: boolean; delta?: number; inferenceS?: string };
-  lags: number;
-  q: number;
-  p: number;
-  theta: number[];
-  se: number[];
-  alpha: number[];
-  alphaSe: number[];
-  peStat: number;
-  peDf: number;
-  peP: number;
-  J: number | null;
-  JP: number | null;
-  hj: number;
-  hjStat: number;
-  hjWeights: number[];
-  hjPImhof: number;
-  hjPSim: number;
-  hjSimDraws: number;
-  sdfMean: number;
-  sdfStd: number;
-}
+type RefCase = GmmReferenceCase<{ kind: string; stage: string; weight: string; lags: number | 'auto'; centered: boolean; includeRiskfree?: boolean; delta?: number; inferenceS?: string }>;
 
 const fixture = JSON.parse(readFileSync(path.join(import.meta.dirname, 'fixtures/gmm_reference.json'), 'utf8')) as {
   data: FixtureData;
@@ -100,8 +77,8 @@ describe('GMM fits against R gmm (fixtures/make_gmm.R)', () => {
       const hj = hjDistance(prepared.model, prepared.lags, spec.estimator.centered);
       vecClose(hj.weights, c.hjWeights, REL, 'HJ weights'); // R eigen(S^1/2 M'W M S^1/2)
       expectClose(hj.p, c.hjPImhof, REL_P, 'HJ p vs R integrate() of Imhof', 1e-3); // R integrate(), Imhof (1961)
-      const simSe = Math.sqrt((c.hjPSim * (1 - c.hjPSim)) / c.hjSimDraws);
-      expectClose(hj.p, c.hjPSim, (4 * simSe + 1e-12) / Math.max(c.hjPSim, 1e-12), 'HJ p vs seeded simulation (4 s.e.)'); // R seeded simulation, 1e6 draws
+      const simSe = Math.sqrt((c.hjPSim! * (1 - c.hjPSim!)) / c.hjSimDraws!);
+      expectClose(hj.p, c.hjPSim!, (4 * simSe + 1e-12) / Math.max(c.hjPSim!, 1e-12), 'HJ p vs seeded simulation (4 s.e.)'); // R seeded simulation, 1e6 draws
       expectClose(result.sdf!.mean, c.sdfMean, REL, 'E[m]');
       expectClose(result.sdf!.std, c.sdfStd, REL, 'sigma(m)');
     });

@@ -51,3 +51,29 @@ export function expectClose(value: number, expected: number, rel: number, what: 
   const diff = Math.abs(value - expected);
   expect(diff <= tol, `${what}: value ${value}, expected ${expected}, |diff| ${diff.toExponential(3)}, tolerance ${tol.toExponential(3)}`).toBe(true);
 }
+
+/** One case of a GMM reference fixture (make_gmm.R, make_instruments.R/.py): what R or numpy computed. */
+export interface GmmReferenceCase<Spec> {
+  name: string;
+  spec: Spec;
+  lags: number;
+  q: number;
+  p: number;
+  theta: number[];
+  se: number[];
+  alpha: number[];
+  alphaSe: number[];
+  peStat: number;
+  peDf: number;
+  peP: number;
+  J: number | null;
+  JP: number | null;
+  hj: number;
+  hjStat: number;
+  hjWeights: number[];
+  hjPImhof: number;
+  hjPSim?: number;
+  hjSimDraws?: number;
+  sdfMean: number;
+  sdfStd: number;
+}

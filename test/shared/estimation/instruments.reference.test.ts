@@ -14,32 +14,9 @@ import { parseFitSpec } from '../../../shared/spec.js';
 import { gmmFitDetailed } from '../../../shared/estimation/gmmFit.js';
 import { hjDistance } from '../../../shared/estimation/hjDistance.js';
 import type { ReturnsPanel } from '../../../shared/panel.js';
-import { expectClose, panelFromFixture, type FixtureData } from './helpers.js';
+import { expectClose, panelFromFixture, type FixtureData, type GmmReferenceCase } from './helpers.js';
 
-interface RefCase {
-  name: string;
-  spec: { kind: string; scale: 'returns' | 'factors' | 'both'; stage: string; weight: string; lags: number | 'auto'; centered: boolean };
-  lags: number;
-  q: number;
-  p: number;
-  theta: number[];
-  se: number[];
-  alpha: number[];
-  alphaSe: number[];
-  peStat: number;
-  peDf: number;
-  peP: number;
-  J: number | null;
-  JP: number | null;
-  hj: number;
-  hjStat: number;
-  hjWeights: number[];
-  hjPImhof: number;
-  hjPSim?: number;
-  hjSimDraws?: number;
-  sdfMean: number;
-  sdfStd: number;
-}
+type RefCase = GmmReferenceCase<{ kind: string; scale: 'returns' | 'factors' | 'both'; stage: string; weight: string; lags: number | 'auto'; centered: boolean }>;
 
 interface Fixture {
   data: FixtureData & { instruments: number[][] };
