@@ -17,6 +17,7 @@ import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel } from '../panel.js';
 import type { ModelSpec } from '../spec.js';
 import { choleskyInto, forwardSolveInPlace } from '../linalg/cholesky.js';
+import { seriesDot, seriesProductsUpper } from '../linalg/matrix.js';
 import { applyQt, qrFactor, solveRInPlace } from '../linalg/qr.js';
 
 export function linearHjApplies(model: ModelSpec): boolean {
@@ -38,32 +39,34 @@ export function linearHjSquared(
   const K = factors.length;
   const T = idx ? idx.length : assets[0].length;
   const at = (s: Float64Array, t: number): number => s[idx ? idx[t] : t];
+  // The series on the replication's periods, then the kernel layer's products (the Gram
+  // kernel: E[RR'] as the fit's HJ weight computes it).
+  const pick = (s: Float64Array): Float64Array => {
+    if (!idx) return s;
+    const out = new Float64Array(T);
+    for (let t = 0; t < T; t++) out[t] = s[idx[t]];
+    return out;
+  };
+  const R = assets.map(pick);
+  const F = factors.map(pick);
+  const ERR = seriesProductsUpper(R, R);
+  for (let k = 0; k < ERR.length; k++) ERR[k] /= T;
   const Rbar = new Float64Array(N);
   const fbar = new Float64Array(K);
   const ERf = new Float64Array(N * K);
-  const ERR = new Float64Array(N * N);
-  const r = new Float64Array(N);
-  const f = new Float64Array(K);
-  for (let t = 0; t < T; t++) {
-    for (let i = 0; i < N; i++) r[i] = at(assets[i], t);
-    for (let k = 0; k < K; k++) f[k] = at(factors[k], t);
-    for (let i = 0; i < N; i++) {
-      const ri = r[i];
-      Rbar[i] += ri;
-      for (let k = 0; k < K; k++) ERf[i * K + k] += ri * f[k];
-      for (let j = 0; j <= i; j++) ERR[i * N + j] += ri * r[j];
-    }
-    for (let k = 0; k < K; k++) fbar[k] += f[k];
-  }
   for (let i = 0; i < N; i++) {
-    Rbar[i] /= T;
-    for (let k = 0; k < K; k++) ERf[i * K + k] /= T;
-    for (let j = 0; j <= i; j++) {
-      ERR[i * N + j] /= T;
-      ERR[j * N + i] = ERR[i * N + j];
-    }
+    let s = 0;
+    const ri = R[i];
+    for (let t = 0; t < T; t++) s += ri[t];
+    Rbar[i] = s / T;
+    for (let k = 0; k < K; k++) ERf[i * K + k] = seriesDot(ri, F[k]) / T;
   }
-  for (let k = 0; k < K; k++) fbar[k] /= T;
+  for (let k = 0; k < K; k++) {
+    let s = 0;
+    const fk = F[k];
+    for (let t = 0; t < T; t++) s += fk[t];
+    fbar[k] = s / T;
+  }
   const p = kind === 'linear-gross' ? K + 1 : K;
   if (N <= p) throw new DeflatorError('UNDERIDENTIFIED', `HJ distance: ${N} test assets for ${p} free parameters`, 'use more test assets');
   const X = new Float64Array(N * p);

@@ -12,7 +12,7 @@
  * a profile grid over gamma.
  */
 import { DeflatorError } from '../errors.js';
-import type { Mat } from '../linalg/matrix.js';
+import { seriesDot, type Mat } from '../linalg/matrix.js';
 import { SdfMomentModel, type SdfModelKind } from './momentModel.js';
 
 /** Grid of risk-aversion values scanned for a starting value (common practice: a coarse scan before a local solver). */
@@ -57,17 +57,23 @@ export class ConsumptionModel extends SdfMomentModel {
     return this.fixedDelta === undefined ? { delta: theta[0], gamma: theta[1] } : { delta: this.fixedDelta, gamma: theta[0] };
   }
 
+  private powerCache: { gamma: number; x: Float64Array } | null = null;
+
+  /** x_t = (C_t/C_t-1)^-gamma; the last gamma's series is kept (a solver step asks for it several times). Callers must not modify it. */
   private power(gamma: number): Float64Array {
+    if (this.powerCache && Object.is(this.powerCache.gamma, gamma)) return this.powerCache.x;
     const T = this.T;
     const out = new Float64Array(T);
     for (let t = 0; t < T; t++) out[t] = Math.exp(-gamma * this.logGrowth[t]);
+    this.powerCache = { gamma, x: out };
     return out;
   }
 
   sdf(theta: Float64Array): Float64Array {
     const { delta, gamma } = this.split(theta);
-    const m = this.power(gamma);
-    for (let t = 0; t < this.T; t++) m[t] *= delta;
+    const x = this.power(gamma);
+    const m = new Float64Array(this.T);
+    for (let t = 0; t < this.T; t++) m[t] = x[t] * delta;
     return m;
   }
 
@@ -76,7 +82,7 @@ export class ConsumptionModel extends SdfMomentModel {
     const x = this.power(gamma);
     const dGamma = new Float64Array(this.T);
     for (let t = 0; t < this.T; t++) dGamma[t] = -delta * this.logGrowth[t] * x[t];
-    return this.fixedDelta === undefined ? [x, dGamma] : [dGamma];
+    return this.fixedDelta === undefined ? [x.slice(), dGamma] : [dGamma];
   }
 
   /**
@@ -105,26 +111,30 @@ export class ConsumptionModel extends SdfMomentModel {
 
   /**
    * The local-minimum guard of a warm start: every GUARD_STEP-th point of the scan's gamma
-   * range (delta profiled as in the scan), 23 points against the scan's 441.
+   * range (delta profiled as in the scan), 23 points against the scan's 441, with their
+   * asset moments g (computed by the scan anyway).
    */
   guardPoints(): Float64Array[] {
     return this.scan(GUARD_STEP).points;
   }
 
-  private scan(step: number): { best: Float64Array; points: Float64Array[] } {
+  guardMoments(): { theta: Float64Array; g: Float64Array }[] {
+    const s = this.scan(GUARD_STEP);
+    return s.points.map((theta, k) => ({ theta, g: s.moments[k] }));
+  }
+
+  private scan(step: number): { best: Float64Array; points: Float64Array[]; moments: Float64Array[] } {
     const { T, nAssets } = this;
     const points: Float64Array[] = [];
+    const moments: Float64Array[] = [];
     let best = Infinity;
     let bestTheta = this.fixedDelta === undefined ? Float64Array.of(1, 0) : Float64Array.of(0);
     const h = new Float64Array(nAssets);
+    const x = new Float64Array(T);
+    const lg = this.logGrowth;
     for (let gamma = GAMMA_GRID.from; gamma <= GAMMA_GRID.to + 1e-9; gamma += step) {
-      const x = this.power(gamma);
-      for (let i = 0; i < nAssets; i++) {
-        const r = this.returns[i];
-        let s = 0;
-        for (let t = 0; t < T; t++) s += r[t] * x[t];
-        h[i] = s / T;
-      }
+      for (let t = 0; t < T; t++) x[t] = Math.exp(-gamma * lg[t]);
+      for (let i = 0; i < nAssets; i++) h[i] = seriesDot(this.returns[i], x) / T;
       let obj: number;
       let delta: number;
       if (this.fixedDelta === undefined) {
@@ -147,12 +157,17 @@ export class ConsumptionModel extends SdfMomentModel {
         for (let i = 0; i < nAssets; i++) obj += delta * delta * h[i] * h[i];
       }
       const theta = this.fixedDelta === undefined ? Float64Array.of(delta, gamma) : Float64Array.of(gamma);
-      if (Number.isFinite(obj)) points.push(theta);
+      if (Number.isFinite(obj)) {
+        points.push(theta);
+        const g = new Float64Array(nAssets);
+        for (let i = 0; i < nAssets; i++) g[i] = delta * h[i] - this.targetMeans[i];
+        moments.push(g);
+      }
       if (Number.isFinite(obj) && obj < best) {
         best = obj;
         bestTheta = theta;
       }
     }
-    return { best: bestTheta, points };
+    return { best: bestTheta, points, moments };
   }
 }

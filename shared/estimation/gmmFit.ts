@@ -168,8 +168,8 @@ function warmFirstStage(model: MomentModel, W: Weighting, label: string, maxIter
     throw e;
   }
   const N = model.nAssets;
-  for (const c of model.guardPoints?.() ?? []) {
-    const g = model.meanMoments(c).subarray(0, N);
+  const guard = model.guardMoments?.() ?? (model.guardPoints?.() ?? []).map((theta) => ({ theta, g: model.meanMoments(theta).subarray(0, N) }));
+  for (const { g } of guard) {
     const Wg = W.applyVec(g);
     let q = 0;
     for (let i = 0; i < N; i++) q += g[i] * Wg[i];

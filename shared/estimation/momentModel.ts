@@ -74,6 +74,8 @@ export interface MomentModel {
    * guard of a warm start: gmmHjSquared).
    */
   guardPoints?(): Float64Array[];
+  /** The same points with their asset moments g_A(theta) (a model that has them at hand saves their computation). */
+  guardMoments?(): { theta: Float64Array; g: Float64Array }[];
 }
 
 /**

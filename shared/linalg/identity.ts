@@ -14,7 +14,7 @@
  */
 import { gramRoute } from './gramKernel.js';
 
-export const KERNEL_REVISION = 'linalg-2';
+export const KERNEL_REVISION = 'linalg-3';
 /** The revision of runs recorded without a kernel identity. */
 export const KERNEL_REVISION_UNRECORDED = 'linalg-1';
 
