@@ -327,7 +327,45 @@ export interface DiscountedPaths {
   note?: string;
 }
 
-export type AnyResult = FitResult | BacktestResult | CompareResult;
+/** One axis value of a batch task (shared/batch/grid.ts). */
+export interface BatchSettingValue {
+  axis: string;
+  value: string;
+}
+
+/** A fitted task of a batch: a comparison row plus where it sits in the grid. */
+export interface BatchRow extends CompareRow {
+  /** Task number in the grid's expansion order (0, 1, ...). */
+  task: number;
+  settings: BatchSettingValue[];
+  /** The task's own sample (tasks may differ in window, assets and factors). */
+  sample: { start: string; end: string; T: number; N: number; K: number };
+  /** SHA-256 of the task's whole outcome (fit and back-test, exact JSON): every number, not only the row's. */
+  sha256: string;
+}
+
+/**
+ * A merged batch: every task of a grid (shared/batch), fitted (and back-tested) one by
+ * one, possibly on many machines, brought together as one run. Rows are in task order;
+ * rankings are computed from them (shared/batch/rank.ts).
+ */
+export interface BatchResult {
+  kind: 'batch';
+  label: string;
+  /** The first fitted task's sample header; notes say which keys vary across tasks. */
+  sample: SampleHeader;
+  tasks: number;
+  axes: { axis: string; count: number }[];
+  models: BatchRow[];
+  /** Tasks whose model could not be fitted, with the reason (deterministic: replay gives the same). */
+  failures: { task: number; label: string; error: string; sha256: string }[];
+  /** Column key -> label of the best fitted task (the comparison's rule). */
+  best: Record<string, string>;
+  /** Fingerprint of the data the batch ran on: SHA-256 over its distinct returns panels' fingerprints. */
+  data: { sha256: string; panels: number };
+}
+
+export type AnyResult = FitResult | BacktestResult | CompareResult | BatchResult;
 
 /** Results of the present-value analyses (METHODS 10). */
 export type ValueResult = PresentValueResult | DriftResult;

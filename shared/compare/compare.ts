@@ -74,8 +74,9 @@ export function bootstrapSettings(spec: CompareSpec, T: number): { replications:
   return { replications: bs.replications, block: blockLength(T, bs.block), seed: bs.seed };
 }
 
-type Column = { key: string; value: (r: CompareRow) => number | undefined; better: 'max' | 'min' };
-const COLUMNS: Column[] = [
+export type Column = { key: string; value: (r: CompareRow) => number | undefined; better: 'max' | 'min' };
+/** The comparison's columns and which way is better: the one rule for best marks and batch rankings. */
+export const COLUMNS: Column[] = [
   { key: 'test.p', value: (r) => r.test.p, better: 'max' },
   { key: 'hj.distance', value: (r) => r.hj?.distance, better: 'min' },
   { key: 'hj.p', value: (r) => r.hj?.p, better: 'max' },
@@ -105,6 +106,17 @@ export function bestPerColumn(rows: CompareRow[]): Record<string, string> {
   return best;
 }
 
+/** The table row of a fitted model: its parameters, test, HJ distance, fit and out-of-sample errors. */
+export function outcomeRow(o: ModelOutcome): CompareRow {
+  const f = o.fit;
+  if (!f) throw new DeflatorError('INPUT_INVALID', `model ${o.label} has no fit to tabulate`, 'tabulate fitted models only');
+  const row: CompareRow = { label: o.label, params: f.params, test: f.test, fit: f.fit };
+  if (f.hj) row.hj = f.hj;
+  if (o.backtest) row.oos = { ...o.backtest.oos };
+  if (o.backtestError) row.error = `back-test failed: ${o.backtestError}`;
+  return row;
+}
+
 /** Builds the comparison result from the per-model outcomes and the bootstrap draws. */
 export function assembleCompare(
   spec: CompareSpec,
@@ -116,14 +128,7 @@ export function assembleCompare(
   if (ok.length === 0) {
     throw new DeflatorError('SINGULAR', `no model of the comparison could be fitted; ${outcomes.map((o) => `${o.label}: ${o.error}`).join('; ')}`, 'fix the first error named above');
   }
-  const rows: CompareRow[] = ok.map((o) => {
-    const f = o.fit as FitResult;
-    const row: CompareRow = { label: o.label, params: f.params, test: f.test, fit: f.fit };
-    if (f.hj) row.hj = f.hj;
-    if (o.backtest) row.oos = { ...o.backtest.oos };
-    if (o.backtestError) row.error = `back-test failed: ${o.backtestError}`;
-    return row;
-  });
+  const rows: CompareRow[] = ok.map(outcomeRow);
   const first = (ok[0].fit as FitResult).sample;
   const sample = {
     ...first,
@@ -164,7 +169,8 @@ export interface CompareDeps extends HjBootstrapDeps {
   signal?: CancelToken;
 }
 
-function outcomeError(e: unknown): string {
+/** An estimation error as the row's text (`SINGULAR: ...`); cancellation and programming errors propagate. */
+export function outcomeError(e: unknown): string {
   if (isDeflatorError(e)) {
     if (e.code === 'CANCELLED') throw e;
     return `${e.code}: ${e.message}`;
@@ -172,25 +178,36 @@ function outcomeError(e: unknown): string {
   throw e;
 }
 
+/**
+ * One model's fit, then its back-test when `withBacktest` (and the fit succeeded). An
+ * estimation error is kept as text in the outcome (`error`, `backtestError`) so the
+ * other models go on; a comparison and every task of a batch go through here.
+ */
+export function modelOutcome(f: FitSpec, panel: ReturnsPanel, withBacktest: boolean, deps: Pick<CompareDeps, 'fit' | 'backtest'>): ModelOutcome {
+  const out: ModelOutcome = { label: f.label ?? f.model.kind };
+  try {
+    out.fit = deps.fit(f, panel);
+  } catch (e) {
+    out.error = outcomeError(e);
+  }
+  if (out.fit && withBacktest && deps.backtest) {
+    try {
+      out.backtest = deps.backtest(f, panel);
+    } catch (e) {
+      out.backtestError = outcomeError(e);
+    }
+  }
+  return out;
+}
+
 /** The whole comparison in this thread. */
 export function compareModels(spec: CompareSpec, fits: FitSpec[], rawPanels: ReturnsPanel[], deps: CompareDeps): CompareResult {
   const { panels } = alignPanels(rawPanels);
-  const outcomes: ModelOutcome[] = fits.map((f) => ({ label: f.label ?? f.model.kind }));
-  fits.forEach((f, i) => {
+  const outcomes: ModelOutcome[] = fits.map((f, i) => {
     if (deps.signal?.aborted) throw new DeflatorError('CANCELLED', 'the comparison was cancelled', 'nothing was saved; run it again');
-    try {
-      outcomes[i].fit = deps.fit(f, panels[i]);
-    } catch (e) {
-      outcomes[i].error = outcomeError(e);
-    }
+    const o = modelOutcome(f, panels[i], spec.backtest !== undefined, deps);
     deps.onStage?.('fit', i + 1, fits.length);
-    if (outcomes[i].fit && spec.backtest && deps.backtest) {
-      try {
-        outcomes[i].backtest = deps.backtest(f, panels[i]);
-      } catch (e) {
-        outcomes[i].backtestError = outcomeError(e);
-      }
-    }
+    return o;
   });
   const members = bootstrapMembers(outcomes);
   let bootstrap: { members: number[]; values: Float64Array; failures: string[] } | undefined;

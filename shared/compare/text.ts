@@ -3,20 +3,19 @@
  * the best value of each column marked with *, then the bootstrap tests of equal
  * squared HJ distances. Pure function of the result.
  */
-import { CAUTION, type CompareResult } from '../results.js';
+import { CAUTION, type CompareResult, type CompareRow } from '../results.js';
 import { alignTable } from '../report/fit-text.js';
 import { fixed } from '../report/numbers.js';
 
 const pct = (x: number) => fixed(100 * x, 3);
 const pval = (x: number) => (x > 0 && x < 0.0001 ? '<0.0001' : fixed(x, 4));
 
-export function compareText(r: CompareResult): string {
-  const s = r.sample;
-  const best = r.best ?? {};
+/** The comparison table's header and rows (model label first), best values marked with *. */
+export function compareTableCells(models: CompareRow[], best: Record<string, string>): { header: string[]; rows: string[][] } {
   const mark = (col: string, label: string, text: string) => (best[col] === label ? `${text}*` : text);
-  const withOos = r.models.some((m) => m.oos);
+  const withOos = models.some((m) => m.oos);
   const header = ['model', 'test', 'stat', 'p', 'HJ', 'HJ p', 'MAPE %', 'RMSE %', 'R^2', ...(withOos ? ['OOS RMSE %', 'OOS R^2'] : [])];
-  const rows = r.models.map((m) => [
+  const rows = models.map((m) => [
     m.label,
     m.test.name,
     fixed(m.test.stat, 3),
@@ -28,13 +27,22 @@ export function compareText(r: CompareResult): string {
     mark('fit.r2', m.label, fixed(m.fit.r2, 3)),
     ...(withOos ? [m.oos ? mark('oos.rmse', m.label, pct(m.oos.rmse)) : '', m.oos ? mark('oos.r2', m.label, fixed(m.oos.r2, 3)) : ''] : []),
   ]);
+  return { header, rows };
+}
+
+/** The note under a comparison table. */
+export const COMPARE_TABLE_NOTE = '  * best in the column (largest p and R^2, smallest distance and errors); errors in % per period';
+
+export function compareText(r: CompareResult): string {
+  const s = r.sample;
+  const { header, rows } = compareTableCells(r.models, r.best ?? {});
   const out: string[] = [];
   out.push(`Comparison of ${r.models.length + (r.failures?.length ?? 0)} models`);
   out.push('');
   out.push(`Sample        ${s.start} to ${s.end}, ${s.frequency}, T = ${s.T}, N = ${s.N} (${s.returns} returns)`);
   out.push('');
   out.push(alignTable(header, rows));
-  out.push('  * best in the column (largest p and R^2, smallest distance and errors); errors in % per period');
+  out.push(COMPARE_TABLE_NOTE);
   for (const m of r.models) if (m.error) out.push(`  ${m.label}: ${m.error}`);
   if (r.failures?.length) {
     out.push('');

@@ -6,7 +6,7 @@
  */
 import type { AnyResult } from '../results.js';
 
-export const RUN_KINDS = ['fit', 'backtest', 'compare'] as const;
+export const RUN_KINDS = ['fit', 'backtest', 'compare', 'batch'] as const;
 export type RunKind = (typeof RUN_KINDS)[number];
 
 /** One imported file a run depends on, as the import log knew it when the run was recorded. */
@@ -48,7 +48,7 @@ export interface RunRecord {
   /** Run id (1, 2, ...), unique within one project database. */
   id: number;
   kind: RunKind;
-  /** The result's label (fit, back-test) or the models' labels joined (compare). */
+  /** The result's label (fit, back-test, batch) or the models' labels joined (compare). */
   label: string;
   /** Model kinds and labels, for filtering (e.g. ["linear", "linear(MKT,SIZE)"]). */
   models: string[];

@@ -12,6 +12,10 @@ import { recordLines, sampleHeaderLines, type ExportRecord } from './header.js';
 import { displayNumber, exactNumber } from './numbers.js';
 import { barChart, lineChart, scatterChart, xmlEscape } from './svg.js';
 import { resultTables, resultTitle, type ReportTable } from './tables.js';
+import { batchAsComparison, rankBatch } from '../batch/rank.js';
+
+/** A batch's charts show its best tasks by HJ distance. */
+const BATCH_CHART_TOP = 20;
 
 const esc = xmlEscape;
 
@@ -132,7 +136,14 @@ export interface HtmlOptions {
 /** The whole report as one HTML document. */
 export function resultToHtml(result: AnyResult, record?: ExportRecord, options: HtmlOptions = {}): string {
   const title = resultTitle(result);
-  const charts = result.kind === 'fit' ? fitCharts(result) : result.kind === 'backtest' ? backtestCharts(result) : compareCharts(result);
+  const charts =
+    result.kind === 'fit'
+      ? fitCharts(result)
+      : result.kind === 'backtest'
+        ? backtestCharts(result)
+        : result.kind === 'batch'
+          ? compareCharts(batchAsComparison(result, rankBatch(result, 'hj').slice(0, BATCH_CHART_TOP)))
+          : compareCharts(result);
   const notes = result.kind === 'fit' ? result.notes : [];
   const parts = [
     '<!DOCTYPE html>',

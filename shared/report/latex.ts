@@ -9,6 +9,10 @@ import { CAUTION } from '../results.js';
 import type { ExportRecord } from './header.js';
 import { fixed } from './numbers.js';
 import { allTests, resultTitle } from './tables.js';
+import { batchAsComparison, rankBatch } from '../batch/rank.js';
+
+/** A batch's LaTeX tables: its best tasks by HJ distance (a paper's table, not the whole grid). */
+const BATCH_LATEX_TOP = 20;
 
 const SPECIAL: Record<string, string> = {
   '\\': '\\textbackslash{}',
@@ -199,6 +203,13 @@ export function resultToLatex(result: AnyResult, record?: ExportRecord): string 
     '% Needs \\usepackage{booktabs} in the including document.',
     '',
   ].filter((l, i) => l !== '' || i === 4);
-  const body = result.kind === 'fit' ? fitLatex(result, tag) : result.kind === 'backtest' ? backtestLatex(result, tag) : compareLatex(result, tag);
+  const body =
+    result.kind === 'fit'
+      ? fitLatex(result, tag)
+      : result.kind === 'backtest'
+        ? backtestLatex(result, tag)
+        : result.kind === 'batch'
+          ? `% The ${Math.min(BATCH_LATEX_TOP, result.models.length)} tasks with the smallest HJ distance of ${result.tasks}; the CSV and XLSX exports hold every task.\n${compareLatex(batchAsComparison(result, rankBatch(result, 'hj').slice(0, BATCH_LATEX_TOP)), tag)}`
+          : compareLatex(result, tag);
   return `${head.join('\n')}\n${body}`;
 }

@@ -3,7 +3,8 @@
  * HTML) writes. Building them once keeps the exports in step: a cell is a number
  * from the result itself, never a rounded copy.
  */
-import type { AnyResult, BacktestResult, CompareResult, FitResult, TestResult } from '../results.js';
+import type { AnyResult, BacktestResult, BatchResult, CompareResult, CompareRow, FitResult, TestResult } from '../results.js';
+import { RANK_BY, RANK_KEYS, rankBatch } from '../batch/rank.js';
 import type { NumberFormat } from './numbers.js';
 
 export type CellValue = string | number | boolean | null;
@@ -191,45 +192,51 @@ export function backtestTables(r: BacktestResult): ReportTable[] {
   ];
 }
 
+/** The comparison table's columns after the model name (also the columns of a batch's tasks). */
+export const compareModelColumns: ReportColumn[] = [
+  text('test', 'Test'),
+  num('stat', 'Statistic', 'stat'),
+  num('df', 'df', 'integer'),
+  num('df2', 'df2', 'integer'),
+  num('p', 'p-value', 'p'),
+  num('hj', 'HJ distance'),
+  num('hjP', 'HJ p-value', 'p'),
+  num('mape', 'MAPE'),
+  num('rmse', 'RMSE'),
+  num('r2', 'R2'),
+  num('oosRmse', 'RMSE out of sample'),
+  num('oosRmsePooled', 'RMSE out of sample (pooled)'),
+  num('oosR2', 'R2 out of sample'),
+  text('error', 'Error'),
+];
+
+/** One model's cells under compareModelColumns. */
+export function compareModelCells(m: CompareRow): CellValue[] {
+  return [
+    m.test.name,
+    m.test.stat,
+    opt(m.test.df ?? m.test.df1),
+    opt(m.test.df2),
+    m.test.p,
+    m.hj ? m.hj.distance : null,
+    m.hj ? m.hj.p : null,
+    m.fit.mape,
+    m.fit.rmse,
+    m.fit.r2,
+    m.oos ? m.oos.rmse : null,
+    m.oos ? m.oos.rmsePooled : null,
+    m.oos ? m.oos.r2 : null,
+    opt(m.error),
+  ];
+}
+
 export function compareTables(r: CompareResult): ReportTable[] {
   const tables: ReportTable[] = [
     {
       id: 'models',
       title: 'Models',
-      columns: [
-        text('model', 'Model'),
-        text('test', 'Test'),
-        num('stat', 'Statistic', 'stat'),
-        num('df', 'df', 'integer'),
-        num('df2', 'df2', 'integer'),
-        num('p', 'p-value', 'p'),
-        num('hj', 'HJ distance'),
-        num('hjP', 'HJ p-value', 'p'),
-        num('mape', 'MAPE'),
-        num('rmse', 'RMSE'),
-        num('r2', 'R2'),
-        num('oosRmse', 'RMSE out of sample'),
-        num('oosRmsePooled', 'RMSE out of sample (pooled)'),
-        num('oosR2', 'R2 out of sample'),
-        text('error', 'Error'),
-      ],
-      rows: r.models.map((m) => [
-        m.label,
-        m.test.name,
-        m.test.stat,
-        opt(m.test.df ?? m.test.df1),
-        opt(m.test.df2),
-        m.test.p,
-        m.hj ? m.hj.distance : null,
-        m.hj ? m.hj.p : null,
-        m.fit.mape,
-        m.fit.rmse,
-        m.fit.r2,
-        m.oos ? m.oos.rmse : null,
-        m.oos ? m.oos.rmsePooled : null,
-        m.oos ? m.oos.r2 : null,
-        opt(m.error),
-      ]),
+      columns: [text('model', 'Model'), ...compareModelColumns],
+      rows: r.models.map((m) => [m.label, ...compareModelCells(m)]),
     },
     {
       id: 'parameters',
@@ -258,11 +265,70 @@ export function resultTables(r: AnyResult): ReportTable[] {
       return backtestTables(r);
     case 'compare':
       return compareTables(r);
+    case 'batch':
+      return batchTables(r);
   }
+}
+
+/**
+ * A merged batch: every fitted task in task order with its grid settings (one column per
+ * axis), the comparison's columns, its rank in each ranking and its outcome digest; the
+ * parameters by task; the tasks whose model could not be fitted.
+ */
+export function batchTables(r: BatchResult): ReportTable[] {
+  const ranks = RANK_KEYS.map((by) => {
+    const pos = new Map<number, number>();
+    rankBatch(r, by).forEach((row, i) => pos.set(row.task, i + 1));
+    return pos;
+  });
+  const hasValue = (by: (typeof RANK_KEYS)[number], m: CompareRow): boolean =>
+    by === 'hj' ? m.hj !== undefined : by === 'oos' ? m.oos !== undefined && !m.error : Number.isFinite(m.test.p);
+  const tables: ReportTable[] = [
+    {
+      id: 'tasks',
+      title: `Tasks (${r.models.length} fitted of ${r.tasks})`,
+      columns: [
+        num('task', 'Task', 'integer'),
+        text('label', 'Settings'),
+        ...r.axes.map((a) => text(a.axis, a.axis)),
+        num('T', 'T', 'integer'),
+        num('N', 'N', 'integer'),
+        ...compareModelColumns,
+        ...RANK_KEYS.map((by) => num(`rank.${by}`, `Rank by ${RANK_BY[by].title}`, 'integer')),
+        text('sha256', 'Outcome SHA-256'),
+      ],
+      rows: r.models.map((m) => [
+        m.task,
+        m.label,
+        ...r.axes.map((a) => m.settings.find((s) => s.axis === a.axis)?.value ?? null),
+        m.sample.T,
+        m.sample.N,
+        ...compareModelCells(m),
+        ...RANK_KEYS.map((by, k) => (hasValue(by, m) ? (ranks[k].get(m.task) ?? null) : null)),
+        m.sha256,
+      ]),
+    },
+    {
+      id: 'parameters',
+      title: 'Parameter estimates by task',
+      columns: [num('task', 'Task', 'integer'), text('parameter', 'Parameter'), num('estimate', 'Estimate'), num('se', 's.e.'), num('t', 't', 'stat'), num('p', 'p-value', 'p'), num('seShanken', 's.e. (Shanken)')],
+      rows: r.models.flatMap((m) => m.params.map((p) => [m.task, p.name, p.estimate, p.se, p.t, p.p, opt(p.seShanken)] as CellValue[])),
+    },
+  ];
+  if (r.failures.length) {
+    tables.push({
+      id: 'not-fitted',
+      title: 'Tasks whose model could not be fitted',
+      columns: [num('task', 'Task', 'integer'), text('label', 'Settings'), text('error', 'Error'), text('sha256', 'Outcome SHA-256')],
+      rows: r.failures.map((f) => [f.task, f.label, f.error, f.sha256]),
+    });
+  }
+  return tables;
 }
 
 /** A short title for the result: its label, or the compared models. */
 export function resultTitle(r: AnyResult): string {
   if (r.kind === 'compare') return `Comparison: ${r.models.map((m) => m.label).join(' vs ')}`;
+  if (r.kind === 'batch') return `Batch: ${r.label} (${r.tasks} tasks)`;
   return r.kind === 'backtest' ? `Back-test: ${r.label}` : r.label;
 }

@@ -7,6 +7,7 @@ import { CAUTION } from '../results.js';
 import { recordLines, sampleHeaderLines, type ExportRecord } from './header.js';
 import { displayNumber } from './numbers.js';
 import { resultTables, resultTitle, type ReportTable } from './tables.js';
+import { batchText } from '../batch/text.js';
 
 /** Pads cells into aligned columns; `right[j]` right-aligns column j. */
 export function alignColumns(head: string[], rows: string[][], right: boolean[]): string[] {
@@ -38,7 +39,10 @@ export function resultToText(result: AnyResult, record?: ExportRecord): string {
     return lines.map((l) => `  ${l.key.padEnd(w)}  ${l.value}`).join('\n');
   };
   const parts = [resultTitle(result), CAUTION, '', 'Sample', kv(sampleHeaderLines(result.sample)), ''];
-  for (const t of resultTables(result)) parts.push(tableToText(t), '');
+  if (result.kind === 'batch') {
+    // thousands of tasks: the ranking's top rows here, every task in the CSV / XLSX export
+    parts.push(batchText(result), `Every task, with its settings, ranks and parameters: deflator export ${record ? record.id : 'RUN'} --format csv (or xlsx).`, '');
+  } else for (const t of resultTables(result)) parts.push(tableToText(t), '');
   if (result.kind === 'fit' && result.notes.length) parts.push('Notes', ...result.notes.map((n) => `  ${n}`), '');
   if (record) parts.push('Record', kv(recordLines(record)), '');
   return parts.join('\n');

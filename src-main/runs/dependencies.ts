@@ -8,6 +8,7 @@
 import { createHash } from 'node:crypto';
 import { isReturnHistory, type NamedSeries, type ReturnForm, type ReturnSeries, type StoredAsset, type ValueUnits } from '../../shared/data.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
+import { gridNames, isGridSpec, type GridSpec } from '../../shared/batch/grid.js';
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
 
@@ -21,8 +22,9 @@ export interface SubjectRef {
 const asRecord = (x: unknown): Record<string, unknown> => (x !== null && typeof x === 'object' ? (x as Record<string, unknown>) : {});
 const strings = (x: unknown): string[] => (Array.isArray(x) ? x.filter((v): v is string => typeof v === 'string') : []);
 
-/** Series names a fit or comparison spec reads: factors, risk-free, consumption (of every compared model). */
+/** Series names a fit or comparison spec reads: factors, risk-free, consumption (of every compared model or grid task). */
 export function specSeriesNames(spec: unknown): string[] {
+  if (isGridSpec(spec)) return gridNames(spec as GridSpec).series;
   const s = asRecord(spec);
   const names = new Set<string>();
   const model = (m: unknown) => {
@@ -38,6 +40,10 @@ export function specSeriesNames(spec: unknown): string[] {
 
 /** Asset (or portfolio) names a spec asks for explicitly; [] for "all". */
 export function specAssetNames(spec: unknown): string[] {
+  if (isGridSpec(spec)) {
+    const a = gridNames(spec as GridSpec).assets;
+    return a === 'all' ? [] : a;
+  }
   return strings(asRecord(spec).assets);
 }
 

@@ -9,7 +9,9 @@
  */
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
-import { describeError, isDeflatorError } from '../../shared/errors.js';
+import { DeflatorError, describeError, isDeflatorError } from '../../shared/errors.js';
+import type { TaskOutcome } from '../../shared/batch/assemble.js';
+import { recomputeBatch } from '../batch/recompute.js';
 import { diffExact } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { PanelFingerprint, RunRecord } from '../../shared/records/run-record.js';
@@ -31,6 +33,10 @@ export interface Recompute {
   fit(spec: FitSpec, panel: ReturnsPanel): Promise<FitResult>;
   backtest(spec: FitSpec, panel: ReturnsPanel, engine?: BacktestEngine): Promise<BacktestResult>;
   compare(spec: CompareSpec, fits: FitSpec[], panels: ReturnsPanel[]): Promise<CompareResult>;
+  /** One task of a batch (a merged batch replays task by task). */
+  batchTask?(spec: FitSpec, panel: ReturnsPanel, backtest: boolean): Promise<TaskOutcome>;
+  /** Tasks of a batch run side by side (default 2). */
+  concurrency?: number;
 }
 
 export interface RecomputeOptions {
@@ -47,6 +53,8 @@ export function poolRecompute(compute: Compute): Recompute {
     fit: (spec, panel) => computeAnalysis({ kind: 'fit', spec }, { panels: [panel] }, compute),
     backtest: (spec, panel, engine) => computeAnalysis({ kind: 'backtest', spec, ...(engine ? { engine } : {}) }, { panels: [panel] }, compute),
     compare: (spec, fits, panels) => computeAnalysis({ kind: 'compare', spec, fits }, { panels }, compute),
+    batchTask: (spec, panel, backtest) => compute.runTask('batchTask', { spec, panel, backtest }),
+    concurrency: 2 * (compute.threads ?? 1),
   };
 }
 
@@ -89,21 +97,29 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
   let panels: ReturnsPanel[];
   let backtestBlock: BacktestSpec | undefined;
   try {
-    const engine = record.compute?.engine;
-    const analysis: Analysis =
-      record.kind === 'compare'
-        ? { kind: 'compare', ...parseCompareSpec(record.spec) }
-        : record.kind === 'fit'
-          ? { kind: 'fit', spec: parseFitSpec(record.spec) }
-          : { kind: 'backtest', spec: parseFitSpec(record.spec), ...(isEngine(engine) ? { engine } : {}) };
-    backtestBlock = analysis.spec.backtest;
-    panels = loadAnalysisData(store, analysis).panels;
-    result =
-      analysis.kind === 'compare'
-        ? await recompute.compare(analysis.spec, analysis.fits, panels)
-        : analysis.kind === 'fit'
-          ? await recompute.fit(analysis.spec, panels[0])
-          : await recompute.backtest(analysis.spec, panels[0], analysis.engine);
+    if (record.kind === 'batch') {
+      const run = recompute.batchTask;
+      if (!run) throw new DeflatorError('INPUT_INVALID', 'this replay cannot recompute batch tasks', 'replay the run with `deflator replay ID --db DB`');
+      const b = await recomputeBatch(store, record.spec, run, { concurrency: recompute.concurrency ?? 2 });
+      result = b.result;
+      panels = b.panels;
+    } else {
+      const engine = record.compute?.engine;
+      const analysis: Analysis =
+        record.kind === 'compare'
+          ? { kind: 'compare', ...parseCompareSpec(record.spec) }
+          : record.kind === 'fit'
+            ? { kind: 'fit', spec: parseFitSpec(record.spec) }
+            : { kind: 'backtest', spec: parseFitSpec(record.spec), ...(isEngine(engine) ? { engine } : {}) };
+      backtestBlock = analysis.spec.backtest;
+      panels = loadAnalysisData(store, analysis).panels;
+      result =
+        analysis.kind === 'compare'
+          ? await recompute.compare(analysis.spec, analysis.fits, panels)
+          : analysis.kind === 'fit'
+            ? await recompute.fit(analysis.spec, panels[0])
+            : await recompute.backtest(analysis.spec, panels[0], analysis.engine);
+    }
   } catch (e) {
     report.error = isDeflatorError(e) ? `${e.code}: ${describeError(e)}` : describeError(e);
     return report;

@@ -71,6 +71,13 @@ export function runModels(spec: unknown, result: AnyResult): string[] {
   if (result.kind === 'compare') {
     for (const m of result.models) out.add(m.label);
     for (const e of s.compare ?? []) if (typeof e.model?.kind === 'string') out.add(e.model.kind);
+  } else if (result.kind === 'batch') {
+    // a batch has up to thousands of models: its label and the model kinds, not every task
+    out.add(result.label);
+    const kinds = (spec as { base?: { model?: { kind?: unknown } }; grid?: Record<string, unknown> }) ?? {};
+    if (typeof kinds.base?.model?.kind === 'string') out.add(kinds.base.model.kind);
+    const axis = kinds.grid?.['model.kind'];
+    if (Array.isArray(axis)) for (const k of axis) if (typeof k === 'string') out.add(k);
   } else {
     out.add(result.label);
     if (typeof s.model?.kind === 'string') out.add(s.model.kind);

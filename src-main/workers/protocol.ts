@@ -10,7 +10,7 @@ import type { ReturnsPanel } from '../../shared/panel.js';
 import type { CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
 import type { BacktestEngine, WindowRecord } from '../../shared/backtest/index.js';
-import type { HjBootstrapChunk, HjBootstrapDraws } from '../../shared/compare/index.js';
+import type { HjBootstrapChunk, HjBootstrapDraws, ModelOutcome } from '../../shared/compare/index.js';
 import type { ErrorCode } from '../../shared/errors.js';
 
 export interface TaskMap {
@@ -22,12 +22,14 @@ export interface TaskMap {
   backtestWindows: { payload: { spec: FitSpec; panel: ReturnsPanel; range: [number, number]; engine?: BacktestEngine }; result: WindowRecord[] };
   /** A whole model comparison in one worker. */
   compare: { payload: { spec: CompareSpec; fits: FitSpec[]; panels: ReturnsPanel[] }; result: CompareResult };
+  /** One task of a batch: the fit, then the back-test when `backtest` (estimation errors kept as text). */
+  batchTask: { payload: { spec: FitSpec; panel: ReturnsPanel; backtest: boolean }; result: ModelOutcome };
   /** Replications [from, to) of the bootstrap of squared HJ distances. */
   hjBootstrap: { payload: HjBootstrapChunk; result: HjBootstrapDraws };
 }
 
 export type TaskKind = keyof TaskMap;
-export const TASK_KINDS: readonly TaskKind[] = ['fit', 'backtest', 'backtestWindows', 'compare', 'hjBootstrap'];
+export const TASK_KINDS: readonly TaskKind[] = ['fit', 'backtest', 'backtestWindows', 'compare', 'batchTask', 'hjBootstrap'];
 
 export type ProgressMessage = { type: 'progress'; done: number; total: number; stage?: string } | { type: 'end' };
 

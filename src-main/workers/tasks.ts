@@ -8,7 +8,7 @@ import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { FitSpec } from '../../shared/spec.js';
 import { backtest, backtestWindows, type CancelToken } from '../../shared/backtest/index.js';
-import { compareModels, hjBootstrapDraws } from '../../shared/compare/index.js';
+import { compareModels, hjBootstrapDraws, modelOutcome } from '../../shared/compare/index.js';
 import type { TaskKind, TaskMap } from './protocol.js';
 
 export interface TaskContext {
@@ -48,5 +48,6 @@ export const handlers: Handlers = {
       onStage: (stage, done, total) => ctx.progress(done, total, stage),
       signal: ctx.signal,
     }),
+  batchTask: (p, ctx) => modelOutcome(p.spec, p.panel, p.backtest, { fit, backtest: (s, panel) => backtest(s, panel, { fit, signal: ctx.signal }) }),
   hjBootstrap: (p, ctx) => hjBootstrapDraws(p, { hjSquared: fittedHjSquared, hjStart: fittedHjStart, onProgress: ctx.progress, signal: ctx.signal }),
 };

@@ -12,6 +12,7 @@ import { register as backtest } from './backtest.js';
 import { register as compare } from './compare.js';
 import { register as presentValue } from './present-value.js';
 import { register as drift } from './drift.js';
+import { register as batch } from './batch.js';
 import { register as portfolio } from './portfolio.js';
 import { register as runs } from './runs.js';
 import { register as show } from './show.js';
@@ -21,4 +22,4 @@ import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, portfolio, fit, backtest, compare, presentValue, drift, runs, show, replay, exportRun, serve];
+export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, portfolio, fit, backtest, compare, batch, presentValue, drift, runs, show, replay, exportRun, serve];

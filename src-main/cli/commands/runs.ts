@@ -48,7 +48,7 @@ export function register(program: Command): void {
     .description('list the recorded runs (fits, back-tests, comparisons), newest first; STALE where their data changed since')
     .requiredOption('--db <path>', 'project database')
     .option('--model <text>', 'only runs whose model label or kind contains this text')
-    .option('--kind <kind>', 'only fit | backtest | compare runs')
+    .option('--kind <kind>', 'only fit | backtest | compare | batch runs')
     .option('--from <date>', 'only runs recorded on or after this date (YYYY-MM-DD)')
     .option('--to <date>', 'only runs recorded on or before this date (YYYY-MM-DD)')
     .option('--delete <run>', 'delete this run record (the data stays)')
@@ -63,7 +63,7 @@ export function register(program: Command): void {
           else process.stdout.write(`Deleted run ${id}.\n`);
           return;
         }
-        if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, 'use --kind fit, backtest or compare');
+        if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, 'use --kind fit, backtest, compare or batch');
         for (const [k, v] of [['--from', opts.from], ['--to', opts.to]] as const) {
           if (v !== undefined && !isCalendarDate(v)) throw new DeflatorError('INPUT_INVALID', `${k} ${v}: expected a calendar date as YYYY-MM-DD`, `e.g. ${k} 2026-01-31`);
         }
