@@ -287,6 +287,11 @@ export function gridAxes(g: GridSpec): { axis: AxisKey; count: number }[] {
   return AXES.filter((k) => g.grid[k] !== undefined).map((axis) => ({ axis, count: axisCount(axis, g.grid) }));
 }
 
+/** The batch's label: the grid's own, else the axes it varies. */
+export function gridLabel(g: GridSpec): string {
+  return g.label ?? `grid over ${gridAxes(g).map((a) => a.axis).join(' x ')}`;
+}
+
 /** Refuses a grid above the limit before anything is expanded. */
 export function checkGridSize(g: GridSpec, maxTasks = DEFAULT_MAX_TASKS): number {
   const n = gridSize(g);

@@ -4,7 +4,7 @@
  * what could not be fitted, the data fingerprint and the caution. Pure function of the result.
  */
 import { CAUTION, type BatchResult } from '../results.js';
-import { alignTable } from '../report/fit-text.js';
+import { alignColumns } from '../report/text.js';
 import { COMPARE_TABLE_NOTE, compareTableCells } from '../compare/text.js';
 import { RANK_BY, rankBatch, rankedCount, type RankBy } from './rank.js';
 
@@ -24,7 +24,7 @@ export function batchText(r: BatchResult, opts: BatchTextOptions = {}): string {
   const shown = top > 0 ? ranked.slice(0, top) : ranked;
   const s = r.sample;
   const out: string[] = [];
-  out.push(`Batch ${r.label}: ${r.tasks} tasks, ${r.models.length} fitted${r.failures.length ? `, ${r.failures.length} not fitted` : ''}`);
+  out.push(`Batch "${r.label}": ${r.tasks} tasks, ${r.models.length} fitted${r.failures.length ? `, ${r.failures.length} not fitted` : ''}`);
   out.push('');
   out.push(`Grid          ${r.axes.map((a) => `${a.axis} (${a.count})`).join(' x ')}`);
   out.push(`Sample        ${s.start} to ${s.end}, ${s.frequency}, T = ${s.T}, N = ${s.N} (${s.returns} returns)${s.notes.some((n) => n.includes('vary by task')) ? '; varies by task' : ''}`);
@@ -32,7 +32,9 @@ export function batchText(r: BatchResult, opts: BatchTextOptions = {}): string {
   out.push('');
   out.push(`Ranked by ${RANK_BY[by].title}: ${shown.length === ranked.length ? `all ${ranked.length}` : `top ${shown.length} of ${ranked.length}`} fitted tasks${withValue < ranked.length ? ` (${ranked.length - withValue} without a value at the end)` : ''}`);
   const { header, rows } = compareTableCells(shown, r.best);
-  out.push(alignTable(['rank', 'task', ...header], rows.map((row, i) => [String(i + 1), String(shown[i].task), ...row])));
+  const head = ['rank', 'task', ...header];
+  const right = head.map((h) => h !== 'model' && h !== 'test');
+  out.push(...alignColumns(head, rows.map((row, i) => [String(i + 1), String(shown[i].task), ...row]), right).map((l) => `  ${l}`));
   out.push(`${COMPARE_TABLE_NOTE}, among all ${r.models.length} fitted tasks`);
   for (const m of shown) if (m.error) out.push(`  task ${m.task}: ${m.error}`);
   if (r.failures.length) {

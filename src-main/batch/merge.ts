@@ -66,7 +66,7 @@ export function batchStatus(dir: string): BatchStatus {
 }
 
 export function statusText(s: BatchStatus): string {
-  const lines = [`Batch ${s.label} (plan ${s.plan.slice(0, 12)}): ${s.tasks} tasks`];
+  const lines = [`Batch "${s.label}" (plan ${s.plan.slice(0, 12)}): ${s.tasks} tasks`];
   lines.push(`  done       ${s.done}${s.notFitted.length ? ` (${s.notFitted.length} whose model could not be fitted)` : ''}`);
   lines.push(`  failed     ${s.failed.length}${s.failed.length ? ' (the next `deflator batch run` retries them)' : ''}`);
   lines.push(`  remaining  ${s.remaining}`);

@@ -6,7 +6,7 @@
 import { existsSync, mkdirSync, readdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
-import { DEFAULT_MAX_TASKS, checkGridSize, expandGrid, gridAxes, panelKey, parseGridSpec, type GridSpec, type GridTask } from '../../shared/batch/grid.js';
+import { DEFAULT_MAX_TASKS, checkGridSize, expandGrid, gridAxes, gridLabel, panelKey, parseGridSpec, type GridSpec, type GridTask } from '../../shared/batch/grid.js';
 import { SnapshotWriter, dataFingerprint } from '../../shared/batch/snapshot.js';
 import { stringifyExact } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
@@ -104,7 +104,7 @@ export function planBatch(store: Store, json: unknown, dir: string, opts: PlanOp
     plan: planId(core),
     createdAt: new Date().toISOString(),
     deflator: VERSION,
-    label: grid.label ?? `batch of ${tasks.length} tasks`,
+    label: gridLabel(grid),
     axes: gridAxes(grid),
     ...core,
   };

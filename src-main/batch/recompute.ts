@@ -4,7 +4,7 @@
  * into the result in task order, so the result is the one a merge of any sharding gives.
  */
 import { BatchAssembler, outcomeText, type TaskOutcome } from '../../shared/batch/assemble.js';
-import { expandGrid, gridAxes, parseGridSpec } from '../../shared/batch/grid.js';
+import { expandGrid, gridAxes, gridLabel, parseGridSpec } from '../../shared/batch/grid.js';
 import { dataFingerprint } from '../../shared/batch/snapshot.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import type { BatchResult } from '../../shared/results.js';
@@ -26,7 +26,7 @@ export async function recomputeBatch(store: Store, gridJson: unknown, run: Batch
   const grid = parseGridSpec(gridJson);
   const tasks = expandGrid(grid, { maxTasks: Number.MAX_SAFE_INTEGER });
   const { byTask, panels } = taskPanels(store, tasks);
-  const asm = new BatchAssembler(grid.label ?? `batch of ${tasks.length} tasks`, tasks.length, gridAxes(grid));
+  const asm = new BatchAssembler(gridLabel(grid), tasks.length, gridAxes(grid));
   const pending = new Map<number, { outcome: TaskOutcome; digest: string }>();
   let flushed = 0;
   let next = 0;
