@@ -59,3 +59,46 @@ export function batchAsComparison(r: BatchResult, rows: BatchRow[]): CompareResu
   }
   return { kind: 'compare', sample: r.sample, models, hjTests: [], best };
 }
+
+/** What the app's comparison screen shows of a merged batch: the top of one ranking. */
+export interface BatchRanking {
+  run: number;
+  label: string;
+  tasks: number;
+  fitted: number;
+  axes: BatchResult['axes'];
+  data: BatchResult['data'];
+  rankBy: RankBy;
+  /** e.g. "HJ distance (smallest first)". */
+  title: string;
+  /** Fitted tasks that have a value in this ranking (the others come last). */
+  ranked: number;
+  /** The shown rows: rank, task, settings (the numbers are in `comparison`, same order). */
+  rows: { rank: number; task: number; label: string; settings: BatchResult['models'][number]['settings'] }[];
+  /** The shown rows as a comparison (labels `#task settings`), for the comparison table and chart. */
+  comparison: CompareResult;
+  /** Tasks whose model could not be fitted: how many, and the first few with their reasons. */
+  notFitted: number;
+  failures: BatchResult['failures'];
+}
+
+export const RANKING_TOP_MAX = 1000;
+
+export function batchRanking(run: number, r: BatchResult, by: RankBy, top: number): BatchRanking {
+  const rows = rankBatch(r, by).slice(0, Math.max(1, Math.min(top, RANKING_TOP_MAX)));
+  return {
+    run,
+    label: r.label,
+    tasks: r.tasks,
+    fitted: r.models.length,
+    axes: r.axes,
+    data: r.data,
+    rankBy: by,
+    title: RANK_BY[by].title,
+    ranked: rankedCount(r, by),
+    rows: rows.map((m, i) => ({ rank: i + 1, task: m.task, label: m.label, settings: m.settings })),
+    comparison: batchAsComparison(r, rows),
+    notFitted: r.failures.length,
+    failures: r.failures.slice(0, 20),
+  };
+}

@@ -15,6 +15,7 @@ import type { AppInfo, AssetHistory, Coverage, ImportReport } from './types.js';
 import { RUN_KINDS, type RunRecord, type RunSummary, type RunTag, type StaleItem } from '../records/run-record.js';
 import type { ReplayReport } from '../records/replay-report.js';
 import { EXPORT_FORMATS } from '../report/formats.js';
+import { RANK_KEYS, RANKING_TOP_MAX, type BatchRanking, type RankBy } from '../batch/rank.js';
 
 export interface CallDef<Req extends z.ZodType, Rep> {
   request: Req;
@@ -117,6 +118,16 @@ export const CALLS = {
     summary: 'recompute a recorded run and compare every number bit for bit',
     task: true,
   }),
+  batchRanking: call<BatchRanking>()(
+    z
+      .object({
+        id: z.number().int().min(1),
+        rankBy: z.enum(RANK_KEYS as [RankBy, ...RankBy[]]).default('hj'),
+        top: z.number().int().min(1).max(RANKING_TOP_MAX).default(25),
+      })
+      .strict(),
+    { summary: 'a merged batch run ranked by HJ distance, test p-value or out-of-sample RMSE: its top tasks as a comparison' },
+  ),
   exportRun: call<{ files: { name: string; mime: string; base64: string }[] }>()(
     z.object({ id: z.number().int().min(1), format: z.enum(EXPORT_FORMATS) }).strict(),
     { summary: 'a recorded run as CSV files, XLSX, LaTeX, HTML or PDF, for the user to save', task: true },

@@ -64,6 +64,7 @@ export function createHandlers(s: AppServices): Handlers {
     run: async (req) => runService(s).get(req.id),
     deleteRun: async (req) => runService(s).delete(req.id),
     replayRun: async (req) => runService(s).replay(req.id),
+    batchRanking: async (req) => runService(s).batchRanking(req.id, req.rankBy, req.top),
     exportRun: async (req) => runService(s).export(req.id, req.format),
   };
 }

@@ -19,11 +19,10 @@ import { readFileSync, rmSync } from 'node:fs';
 import path from 'node:path';
 import { DeflatorError, describeError, isDeflatorError } from '../../shared/errors.js';
 import { readSnapshot } from '../../shared/batch/snapshot.js';
-import type { TaskOutcome } from '../../shared/batch/assemble.js';
 import { stringifyExact } from '../../shared/records/exact-json.js';
-import type { ReturnsPanel } from '../../shared/panel.js';
 import { parseFitSpec, type FitSpec } from '../../shared/spec.js';
 import { VERSION } from '../version.js';
+import type { Compute } from '../services/compute.js';
 import { PARTIAL, failedPath, partialFiles, readManifest, readSnapshotFiles, removeFailed, resultNames, resultPath, resultText, sha256, taskName, writeAtomic, type Manifest, type ManifestTask } from './folder.js';
 
 /** Shard I of N (0 <= I < N). */
@@ -46,11 +45,6 @@ export function parseShard(text: string | undefined): Shard {
 
 export const shardTasks = (m: Pick<Manifest, 'tasks'>, s: Shard): ManifestTask[] => m.tasks.filter((t) => t.task % s.count === s.index);
 
-/** The slice of the worker pool a shard uses. */
-export interface BatchRunner {
-  readonly threads: number;
-  runTask(kind: 'batchTask', payload: { spec: FitSpec; panel: ReturnsPanel; backtest: boolean }, opts: { signal?: AbortSignal }): Promise<TaskOutcome>;
-}
 
 export interface ShardProgress {
   /** Tasks of this shard finished in this run (results written or failures noted). */
@@ -84,7 +78,7 @@ function loadSpec(dir: string, t: ManifestTask): FitSpec {
   return spec;
 }
 
-export async function runShard(dir: string, pool: BatchRunner, shard: Shard, opts: { onProgress?: (p: ShardProgress) => void; signal?: AbortSignal } = {}): Promise<ShardReport> {
+export async function runShard(dir: string, pool: Compute, shard: Shard, opts: { onProgress?: (p: ShardProgress) => void; signal?: AbortSignal } = {}): Promise<ShardReport> {
   const started = performance.now();
   const m = readManifest(dir);
   const share = shardTasks(m, shard);
@@ -114,7 +108,7 @@ export async function runShard(dir: string, pool: BatchRunner, shard: Shard, opt
         if (!panel) throw new DeflatorError('CONFLICT', `task ${t.task}: its panel ${t.panel.slice(0, 12)} is not in the snapshot`, 'plan the batch again');
         const outcome = await pool.runTask('batchTask', { spec, panel, backtest: t.backtest }, opts.signal ? { signal: opts.signal } : {});
         const seconds = (performance.now() - t0) / 1000;
-        writeAtomic(resultPath(dir, t.task), resultText(m, t, outcome, { shard: label, threads: pool.threads, host, pid: process.pid, seconds, at: new Date().toISOString(), deflator: VERSION }), path.join(dir, PARTIAL));
+        writeAtomic(resultPath(dir, t.task), resultText(m, t, outcome, { shard: label, threads: pool.threads ?? 1, host, pid: process.pid, seconds, at: new Date().toISOString(), deflator: VERSION }), path.join(dir, PARTIAL));
         removeFailed(dir, t.task);
       } catch (e) {
         if (opts.signal?.aborted || (isDeflatorError(e) && e.code === 'CANCELLED')) throw e;
@@ -130,6 +124,6 @@ export async function runShard(dir: string, pool: BatchRunner, shard: Shard, opt
     }
   };
   // twice as many tasks in flight as threads, so no thread waits while a result is written
-  await Promise.all(Array.from({ length: Math.max(1, Math.min(todo.length, 2 * pool.threads)) }, worker));
+  await Promise.all(Array.from({ length: Math.max(1, Math.min(todo.length, 2 * (pool.threads ?? 1))) }, worker));
   return report();
 }

@@ -6,6 +6,8 @@ import type { RunRecord, RunSummary, StaleItem } from '../../shared/records/run-
 import type { ReplayReport } from '../../shared/records/replay-report.js';
 import { EXPORT_MIME, type ExportFormat } from '../../shared/report/formats.js';
 import { renderExport } from '../export/run-export.js';
+import { DeflatorError } from '../../shared/errors.js';
+import { batchRanking, type BatchRanking, type RankBy } from '../../shared/batch/rank.js';
 import type { Store } from '../store/store.js';
 import { replayRun, type Recompute } from './replay.js';
 import { deleteRun, getRun, listRuns, staleItems, type RunFilter } from './runs.js';
@@ -49,6 +51,15 @@ export class RunService {
   /** Replays in the app's own pool, whatever thread count the run was computed with. */
   async replay(id: number): Promise<ReplayReport> {
     return replayRun(this.store(), id, this.recompute, this.threads === undefined ? {} : { threads: this.threads });
+  }
+
+  /** The top of one ranking of a merged batch run, for the comparison screen. */
+  batchRanking(id: number, by: RankBy, top: number): BatchRanking {
+    const record = getRun(this.store(), id);
+    if (record.result.kind !== 'batch') {
+      throw new DeflatorError('INPUT_INVALID', `run ${id} is a ${record.kind}, not a merged batch`, 'pick a run of kind batch (deflator batch merge records one)');
+    }
+    return batchRanking(id, record.result, by, top);
   }
 
   async export(id: number, format: ExportFormat): Promise<{ files: ExportedFile[] }> {

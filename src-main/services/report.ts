@@ -5,6 +5,7 @@
  */
 import { backtestText } from '../../shared/backtest/text.js';
 import { compareText } from '../../shared/compare/text.js';
+import { batchText } from '../../shared/batch/text.js';
 import { fitText } from '../../shared/report/fit-text.js';
 import { CAUTION, type AnyResult } from '../../shared/results.js';
 import type { RunRecord } from '../../shared/records/run-record.js';
@@ -18,6 +19,8 @@ export function analysisText(result: AnyResult): string {
       return backtestText(result);
     case 'compare':
       return compareText(result);
+    case 'batch':
+      return batchText(result);
   }
 }
 

@@ -57,6 +57,7 @@ function examples(): { [K in CallName]: RequestOf<K> } {
     run: { id: 1 },
     deleteRun: { id: 1 },
     replayRun: { id: 1 },
+    batchRanking: { id: 1, rankBy: 'oos', top: 10 },
     exportRun: { id: 1, format: 'csv' },
   };
 }

@@ -17,7 +17,7 @@ import { batchStatus, mergeBatch, statusText } from '../../batch/merge.js';
 import { planBatch } from '../../batch/plan.js';
 import { parseShard, runShard, type ShardProgress } from '../../batch/shard.js';
 import { Store } from '../../store/store.js';
-import { defaultThreads, withPool } from '../../workers/pool.js';
+import { defaultThreads, inProcess, type ClosableCompute } from '../../services/compute.js';
 import { progressBar } from '../progress.js';
 import { positiveInt } from './backtest.js';
 
@@ -129,7 +129,12 @@ export function register(program: Command): void {
       const threads = positiveInt('--threads', o.threads) ?? defaultThreads();
       const label = `${shard.index}/${shard.count}`;
       const progress = shardProgress(label);
-      const r = await withPool((pool) => runShard(dir, pool, shard, { onProgress: (p) => progress.update(p) }), { threads }).finally(() => progress.finish());
+      // one thread: the tasks in this process (no worker start-up); more: a pool of that many workers, one task each
+      const compute: ClosableCompute = threads === 1 ? inProcess() : (await import('../../workers/pool.js')).createPool({ threads });
+      const r = await runShard(dir, compute, shard, { onProgress: (p) => progress.update(p) }).finally(async () => {
+        progress.finish();
+        await compute.close();
+      });
       if (o.json) process.stdout.write(`${JSON.stringify(r, null, 2)}\n`);
       else {
         const rate = r.done / Math.max(1e-9, r.seconds);

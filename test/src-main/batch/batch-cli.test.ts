@@ -63,6 +63,9 @@ beforeAll(async () => {
   const s0 = start('0/3', 2);
   const s2 = start('2/3', 1);
   const victim = start('1/3', 1);
+  // listen for the ends now: a shard may be done before the kill
+  const s0Ended = ended(s0);
+  const s2Ended = ended(s2);
   const victimEnded = ended(victim);
   await new Promise<void>((resolve, reject) => {
     const timer = setInterval(() => {
@@ -80,8 +83,8 @@ beforeAll(async () => {
   });
   await victimEnded;
   killedAfter = doneTasks(three, share1).length;
-  expect(await ended(s0)).toBe(0);
-  expect(await ended(s2)).toBe(0);
+  expect(await s0Ended).toBe(0);
+  expect(await s2Ended).toBe(0);
 }, 300_000);
 
 afterAll(() => {
