@@ -65,7 +65,12 @@ export interface Manifest {
   snapshot: { index: string; indexSha256: string; columns: string; columnsSha256: string; bytes: number };
 }
 
-export interface ResultFile {
+/**
+ * The first line of a result file. The second line is the task's outcome as exact JSON
+ * (shared/records/exact-json.ts); `sha256` is the digest of that line's bytes, so a
+ * reader checks it without parsing, and the outcome is parsed only by those who need it.
+ */
+export interface ResultHeader {
   format: typeof RESULT_FORMAT;
   version: number;
   plan: string;
@@ -73,11 +78,17 @@ export interface ResultFile {
   spec: string;
   panel: string;
   data: string;
-  /** SHA-256 of outcomeText(outcome). */
+  /** SHA-256 of the outcome line (outcomeText(outcome)). */
   sha256: string;
-  outcome: TaskOutcome;
+  /** Was the model fitted? (else `error` says why): lets `status` list them without parsing outcomes. */
+  fitted: boolean;
+  error?: string;
   /** How it was computed (information only: the numbers do not depend on it). */
   computed: { shard: string; threads: number; host: string; pid: number; seconds: number; at: string; deflator: string };
+}
+
+export interface ResultFile extends ResultHeader {
+  outcome: TaskOutcome;
 }
 
 export interface FailedAttempt {
@@ -112,9 +123,13 @@ export function planId(m: Pick<Manifest, 'grid' | 'tasks' | 'data' | 'snapshot'>
 
 /**
  * Writes a file so that readers see the old state or the whole new one: a temporary file
- * in `partialDir` (same file system), flushed to disk, then renamed over the target.
+ * in `partialDir` (same file system), then renamed over the target. A killed process
+ * leaves at most a temporary file. With `sync` the data are flushed to disk before the
+ * rename (survives a power cut too; costs about 9 ms a file on the machines measured);
+ * without it, a file cut short by a crash of the machine is caught by its digest and
+ * recomputed (shard.ts checks the results it finds).
  */
-export function writeAtomic(target: string, data: string | Uint8Array, partialDir = path.join(path.dirname(target), '.partial')): void {
+export function writeAtomic(target: string, data: string | Uint8Array, partialDir = path.join(path.dirname(target), '.partial'), sync = false): void {
   mkdirSync(partialDir, { recursive: true });
   const tmp = path.join(partialDir, `${path.basename(target)}.${hostname()}.${process.pid}.${randomBytes(4).toString('hex')}`);
   const fd = openSync(tmp, 'w', 0o644);
@@ -122,7 +137,7 @@ export function writeAtomic(target: string, data: string | Uint8Array, partialDi
     const bytes = typeof data === 'string' ? Buffer.from(data, 'utf8') : data;
     let at = 0;
     while (at < bytes.length) at += writeSync(fd, bytes, at, bytes.length - at);
-    fsyncSync(fd);
+    if (sync) fsyncSync(fd);
   } finally {
     closeSync(fd);
   }
@@ -162,9 +177,10 @@ export function readSnapshotFiles(dir: string, m: Manifest): { index: SnapshotIn
   return { index: JSON.parse(indexText.toString('utf8')) as SnapshotIndex, columns: new Uint8Array(columns.buffer, columns.byteOffset, columns.byteLength) };
 }
 
-/** The task's result file text. */
-export function resultText(m: Manifest, t: ManifestTask, outcome: TaskOutcome, computed: ResultFile['computed']): string {
-  const file: ResultFile = {
+/** The task's result file: the header line, then the outcome line. */
+export function resultText(m: Manifest, t: ManifestTask, outcome: TaskOutcome, computed: ResultHeader['computed']): string {
+  const body = outcomeText(outcome);
+  const header: ResultHeader = {
     format: RESULT_FORMAT,
     version: FOLDER_VERSION,
     plan: m.plan,
@@ -172,17 +188,42 @@ export function resultText(m: Manifest, t: ManifestTask, outcome: TaskOutcome, c
     spec: t.spec,
     panel: t.panel,
     data: m.data.sha256,
-    sha256: sha256(outcomeText(outcome)),
-    outcome,
+    sha256: sha256(body),
+    fitted: outcome.fit !== undefined,
+    ...(outcome.error !== undefined ? { error: outcome.error } : {}),
     computed,
   };
-  return stringifyExact(file);
+  return `${JSON.stringify(header)}\n${body}\n`;
 }
 
-export type ResultCheck = { ok: true; file: ResultFile } | { ok: false; missing: boolean; reason: string };
+/** Parses an outcome line: plain JSON.parse unless the text holds an exact-JSON tag (-0, a typed array). */
+function parseOutcome(body: string): TaskOutcome {
+  return body.includes('"$') ? parseExact<TaskOutcome>(body) : (JSON.parse(body) as TaskOutcome);
+}
 
-/** Reads task t's result and checks that it belongs to this plan, its data and its spec, and that its numbers match its digest. */
-export function checkResult(dir: string, m: Manifest, t: ManifestTask): ResultCheck {
+/** Splits a result file into its header and outcome line (no checks). */
+export function splitResult(text: string): { header: ResultHeader; body: string } {
+  const cut = text.indexOf('\n');
+  if (cut < 0) throw new Error('it has no outcome line');
+  const header = JSON.parse(text.slice(0, cut)) as ResultHeader;
+  const body = text.slice(cut + 1).replace(/\n$/, '');
+  return { header, body };
+}
+
+/** Reads a result file whole (the tests and tools use it; merge goes through checkResult). */
+export function readResultFile(file: string): ResultFile {
+  const { header, body } = splitResult(readFileSync(file, 'utf8'));
+  return { ...header, outcome: parseOutcome(body) };
+}
+
+export type ResultCheck = { ok: true; file: ResultHeader & { outcome?: TaskOutcome } } | { ok: false; missing: boolean; reason: string };
+
+/**
+ * Reads task t's result and checks that it belongs to this plan, its data and its spec,
+ * and that its outcome line matches its digest; parses the outcome when `outcome` is set
+ * (merge) and checks the header's summary against it.
+ */
+export function checkResult(dir: string, m: Manifest, t: ManifestTask, opts: { outcome?: boolean } = {}): ResultCheck {
   const p = resultPath(dir, t.task);
   let text: string;
   try {
@@ -191,11 +232,12 @@ export function checkResult(dir: string, m: Manifest, t: ManifestTask): ResultCh
     if ((e as { code?: string }).code === 'ENOENT') return { ok: false, missing: true, reason: 'not run yet' };
     return { ok: false, missing: false, reason: `unreadable: ${(e as Error).message}` };
   }
-  let f: ResultFile;
+  let f: ResultHeader;
+  let body: string;
   try {
-    f = parseExact<ResultFile>(text);
+    ({ header: f, body } = splitResult(text));
   } catch (e) {
-    return { ok: false, missing: false, reason: `not valid JSON (${(e as Error).message})` };
+    return { ok: false, missing: false, reason: `not a result file (${(e as Error).message})` };
   }
   if (f.format !== RESULT_FORMAT || f.version !== FOLDER_VERSION) return { ok: false, missing: false, reason: `not a batch result of version ${FOLDER_VERSION}` };
   if (f.task !== t.task) return { ok: false, missing: false, reason: `the file holds task ${f.task}` };
@@ -203,10 +245,17 @@ export function checkResult(dir: string, m: Manifest, t: ManifestTask): ResultCh
   if (f.panel !== t.panel) return { ok: false, missing: false, reason: `computed on another returns panel (${String(f.panel).slice(0, 12)}, the plan's is ${t.panel.slice(0, 12)})` };
   if (f.spec !== t.spec) return { ok: false, missing: false, reason: 'computed from another spec than the plan\'s task' };
   if (f.plan !== m.plan) return { ok: false, missing: false, reason: `from another plan (${String(f.plan).slice(0, 12)}, this folder's is ${m.plan.slice(0, 12)})` };
-  if (!f.outcome || typeof f.outcome !== 'object') return { ok: false, missing: false, reason: 'it holds no outcome' };
-  const digest = sha256(outcomeText(f.outcome));
+  const digest = sha256(body);
   if (digest !== f.sha256) return { ok: false, missing: false, reason: `its numbers were changed after it was written (SHA-256 ${digest.slice(0, 12)}, recorded ${String(f.sha256).slice(0, 12)})` };
-  return { ok: true, file: f };
+  if (!opts.outcome) return { ok: true, file: f };
+  let outcome: TaskOutcome;
+  try {
+    outcome = parseOutcome(body);
+  } catch (e) {
+    return { ok: false, missing: false, reason: `its outcome is not valid JSON (${(e as Error).message})` };
+  }
+  if ((outcome.fit !== undefined) !== f.fitted || outcome.error !== f.error) return { ok: false, missing: false, reason: 'its header does not describe its outcome' };
+  return { ok: true, file: { ...f, outcome } };
 }
 
 /** Which tasks have a result file (by name; not checked). */

@@ -49,7 +49,7 @@ export function batchStatus(dir: string): BatchStatus {
       const c = checkResult(dir, m, t);
       if (c.ok) {
         st.done++;
-        if (!c.file.outcome.fit) st.notFitted.push({ task: t.task, label: t.label, error: c.file.outcome.error ?? 'not fitted' });
+        if (!c.file.fitted) st.notFitted.push({ task: t.task, label: t.label, error: c.file.error ?? 'not fitted' });
         continue;
       }
       if (!c.missing) {
@@ -91,13 +91,13 @@ export function assembleFolder(dir: string, m: Manifest = readManifest(dir)): Ba
   let missing = 0;
   const asm = new BatchAssembler(m.label, m.tasks.length, m.axes);
   for (const t of m.tasks) {
-    const c = checkResult(dir, m, t);
+    const c = checkResult(dir, m, t, { outcome: problems.length === 0 });
     if (!c.ok) {
       if (c.missing) missing++;
       if (problems.length < SHOWN) problems.push(`task ${t.task} (${t.label}): ${c.reason}`);
       continue;
     }
-    if (problems.length === 0) asm.add(t, c.file.outcome, c.file.sha256);
+    if (problems.length === 0 && c.file.outcome) asm.add(t, c.file.outcome, c.file.sha256);
   }
   if (problems.length) {
     const bad = problems.length - Math.min(problems.length, missing);

@@ -7,8 +7,10 @@
  * fastest-varying axes (stage, window, ...), which differ most in cost; dealing them out
  * in turn gives every shard a like mix, and a shard's share is known from I and N alone.
  *
- * A task whose result file exists is skipped, so a killed shard, started again, goes on
- * where it stopped (a task cut off mid-way left only a temporary file, and runs again).
+ * A task whose result file exists and checks out is skipped, so a killed shard, started
+ * again, goes on where it stopped (a task cut off mid-way left only a temporary file, and
+ * runs again); a result file that does not check out (cut short by a crash of the
+ * machine, from another plan, changed) is computed again and replaced.
  * A task that could not be computed at all (a worker died, memory ran out) is noted in
  * failed/ with the reason and the shard goes on; the next run retries it. Estimation
  * errors (a singular design, no convergence) are outcomes, not failures: they are in the
@@ -23,7 +25,7 @@ import { stringifyExact } from '../../shared/records/exact-json.js';
 import { parseFitSpec, type FitSpec } from '../../shared/spec.js';
 import { VERSION } from '../version.js';
 import type { Compute } from '../services/compute.js';
-import { PARTIAL, failedPath, partialFiles, readManifest, readSnapshotFiles, removeFailed, resultNames, resultPath, resultText, sha256, taskName, writeAtomic, type Manifest, type ManifestTask } from './folder.js';
+import { PARTIAL, checkResult, failedPath, partialFiles, readManifest, readSnapshotFiles, removeFailed, resultNames, resultPath, resultText, sha256, taskName, writeAtomic, type Manifest, type ManifestTask } from './folder.js';
 
 /** Shard I of N (0 <= I < N). */
 export interface Shard {
@@ -62,6 +64,8 @@ export interface ShardReport extends ShardProgress {
   share: number;
   seconds: number;
   failures: { task: number; reason: string }[];
+  /** Result files found that did not check out (cut short, another plan, changed), computed again. */
+  replaced: { task: number; reason: string }[];
 }
 
 function loadSpec(dir: string, t: ManifestTask): FitSpec {
@@ -82,14 +86,23 @@ export async function runShard(dir: string, pool: Compute, shard: Shard, opts: {
   const started = performance.now();
   const m = readManifest(dir);
   const share = shardTasks(m, shard);
-  const done = resultNames(dir);
-  const todo = share.filter((t) => !done.has(t.task));
+  const names = resultNames(dir);
+  // a result found is done if it checks out (plan, data, spec, digest); one cut short by a
+  // crash of the machine, or from another plan, is computed again and replaced
+  const replaced: { task: number; reason: string }[] = [];
+  const todo = share.filter((t) => {
+    if (!names.has(t.task)) return true;
+    const c = checkResult(dir, m, t);
+    if (c.ok) return false;
+    replaced.push({ task: t.task, reason: c.reason });
+    return true;
+  });
   const label = `${shard.index}/${shard.count}`;
   // temporary files of this shard's unfinished tasks, left by a killed run
   const mine = new Set(todo.map((t) => taskName(t.task)));
   for (const f of partialFiles(dir)) if (mine.has(f.slice(0, 6)) && f.slice(6, 11) === '.json') rmSync(path.join(dir, PARTIAL, f), { force: true });
   const progress: ShardProgress = { done: 0, todo: todo.length, skipped: share.length - todo.length, failed: 0 };
-  const report = (): ShardReport => ({ ...progress, shard: label, share: share.length, seconds: (performance.now() - started) / 1000, failures });
+  const report = (): ShardReport => ({ ...progress, shard: label, share: share.length, seconds: (performance.now() - started) / 1000, failures, replaced });
   const failures: { task: number; reason: string }[] = [];
   if (todo.length === 0) return report();
   const snap = readSnapshotFiles(dir, m);

@@ -254,3 +254,48 @@ describe('spec JSON text', () => {
     expect(text).toContain('"factors": ["x"]');
   });
 });
+
+describe('compare store: a merged batch', () => {
+  const ranking = (rankBy: string) => ({
+    run: 7,
+    label: 'factor search',
+    tasks: 28,
+    fitted: 28,
+    axes: [{ axis: 'model.factors', count: 7 }],
+    data: { sha256: 'd', panels: 7 },
+    rankBy,
+    title: 't',
+    ranked: 28,
+    rows: [{ rank: 1, task: 24, label: 'factors=a', settings: [] }],
+    comparison: { kind: 'compare', sample: {}, models: [{ label: '#24 factors=a' }], hjTests: [], best: {} },
+    notFitted: 0,
+    failures: [],
+  });
+
+  it('lists batch runs, opens one ranked as asked, tags the comparison with the run id, and closes it', async () => {
+    const m = mockClient({
+      runs: async () => [{ id: 7, kind: 'batch', label: 'factor search' }],
+      batchRanking: async (req: { rankBy: string }) => ranking(req.rankBy),
+    } as never);
+    const c = useCompareStore();
+    await c.listBatches();
+    expect(m.runs).toHaveBeenCalledWith({ kind: 'batch' });
+    expect(c.batches.map((b) => b.id)).toEqual([7]);
+    await c.openBatch(7, 'oos');
+    expect(m.batchRanking).toHaveBeenCalledWith({ id: 7, rankBy: 'oos', top: 25 });
+    expect(c.batch?.rankBy).toBe('oos');
+    expect(c.result?.models[0].label).toBe('#24 factors=a');
+    expect((c.result as { runId?: number }).runId).toBe(7);
+    c.closeBatch();
+    expect(c.batch).toBeNull();
+    expect(c.result).toBeNull();
+  });
+
+  it('keeps a refused ranking as an error and shows no stale batch', async () => {
+    mockClient({ batchRanking: async () => Promise.reject(new BridgeError('INPUT_INVALID', 'run 3 is a fit, not a merged batch', 'pick a run of kind batch')) } as never);
+    const c = useCompareStore();
+    await c.openBatch(3);
+    expect(c.error?.message).toContain('not a merged batch');
+    expect(c.batch).toBeNull();
+  });
+});

@@ -141,6 +141,7 @@ export function register(program: Command): void {
         process.stdout.write(
           `Shard ${r.shard}: ${r.share} tasks; ${r.skipped} already done, ${r.done - r.failed} run now${r.failed ? `, ${r.failed} FAILED` : ''} in ${r.seconds.toFixed(1)} s${r.done ? ` (${rate.toFixed(1)} tasks/s, ${threads} thread${threads === 1 ? '' : 's'})` : ''}\n`,
         );
+        if (r.replaced.length) process.stdout.write(`Replaced ${r.replaced.length} result file(s) that did not check out, e.g. task ${r.replaced[0].task}: ${r.replaced[0].reason}\n`);
         for (const f of r.failures.slice(0, 10)) process.stdout.write(`  task ${f.task}: ${f.reason.split('\n')[0]}\n`);
         if (r.failures.length) process.stdout.write(`Run the same command again to retry the failed tasks; \`deflator batch status ${dir}\` lists them.\n`);
       }

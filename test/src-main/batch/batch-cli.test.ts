@@ -19,7 +19,7 @@ import { importSeries } from '../../../src-main/import/index.js';
 import { getRun } from '../../../src-main/runs/runs.js';
 import { Store } from '../../../src-main/store/store.js';
 import { createPool, type DeflatorPool } from '../../../src-main/workers/pool.js';
-import type { ResultFile } from '../../../src-main/batch/folder.js';
+import { readResultFile, splitResult, type ResultFile } from '../../../src-main/batch/folder.js';
 import { makeProject, type Project } from '../runs/helpers.js';
 
 const ROOT = path.resolve(import.meta.dirname, '../../..');
@@ -34,7 +34,8 @@ const ok = (args: string[]) => {
   if (r.code !== 0) throw new Error(`deflator ${args.join(' ')} exited ${r.code}: ${r.err}`);
   return r;
 };
-const readResult = (dir: string, task: number): ResultFile => parseExact<ResultFile>(readFileSync(path.join(dir, 'results', `${String(task).padStart(6, '0')}.json`), 'utf8'));
+const resultFile = (dir: string, task: number) => path.join(dir, 'results', `${String(task).padStart(6, '0')}.json`);
+const readResult = (dir: string, task: number): ResultFile => readResultFile(resultFile(dir, task));
 const doneTasks = (dir: string, of: number[]) => of.filter((t) => existsSync(path.join(dir, 'results', `${String(t).padStart(6, '0')}.json`)));
 
 const TASKS = 28;
@@ -255,12 +256,27 @@ describe('deflator batch refusals', () => {
   it('merge refuses a result whose numbers were changed', () => {
     const dir = path.join(p.dir, 'tampered');
     cpSync(one, dir, { recursive: true });
-    const f = readResult(dir, 11);
-    f.outcome.fit!.hj!.distance *= 1 + 2 ** -40;
-    writeFileSync(path.join(dir, 'results', '000011.json'), stringifyExact(f));
+    const { header, body } = splitResult(readFileSync(resultFile(dir, 11), 'utf8'));
+    const outcome = parseExact<ResultFile['outcome']>(body);
+    outcome.fit!.hj!.distance *= 1 + 2 ** -40;
+    writeFileSync(resultFile(dir, 11), `${JSON.stringify(header)}\n${stringifyExact(outcome)}\n`);
     const r = cli(['batch', 'merge', dir, '--db', p.dbPath]);
     expect(r.code).toBe(1);
     expect(r.err).toMatch(/task 11 \(factors=ledger stage=second window=120\): its numbers were changed after it was written/);
+  });
+
+  it('a result file cut short (a machine that crashed while writing) is refused by merge and computed again by run', () => {
+    const dir = path.join(p.dir, 'cut');
+    cpSync(one, dir, { recursive: true });
+    const text = readFileSync(resultFile(dir, 20), 'utf8');
+    writeFileSync(resultFile(dir, 20), text.slice(0, Math.floor(text.length / 2)));
+    expect(cli(['batch', 'merge', dir, '--db', p.dbPath]).err).toMatch(/task 20 \([^)]*\): its numbers were changed after it was written/);
+    expect(JSON.parse(ok(['batch', 'status', dir, '--json']).out)).toMatchObject({ done: 27, remaining: 1, rejected: [{ task: 20 }] });
+    const r = JSON.parse(ok(['batch', 'run', dir, '--shard', '2/3', '--json']).out) as { done: number; skipped: number; replaced: { task: number }[] };
+    expect(r).toMatchObject({ done: 1, skipped: 8, replaced: [{ task: 20 }] });
+    // the outcome line is the same bytes as the one-shard run's
+    expect(splitResult(readFileSync(resultFile(dir, 20), 'utf8')).body).toBe(splitResult(readFileSync(resultFile(one, 20), 'utf8')).body);
+    expect(ok(['batch', 'merge', dir, '--db', p.dbPath, '--no-record']).out).toContain('28 fitted');
   });
 
   it('a task that cannot run is noted as failed with its reason, and retried by the next run', () => {
