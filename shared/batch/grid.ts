@@ -356,12 +356,14 @@ export function expandGrid(g: GridSpec, opts: { maxTasks?: number; shown?: numbe
 }
 
 /**
- * The keys of a task spec that decide its returns panel (everything loadPanel reads):
- * tasks with equal keys share one panel snapshot.
+ * The keys of a task spec that can decide its returns panel (everything but the
+ * estimator, the back-test block and the label): tasks with equal keys share one panel
+ * snapshot. Erring on the side of more keys costs only a panel built twice (plan keeps
+ * one copy per fingerprint).
  */
 export function panelKey(spec: FitSpec): string {
-  const { frequency, start, end, assets, returns, riskfree, includeRiskfree, dayCount, model } = spec;
-  return JSON.stringify({ frequency, start, end, assets, returns, riskfree, includeRiskfree, dayCount, kind: model.kind, factors: model.factors, consumption: model.consumption });
+  const { estimator: _estimator, backtest: _backtest, label: _label, ...rest } = spec;
+  return JSON.stringify(rest);
 }
 
 /** Series and asset names a grid can read (for run records' data dependencies). */
@@ -371,6 +373,7 @@ export function gridNames(g: GridSpec): { series: string[]; assets: string[] | '
   if (b.riskfree) series.add(b.riskfree);
   for (const f of b.model.factors) series.add(f);
   if (b.model.consumption) series.add(b.model.consumption);
+  for (const z of b.instruments?.series ?? []) series.add(z);
   const fx = g.grid['model.factors'];
   if (fx) {
     if (Array.isArray(fx)) for (const l of fx) for (const f of l) series.add(f);
