@@ -77,6 +77,18 @@ export function assetSourceText(h: { source?: 'prices' | 'returns'; form?: Retur
   return `${h.form ?? 'net'} returns (${h.units ?? 'decimal'}${h.excess ? ', excess' : ''})`;
 }
 
+/** Date layouts an import reads: calendar dates, and period keys read as the period's last calendar day (METHODS 8). */
+export const DAY_FORMATS = ['YYYY-MM-DD', 'YYYY/MM/DD', 'YYYY.MM.DD', 'YYYYMMDD', 'DD/MM/YYYY', 'DD.MM.YYYY', 'DD-MM-YYYY', 'MM/DD/YYYY', 'MM.DD.YYYY', 'MM-DD-YYYY'] as const;
+export const PERIOD_FORMATS = ['YYYYMM', 'YYYY-MM', 'YYYYQn', 'YYYY-Qn', 'YYYY'] as const;
+export const DATE_FORMATS = [...DAY_FORMATS, ...PERIOD_FORMATS] as const;
+export type DateFormatName = (typeof DATE_FORMATS)[number];
+
+/** Field delimiters and decimal marks an import reads (comma and point by default). */
+export const DELIMITER_NAMES = ['comma', 'semicolon', 'tab', 'bar'] as const;
+export const DECIMAL_NAMES = ['point', 'comma'] as const;
+export type DecimalName = (typeof DECIMAL_NAMES)[number];
+export type DelimiterName = (typeof DELIMITER_NAMES)[number];
+
 export const SERIES_KINDS = ['factor', 'riskfree', 'consumption', 'other'] as const;
 export type SeriesKind = (typeof SERIES_KINDS)[number];
 

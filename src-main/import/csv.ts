@@ -13,6 +13,7 @@
  */
 import { open } from 'node:fs/promises';
 import { isUtf8 } from 'node:buffer';
+import type { DelimiterName } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 
 const QUOTE = 0x22;
@@ -27,8 +28,8 @@ function specialBytes(delimiter: number): Uint8Array {
 }
 
 /** Field delimiters a file may use (RFC 4180 says comma; the others are common exports). */
-export const DELIMITERS = { comma: ',', semicolon: ';', tab: '\t', bar: '|' } as const;
-export type DelimiterName = keyof typeof DELIMITERS;
+export const DELIMITERS = { comma: ',', semicolon: ';', tab: '\t', bar: '|' } as const satisfies Record<DelimiterName, string>;
+export type { DelimiterName };
 
 /** One record. Valid only during the callback: the bytes are reused afterwards. */
 export class CsvRow {

@@ -4,6 +4,7 @@
  * YYYY-MM-DD by default; other orders, and period keys such as YYYYMM or YYYYQn, only
  * when the user names the format).
  */
+import { DATE_FORMATS, DAY_FORMATS, PERIOD_FORMATS, type DecimalName as SharedDecimal } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { dayNumber, daysInMonth } from '../data/calendar.js';
 
@@ -25,7 +26,7 @@ export const THOUSANDS_SEPARATORS = { comma: ',', space: ' ', apostrophe: "'", u
 export type ThousandsName = keyof typeof THOUSANDS_SEPARATORS;
 
 /** Decimal marks: a point (default) or a comma (1,5: files written with a comma as the decimal mark, separated by ; or tabs). */
-export const DECIMAL_MARKS = { point: '.', comma: ',' } as const;
+export const DECIMAL_MARKS = { point: '.', comma: ',' } as const satisfies Record<SharedDecimal, string>;
 export type DecimalName = keyof typeof DECIMAL_MARKS;
 
 /**
@@ -130,12 +131,8 @@ export interface DateFormat {
 
 export const ISO_DATE: DateFormat = { name: 'YYYY-MM-DD', order: ['Y', 'M', 'D'], sep: MINUS };
 
-/** Calendar-date layouts the --date-format option accepts. */
-export const DAY_FORMATS = ['YYYY-MM-DD', 'YYYY/MM/DD', 'YYYY.MM.DD', 'YYYYMMDD', 'DD/MM/YYYY', 'DD.MM.YYYY', 'DD-MM-YYYY', 'MM/DD/YYYY', 'MM.DD.YYYY', 'MM-DD-YYYY'] as const;
-/** Period keys (METHODS 8): a month, a quarter or a year, read as its last calendar day. */
-export const PERIOD_FORMATS = ['YYYYMM', 'YYYY-MM', 'YYYYQn', 'YYYY-Qn', 'YYYY'] as const;
-/** Layouts the --date-format option accepts. */
-export const DATE_FORMATS = [...DAY_FORMATS, ...PERIOD_FORMATS] as const;
+/** Layouts the --date-format option accepts (one list, in shared/data.ts). */
+export { DAY_FORMATS, PERIOD_FORMATS, DATE_FORMATS };
 
 const PERIOD_LAYOUTS: Record<(typeof PERIOD_FORMATS)[number], DateFormat> = {
   YYYYMM: { name: 'YYYYMM', order: ['Y', 'M'], sep: 0, period: 'month' },
