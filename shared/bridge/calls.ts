@@ -8,10 +8,10 @@
  * (the compiler reports a missing handler).
  */
 import * as z from 'zod';
-import { FREQUENCIES, RF_FORMS, SERIES_KINDS } from '../data.js';
+import { DATE_FORMATS, DECIMAL_NAMES, DELIMITER_NAMES, FREQUENCIES, RETURN_FORMS, RF_FORMS, SERIES_KINDS } from '../data.js';
 import { compareSpecSchema, fitSpecSchema, isoDate } from '../spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../results.js';
-import type { AppInfo, AssetHistory, Coverage, ImportReport } from './types.js';
+import type { AppInfo, AssetHistory, Coverage, ImportPreview, ImportReport } from './types.js';
 import { RUN_KINDS, type RunRecord, type RunSummary, type RunTag, type StaleItem } from '../records/run-record.js';
 import type { ReplayReport } from '../records/replay-report.js';
 import { EXPORT_FORMATS } from '../report/formats.js';
@@ -58,12 +58,24 @@ export const importOptionsSchema = z
     rfForm: z.enum(RF_FORMS).optional(),
     /** Values are in percent (divide by 100). */
     percent: z.boolean().optional(),
-    /** Price files: one row per date and asset (long, default) or one column per asset (wide). */
+    /** Price and return files: one row per date and asset (long) or one column per asset (wide); prices default long, returns wide. */
     layout: z.enum(['long', 'wide']).optional(),
     /** A named date layout of the import pipeline; ISO YYYY-MM-DD when absent. */
-    dateFormat: z.string().min(1).max(40).optional(),
+    dateFormat: z.enum(DATE_FORMATS).optional(),
+    /** Field delimiter (default comma). */
+    delimiter: z.enum(DELIMITER_NAMES).optional(),
+    /** Decimal mark (default point). */
+    decimal: z.enum(DECIMAL_NAMES).optional(),
+    /** Missing-value codes, comma-separated ("-99.99,NA"); an empty cell is always missing. */
+    missing: z.string().max(400).optional(),
+    /** Return files: net (default), gross or log. */
+    form: z.enum(RETURN_FORMS).optional(),
+    /** Return files: the returns are excess returns. */
+    excess: z.boolean().optional(),
   })
   .strict();
+
+const importKind = z.enum(['prices', 'series', 'returns']);
 
 export const CALLS = {
   info: call<AppInfo>()(empty, { summary: 'version, open database, counts' }),
@@ -76,11 +88,22 @@ export const CALLS = {
     z
       .object({
         source: importSourceSchema,
-        kind: z.enum(['prices', 'series']),
+        kind: importKind,
         options: importOptionsSchema.optional(),
       })
       .strict(),
-    { summary: 'import a CSV of prices/dividends or of named series', task: true },
+    { summary: 'import a CSV of prices/dividends, of returns, or of named series', task: true },
+  ),
+  previewImport: call<ImportPreview>()(
+    z
+      .object({
+        source: importSourceSchema,
+        kind: importKind,
+        options: importOptionsSchema.optional(),
+        rows: z.number().int().min(1).max(200).optional(),
+      })
+      .strict(),
+    { summary: 'the first rows of a file as an import would read them (nothing is stored)' },
   ),
   checkSpec: call<{ kind: 'fit' | 'compare'; spec: unknown }>()(
     z.object({ spec: z.unknown() }).strict(),

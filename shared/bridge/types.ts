@@ -73,9 +73,39 @@ export interface ImportWarning {
   message: string;
 }
 
+/** What a file holds, for the import calls. */
+export type ImportKind = 'prices' | 'series' | 'returns';
+
+/** One cell of an import preview: the text in the file and what the import reads from it. */
+export interface PreviewCell {
+  text: string;
+  /** ok: read; missing: empty or a missing-value code (no value: a gap); error: refused (see note); name: an asset name; unused: a column the import does not read. */
+  status: 'ok' | 'missing' | 'error' | 'name' | 'unused';
+  /** What is read: the date as stored (ISO) or the number (a return as a decimal net return, percent divided by 100). */
+  read?: string;
+  /** Why the cell is refused, or what it means (e.g. "a gap, not a zero"). */
+  note?: string;
+}
+
+/** The first rows of a file as an import would read them, before anything is stored. */
+export interface ImportPreview {
+  file: string;
+  kind: ImportKind;
+  /** The header, with what the import does with each column. */
+  columns: { name: string; role: 'date' | 'asset' | 'price' | 'dividend' | 'adjust' | 'shares' | 'return' | 'value' | 'unused' }[];
+  /** Data rows (line = the file's physical line). */
+  rows: { line: number; cells: PreviewCell[] }[];
+  /** The first problem the import itself finds in these rows (line and column 1-based where known), with its hint. */
+  problem?: { code: string; line?: number; column?: number; message: string; hint?: string };
+  /** What the import would read from them: assets or series, first and last date, frequency. */
+  reads?: { names: string[]; first: string | null; last: string | null; frequency: string | null; warnings: string[] };
+  /** More rows follow in the file. */
+  more: boolean;
+}
+
 export interface ImportReport {
   file: string;
-  kind: 'prices' | 'series';
+  kind: ImportKind;
   /** Rows (observations or values) stored. */
   rows: number;
   rowsRead?: number;

@@ -2,6 +2,7 @@
  * The bridge calls implemented on the app's services. One function per entry of the call
  * table (shared/bridge/calls.ts); the `Handlers` type makes a missing one a compile error.
  */
+import { rmSync } from 'node:fs';
 import { CAUTION } from '../../shared/results.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
@@ -45,6 +46,20 @@ export function createHandlers(s: AppServices): Handlers {
       const file = 'path' in req.source ? s.files.check(req.source.path) : s.files.storeUpload(req.source.name, req.source.text);
       const report = await s.importer().importFile(file, req.kind, req.options ?? {}, ctx);
       return 'name' in req.source ? { ...report, file: req.source.name } : report;
+    },
+    previewImport: async (req) => {
+      const uploaded = 'name' in req.source;
+      const file = 'path' in req.source ? s.files.check(req.source.path) : s.files.storeUpload(req.source.name, req.source.text);
+      try {
+        const preview = await s.importer().previewFile(file, req.kind, req.options ?? {}, req.rows);
+        if (!('name' in req.source)) return preview;
+        // an upload's copy lives in the app's own folder: messages name the file as the user knows it
+        const name = req.source.name;
+        return { ...preview, file: name, ...(preview.problem ? { problem: { ...preview.problem, message: preview.problem.message.split(file).join(name) } } : {}) };
+      } finally {
+        // an uploaded preview is read once: its copy in the incoming folder goes again
+        if (uploaded) rmSync(file, { force: true });
+      }
     },
     checkSpec: async (req) => {
       if (isCompareSpec(req.spec)) return { kind: 'compare', spec: parseCompareSpec(req.spec).spec };

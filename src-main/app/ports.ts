@@ -6,7 +6,7 @@
 import type { Frequency } from '../../shared/data.js';
 import type { CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
-import type { AssetHistory, Coverage, ImportReport } from '../../shared/bridge/types.js';
+import type { AssetHistory, Coverage, ImportKind, ImportPreview, ImportReport } from '../../shared/bridge/types.js';
 import type { ParsedRequestOf } from '../../shared/bridge/calls.js';
 
 /** Progress of a long task: units done out of total, with an optional stage name. */
@@ -29,7 +29,9 @@ export type ImportOptions = NonNullable<ParsedRequestOf<'importFile'>['options']
 
 export interface Importer {
   /** Imports one CSV file (a path already checked by the file policy). */
-  importFile(path: string, kind: 'prices' | 'series', options: ImportOptions, ctx: TaskContext): Promise<ImportReport>;
+  importFile(path: string, kind: ImportKind, options: ImportOptions, ctx: TaskContext): Promise<ImportReport>;
+  /** The first rows of a file as the import would read them; nothing is stored. */
+  previewFile(path: string, kind: ImportKind, options: ImportOptions, rows?: number): Promise<ImportPreview>;
 }
 
 /** Estimation, always off the main thread (the worker pool). */

@@ -10,8 +10,8 @@ import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
 import { parseAscending, spacingFrequency } from '../../shared/returns/periods.js';
 import type { CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
-import type { AssetHistory, Coverage, CoverageRow, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
-import { importPrices, importSeries } from '../import/index.js';
+import type { AssetHistory, Coverage, CoverageRow, ImportKind, ImportPreview, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
+import { importPrices, importReturns, importSeries, missingCodeList, previewImport, type PreviewOptions } from '../import/index.js';
 import type { ImportReport as PipelineReport } from '../import/index.js';
 import type { Store } from '../store/store.js';
 import { compareAnalysis, runAnalysis, type Analysis, type ResultOf } from '../services/analysis.js';
@@ -61,24 +61,15 @@ export class StoreProject implements ProjectData, Importer {
     return isReturnHistory(h) ? returnIndex(h, frequency) : priceAndTotalReturn(h, frequency);
   }
 
-  async importFile(file: string, kind: 'prices' | 'series', options: ImportOptions, ctx: TaskContext): Promise<ImportReport> {
+  async importFile(file: string, kind: ImportKind, options: ImportOptions, ctx: TaskContext): Promise<ImportReport> {
     const onProgress = (read: number, total: number) => ctx.onProgress(read, total, 'reading');
-    let r: PipelineReport;
-    if (kind === 'prices') {
-      r = await importPrices(this.store, file, {
-        ...(options.layout ? { layout: options.layout } : {}),
-        ...(options.dateFormat ? { dateFormat: options.dateFormat } : {}),
-        onProgress,
-      });
-    } else {
-      r = await importSeries(this.store, file, {
-        kind: options.seriesKind ?? 'factor',
-        units: options.percent ? 'percent' : 'decimal',
-        ...(options.seriesKind === 'riskfree' && options.rfForm ? { rfForm: options.rfForm } : {}),
-        ...(options.dateFormat ? { dateFormat: options.dateFormat } : {}),
-        onProgress,
-      });
-    }
+    const p = pipelineOptions(kind, options);
+    const r: PipelineReport =
+      p.kind === 'prices'
+        ? await importPrices(this.store, file, { ...p.options, onProgress })
+        : p.kind === 'series'
+          ? await importSeries(this.store, file, { ...p.options, onProgress })
+          : await importReturns(this.store, file, { ...p.options, onProgress });
     ctx.onProgress(1, 1, 'done');
     const warnings: ImportWarning[] = r.warnings.map((w) => {
       const out: ImportWarning = { message: w.message, kind: w.kind };
@@ -99,6 +90,29 @@ export class StoreProject implements ProjectData, Importer {
       durationMs: Math.round(r.seconds * 1000),
     };
   }
+
+  /** The first rows of a file as the import would read them (nothing stored; a scratch store checks them). */
+  previewFile(file: string, kind: ImportKind, options: ImportOptions, rows?: number): Promise<ImportPreview> {
+    return previewImport(file, pipelineOptions(kind, options), rows);
+  }
+}
+
+/** The app's import options (one set for every kind, as the import panel offers them) -> the pipeline's options of that kind. */
+export function pipelineOptions(kind: ImportKind, o: ImportOptions): PreviewOptions {
+  const reading = {
+    ...(o.dateFormat ? { dateFormat: o.dateFormat } : {}),
+    ...(o.delimiter ? { delimiter: o.delimiter } : {}),
+    ...(o.decimal ? { decimal: o.decimal } : {}),
+    ...(o.missing !== undefined ? { missing: missingCodeList(o.missing) } : {}),
+  };
+  if (kind === 'prices') return { kind, options: { ...(o.layout ? { layout: o.layout } : {}), ...reading } };
+  if (kind === 'series') {
+    return {
+      kind,
+      options: { kind: o.seriesKind ?? 'factor', units: o.percent ? 'percent' : 'decimal', ...(o.seriesKind === 'riskfree' && o.rfForm ? { rfForm: o.rfForm } : {}), ...reading },
+    };
+  }
+  return { kind, options: { layout: o.layout ?? 'wide', form: o.form ?? 'net', units: o.percent ? 'percent' : 'decimal', ...(o.excess ? { excess: true } : {}), ...reading } };
 }
 
 /**

@@ -7,3 +7,4 @@ export { DELIMITERS, type DelimiterName } from './csv.js';
 export type { ImportReport, ProgressCallback } from './common.js';
 export { DEFAULT_THRESHOLDS, type CheckThresholds } from './checks.js';
 export { DATE_FORMATS, DECIMAL_MARKS, THOUSANDS_SEPARATORS, type DecimalName, type ThousandsName } from './fields.js';
+export { previewImport, type PreviewOptions } from './preview.js';

@@ -23,6 +23,8 @@ export interface ReadingOptions {
    * too); a text code matches case-insensitively. An empty cell is always missing.
    */
   missing?: string[];
+  /** Read only this many data rows (the import preview: the first rows, as the import would read them). */
+  maxDataRows?: number;
 }
 
 /** What the import log records of a Reading (defaults left out, so older entries compare equal). */
@@ -55,6 +57,8 @@ export class Reading {
   /** Thousands separator byte, 0 for none. */
   readonly thousands: number;
   readonly missingCodes: string[];
+  /** Data rows to read at most (a preview), or undefined for the whole file. */
+  readonly maxDataRows: number | undefined;
   /** The user named the missing-value codes (even none): no value is then suspected of being one. */
   readonly missingDeclared: boolean;
   private readonly numericCodes = new Set<number>();
@@ -84,6 +88,7 @@ export class Reading {
       throw new DeflatorError('INPUT_INVALID', `the thousands separator "${o.thousands}" is also the decimal mark`, 'choose another thousands separator (with --decimal comma: point, space or apostrophe)');
     }
     this.missingDeclared = o.missing !== undefined;
+    this.maxDataRows = o.maxDataRows;
     this.missingCodes = [...new Set((o.missing ?? []).map((c) => c.trim()).filter((c) => c !== ''))];
     for (const code of this.missingCodes) {
       const b = Buffer.from(code, 'utf8');
@@ -157,6 +162,6 @@ export class Reading {
 
   /** Reads a file record by record with this reading's delimiter (the one path every importer and the preview take). */
   read(file: string, onRow: (row: CsvRow) => void, options: Omit<CsvReadOptions, 'delimiter'> = {}): Promise<CsvReadSummary> {
-    return readCsv(file, onRow, { ...options, delimiter: this.delimiter });
+    return readCsv(file, onRow, { ...options, delimiter: this.delimiter, ...(this.maxDataRows !== undefined ? { maxRecords: this.maxDataRows + 1 } : {}) });
   }
 }

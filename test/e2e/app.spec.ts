@@ -68,6 +68,8 @@ test('import: a file chosen in the page is uploaded, logged with its warnings, a
   await page.goto('/');
   await page.locator('.seg label', { hasText: 'Series' }).click();
   await page.setInputFiles('[data-testid=file-input]', file);
+  await expect(page.locator('[data-testid=preview-ok]')).toContainText('Reads 1 series'); // previewed first: nothing stored yet
+  await page.click('[data-testid=import-confirm]');
   await expect(page.locator('.log > li').first()).toContainText('extra_factor.csv');
   await expect(page.locator('.panel .progress').first()).toHaveAttribute('data-percent', '100');
   await expect(page.locator('.datatable tbody tr', { hasText: 'upload_factor' })).toBeVisible();

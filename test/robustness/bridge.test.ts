@@ -48,6 +48,7 @@ function examples(): { [K in CallName]: RequestOf<K> } {
     coverage: {},
     history: { asset: 'alder-hollow' },
     importFile: { source: { path: path.join(data, 'ok.csv') }, kind: 'prices' },
+    previewImport: { source: { path: path.join(data, 'ok.csv') }, kind: 'returns', options: { dateFormat: 'YYYY-MM-DD', missing: '-99.99' }, rows: 5 },
     checkSpec: { spec: fitSpec },
     fit: { spec: fitSpec },
     backtest: { spec: { ...fitSpec, backtest: { window: 2 } } },

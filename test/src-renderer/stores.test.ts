@@ -83,6 +83,35 @@ describe('project store', () => {
     expect(p.importing).toBe(false);
   });
 
+  it('stages files: previews the first with the options (a long upload cut at a line), imports only on importStaged, then clears the stage', async () => {
+    const preview = { file: 'r.csv', kind: 'returns', columns: [{ name: 'date', role: 'date' }], rows: [], more: false, reads: { names: ['P1'], first: null, last: null, frequency: null, warnings: [] } };
+    const m = mockClient({ previewImport: async () => preview, importFile: async () => ({ file: 'r.csv', kind: 'returns', rows: 2, names: ['P1'], warnings: [], durationMs: 1 }) });
+    const p = useProjectStore();
+    p.importOptions = { dateFormat: 'YYYYMM', percent: true };
+    const long = `date,P1\n${'200101,1.5\n'.repeat(40_000)}`;
+    await p.stage([{ name: 'r.csv', text: long }], 'returns');
+    expect(m.importFile).not.toHaveBeenCalled();
+    const req = m.previewImport.mock.calls[0][0] as { source: { text: string }; kind: string; options: unknown };
+    expect(req.kind).toBe('returns');
+    expect(req.options).toEqual({ dateFormat: 'YYYYMM', percent: true });
+    expect(req.source.text.length).toBeLessThanOrEqual(256 * 1024);
+    expect(req.source.text.endsWith('\n')).toBe(true);
+    expect(p.preview).toEqual(preview);
+    expect(await p.importStaged()).toBe(true);
+    expect(m.importFile.mock.calls[0][0]).toEqual({ source: { name: 'r.csv', text: long }, kind: 'returns', options: { dateFormat: 'YYYYMM', percent: true } });
+    expect(p.staged).toEqual([]);
+    expect(p.preview).toBeNull();
+  });
+
+  it('a preview that fails keeps the error and nothing is imported', async () => {
+    const m = mockClient({ previewImport: async () => Promise.reject(new BridgeError('FORBIDDEN', '/x.csv is outside the folders this session may read', 'pick it in a dialog')) });
+    const p = useProjectStore();
+    await p.stage([{ path: '/x.csv' }], 'prices');
+    expect(p.previewError).toMatchObject({ code: 'FORBIDDEN' });
+    expect(p.preview).toBeNull();
+    expect(m.importFile).not.toHaveBeenCalled();
+  });
+
   it('logs a failed import with its error', async () => {
     mockClient({ importFile: async () => Promise.reject(new BridgeError('INPUT_INVALID', 'p.csv line 4: price "abc" is not a number', 'fix the cell')) });
     const p = useProjectStore();
@@ -110,7 +139,8 @@ describe('model set-up store', () => {
     s.form.assets = ['S1'];
     s.form.factors = [];
     expect(s.valid).toBe(false);
-    expect(Object.keys(s.problems)).toEqual(expect.arrayContaining(['riskfree', 'model.factors']));
+    // (no risk-free series is a problem only for assets that are not stored as excess returns: the data decide, not the form)
+    expect(Object.keys(s.problems)).toEqual(['model.factors']);
     s.form.riskfree = 'RF';
     s.form.factors = ['MKT'];
     s.form.lagsAuto = false;

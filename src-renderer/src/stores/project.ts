@@ -1,12 +1,26 @@
-/** The open project: what it holds (coverage), imports into it, and one asset's history. */
+/**
+ * The open project: what it holds (coverage), imports into it, and one asset's history.
+ * An import goes in two steps: files are staged with the panel's options and previewed
+ * (the first rows as the import will read them, nothing stored), then imported.
+ */
 import { defineStore } from 'pinia';
-import type { AppInfo, AssetHistory, Coverage, CoverageRow, ImportReport, RequestOf } from '../../../shared/bridge/index.js';
+import type { AppInfo, AssetHistory, Coverage, CoverageRow, ImportPreview, ImportReport, RequestOf } from '../../../shared/bridge/index.js';
 import { bridge } from '../bridge/index.js';
 import { toUiError } from '../lib/errors.js';
 import type { UiError } from '../lib/errors.js';
 
 export type ImportSource = RequestOf<'importFile'>['source'];
-export type ImportKind = 'prices' | 'series';
+export type ImportKind = RequestOf<'importFile'>['kind'];
+
+/** Bytes of an uploaded file sent for a preview: the rows shown are at the start, so the rest stays in the page. */
+const PREVIEW_BYTES = 256 * 1024;
+
+/** The start of an uploaded file's text, cut at a line break, for the preview. */
+export function previewSource(source: ImportSource): ImportSource {
+  if ('path' in source || source.text.length <= PREVIEW_BYTES) return source;
+  const cut = source.text.lastIndexOf('\n', PREVIEW_BYTES);
+  return { name: source.name, text: source.text.slice(0, cut > 0 ? cut + 1 : PREVIEW_BYTES) };
+}
 export type ImportOptions = NonNullable<RequestOf<'importFile'>['options']>;
 
 export interface ImportLogEntry {
@@ -32,6 +46,15 @@ export const useProjectStore = defineStore('project', {
     history: null as AssetHistory | null,
     historyLoading: false,
     historyError: null as UiError | null,
+    /** Files chosen for import, waiting for the preview to be looked at. */
+    staged: [] as ImportSource[],
+    stagedKind: 'prices' as ImportKind,
+    importOptions: {} as ImportOptions,
+    preview: null as ImportPreview | null,
+    previewError: null as UiError | null,
+    previewing: false,
+    /** Supersedes older preview replies when options change quickly. */
+    previewSeq: 0,
   }),
   getters: {
     assetNames: (s): string[] => s.coverage?.assets.map((a) => a.name) ?? [],
@@ -88,6 +111,59 @@ export const useProjectStore = defineStore('project', {
       } finally {
         this.importing = false;
       }
+    },
+
+    /** Files to import with the panel's kind and options: previewed first, stored on importStaged(). */
+    async stage(sources: ImportSource[], kind?: ImportKind): Promise<void> {
+      this.staged = sources;
+      if (kind) this.stagedKind = kind;
+      this.importError = null;
+      await this.refreshPreview();
+    },
+
+    /** The first rows of the first staged file as the import will read them with the current kind and options. */
+    async refreshPreview(): Promise<void> {
+      const first = this.staged[0];
+      const seq = ++this.previewSeq;
+      if (!first) {
+        this.preview = null;
+        this.previewError = null;
+        return;
+      }
+      this.previewing = true;
+      try {
+        const options = this.importOptions;
+        const p = await bridge().previewImport({ source: previewSource(first), kind: this.stagedKind, options, rows: 12 });
+        if (seq !== this.previewSeq) return;
+        this.preview = p;
+        this.previewError = null;
+      } catch (e) {
+        if (seq !== this.previewSeq) return;
+        this.preview = null;
+        this.previewError = toUiError(e);
+      } finally {
+        if (seq === this.previewSeq) this.previewing = false;
+      }
+    },
+
+    /** Imports every staged file with the kind and options of the preview; clears the stage when all went in. */
+    async importStaged(): Promise<boolean> {
+      const files = this.staged;
+      let ok = true;
+      for (const f of files) {
+        const r = await this.importFile(f, this.stagedKind, Object.keys(this.importOptions).length ? this.importOptions : undefined);
+        if (!r) ok = false;
+      }
+      if (ok) this.clearStage();
+      return ok;
+    },
+
+    clearStage(): void {
+      this.staged = [];
+      this.preview = null;
+      this.previewError = null;
+      this.previewSeq++;
+      this.previewing = false;
     },
 
     async loadHistory(name?: string): Promise<void> {

@@ -78,6 +78,10 @@ export function fakeImporter(): Importer & { files: string[] } {
       files.push(path);
       return { file: path, kind, rows: 3, names: ['A1'], warnings: [{ line: 3, message: 'a gap' }], durationMs: 1 };
     },
+    previewFile: async (path, kind) => {
+      files.push(path);
+      return { file: path, kind, columns: [{ name: 'date', role: 'date' }], rows: [{ line: 2, cells: [{ text: '200101', status: 'ok', read: '2001-01-31' }] }], more: false };
+    },
   };
 }
 
