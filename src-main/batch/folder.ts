@@ -258,34 +258,30 @@ export function checkResult(dir: string, m: Manifest, t: ManifestTask, opts: { o
   return { ok: true, file: { ...f, outcome } };
 }
 
-/** Which tasks have a result file (by name; not checked). */
-export function resultNames(dir: string): Set<number> {
-  const out = new Set<number>();
+/** The files of `sub` named for a task (000017.json), as task numbers and file names. */
+function taskFiles(dir: string, sub: string): { task: number; name: string }[] {
   let names: string[];
   try {
-    names = readdirSync(path.join(dir, 'results'));
+    names = readdirSync(path.join(dir, sub));
   } catch {
-    return out;
+    return [];
   }
-  for (const n of names) {
-    const m = /^(\d{6,})\.json$/.exec(n);
-    if (m) out.add(Number(m[1]));
-  }
-  return out;
+  return names.flatMap((name) => {
+    const m = /^(\d{6,})\.json$/.exec(name);
+    return m ? [{ task: Number(m[1]), name }] : [];
+  });
+}
+
+/** Which tasks have a result file (by name; not checked). */
+export function resultNames(dir: string): Set<number> {
+  return new Set(taskFiles(dir, 'results').map((f) => f.task));
 }
 
 export function readFailed(dir: string): Map<number, FailedAttempt> {
   const out = new Map<number, FailedAttempt>();
-  let names: string[];
-  try {
-    names = readdirSync(path.join(dir, 'failed'));
-  } catch {
-    return out;
-  }
-  for (const n of names) {
-    if (!/^\d{6,}\.json$/.test(n)) continue;
+  for (const { name } of taskFiles(dir, 'failed')) {
     try {
-      const f = JSON.parse(readFileSync(path.join(dir, 'failed', n), 'utf8')) as FailedAttempt;
+      const f = JSON.parse(readFileSync(path.join(dir, 'failed', name), 'utf8')) as FailedAttempt;
       out.set(f.task, f);
     } catch {
       // a half-written note of a failure is no failure record; the task is still remaining
