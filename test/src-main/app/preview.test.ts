@@ -9,7 +9,7 @@
 import { existsSync, readdirSync } from 'node:fs';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import type { ImportPreview } from '../../../shared/bridge/types.js';
+import type { Coverage, ImportPreview } from '../../../shared/bridge/types.js';
 import { composeApp } from '../../../src-main/app/compose.js';
 import { ImportFilePolicy } from '../../../src-main/app/files.js';
 import { StoreProject } from '../../../src-main/app/project.js';
@@ -74,7 +74,7 @@ describe('previewImport', () => {
     const imp = await a.core.dispatcher.dispatch('importFile', { source: { name: 'quays.csv', text }, kind: 'returns', options: { dateFormat: 'YYYYMM', percent: true, missing: '-99.99' } });
     expect(imp).toMatchObject({ ok: true, value: { kind: 'returns', names: ['quay-a', 'quay-b'], rows: 7 } });
     const cov = await a.core.dispatcher.dispatch('coverage', {});
-    expect(cov.ok && cov.value.assets.find((x) => x.name === 'quay-b')).toMatchObject({ source: 'returns', data: 'net returns (percent)', count: 3, first: '2001-02-28' });
+    expect(cov.ok && (cov.value as Coverage).assets.find((x) => x.name === 'quay-b')).toMatchObject({ source: 'returns', data: 'net returns (percent)', count: 3, first: '2001-02-28' });
     const h = await a.core.dispatcher.dispatch('history', { asset: 'quay-a' });
     expect(h).toMatchObject({ ok: true, value: { source: 'returns', price: [], indexLabel: 'total-return index', dates: ['2000-12-31', '2001-01-31', '2001-02-28', '2001-03-31', '2001-04-30'] } });
     a.store.close();
