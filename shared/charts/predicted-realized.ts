@@ -27,7 +27,8 @@ export function niceRange(min: number, max: number, ticks = 5): { lo: number; hi
 export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean } = {}): ChartOption {
   const annual = opts.annual ?? true;
   const k = (annual ? fit.sample.periodsPerYear : 1) * 100;
-  const pts = fit.pricingErrors.map((r) => ({ name: r.asset, value: [r.predicted * k, r.meanReturn * k] }));
+  // With instruments only the unscaled returns (the constant's rows): a scaled payoff's mean is in units of return x instrument.
+  const pts = fit.pricingErrors.filter((r) => r.instrument === undefined || r.instrument === 'const').map((r) => ({ name: r.asset, value: [r.predicted * k, r.meanReturn * k] }));
   const all = pts.flatMap((p) => p.value).filter(Number.isFinite);
   const { lo, hi, step } = niceRange(all.length ? Math.min(...all, 0) : 0, all.length ? Math.max(...all, 0) : 1);
   const unit = annual ? '% a year' : '% per period';

@@ -55,10 +55,12 @@ export function pricingErrorOption(fit: FitResult, opts: PricingErrorChartOption
   const val = (r: PricingErrorRow): number => (annual ? r.alphaAnnual : r.alpha) * scale;
   const se = (r: PricingErrorRow): number => (annual ? r.seAnnual : r.se) * scale;
   const unit = annual ? '% a year' : `% per period (${fit.sample.frequency})`;
-  const assets = rows.map((r) => r.asset);
+  // With instruments one asset has a row per instrument: "<asset>:<instrument>" (the asset alone for the constant).
+  const key = (r: PricingErrorRow): string => (r.instrument === undefined || r.instrument === 'const' ? r.asset : `${r.asset}:${r.instrument}`);
+  const assets = rows.map(key);
   const bars = rows.map((r) => ({ value: val(r), itemStyle: { color: barColor(val(r)) } }));
   const whiskers = rows.map((r, i) => [i, val(r) - 2 * se(r), val(r) + 2 * se(r)]);
-  const byAsset = new Map(rows.map((r) => [r.asset, r]));
+  const byAsset = new Map(rows.map((r) => [key(r), r]));
   const wide = rows.length > 40;
   return {
     id: 'pricing-errors',
@@ -72,7 +74,7 @@ export function pricingErrorOption(fit: FitResult, opts: PricingErrorChartOption
         const first = Array.isArray(params) ? params[0] : params;
         const r = first?.name !== undefined ? byAsset.get(first.name) : undefined;
         if (!r) return '';
-        return `<b>${r.asset}</b><br/>alpha ${num(val(r), 3)} ${unit}<br/>s.e. ${num(se(r), 3)}&nbsp;&nbsp;t ${num(r.t, 2)}`;
+        return `<b>${r.asset}</b>${r.instrument && r.instrument !== 'const' ? ` x ${r.instrument}` : ''}<br/>alpha ${num(val(r), 3)} ${unit}<br/>s.e. ${num(se(r), 3)}&nbsp;&nbsp;t ${num(r.t, 2)}`;
       },
     },
     xAxis: categoryAxis(assets),

@@ -31,6 +31,7 @@ export function sampleHeaderLines(s: SampleHeader): HeaderLine[] {
     { key: 'assets', value: s.assets.join(', ') },
     { key: 'factors', value: s.factors.length ? s.factors.join(', ') : '(none)' },
   ];
+  if (s.instruments) lines.push({ key: 'instruments', value: instrumentText(s) });
   for (const n of s.notes) lines.push({ key: 'note', value: n });
   return lines;
 }
@@ -52,4 +53,10 @@ export function recordLines(r: ExportRecord): HeaderLine[] {
   for (const f of r.files) lines.push({ key: 'file sha256', value: `${f.sha256} ${f.file} (${f.subjects.join(', ')})` });
   for (const s of r.subjects ?? []) lines.push({ key: 'data sha256', value: `${s.sha256} ${s.kind} ${s.name} (${s.rows} rows)` });
   return lines;
+}
+
+/** "const, board_yield (scale returns, lag 1; no period lost to the lag)": the instrument line of a header (METHODS 9). */
+export function instrumentText(s: SampleHeader): string {
+  const lost = s.lostToLag ?? [];
+  return `${(s.instruments ?? []).join(', ')} (scale ${s.instrumentScale ?? 'returns'}, lag ${s.instrumentLag ?? 1}; ${lost.length ? `${lost.length} period(s) lost to the lag: ${lost.join(', ')}` : 'no period lost to the lag'})`;
 }

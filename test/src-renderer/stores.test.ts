@@ -186,6 +186,31 @@ describe('model set-up store', () => {
     s.removeFromComparison('linear(MKT)');
     expect(s.compareSet.length).toBe(1);
   });
+
+  it('instruments: off leaves the key out; on, the spec carries series, scale and lag, loads back, and travels with a comparison entry', () => {
+    const s = useModelStore();
+    Object.assign(s.form, { assets: ['S1', 'S2'], riskfree: 'RF', factors: ['MKT'] });
+    expect('instruments' in s.spec).toBe(false);
+    s.form.instrumentsOn = true;
+    s.toggle('instruments', 'DY');
+    s.toggle('instruments', 'TS');
+    s.form.instrumentScale = 'both';
+    expect(parseFitSpec(s.spec).instruments).toEqual({ series: ['DY', 'TS'], scale: 'both', lag: 1 });
+    const text = s.specText;
+    s.reset();
+    expect(s.loadSpecText(text)).toBe(true);
+    expect([s.form.instrumentsOn, s.form.instruments, s.form.instrumentScale]).toEqual([true, ['DY', 'TS'], 'both']);
+    s.addToComparison();
+    s.form.instrumentsOn = false;
+    s.form.label = 'plain';
+    s.addToComparison();
+    const { fits } = parseCompareSpec(s.compareSpec);
+    expect(fits.map((f) => f.instruments?.scale)).toEqual(['both', undefined]);
+    // the validator's refusal reaches the form's key
+    s.form.instrumentsOn = true;
+    s.form.method = 'two-pass';
+    expect(Object.keys(s.problems)).toContain('instruments');
+  });
 });
 
 describe('fit store', () => {

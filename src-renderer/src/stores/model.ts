@@ -7,7 +7,7 @@ import { DeflatorError } from '../../../shared/errors.js';
 import { FREQUENCIES } from '../../../shared/data.js';
 import type { Frequency } from '../../../shared/data.js';
 import { isCompareSpec, parseCompareSpec, parseFitSpec, specJson } from '../../../shared/spec.js';
-import type { FitSpec, FitSpecInput, CompareSpec } from '../../../shared/spec.js';
+import type { FitSpec, FitSpecInput, CompareSpec, InstrumentScale } from '../../../shared/spec.js';
 import { fieldsOf } from '../lib/errors.js';
 
 /** JSON.stringify with 2-space indent, lists of plain values kept on one line. */
@@ -25,6 +25,8 @@ export interface CompareEntry {
   label: string;
   model: FitSpec['model'];
   estimator: FitSpec['estimator'];
+  /** This model's instruments, where the set-up had them on. */
+  instruments?: FitSpec['instruments'];
 }
 
 function defaults() {
@@ -53,6 +55,11 @@ function defaults() {
     step: 1,
     horizon: 1,
     expanding: false,
+    /** Conditioning information (docs/spec.md, instruments): off leaves the key out. */
+    instrumentsOn: false,
+    instruments: [] as string[],
+    instrumentScale: 'returns' as InstrumentScale,
+    instrumentLag: 1,
   };
 }
 
@@ -89,6 +96,7 @@ export const useModelStore = defineStore('model', {
       if (f.includeRiskfree) spec.includeRiskfree = true;
       if (f.kind === 'consumption' && f.consumption) spec.model.consumption = f.consumption;
       if (f.kind === 'consumption' && f.delta !== null && f.returns === 'excess') spec.model.delta = f.delta;
+      if (f.instrumentsOn) spec.instruments = { series: [...f.instruments], scale: f.instrumentScale, lag: f.instrumentLag };
       if (f.backtestOn) spec.backtest = { window: f.window, step: f.step, horizon: f.horizon, expanding: f.expanding };
       return spec;
     },
@@ -125,7 +133,7 @@ export const useModelStore = defineStore('model', {
         frequency: base.frequency,
         assets: base.assets,
         returns: base.returns,
-        compare: s.compareSet.map((e) => ({ label: e.label, model: e.model, estimator: e.estimator })),
+        compare: s.compareSet.map((e) => ({ label: e.label, model: e.model, estimator: e.estimator, ...(e.instruments ? { instruments: e.instruments } : {}) })),
       };
       if (base.start) out.start = base.start;
       if (base.end) out.end = base.end;
@@ -158,7 +166,7 @@ export const useModelStore = defineStore('model', {
       if (kind !== 'consumption') f.delta = null;
       this.touched = true;
     },
-    toggle(list: 'assets' | 'factors', name: string): void {
+    toggle(list: 'assets' | 'factors' | 'instruments', name: string): void {
       const arr = this.form[list];
       const i = arr.indexOf(name);
       if (i >= 0) arr.splice(i, 1);
@@ -168,7 +176,7 @@ export const useModelStore = defineStore('model', {
     addToComparison(): void {
       const spec = parseFitSpec(JSON.parse(JSON.stringify(this.spec)));
       const label = this.label;
-      const entry: CompareEntry = { label, model: spec.model, estimator: spec.estimator };
+      const entry: CompareEntry = { label, model: spec.model, estimator: spec.estimator, ...(spec.instruments ? { instruments: spec.instruments } : {}) };
       const i = this.compareSet.findIndex((e) => e.label === label);
       if (i >= 0) this.compareSet.splice(i, 1, entry);
       else this.compareSet.push(entry);
@@ -191,7 +199,7 @@ export const useModelStore = defineStore('model', {
           const { spec, fits } = parseCompareSpec(raw);
           this.applySample(spec);
           this.applyModel(fits[0]);
-          this.compareSet = fits.map((fs) => ({ label: fs.label ?? '', model: fs.model, estimator: fs.estimator }));
+          this.compareSet = fits.map((fs) => ({ label: fs.label ?? '', model: fs.model, estimator: fs.estimator, ...(fs.instruments ? { instruments: fs.instruments } : {}) }));
         } else {
           const spec = parseFitSpec(raw);
           this.applySample(spec);
@@ -236,6 +244,10 @@ export const useModelStore = defineStore('model', {
       f.lagsAuto = spec.estimator.lags === 'auto';
       if (spec.estimator.lags !== 'auto') f.lags = spec.estimator.lags;
       f.centered = spec.estimator.centered;
+      f.instrumentsOn = spec.instruments !== undefined;
+      f.instruments = [...(spec.instruments?.series ?? [])];
+      f.instrumentScale = spec.instruments?.scale ?? 'returns';
+      f.instrumentLag = spec.instruments?.lag ?? 1;
     },
     reset(): void {
       Object.assign(this.form, defaults());

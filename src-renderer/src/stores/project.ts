@@ -62,6 +62,11 @@ export const useProjectStore = defineStore('project', {
     factorNames: (s): string[] => s.coverage?.series.filter((x) => x.kind === 'factor').map((x) => x.name) ?? [],
     riskfreeNames: (s): string[] => s.coverage?.series.filter((x) => x.kind === 'riskfree').map((x) => x.name) ?? [],
     consumptionNames: (s): string[] => s.coverage?.series.filter((x) => x.kind === 'consumption').map((x) => x.name) ?? [],
+    /** Series usable as instruments (any kind but risk-free): other kinds first (ratios, spreads), then factors and consumption. */
+    instrumentNames: (s): string[] => {
+      const rank = (k: string) => (k === 'other' ? 0 : k === 'factor' ? 1 : 2);
+      return (s.coverage?.series ?? []).filter((x) => x.kind !== 'riskfree').sort((a, b) => rank(a.kind) - rank(b.kind)).map((x) => x.name);
+    },
     /** Everything usable as a test asset: built portfolios first, then single assets. */
     testAssetNames(): string[] {
       return [...this.portfolioNames, ...this.assetNames];

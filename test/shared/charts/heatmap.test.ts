@@ -57,3 +57,17 @@ describe('pricing errors by asset and instrument', () => {
     expect(hasInstrumentErrors(fitWithInstruments('factors'))).toBe(false);
   });
 });
+
+describe('the other fit charts with instruments', () => {
+  it('bars are keyed by asset and instrument; predicted against realised shows the unscaled returns only', async () => {
+    const { pricingErrorOption, predictedRealizedOption } = await import('../../../shared/charts/index.js');
+    const fit = fitWithInstruments('returns');
+    const bars = pricingErrorOption(fit);
+    const names = (bars.xAxis as { data: string[] }).data;
+    expect(names).toHaveLength(fit.pricingErrors.length);
+    expect(new Set(names).size).toBe(names.length);
+    expect(names[fit.sample.assets.length]).toBe(`${fit.sample.assets[0]}:dp`);
+    const pts = predictedRealizedOption(fit).series.find((x) => x.type === 'scatter')!.data as { name: string }[];
+    expect(pts.map((p) => p.name)).toEqual(fit.sample.assets);
+  });
+});
