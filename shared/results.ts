@@ -370,5 +370,13 @@ export type AnyResult = FitResult | BacktestResult | CompareResult | BatchResult
 /** Results of the present-value analyses (METHODS 10). */
 export type ValueResult = PresentValueResult | DriftResult;
 
+/** Any result a run records. */
+export type RunResult = AnyResult | ValueResult;
+
+/** Is this a present-value analysis (decomposition or drift split)? */
+export function isValueResult(r: { kind: string }): r is ValueResult {
+  return r.kind === 'present-value' || r.kind === 'drift';
+}
+
 /** The caution every results screen and report carries. */
 export const CAUTION = 'Statistical model diagnostics only; not investment advice.';

@@ -4,9 +4,9 @@
  * (`deflator runs|show|replay|export`), the run-history screen and every export.
  * JSON keys are a contract: add keys, never rename.
  */
-import type { AnyResult } from '../results.js';
+import type { RunResult } from '../results.js';
 
-export const RUN_KINDS = ['fit', 'backtest', 'compare', 'batch'] as const;
+export const RUN_KINDS = ['fit', 'backtest', 'compare', 'batch', 'present-value', 'drift'] as const;
 export type RunKind = (typeof RUN_KINDS)[number];
 
 /** One imported file a run depends on, as the import log knew it when the run was recorded. */
@@ -58,7 +58,7 @@ export interface RunRecord {
   version: string;
   /** The spec as parsed (defaults filled in): the input replay runs again. */
   spec: unknown;
-  result: AnyResult;
+  result: RunResult;
   panel: PanelFingerprint;
   /** A comparison whose models use different return panels (excess and gross) lists each; panel is the first. */
   panels?: PanelFingerprint[];

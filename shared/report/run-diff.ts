@@ -4,8 +4,13 @@
  * both results have, matched by table, row (its text cells) and column, with B - A.
  */
 import type { RunRecord } from '../records/run-record.js';
-import { sampleHeaderLines } from './header.js';
-import { resultTables } from './tables.js';
+import { isValueResult, type RunResult } from '../results.js';
+import { sampleHeaderLines, type HeaderLine } from './header.js';
+import { resultTables, type ReportTable } from './tables.js';
+import { valueHeaderLines, valueTables } from './value-tables.js';
+
+const tablesOf = (r: RunResult): ReportTable[] => (isValueResult(r) ? valueTables(r) : resultTables(r));
+const headerOf = (r: RunResult): HeaderLine[] => (isValueResult(r) ? valueHeaderLines(r) : sampleHeaderLines(r.sample));
 
 export interface RunDiffCell {
   table: string;
@@ -35,7 +40,7 @@ type Side = Pick<RunRecord, 'id' | 'label' | 'createdAt' | 'result' | 'panel'>;
 
 function rowsByKey(r: Side): Map<string, { title: string; columns: string[]; values: Map<string, number> }> {
   const out = new Map<string, { title: string; columns: string[]; values: Map<string, number> }>();
-  for (const t of resultTables(r.result)) {
+  for (const t of tablesOf(r.result)) {
     const textCols = t.columns.map((c, j) => (c.type === 'text' && c.key !== 'note' && c.key !== 'detail' && c.key !== 'reason' && c.key !== 'error' ? j : -1)).filter((j) => j >= 0);
     for (const row of t.rows) {
       const key = textCols.map((j) => String(row[j] ?? '')).join(' | ');
@@ -51,8 +56,8 @@ function rowsByKey(r: Side): Map<string, { title: string; columns: string[]; val
 }
 
 export function diffRuns(a: Side, b: Side): RunDiff {
-  const ha = sampleHeaderLines(a.result.sample);
-  const hb = sampleHeaderLines(b.result.sample);
+  const ha = headerOf(a.result);
+  const hb = headerOf(b.result);
   const keys = [...new Set([...ha.map((l) => l.key), ...hb.map((l) => l.key)])];
   const header = keys.map((key) => {
     const va = ha.filter((l) => l.key === key).map((l) => l.value).join('; ');

@@ -2,7 +2,8 @@
  * The tables of the present-value analyses (METHODS 10) in the neutral table model of
  * tables.ts, which the terminal report and every export read.
  */
-import type { DriftResult, PresentValueResult } from '../results.js';
+import type { DriftResult, PresentValueResult, ValueResult } from '../results.js';
+import type { HeaderLine } from './header.js';
 import type { CellValue, ReportColumn, ReportTable } from './tables.js';
 import type { NumberFormat } from './numbers.js';
 
@@ -79,5 +80,32 @@ export function driftTables(r: DriftResult): ReportTable[] {
       ],
       rows: r.assets.map((a) => [a.asset, a.source, a.drift, a.se.drift, a.priceGrowth, a.se.priceGrowth, a.dividendYield, a.se.dividendYield, a.sigma, a.logDrift, a.se.logDrift, a.driftLessHalfVariance]),
     },
+  ];
+}
+
+/** The tables of either analysis. */
+export function valueTables(r: ValueResult): ReportTable[] {
+  return r.kind === 'present-value' ? presentValueTables(r) : driftTables(r);
+}
+
+/** The sample header of either analysis, as key/value lines in a fixed order. */
+export function valueHeaderLines(r: ValueResult): HeaderLine[] {
+  if (r.kind === 'present-value') {
+    const what = r.asset !== undefined ? `asset ${r.asset} (per current share)` : `aggregate of ${r.assets?.length ?? 0} assets (${r.weighting === 'shares' ? 'market values' : 'one share of each'})`;
+    return [
+      { key: 'analysis', value: 'dividend-price decomposition' },
+      { key: 'data', value: what },
+      { key: 'years', value: `${r.sample.first} to ${r.sample.last}, T = ${r.sample.T} (regressions on ${r.sample.T - 1})` },
+      { key: 'frequency', value: 'annual (calendar years)' },
+      { key: 'lags', value: `${r.lags} (${r.lagsRule})` },
+      ...(r.assets ? [{ key: 'assets', value: r.assets.join(', ') }] : []),
+    ];
+  }
+  return [
+    { key: 'analysis', value: 'drift split' },
+    { key: 'assets', value: `${r.assets.length}${r.dropped.length ? ` (${r.dropped.length} left out)` : ''}: ${r.assets.map((a) => a.asset).join(', ')}` },
+    { key: 'sample', value: `${r.sample.first} to ${r.sample.last}, T = ${r.sample.T}` },
+    { key: 'frequency', value: `${r.frequency} (${r.periodsPerYear} periods per year)` },
+    { key: 'lags', value: `${r.lags} (${r.lagsRule})` },
   ];
 }

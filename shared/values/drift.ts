@@ -12,6 +12,7 @@ import { buildPanel, type PanelSpec } from '../returns/panel.js';
 import type { DriftSpec } from '../spec.js';
 import { lagsChoice } from '../estimation/longRunCovariance.js';
 import { driftSplit } from './driftSplit.js';
+import { assertAllFinite } from '../estimation/finiteGuard.js';
 
 /** The panel keys of a drift spec: gross returns of its assets, no series. */
 export function driftPanelSpec(spec: DriftSpec): PanelSpec {
@@ -41,7 +42,7 @@ export function driftAnalysis(spec: DriftSpec, panel: ReturnsPanel): DriftResult
     .map((r) => ({ code: 'NO_PRICE_SPLIT', message: `${r.asset} is stored as returns, without prices and dividends: its drift cannot be split into price growth and dividend yield (drift and sigma are shown)` }));
   const dropped = panel.sampleNotes.filter((n) => n.subject !== '*' && n.reason.startsWith('dropped: ')).map((n) => ({ asset: n.subject, reason: n.reason.slice('dropped: '.length) }));
   for (const d of dropped) warnings.push({ code: 'ASSET_DROPPED', message: `${d.asset} left out: ${d.reason}` });
-  return {
+  const result: DriftResult = {
     kind: 'drift',
     label: spec.label ?? `drift split: ${rows.length} asset${rows.length === 1 ? '' : 's'}, ${panel.frequency}`,
     frequency: panel.frequency,
@@ -59,4 +60,6 @@ export function driftAnalysis(spec: DriftSpec, panel: ReturnsPanel): DriftResult
       ...panel.sampleNotes.filter((n) => n.subject !== '*' && !n.reason.startsWith('dropped: ')).map((n) => `${n.subject}: ${n.reason}`),
     ],
   };
+  assertAllFinite(result);
+  return result;
 }

@@ -5,5 +5,5 @@
 export { dividendPriceDecomposition, COEFFICIENT_NAMES, FEW_YEARS, NEAR_UNIT_ROOT, LARGE_GAP } from './dividendPrice.js';
 export { driftSplit, type DriftInput } from './driftSplit.js';
 export { discountedPaths, linearSdfForPremia, MAX_DISCOUNTED_VALUES, type DiscountedInput } from './discountedValue.js';
-export { presentValue, presentValueInputs, presentValueHistories } from './presentValue.js';
+export { presentValue, presentValueOf, presentValueInputs, presentValueHistories } from './presentValue.js';
 export { driftAnalysis, driftPanel, driftPanelSpec } from './drift.js';

@@ -8,6 +8,7 @@ import type { PresentValueResult, ResultWarning } from '../results.js';
 import { yearlyValues, type YearlyValues } from '../returns/yearly.js';
 import type { PresentValueSpec } from '../spec.js';
 import { dividendPriceDecomposition } from './dividendPrice.js';
+import { assertAllFinite } from '../estimation/finiteGuard.js';
 
 const year = (s: string | undefined): number | undefined => (s === undefined ? undefined : Number(s.slice(0, 4)));
 
@@ -33,10 +34,13 @@ export function presentValueInputs(spec: PresentValueSpec, histories: readonly P
 }
 
 /** The decomposition of a spec on the given histories (METHODS 10). */
-export function presentValue(spec: PresentValueSpec, histories: readonly PriceHistory[], values?: YearlyValues): PresentValueResult {
-  const chosen = presentValueHistories(spec, histories);
-  const v = values ?? presentValueInputs(spec, histories);
-  const names = chosen.map((h) => h.asset);
+export function presentValue(spec: PresentValueSpec, histories: readonly PriceHistory[]): PresentValueResult {
+  const names = presentValueHistories(spec, histories).map((h) => h.asset);
+  return presentValueOf(spec, names, presentValueInputs(spec, histories));
+}
+
+/** The decomposition of a spec on yearly values already built from the assets `names` (what a worker receives). */
+export function presentValueOf(spec: PresentValueSpec, names: readonly string[], v: YearlyValues): PresentValueResult {
   const subject = spec.aggregate ? `the aggregate of ${names.length} assets` : `asset "${names[0]}"`;
   const core = dividendPriceDecomposition(v, { lags: spec.lags, subject });
   const warnings: ResultWarning[] = [];
@@ -54,12 +58,13 @@ export function presentValue(spec: PresentValueSpec, histories: readonly PriceHi
   const result: PresentValueResult = {
     kind: 'present-value',
     label: spec.label ?? (spec.aggregate ? `dividend-price: aggregate of ${names.length}` : `dividend-price: ${names[0]}`),
-    ...(spec.aggregate ? { assets: names } : { asset: names[0] }),
+    ...(spec.aggregate ? { assets: [...names] } : { asset: names[0] }),
     weighting: v.weighting,
     frequency: 'annual',
     ...core,
     warnings: [...warnings, ...core.warnings],
     notes,
   };
+  assertAllFinite(result);
   return result;
 }

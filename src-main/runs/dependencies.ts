@@ -38,13 +38,14 @@ export function specSeriesNames(spec: unknown): string[] {
   return [...names];
 }
 
-/** Asset (or portfolio) names a spec asks for explicitly; [] for "all". */
+/** Asset (or portfolio) names a spec asks for explicitly (`assets`, or the one `asset` of a present-value spec); [] for "all". */
 export function specAssetNames(spec: unknown): string[] {
   if (isGridSpec(spec)) {
     const a = gridNames(spec as GridSpec).assets;
     return a === 'all' ? [] : a;
   }
-  return strings(asRecord(spec).assets);
+  const s = asRecord(spec);
+  return typeof s.asset === 'string' ? [s.asset] : strings(s.assets);
 }
 
 /**

@@ -85,3 +85,49 @@ export const RUNS_BATCH_MIGRATION_SQL = `
   DROP TABLE run_subject_copy;
   CREATE INDEX run_subject_by_name ON run_subject (kind, name);
 `;
+
+export const RUNS_KINDS_MIGRATION_NAME = 'run records: present-value and drift runs';
+
+/**
+ * SQLite cannot change a CHECK constraint in place: both run tables are rebuilt with the
+ * same columns and rows, the kind list widened (sqlite.org/lang_altertable.html, "making
+ * other kinds of table schema changes"). run_subject goes first so that dropping the old
+ * run table deletes nothing through its foreign key; the AUTOINCREMENT counter is carried
+ * over so that no run id is ever reused.
+ */
+export const RUNS_KINDS_MIGRATION_SQL = `
+  CREATE TABLE run_next (
+    id           INTEGER PRIMARY KEY AUTOINCREMENT,
+    kind         TEXT NOT NULL CHECK (kind IN ('fit', 'backtest', 'compare', 'batch', 'present-value', 'drift')),
+    label        TEXT NOT NULL,
+    models       TEXT NOT NULL DEFAULT '[]',
+    created_at   TEXT NOT NULL,
+    version      TEXT NOT NULL,
+    spec         TEXT NOT NULL,
+    result       TEXT NOT NULL,
+    panel        TEXT NOT NULL,
+    panel_sha256 TEXT NOT NULL,
+    panels       TEXT,
+    files        TEXT NOT NULL DEFAULT '[]',
+    subjects     TEXT NOT NULL DEFAULT '[]',
+    compute      TEXT
+  );
+  INSERT INTO run_next (id, kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects, compute)
+    SELECT id, kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects, compute FROM run;
+  DELETE FROM sqlite_sequence WHERE name = 'run_next';
+  INSERT INTO sqlite_sequence (name, seq) SELECT 'run_next', seq FROM sqlite_sequence WHERE name = 'run';
+  CREATE TABLE run_subject_next (
+    run_id INTEGER NOT NULL REFERENCES run_next (id) ON DELETE CASCADE,
+    kind   TEXT NOT NULL CHECK (kind IN ('asset', 'series', 'portfolio')),
+    name   TEXT NOT NULL,
+    sha256 TEXT NOT NULL,
+    PRIMARY KEY (run_id, kind, name)
+  ) WITHOUT ROWID;
+  INSERT INTO run_subject_next (run_id, kind, name, sha256) SELECT run_id, kind, name, sha256 FROM run_subject;
+  DROP TABLE run_subject;
+  DROP TABLE run;
+  ALTER TABLE run_next RENAME TO run;
+  ALTER TABLE run_subject_next RENAME TO run_subject;
+  CREATE INDEX run_by_time ON run (created_at);
+  CREATE INDEX run_subject_by_name ON run_subject (kind, name);
+`;

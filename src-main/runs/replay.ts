@@ -8,18 +8,18 @@
  * its spec), so any pool replays any run; the recorded thread count is information.
  */
 import type { ReturnsPanel } from '../../shared/panel.js';
-import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult, RunResult } from '../../shared/results.js';
 import { DeflatorError, describeError, isDeflatorError } from '../../shared/errors.js';
 import type { TaskOutcome } from '../../shared/batch/assemble.js';
 import { recomputeBatch } from '../batch/recompute.js';
 import { diffExact } from '../../shared/records/exact-json.js';
-import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
+import { fingerprintPanel, fingerprintYearly } from '../../shared/records/panel-encoding.js';
 import type { PanelFingerprint, RunRecord } from '../../shared/records/run-record.js';
 import { judgeDifferences, type ReplayReport } from '../../shared/records/replay-report.js';
 import { KERNEL_REVISION, KERNEL_REVISION_UNRECORDED, REPLAY_TOLERANCE } from '../../shared/linalg/identity.js';
-import { parseCompareSpec, parseFitSpec, type BacktestSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
+import { parseCompareSpec, parseDriftSpec, parseFitSpec, parsePresentValueSpec, type BacktestSpec, type CompareSpec, type DriftSpec, type FitSpec, type PresentValueSpec } from '../../shared/spec.js';
 import { windowsPerChunk, type BacktestEngine } from '../../shared/backtest/index.js';
-import { computeAnalysis, loadAnalysisData, type Analysis } from '../services/analysis.js';
+import { computeAnalysis, loadAnalysisData, type Analysis, type AnalysisData } from '../services/analysis.js';
 import type { Compute } from '../services/compute.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
@@ -37,6 +37,8 @@ export interface Recompute {
   batchTask?(spec: FitSpec, panel: ReturnsPanel, backtest: boolean): Promise<TaskOutcome>;
   /** Tasks of a batch run side by side (default 2). */
   concurrency?: number;
+  presentValue(spec: PresentValueSpec, data: AnalysisData): Promise<PresentValueResult>;
+  drift(spec: DriftSpec, panel: ReturnsPanel): Promise<DriftResult>;
 }
 
 export interface RecomputeOptions {
@@ -55,6 +57,8 @@ export function poolRecompute(compute: Compute): Recompute {
     compare: (spec, fits, panels) => computeAnalysis({ kind: 'compare', spec, fits }, { panels }, compute),
     batchTask: (spec, panel, backtest) => compute.runTask('batchTask', { spec, panel, backtest }),
     concurrency: 2 * (compute.threads ?? 1),
+    presentValue: (spec, data) => computeAnalysis({ kind: 'present-value', spec }, data, compute),
+    drift: (spec, panel) => computeAnalysis({ kind: 'drift', spec }, { panels: [panel] }, compute),
   };
 }
 
@@ -93,8 +97,8 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
   };
   if (record.compute) report.recordedThreads = record.compute.threads;
   if (opts.threads !== undefined) report.usedThreads = opts.threads;
-  let result: AnyResult;
-  let panels: ReturnsPanel[];
+  let result: RunResult;
+  let current: PanelFingerprint[];
   let backtestBlock: BacktestSpec | undefined;
   try {
     if (record.kind === 'batch') {
@@ -102,7 +106,7 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
       if (!run) throw new DeflatorError('INPUT_INVALID', 'this replay cannot recompute batch tasks', 'replay the run with `deflator replay ID --db DB`');
       const b = await recomputeBatch(store, record.spec, run, { concurrency: recompute.concurrency ?? 2 });
       result = b.result;
-      panels = b.panels;
+      current = uniqueFingerprints(b.panels);
     } else {
       const engine = record.compute?.engine;
       const analysis: Analysis =
@@ -110,21 +114,40 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
           ? { kind: 'compare', ...parseCompareSpec(record.spec) }
           : record.kind === 'fit'
             ? { kind: 'fit', spec: parseFitSpec(record.spec) }
-            : { kind: 'backtest', spec: parseFitSpec(record.spec), ...(isEngine(engine) ? { engine } : {}) };
-      backtestBlock = analysis.spec.backtest;
-      panels = loadAnalysisData(store, analysis).panels;
-      result =
-        analysis.kind === 'compare'
-          ? await recompute.compare(analysis.spec, analysis.fits, panels)
-          : analysis.kind === 'fit'
-            ? await recompute.fit(analysis.spec, panels[0])
-            : await recompute.backtest(analysis.spec, panels[0], analysis.engine);
+            : record.kind === 'present-value'
+              ? { kind: 'present-value', spec: parsePresentValueSpec(record.spec) }
+              : record.kind === 'drift'
+                ? { kind: 'drift', spec: parseDriftSpec(record.spec) }
+                : { kind: 'backtest', spec: parseFitSpec(record.spec), ...(isEngine(engine) ? { engine } : {}) };
+      backtestBlock = analysis.kind === 'fit' || analysis.kind === 'backtest' || analysis.kind === 'compare' ? analysis.spec.backtest : undefined;
+      const data = loadAnalysisData(store, analysis);
+      const panels = data.panels;
+      switch (analysis.kind) {
+        case 'compare':
+          result = await recompute.compare(analysis.spec, analysis.fits, panels);
+          break;
+        case 'fit':
+          result = await recompute.fit(analysis.spec, panels[0]);
+          break;
+        case 'backtest':
+          result = await recompute.backtest(analysis.spec, panels[0], analysis.engine);
+          break;
+        case 'present-value':
+          result = await recompute.presentValue(analysis.spec, data);
+          break;
+        case 'drift':
+          result = await recompute.drift(analysis.spec, panels[0]);
+          break;
+      }
+      if (data.yearly) {
+        const v = data.yearly.values;
+        current = [fingerprintYearly({ closes: v.closes, assets: data.yearly.assets, weighting: v.weighting, price: v.price, dividend: v.dividend })];
+      } else current = uniqueFingerprints(panels);
     }
   } catch (e) {
     report.error = isDeflatorError(e) ? `${e.code}: ${describeError(e)}` : describeError(e);
     return report;
   }
-  const current = uniqueFingerprints(panels);
   const recorded = recordedPanels(record);
   report.panels = recorded.map((p, i) => {
     const now = current[i]?.sha256 ?? null;
@@ -148,7 +171,7 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
     report.beyondTolerance = judged.beyond;
     if (judged.added.length) report.addedKeys = judged.added;
   }
-  if (d.count > 0 && record.kind !== 'fit' && backtestBlock) {
+  if (d.count > 0 && (record.kind === 'backtest' || record.kind === 'compare') && backtestBlock) {
     // The chunks where the rolling sums restart: fixed by the spec now, by the threads before.
     const current = windowsPerChunk(backtestBlock);
     const recorded = record.compute?.chunkWindows ?? null;

@@ -4,7 +4,7 @@
  * since (stale). Tables: src-main/runs/migration.ts.
  */
 import type { ReturnsPanel } from '../../shared/panel.js';
-import type { AnyResult } from '../../shared/results.js';
+import type { RunResult } from '../../shared/results.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { windowsPerChunk } from '../../shared/backtest/windows.js';
 import { parseExact, stringifyExact } from '../../shared/records/exact-json.js';
@@ -18,7 +18,7 @@ import { DataFingerprinter, nodeSha256, runSubjects } from './dependencies.js';
 export interface RecordRunInput {
   /** The spec as parsed (defaults filled in): what replay runs again. */
   spec: unknown;
-  result: AnyResult;
+  result: RunResult;
   /**
    * The returns panel the result was computed on, or its fingerprint
    * (shared/records/panel-encoding.ts fingerprintPanel, e.g. computed inside a worker).
@@ -65,7 +65,7 @@ function requireRunTables(store: Store): void {
 }
 
 /** Labels and kinds of the models in a run, for filtering. */
-export function runModels(spec: unknown, result: AnyResult): string[] {
+export function runModels(spec: unknown, result: RunResult): string[] {
   const out = new Set<string>();
   const s = (spec ?? {}) as { model?: { kind?: unknown }; compare?: { model?: { kind?: unknown } }[] };
   if (result.kind === 'compare') {
@@ -78,6 +78,9 @@ export function runModels(spec: unknown, result: AnyResult): string[] {
     if (typeof kinds.base?.model?.kind === 'string') out.add(kinds.base.model.kind);
     const axis = kinds.grid?.['model.kind'];
     if (Array.isArray(axis)) for (const k of axis) if (typeof k === 'string') out.add(k);
+  } else if (result.kind === 'present-value' || result.kind === 'drift') {
+    out.add(result.label);
+    out.add(result.kind);
   } else {
     out.add(result.label);
     if (typeof s.model?.kind === 'string') out.add(s.model.kind);
@@ -85,7 +88,7 @@ export function runModels(spec: unknown, result: AnyResult): string[] {
   return [...out];
 }
 
-export function runLabel(result: AnyResult): string {
+export function runLabel(result: RunResult): string {
   return result.kind === 'compare' ? result.models.map((m) => m.label).join(' vs ') : result.label;
 }
 
@@ -145,17 +148,17 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
 }
 
 /** Windows per chunk of the back-test in a back-test or a comparison with a "backtest" block (RunRecord.compute). */
-export function recordedChunkWindows(spec: unknown, result: AnyResult): number | undefined {
-  if (result.kind === 'fit') return undefined;
+export function recordedChunkWindows(spec: unknown, result: RunResult): number | undefined {
+  if (result.kind !== 'backtest' && result.kind !== 'compare') return undefined;
   const bt = (spec ?? {}) as { backtest?: { window?: unknown; step?: unknown } };
   if (typeof bt.backtest?.window !== 'number' || typeof bt.backtest.step !== 'number') return undefined;
   return windowsPerChunk({ window: bt.backtest.window, step: bt.backtest.step });
 }
 
-function untagged(result: AnyResult & RunTag): AnyResult {
+function untagged(result: RunResult & RunTag): RunResult {
   if (!('runId' in result)) return result;
   const { runId: _drop, ...rest } = result;
-  return rest as AnyResult;
+  return rest as RunResult;
 }
 
 /**
@@ -163,7 +166,7 @@ function untagged(result: AnyResult & RunTag): AnyResult {
  * addition after a fit, back-test or comparison, e.g.
  * `.then((result) => keepRun(store, { spec, result, panel }))`.
  */
-export function keepRun<R extends AnyResult>(store: Store, input: RecordRunInput & { result: R }): R & RunTag {
+export function keepRun<R extends RunResult>(store: Store, input: RecordRunInput & { result: R }): R & RunTag {
   const rec = recordRun(store, input);
   return Object.assign(input.result, { runId: rec.id });
 }
@@ -177,7 +180,7 @@ function toRecord(r: RunRow): RunRecord {
     createdAt: r.created_at,
     version: r.version,
     spec: parseExact(r.spec),
-    result: parseExact<AnyResult>(r.result),
+    result: parseExact<RunResult>(r.result),
     panel: JSON.parse(r.panel) as PanelFingerprint,
     files: JSON.parse(r.files) as DataFileFingerprint[],
     subjects: JSON.parse(r.subjects) as SubjectFingerprint[],

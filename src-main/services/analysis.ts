@@ -12,12 +12,16 @@
  * kind, its spec(s), and for a back-test the engine asked for.
  */
 import type { ReturnsPanel } from '../../shared/panel.js';
-import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult, RunResult } from '../../shared/results.js';
 import type { RunRecord, RunTag, SubjectFingerprint } from '../../shared/records/run-record.js';
-import { parseCompareSpec, type CompareSpec, type FitSpec } from '../../shared/spec.js';
+import { fingerprintYearly } from '../../shared/records/panel-encoding.js';
+import type { YearlyValues } from '../../shared/returns/yearly.js';
+import { parseCompareSpec, type CompareSpec, type DriftSpec, type FitSpec, type PresentValueSpec } from '../../shared/spec.js';
+import { presentValueHistories, presentValueInputs } from '../../shared/values/presentValue.js';
+import { driftPanelSpec } from '../../shared/values/drift.js';
 import type { BacktestEngine } from '../../shared/backtest/index.js';
 import { DeflatorError } from '../../shared/errors.js';
-import { loadPanelInput } from '../data/panel.js';
+import { loadPanelInput, loadPresentValueHistories } from '../data/panel.js';
 import { buildPanel } from '../../shared/returns/index.js';
 import { loadedDigests } from '../runs/dependencies.js';
 import { recordRun } from '../runs/runs.js';
@@ -27,9 +31,19 @@ import type { Compute, RunTaskOptions } from './compute.js';
 export type Analysis =
   | { kind: 'fit'; spec: FitSpec }
   | { kind: 'backtest'; spec: FitSpec; engine?: BacktestEngine }
-  | { kind: 'compare'; spec: CompareSpec; fits: FitSpec[] };
+  | { kind: 'compare'; spec: CompareSpec; fits: FitSpec[] }
+  | { kind: 'present-value'; spec: PresentValueSpec }
+  | { kind: 'drift'; spec: DriftSpec };
 
-export type ResultOf<A extends Analysis> = A extends { kind: 'fit' } ? FitResult : A extends { kind: 'backtest' } ? BacktestResult : CompareResult;
+export type ResultOf<A extends Analysis> = A extends { kind: 'fit' }
+  ? FitResult
+  : A extends { kind: 'backtest' }
+    ? BacktestResult
+    : A extends { kind: 'present-value' }
+      ? PresentValueResult
+      : A extends { kind: 'drift' }
+        ? DriftResult
+        : CompareResult;
 
 /** A comparison request from its spec (the models' fit specs read off its "compare" list). */
 export function compareAnalysis(spec: CompareSpec): Analysis & { kind: 'compare' } {
@@ -37,24 +51,34 @@ export function compareAnalysis(spec: CompareSpec): Analysis & { kind: 'compare'
   return { kind: 'compare', spec: parsed.spec, fits: parsed.fits };
 }
 
-/** What the load step read: one panel per fit spec (a fit or back-test has one). */
+/**
+ * What the load step read: one panel per fit spec (a fit or back-test has one; a drift
+ * split one with price ratios); a present-value analysis reads the yearly values of its
+ * assets instead (no panel).
+ */
 export interface AnalysisData {
   panels: ReturnsPanel[];
   /** Digests of the stored subjects the load read, from the rows it read (for the run record). */
   subjects?: SubjectFingerprint[];
+  yearly?: { assets: string[]; values: YearlyValues };
 }
 
-/** The fit specs an analysis reads panels for, in order. */
+/** The fit specs an analysis reads panels for, in order (none for the present-value analyses). */
 export function analysisFits(a: Analysis): FitSpec[] {
-  return a.kind === 'compare' ? a.fits : [a.spec];
+  return a.kind === 'compare' ? a.fits : a.kind === 'fit' || a.kind === 'backtest' ? [a.spec] : [];
 }
 
-/** Load panel: reads exactly what the spec(s) name from the store and builds the panel(s). */
+/** Load panel: reads exactly what the spec(s) name from the store and builds the panel(s) (or the yearly values). */
 export function loadAnalysisData(store: Store, a: Analysis, opts: { digests?: boolean } = {}): AnalysisData {
+  if (a.kind === 'present-value') {
+    const histories = loadPresentValueHistories(store, a.spec);
+    const yearly = { assets: presentValueHistories(a.spec, histories).map((h) => h.asset), values: presentValueInputs(a.spec, histories) };
+    return { panels: [], yearly, ...(opts.digests ? { subjects: loadedDigests({ histories, series: [] }) } : {}) };
+  }
   const panels: ReturnsPanel[] = [];
   const subjects = new Map<string, SubjectFingerprint>();
-  for (const f of analysisFits(a)) {
-    const input = loadPanelInput(store, f);
+  const inputs = a.kind === 'drift' ? [{ ...loadPanelInput(store, driftPanelSpec(a.spec)), priceRatios: true }] : analysisFits(a).map((f) => loadPanelInput(store, f));
+  for (const input of inputs) {
     panels.push(buildPanel(input));
     if (opts.digests) for (const s of loadedDigests(input)) subjects.set(`${s.kind}\u0000${s.name}`, s);
   }
@@ -74,15 +98,30 @@ export async function computeAnalysis<A extends Analysis>(a: A, data: AnalysisDa
       return (await compute.runTask('backtest', { spec: a.spec, panel: data.panels[0], ...(a.engine && a.engine !== 'auto' ? { engine: a.engine } : {}) }, o)) as ResultOf<A>;
     case 'compare':
       return (await compute.runTask('compare', { spec: a.spec, fits: a.fits, panels: data.panels }, o)) as ResultOf<A>;
+    case 'present-value': {
+      if (!data.yearly) throw new DeflatorError('INPUT_INVALID', 'a present-value analysis needs its yearly values loaded', 'load them with loadAnalysisData');
+      return (await compute.runTask('presentValue', { spec: a.spec, assets: data.yearly.assets, values: data.yearly.values }, o)) as ResultOf<A>;
+    }
+    case 'drift':
+      return (await compute.runTask('drift', { spec: a.spec, panel: data.panels[0] }, o)) as ResultOf<A>;
   }
 }
 
+/** The fingerprint(s) a run of this analysis records for the data it used. */
+function recordedData(a: Analysis, data: AnalysisData) {
+  if (a.kind === 'present-value' && data.yearly) {
+    const v = data.yearly.values;
+    return fingerprintYearly({ closes: v.closes, assets: data.yearly.assets, weighting: v.weighting, price: v.price, dividend: v.dividend });
+  }
+  return a.kind === 'compare' ? data.panels : data.panels[0];
+}
+
 /** Record: stores the run (spec, result, data fingerprints, how it was computed). */
-export function recordAnalysis(store: Store, a: Analysis, result: AnyResult, data: AnalysisData, threads?: number): RunRecord {
+export function recordAnalysis(store: Store, a: Analysis, result: RunResult, data: AnalysisData, threads?: number): RunRecord {
   return recordRun(store, {
     spec: a.spec,
     result,
-    panel: a.kind === 'compare' ? data.panels : data.panels[0],
+    panel: recordedData(a, data),
     ...(threads !== undefined ? { threads } : {}),
     ...(data.subjects ? { subjects: data.subjects } : {}),
     ...(a.kind === 'backtest' && a.engine && a.engine !== 'auto' ? { engine: a.engine } : {}),

@@ -7,11 +7,13 @@ import { backtestText } from '../../shared/backtest/text.js';
 import { compareText } from '../../shared/compare/text.js';
 import { batchText } from '../../shared/batch/text.js';
 import { fitText } from '../../shared/report/fit-text.js';
-import { CAUTION, type AnyResult } from '../../shared/results.js';
+import { valueResultText } from '../../shared/report/value-text.js';
+import { CAUTION, type AnyResult, type RunResult } from '../../shared/results.js';
 import type { RunRecord } from '../../shared/records/run-record.js';
+import { driftJson, presentValueJson } from '../../shared/values/json.js';
 
-/** The readable report of a result (each ends with the caution). */
-export function analysisText(result: AnyResult): string {
+/** The readable report of a result (each carries the caution). */
+export function analysisText(result: RunResult): string {
   switch (result.kind) {
     case 'fit':
       return fitText(result);
@@ -21,6 +23,9 @@ export function analysisText(result: AnyResult): string {
       return compareText(result);
     case 'batch':
       return batchText(result);
+    case 'present-value':
+    case 'drift':
+      return valueResultText(result);
   }
 }
 
@@ -35,9 +40,15 @@ export function analysisJson(result: AnyResult, run?: Pick<RunRecord, 'id'>): Re
   return { ...plain, ...(run ? { run: run.id } : {}), caution: CAUTION };
 }
 
-/** What a command prints for an outcome: JSON (--json) or the text report and the recorded-run line. */
-export function printedReport(outcome: { result: AnyResult; run?: Pick<RunRecord, 'id'> }, o: { json?: boolean; db: string }): string {
-  if (o.json) return `${JSON.stringify(analysisJson(outcome.result, outcome.run), null, 2)}\n`;
+/**
+ * What a command prints for an outcome: JSON (--json) or the text report and the recorded-run
+ * line. The present-value analyses print their documented JSON keys only (shared/values/json.ts);
+ * `deflator show RUN --json` has the whole record.
+ */
+export function printedReport(outcome: { result: RunResult; run?: Pick<RunRecord, 'id'> }, o: { json?: boolean; db: string }): string {
+  if (o.json && outcome.result.kind === 'present-value') return `${JSON.stringify(presentValueJson(outcome.result), null, 2)}\n`;
+  if (o.json && outcome.result.kind === 'drift') return `${JSON.stringify(driftJson(outcome.result), null, 2)}\n`;
+  if (o.json) return `${JSON.stringify(analysisJson(outcome.result as AnyResult, outcome.run), null, 2)}\n`;
   const text = analysisText(outcome.result);
   if (!outcome.run) return text;
   return `${text}${outcome.result.kind === 'fit' ? '\n' : ''}${recordedLine(outcome.run, o.db)}`;

@@ -10,7 +10,7 @@
  *   { version: 2, name: 'run records', up: `CREATE TABLE run (...);` },
  */
 import type Database from 'better-sqlite3';
-import { RUNS_BATCH_MIGRATION_NAME, RUNS_BATCH_MIGRATION_SQL, RUNS_COMPUTE_MIGRATION_NAME, RUNS_COMPUTE_MIGRATION_SQL, RUNS_MIGRATION_NAME, RUNS_MIGRATION_SQL } from '../runs/migration.js';
+import { RUNS_BATCH_MIGRATION_NAME, RUNS_BATCH_MIGRATION_SQL, RUNS_COMPUTE_MIGRATION_NAME, RUNS_COMPUTE_MIGRATION_SQL, RUNS_KINDS_MIGRATION_NAME, RUNS_KINDS_MIGRATION_SQL, RUNS_MIGRATION_NAME, RUNS_MIGRATION_SQL } from '../runs/migration.js';
 
 export interface Migration {
   version: number;
@@ -138,6 +138,7 @@ export const MIGRATIONS: Migration[] = [
     },
   },
   { version: 5, name: RUNS_BATCH_MIGRATION_NAME, up: RUNS_BATCH_MIGRATION_SQL },
+  { version: 6, name: RUNS_KINDS_MIGRATION_NAME, up: RUNS_KINDS_MIGRATION_SQL },
 ];
 
 /** The schema version this build writes. */

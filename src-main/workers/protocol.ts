@@ -7,8 +7,9 @@
  */
 import type { MessagePort } from 'node:worker_threads';
 import type { ReturnsPanel } from '../../shared/panel.js';
-import type { CompareSpec, FitSpec } from '../../shared/spec.js';
-import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../shared/results.js';
+import type { YearlyValues } from '../../shared/returns/yearly.js';
 import type { BacktestEngine, WindowRecord } from '../../shared/backtest/index.js';
 import type { HjBootstrapChunk, HjBootstrapDraws, ModelOutcome } from '../../shared/compare/index.js';
 import type { ErrorCode } from '../../shared/errors.js';
@@ -26,10 +27,14 @@ export interface TaskMap {
   batchTask: { payload: { spec: FitSpec; panel: ReturnsPanel; backtest: boolean }; result: ModelOutcome };
   /** Replications [from, to) of the bootstrap of squared HJ distances. */
   hjBootstrap: { payload: HjBootstrapChunk; result: HjBootstrapDraws };
+  /** The dividend-price decomposition of yearly values built from `assets`. */
+  presentValue: { payload: { spec: PresentValueSpec; assets: string[]; values: YearlyValues }; result: PresentValueResult };
+  /** The drift split of a panel with price ratios. */
+  drift: { payload: { spec: DriftSpec; panel: ReturnsPanel }; result: DriftResult };
 }
 
 export type TaskKind = keyof TaskMap;
-export const TASK_KINDS: readonly TaskKind[] = ['fit', 'backtest', 'backtestWindows', 'compare', 'batchTask', 'hjBootstrap'];
+export const TASK_KINDS: readonly TaskKind[] = ['fit', 'backtest', 'backtestWindows', 'compare', 'batchTask', 'hjBootstrap', 'presentValue', 'drift'];
 
 export type ProgressMessage = { type: 'progress'; done: number; total: number; stage?: string } | { type: 'end' };
 

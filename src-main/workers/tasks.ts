@@ -9,6 +9,8 @@ import type { ReturnsPanel } from '../../shared/panel.js';
 import type { FitSpec } from '../../shared/spec.js';
 import { backtest, backtestWindows, type CancelToken } from '../../shared/backtest/index.js';
 import { compareModels, hjBootstrapDraws, modelOutcome } from '../../shared/compare/index.js';
+import { driftAnalysis } from '../../shared/values/drift.js';
+import { presentValueOf } from '../../shared/values/presentValue.js';
 import type { TaskKind, TaskMap } from './protocol.js';
 
 export interface TaskContext {
@@ -50,4 +52,6 @@ export const handlers: Handlers = {
     }),
   batchTask: (p, ctx) => modelOutcome(p.spec, p.panel, p.backtest, { fit, backtest: (s, panel) => backtest(s, panel, { fit, signal: ctx.signal }) }),
   hjBootstrap: (p, ctx) => hjBootstrapDraws(p, { hjSquared: fittedHjSquared, hjStart: fittedHjStart, onProgress: ctx.progress, signal: ctx.signal }),
+  presentValue: (p) => presentValueOf(p.spec, p.assets, p.values),
+  drift: (p) => driftAnalysis(p.spec, p.panel),
 };

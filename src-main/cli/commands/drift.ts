@@ -4,14 +4,13 @@
  * dividend yield, sigma, and the log drift beside mu - sigma^2/2 (METHODS 10).
  */
 import type { Command } from 'commander';
+import { runAnalysis } from '../../services/analysis.js';
+import { inProcess } from '../../services/compute.js';
+import { printedReport, recordedLine } from '../../services/report.js';
+import { withStore } from '../compute.js';
 import { FREQUENCIES } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
-import { valueResultText } from '../../../shared/report/value-text.js';
 import { parseDriftSpec, type DriftSpec } from '../../../shared/spec.js';
-import { driftAnalysis } from '../../../shared/values/drift.js';
-import { driftJson } from '../../../shared/values/json.js';
-import { loadDriftPanel } from '../../data/panel.js';
-import { Store } from '../../store/store.js';
 import { parseLags, parseNames } from './present-value.js';
 
 interface Flags {
@@ -22,9 +21,10 @@ interface Flags {
   end?: string;
   lags: string;
   json?: boolean;
+  record: boolean;
 }
 
-export function driftSpecFromFlags(o: Omit<Flags, 'db' | 'json'>): DriftSpec {
+export function driftSpecFromFlags(o: Omit<Flags, 'db' | 'json' | 'record'>): DriftSpec {
   if (!(FREQUENCIES as readonly string[]).includes(o.frequency)) throw new DeflatorError('INPUT_INVALID', `--frequency: "${o.frequency}" is not one of ${FREQUENCIES.join(', ')}`, `pass --frequency ${FREQUENCIES.join('|')}`);
   const assets = parseNames(o.assets);
   return parseDriftSpec(
@@ -51,15 +51,11 @@ export function register(program: Command): void {
     .option('--end <date>', 'last period end to include (YYYY-MM-DD)')
     .option('--lags <L>', 'Newey-West lags for the s.e. of the means: a number, 0, or auto = floor(4 (T/100)^(2/9))', 'auto')
     .option('--json', 'print {frequency, assets: [{asset, drift, priceGrowth, dividendYield, sigma, logDrift, se}], sample, warnings}')
-    .action((o: Flags) => {
+    .option('--no-record', 'do not record the run in the database')
+    .action(async (o: Flags) => {
       const spec = driftSpecFromFlags(o);
-      const store = new Store(o.db, { mustExist: true });
-      try {
-        const result = driftAnalysis(spec, loadDriftPanel(store, spec));
-        if (o.json) process.stdout.write(`${JSON.stringify(driftJson(result), null, 2)}\n`);
-        else process.stdout.write(valueResultText(result));
-      } finally {
-        store.close();
-      }
+      const outcome = await withStore(o.db, (store) => runAnalysis(store, { kind: 'drift', spec }, inProcess(), { record: o.record }));
+      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
+      if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
     });
 }

@@ -5,13 +5,12 @@
  * Prints the readable report, or with --json exactly the documented keys plus "warnings".
  */
 import type { Command } from 'commander';
+import { runAnalysis } from '../../services/analysis.js';
+import { inProcess } from '../../services/compute.js';
+import { printedReport, recordedLine } from '../../services/report.js';
+import { withStore } from '../compute.js';
 import { DeflatorError } from '../../../shared/errors.js';
-import { valueResultText } from '../../../shared/report/value-text.js';
 import { parsePresentValueSpec, type PresentValueSpec } from '../../../shared/spec.js';
-import { presentValueJson } from '../../../shared/values/json.js';
-import { presentValue } from '../../../shared/values/presentValue.js';
-import { loadPresentValueHistories } from '../../data/panel.js';
-import { Store } from '../../store/store.js';
 
 interface Flags {
   db: string;
@@ -23,6 +22,7 @@ interface Flags {
   end?: string;
   lags: string;
   json?: boolean;
+  record: boolean;
 }
 
 /** "auto" or a whole number of lags, as a spec holds it. */
@@ -40,7 +40,7 @@ export function parseNames(flag: string | undefined): string[] | undefined {
   return names;
 }
 
-export function presentValueSpecFromFlags(o: Omit<Flags, 'db' | 'json'>): PresentValueSpec {
+export function presentValueSpecFromFlags(o: Omit<Flags, 'db' | 'json' | 'record'>): PresentValueSpec {
   if (o.asset !== undefined && o.aggregate) throw new DeflatorError('INPUT_INVALID', '--asset and --aggregate both given', 'pass --asset NAME for one asset, or --aggregate [--assets a,b,c] for their aggregate');
   if (o.asset === undefined && !o.aggregate) throw new DeflatorError('INPUT_INVALID', 'neither --asset nor --aggregate given', 'pass --asset NAME for one asset, or --aggregate [--assets a,b,c] for their aggregate');
   if (o.assets !== undefined && !o.aggregate) throw new DeflatorError('INPUT_INVALID', '--assets lists the assets of an aggregate', 'add --aggregate, or pass one asset with --asset');
@@ -72,16 +72,11 @@ export function register(program: Command): void {
     .option('--end <year>', 'last year (YYYY, or a date: its year)')
     .option('--lags <L>', 'Newey-West lags: a number, 0 (heteroskedasticity only) or auto = floor(4 (n/100)^(2/9))', 'auto')
     .option('--json', 'print {asset|assets, frequency, sample, rho, regressions, identity, longRun, varianceShares, warnings}')
-    .action((o: Flags) => {
+    .option('--no-record', 'do not record the run in the database')
+    .action(async (o: Flags) => {
       const spec = presentValueSpecFromFlags(o);
-      const store = new Store(o.db, { mustExist: true });
-      try {
-        const histories = loadPresentValueHistories(store, spec);
-        const result = presentValue(spec, histories);
-        if (o.json) process.stdout.write(`${JSON.stringify(presentValueJson(result), null, 2)}\n`);
-        else process.stdout.write(valueResultText(result));
-      } finally {
-        store.close();
-      }
+      const outcome = await withStore(o.db, (store) => runAnalysis(store, { kind: 'present-value', spec }, inProcess(), { record: o.record }));
+      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
+      if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
     });
 }

@@ -5,7 +5,7 @@
  */
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
-import { isRunKind, type RunSummary } from '../../../shared/records/run-record.js';
+import { isRunKind, RUN_KINDS, type RunSummary } from '../../../shared/records/run-record.js';
 import { alignColumns } from '../../../shared/report/text.js';
 import { isCalendarDate } from '../../../shared/returns/periods.js';
 import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
@@ -63,7 +63,7 @@ export function register(program: Command): void {
           else process.stdout.write(`Deleted run ${id}.\n`);
           return;
         }
-        if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, 'use --kind fit, backtest, compare or batch');
+        if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, `use --kind ${RUN_KINDS.join(', ')}`);
         for (const [k, v] of [['--from', opts.from], ['--to', opts.to]] as const) {
           if (v !== undefined && !isCalendarDate(v)) throw new DeflatorError('INPUT_INVALID', `${k} ${v}: expected a calendar date as YYYY-MM-DD`, `e.g. ${k} 2026-01-31`);
         }

@@ -90,6 +90,36 @@ describe('deflator present-value', () => {
   });
 });
 
+describe('recorded runs: show, replay, runs --kind', () => {
+  it('a present-value run and a drift run are recorded, shown with their record, and replay bit for bit', () => {
+    const pv = run(['present-value', '--db', db, '--asset', 'harrowind-timber']);
+    expect(pv.code, pv.stderr).toBe(0);
+    const id = Number(/Recorded as run (\d+)/.exec(pv.stdout)?.[1]);
+    expect(id).toBeGreaterThan(0);
+    const dr = run(['drift', '--db', db, '--assets', 'harrowind-timber', '--json']);
+    expect(dr.code, dr.stderr).toBe(0);
+    const driftId = Number(/Recorded as run (\d+)/.exec(dr.stderr)?.[1]);
+    expect(driftId).toBe(id + 1);
+    const none = run(['drift', '--db', db, '--assets', 'harrowind-timber', '--no-record']);
+    expect(none.stdout).not.toContain('Recorded as run');
+
+    const show = run(['show', String(id), '--db', db]);
+    expect(show.code, show.stderr).toBe(0);
+    expect(show.stdout).toContain(CAUTION);
+    expect(show.stdout).toContain('Predictive regressions on dp(t)');
+    expect(show.stdout).toContain('panel sha256');
+    expect(show.stdout).toContain('Data: unchanged since the run');
+    for (const r of [id, driftId]) {
+      const replay = run(['replay', String(r), '--db', db]);
+      expect(replay.code, replay.stdout + replay.stderr).toBe(0);
+      expect(replay.stdout).toMatch(/REPLAY OK/);
+    }
+    const list = run(['runs', '--db', db, '--kind', 'drift', '--json']);
+    expect(list.code, list.stderr).toBe(0);
+    expect((JSON.parse(list.stdout) as { id: number }[]).map((r) => r.id)).toContain(driftId);
+  });
+});
+
 describe('deflator drift', () => {
   it('--json: exactly the documented keys, the split of every demo asset', () => {
     const r = run(['drift', '--db', db, '--json']);

@@ -14,6 +14,9 @@ import { kernelIdentity } from '../../../shared/linalg/identity.js';
 import { deleteRun, getRun, listRuns, parseRunId, recordRun, staleItems } from '../../../src-main/runs/runs.js';
 import { Store } from '../../../src-main/store/store.js';
 import { VERSION } from '../../../src-main/version.js';
+import { presentValueOf } from '../../../shared/values/presentValue.js';
+import { driftAnalysis } from '../../../shared/values/drift.js';
+import type { YearlyValues } from '../../../shared/returns/yearly.js';
 import { editPrice, forgetImport, makeProject, type Project } from './helpers.js';
 
 /** In-process recompute with the same estimator entry points the worker calls. */
@@ -23,6 +26,8 @@ const inProcess: Recompute = {
   compare: async () => {
     throw new Error('compare is replayed in test/src-main/runs/replay-cli.test.ts');
   },
+  presentValue: async (s, data) => presentValueOf(s, data.yearly?.assets ?? [], data.yearly?.values as YearlyValues),
+  drift: async (s, panel) => driftAnalysis(s, panel),
 };
 
 const sha256 = (file: string) => createHash('sha256').update(readFileSync(file)).digest('hex');
