@@ -37,9 +37,15 @@ export function driftAnalysis(spec: DriftSpec, panel: ReturnsPanel): DriftResult
     const ratio = ratios[i];
     return driftSplit({ asset, gross: panel.returns[i], ...(ratio ? { priceRatio: ratio } : {}) }, ppy, lags);
   });
-  const warnings: ResultWarning[] = rows
-    .filter((r) => r.source === 'returns')
-    .map((r) => ({ code: 'NO_PRICE_SPLIT', message: `${r.asset} is stored as returns, without prices and dividends: its drift cannot be split into price growth and dividend yield (drift and sigma are shown)` }));
+  const warnings: ResultWarning[] = [];
+  const asReturns = rows.filter((r) => r.source === 'returns').map((r) => r.asset);
+  if (asReturns.length) {
+    const names = asReturns.length > 8 ? `${asReturns.slice(0, 8).join(', ')} and ${asReturns.length - 8} more` : asReturns.join(', ');
+    warnings.push({
+      code: 'NO_PRICE_SPLIT',
+      message: `${names} ${asReturns.length === 1 ? 'is' : 'are'} stored as returns, without prices and dividends: the drift cannot be split into price growth and dividend yield (drift and sigma are shown)`,
+    });
+  }
   const dropped = panel.sampleNotes.filter((n) => n.subject !== '*' && n.reason.startsWith('dropped: ')).map((n) => ({ asset: n.subject, reason: n.reason.slice('dropped: '.length) }));
   for (const d of dropped) warnings.push({ code: 'ASSET_DROPPED', message: `${d.asset} left out: ${d.reason}` });
   const result: DriftResult = {

@@ -3,7 +3,7 @@
  * and hands them to the returns engine (shared/returns buildPanel). The fit, back-test and
  * compare commands and the app all build their panel here.
  */
-import type { NamedSeries, PriceHistory, ReturnSeries, SeriesKind, StoredAsset } from '../../shared/data.js';
+import { isReturnHistory, type NamedSeries, type PriceHistory, type ReturnSeries, type SeriesKind, type StoredAsset } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { buildPanel, type BuildPanelInput, type PanelSpec } from '../../shared/returns/index.js';
@@ -86,7 +86,17 @@ export function loadPresentValueHistories(store: Store, spec: PresentValueSpec):
       );
     }
   }
-  const histories = store.loadHistories(wanted);
-  if (histories.length === 0) throw new DeflatorError('DATA_MISSING', `no price histories in ${store.path}`, 'import prices first (`deflator import prices`), or run `deflator demo`');
+  const assets = store.loadAssets(wanted);
+  const asReturns = wanted ? assets.filter(isReturnHistory).map((a) => a.asset) : [];
+  if (asReturns.length) {
+    throw new DeflatorError(
+      'INPUT_INVALID',
+      `${asReturns.map((a) => `"${a}"`).join(', ')} ${asReturns.length === 1 ? 'is' : 'are'} stored as returns, without prices and dividends: the dividend-price ratio is not defined`,
+      'name assets imported with prices and dividends (`deflator info --db DB` shows how each arrived); `deflator drift` shows the drift of return-form assets',
+    );
+  }
+  // "every asset": the price histories (assets stored as returns have no dividends to sum)
+  const histories = assets.filter((a): a is PriceHistory => !isReturnHistory(a));
+  if (histories.length === 0) throw new DeflatorError('DATA_MISSING', `no price histories in ${store.path}`, 'import prices and dividends first (`deflator import prices`), or run `deflator demo`');
   return histories;
 }

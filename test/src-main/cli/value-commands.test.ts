@@ -151,3 +151,22 @@ describe('deflator drift', () => {
     expect(bad.stderr).toContain('--frequency');
   });
 });
+
+describe('assets stored as returns', () => {
+  it('drift shows drift and sigma with null split and one warning saying why; present-value refuses them by name', () => {
+    const rdb = path.join(mkdtempSync(path.join(tmpdir(), 'deflator-values-ret-')), 'returns.db');
+    const imp = run(['import', 'returns', path.join(root, 'sample-data', 'returns', 'portfolios.csv'), '--db', rdb, '--date-format', 'YYYYMM', '--units', 'percent', '--missing', '-99.99']);
+    expect(imp.code, imp.stderr).toBe(0);
+    const dr = run(['drift', '--db', rdb, '--assets', 'large-t1,mid-t2', '--json', '--no-record']);
+    expect(dr.code, dr.stderr).toBe(0);
+    const out = JSON.parse(dr.stdout);
+    expect(out.assets.map((a: { priceGrowth: null }) => a.priceGrowth)).toEqual([null, null]);
+    expect(out.assets[0].se.dividendYield).toBeNull();
+    expect(out.assets[0].sigma).toBeGreaterThan(0);
+    expect(out.warnings).toEqual([expect.objectContaining({ code: 'NO_PRICE_SPLIT' })]);
+    expect(out.warnings[0].message).toContain('large-t1, mid-t2 are stored as returns');
+    const pv = run(['present-value', '--db', rdb, '--asset', 'large-t1']);
+    expect(pv.code).toBe(1);
+    expect(pv.stderr).toContain('"large-t1" is stored as returns');
+  });
+});
