@@ -59,12 +59,12 @@ if (!only || only === 'backtest') {
     }),
   );
   const np = numpyCommand(path.join(ROOT, 'bench/numpy/backtest_csv.py'), [dir, '120', '1', '3']);
-  const run = (threads?: string) => (): Timed => timeProcess(process.execPath, [bin, 'backtest', spec, '--db', s.db, '--no-record', ...(threads ? ['--threads', threads] : [])]);
+  const run = (threads?: string, exact = false) => (): Timed => timeProcess(process.execPath, [bin, 'backtest', spec, '--db', s.db, '--no-record', ...(threads ? ['--threads', threads] : [])], exact ? { env: { ...process.env, DEFLATOR_THREADS_EXACT: '1' } } : {});
   const res = interleave(
     [
       { label: 'deflator backtest (default threads)', run: run() },
       { label: 'deflator backtest --threads 1', run: run('1') },
-      { label: 'deflator backtest --threads 2', run: run('2') },
+      { label: 'deflator backtest, pool of 2 threads (DEFLATOR_THREADS_EXACT=1 --threads 2)', run: run('2', true) },
       ...(anchors ? [{ label: 'numpy script (bench/numpy/backtest_csv.py)', run: () => timeProcess(np.cmd, np.args) }] : []),
     ],
     rounds,

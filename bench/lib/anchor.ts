@@ -48,12 +48,12 @@ export interface Timed {
 }
 
 /** Runs a whole process under /usr/bin/time: wall and CPU (user + system) seconds. */
-export function timeProcess(cmd: string, args: string[], opts: { cwd?: string; check?: (r: SpawnSyncReturns<string>) => void } = {}): Timed & { stdout: string } {
+export function timeProcess(cmd: string, args: string[], opts: { cwd?: string; env?: NodeJS.ProcessEnv; check?: (r: SpawnSyncReturns<string>) => void } = {}): Timed & { stdout: string } {
   const useTime = existsSync('/usr/bin/time');
   const t0 = performance.now();
   const r = useTime
-    ? spawnSync('/usr/bin/time', ['-f', '@@time %e %U %S', cmd, ...args], { cwd: opts.cwd ?? ROOT, encoding: 'utf8', maxBuffer: 1 << 28 })
-    : spawnSync(cmd, args, { cwd: opts.cwd ?? ROOT, encoding: 'utf8', maxBuffer: 1 << 28 });
+    ? spawnSync('/usr/bin/time', ['-f', '@@time %e %U %S', cmd, ...args], { cwd: opts.cwd ?? ROOT, encoding: 'utf8', maxBuffer: 1 << 28, env: opts.env ?? process.env })
+    : spawnSync(cmd, args, { cwd: opts.cwd ?? ROOT, encoding: 'utf8', maxBuffer: 1 << 28, env: opts.env ?? process.env });
   const wall = (performance.now() - t0) / 1000;
   if (r.status !== 0) throw new Error(`${cmd} ${args.join(' ')} exited with ${r.status}: ${(r.stderr ?? '').slice(-800)}`);
   opts.check?.(r);

@@ -1,7 +1,9 @@
 /**
  * The CLI's Compute (src-main/services/compute.ts sizedCompute): in this process when the
- * work is one piece, otherwise a worker pool of as many threads as the work has pieces,
- * at most --threads (default: the cores). The pool module (and piscina) is loaded only
+ * work is one piece or too small to pay for a worker, otherwise a worker pool of as many
+ * threads as the work has pieces and estimated seconds, at most --threads (default: the
+ * cores). DEFLATOR_THREADS_EXACT=1 uses the threads asked for whatever the work (to check
+ * or measure the pool itself). The pool module (and piscina) is loaded only
  * when a pool is started.
  */
 import { DeflatorError } from '../../shared/errors.js';
@@ -37,6 +39,7 @@ export function threadsFlag(value: string | undefined, flag = '--threads', cores
 export async function withCompute<T>(threads: number, fn: (compute: CliCompute) => Promise<T>): Promise<T> {
   const compute = sizedCompute({
     threads,
+    exact: process.env.DEFLATOR_THREADS_EXACT === '1',
     pool: async (n): Promise<ClosableCompute> => (await import('../workers/pool.js')).createPool({ threads: n }),
   });
   try {

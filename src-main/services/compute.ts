@@ -135,6 +135,11 @@ export function threadsFor<K extends TaskKind>(kind: K, payload: TaskMap[K]['pay
 export interface SizedComputeOptions {
   /** Threads at most (the CLI's --threads, default the cores). */
   threads: number;
+  /**
+   * Use the threads asked for (up to the work's pieces) whatever the estimated work: for
+   * checks and benchmarks of the pool itself (the CLI sets it from DEFLATOR_THREADS_EXACT=1).
+   */
+  exact?: boolean;
   /** Starts the pool of n threads (src-main/workers/pool.ts createPool); loaded only when needed. */
   pool: (threads: number) => Promise<ClosableCompute>;
 }
@@ -152,7 +157,7 @@ export function sizedCompute(o: SizedComputeOptions): ClosableCompute & { readon
       return used;
     },
     async runTask<K extends TaskKind>(kind: K, payload: TaskMap[K]['payload'], opts: RunTaskOptions = {}): Promise<TaskMap[K]['result']> {
-      const want = threadsFor(kind, payload, o.threads);
+      const want = o.exact ? Math.max(1, Math.min(o.threads, workPieces(kind, payload))) : threadsFor(kind, payload, o.threads);
       if (want <= 1 && !pool) {
         used = { threads: 1, inProcess: true };
         return local.runTask(kind, payload, opts);

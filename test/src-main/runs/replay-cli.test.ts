@@ -13,8 +13,8 @@ import { windowChunks, windowSchedule } from '../../../shared/backtest/index.js'
 import { editPrice, forgetImport, makeProject, type Project } from './helpers.js';
 
 const CLI = path.resolve(import.meta.dirname, '../../../dist/cli.js');
-const cli = (args: string[]) => {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8' });
+const cli = (args: string[], env: NodeJS.ProcessEnv = process.env) => {
+  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8', env });
   return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
 };
 
@@ -81,7 +81,8 @@ describe('deflator replay (built CLI, worker pool)', () => {
   it.each(['backtest', 'rolling', 'compare'])('reproduces a %s run bit for bit with 1 and 3 threads as well: the numbers do not depend on the thread count', (kind) => {
     expect(rollChunks).toBeGreaterThanOrEqual(3);
     for (const threads of ['1', '3']) {
-      const r = cli(['replay', String(ids[kind]), '--db', p.dbPath, '--threads', threads]);
+      // the pool itself, with the threads asked for (without it, work this small runs in one thread)
+      const r = cli(['replay', String(ids[kind]), '--db', p.dbPath, '--threads', threads], { ...process.env, DEFLATOR_THREADS_EXACT: '1' });
       expect(r.code, `${threads} thread(s): ${r.out}\n${r.err}`).toBe(0);
       expect(r.out).toMatch(/numbers: all \d+ stored numbers reproduced bit for bit/);
       expect(r.out).toContain(`note: recorded with 2 worker thread(s), replayed with ${threads} (the numbers do not depend on the thread count)`);
