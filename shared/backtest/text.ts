@@ -5,6 +5,7 @@
  */
 import { CAUTION, type BacktestResult } from '../results.js';
 import { alignTable } from '../report/fit-text.js';
+import { instrumentText } from '../report/header.js';
 import { fixed, significant } from '../report/numbers.js';
 
 const pct = (x: number) => fixed(100 * x, 3);
@@ -17,6 +18,7 @@ export function backtestText(r: BacktestResult): string {
   out.push(`Back-test: ${r.label} (${s.method === 'gmm' ? 'GMM' : s.method}, ${s.stage} stage)`);
   out.push('');
   out.push(`Sample        ${s.start} to ${s.end}, ${s.frequency}, T = ${s.T}, N = ${s.N}, K = ${s.K}`);
+  if (s.instruments) out.push(`Instruments   ${instrumentText(s)}`);
   out.push(`Windows       ${b.expanding ? 'expanding from' : 'rolling,'} ${b.window} periods, step ${b.step}, ${b.horizon} held-out period(s) each`);
   out.push(`              ${r.windows} windows, ${r.windowsFailed} failed; first ${r.windowList[0]?.start} to ${r.windowList[0]?.end}, last ${r.windowList[r.windowList.length - 1]?.start} to ${r.windowList[r.windowList.length - 1]?.end}`);
   out.push(`Lags          ${s.lags} (${s.lagsRule}); ${s.centered ? 'centred' : 'uncentred'} Newey-West; first-stage weight ${s.weighting}`);
@@ -35,7 +37,13 @@ export function backtestText(r: BacktestResult): string {
   );
   out.push('');
   out.push('Per asset (mean over windows, % per period)');
-  out.push(alignTable(['asset', 'alpha in', 'alpha out', 'held-out return'], r.perAsset.map((a) => [a.asset, pct(a.alphaIn), pct(a.alphaOos), pct(a.meanReturnOos)])));
+  const inst = r.perAsset.some((a) => a.instrument !== undefined);
+  out.push(
+    alignTable(
+      ['asset', ...(inst ? ['instrument'] : []), 'alpha in', 'alpha out', 'held-out return'],
+      r.perAsset.map((a) => [a.asset, ...(inst ? [a.instrument ?? 'const'] : []), pct(a.alphaIn), pct(a.alphaOos), pct(a.meanReturnOos)]),
+    ),
+  );
   if (r.paths.length) {
     const names = r.paths[0].params.map((p) => p.name);
     const rows = names.map((name, k) => {

@@ -11,6 +11,7 @@
  * (annualised: 2). The JSON output carries every number in full precision.
  */
 import { CAUTION, type FitResult, type TestResult } from '../results.js';
+import { instrumentText } from './header.js';
 import { fixed, significant } from './numbers.js';
 
 const PERIOD_WORD: Record<string, string> = { daily: 'day', weekly: 'week', monthly: 'month', quarterly: 'quarter', annual: 'year' };
@@ -60,6 +61,7 @@ export function fitText(r: FitResult): string {
   out.push(`Sample        ${s.start} to ${s.end}, ${s.frequency}, T = ${s.T}`);
   out.push(`Test assets   N = ${s.N} (${s.returns} returns): ${s.assets.join(', ')}`);
   out.push(`Factors       K = ${s.K}: ${s.factors.join(', ')}`);
+  if (s.instruments) out.push(`Instruments   ${instrumentText(s)}`);
   out.push(`Model         ${modelLine(r)}`);
   out.push(`Weighting     ${s.weighting}`);
   out.push(`Long-run cov. Newey-West, Bartlett, ${s.lags} lag${s.lags === 1 ? '' : 's'} (${s.lagsRule}), ${s.centered ? 'centered' : 'uncentered'} moments, divide by T`);
@@ -78,11 +80,12 @@ export function fitText(r: FitResult): string {
   out.push('  p: two-sided, normal');
   out.push('');
 
-  out.push(`Pricing errors (percent; per ${per}, and annualised x ${s.periodsPerYear})`);
+  const inst = r.pricingErrors.some((e) => e.instrument !== undefined);
+  out.push(`Pricing errors (percent; per ${per}, and annualised x ${s.periodsPerYear})${inst ? '; a scaled row is the asset\'s return times the instrument' : ''}`);
   out.push(
     alignTable(
-      ['asset', 'alpha', 's.e.', 't', 'alpha ann.', 's.e. ann.', 'mean ret.', 'predicted'],
-      r.pricingErrors.map((e) => [e.asset, pct(e.alpha, 3), pct(e.se, 3), stat(e.t), pct(e.alphaAnnual, 2), pct(e.seAnnual, 2), pct(e.meanReturn, 3), pct(e.predicted, 3)]),
+      ['asset', ...(inst ? ['instrument'] : []), 'alpha', 's.e.', 't', 'alpha ann.', 's.e. ann.', 'mean ret.', 'predicted'],
+      r.pricingErrors.map((e) => [e.asset, ...(inst ? [e.instrument ?? 'const'] : []), pct(e.alpha, 3), pct(e.se, 3), stat(e.t), pct(e.alphaAnnual, 2), pct(e.seAnnual, 2), pct(e.meanReturn, 3), pct(e.predicted, 3)]),
     ),
   );
   out.push('');

@@ -54,6 +54,8 @@ export function allTests(r: Pick<FitResult, 'test' | 'tests'>): TestResult[] {
 
 export function fitTables(r: FitResult): ReportTable[] {
   const shanken = r.params.some((p) => p.seShanken !== undefined);
+  // With instruments (METHODS 9) each row is one asset scaled by one instrument.
+  const inst = r.pricingErrors.some((e) => e.instrument !== undefined);
   const hac = r.pricingErrors.some((e) => e.seHac !== undefined);
   const shankenAlpha = r.pricingErrors.some((e) => e.seShanken !== undefined);
   const paramCols: ReportColumn[] = [
@@ -77,6 +79,7 @@ export function fitTables(r: FitResult): ReportTable[] {
       title: 'Pricing errors',
       columns: [
         text('asset', 'Asset'),
+        ...(inst ? [text('instrument', 'Instrument')] : []),
         num('alpha', 'alpha (per period)'),
         num('se', 's.e.'),
         num('t', 't', 'stat'),
@@ -89,6 +92,7 @@ export function fitTables(r: FitResult): ReportTable[] {
       ],
       rows: r.pricingErrors.map((e) => [
         e.asset,
+        ...(inst ? [e.instrument ?? 'const'] : []),
         e.alpha,
         e.se,
         e.t,
@@ -155,6 +159,7 @@ export function fitTables(r: FitResult): ReportTable[] {
 }
 
 export function backtestTables(r: BacktestResult): ReportTable[] {
+  const btInst = r.perAsset.some((a) => a.instrument !== undefined);
   const summary: CellValue[][] = [
     ['windows', r.windows],
     ['windows failed', r.windowsFailed],
@@ -174,8 +179,8 @@ export function backtestTables(r: BacktestResult): ReportTable[] {
     {
       id: 'per-asset',
       title: 'Pricing errors in and out of sample',
-      columns: [text('asset', 'Asset'), num('alphaOos', 'alpha out of sample'), num('alphaIn', 'alpha in sample'), num('meanReturnOos', 'Mean return out of sample')],
-      rows: r.perAsset.map((a) => [a.asset, a.alphaOos, a.alphaIn, a.meanReturnOos]),
+      columns: [text('asset', 'Asset'), ...(btInst ? [text('instrument', 'Instrument')] : []), num('alphaOos', 'alpha out of sample'), num('alphaIn', 'alpha in sample'), num('meanReturnOos', 'Mean return out of sample')],
+      rows: r.perAsset.map((a) => [a.asset, ...(btInst ? [a.instrument ?? 'const'] : []), a.alphaOos, a.alphaIn, a.meanReturnOos]),
     },
     {
       id: 'paths',
