@@ -5,14 +5,15 @@
  * 0/1 --threads 1`), two processes side by side (`--shard 0/2` and `1/2`), and one process
  * with a pool of two worker threads; then `batch merge` (check 1,000 result files, build
  * and record the run). Rounds are interleaved; each figure is the whole wall time of the
- * processes, result files written and flushed. The merged records of the three ways must
- * be the same bits (checked). Timings on a shared machine are noisy: the rounds show the spread.
+ * processes (result files written), with their CPU seconds beside it where GNU time is
+ * installed. The merged records of the three ways must be the same bits (checked).
+ * Timings on a shared machine are noisy: the rounds and the load average show the spread.
  *
  *   npm run bench -- batch          (or: npx tsx bench/batch.ts [--rounds 2])
  */
 import { spawn, spawnSync } from 'node:child_process';
-import { availableParallelism } from 'node:os';
-import { mkdtempSync, rmSync, writeFileSync } from 'node:fs';
+import { availableParallelism, loadavg } from 'node:os';
+import { existsSync, mkdtempSync, rmSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { stringifyExact } from '../shared/records/exact-json.js';
@@ -38,28 +39,43 @@ const GRID = {
 };
 const TASKS = 5 * 5 * 2 * 2 * 5 * 2;
 
-function cli(argv: string[]): { out: string; seconds: number } {
-  const t0 = performance.now();
-  const r = spawnSync(process.execPath, [CLI, ...argv], { encoding: 'utf8' });
-  if (r.status !== 0) throw new Error(`deflator ${argv.join(' ')} exited ${r.status}: ${r.stderr}`);
-  return { out: r.stdout, seconds: (performance.now() - t0) / 1000 };
+/** GNU time, where installed, reports each process's CPU seconds (user + system): a figure the machine's load disturbs less than the wall time. */
+const TIME = existsSync('/usr/bin/time') ? '/usr/bin/time' : null;
+const timed = (argv: string[]): [string, string[]] => (TIME ? [TIME, ['-f', 'cpu %U %S', process.execPath, CLI, ...argv]] : [process.execPath, [CLI, ...argv]]);
+const cpuOf = (stderr: string): number => {
+  const m = /cpu ([\d.]+) ([\d.]+)\s*$/.exec(stderr);
+  return m ? Number(m[1]) + Number(m[2]) : NaN;
+};
+
+interface Timing {
+  wall: number;
+  cpu: number;
 }
 
-/** Starts the commands at once and waits for all: the wall time from the first start to the last end. */
-async function together(commands: string[][]): Promise<number> {
+function cli(argv: string[]): { out: string } & Timing {
   const t0 = performance.now();
-  await Promise.all(
+  const [cmd, a] = timed(argv);
+  const r = spawnSync(cmd, a, { encoding: 'utf8' });
+  if (r.status !== 0) throw new Error(`deflator ${argv.join(' ')} exited ${r.status}: ${r.stderr}`);
+  return { out: r.stdout, wall: (performance.now() - t0) / 1000, cpu: cpuOf(r.stderr) };
+}
+
+/** Starts the commands at once and waits for all: the wall time from the first start to the last end, and their CPU seconds together. */
+async function together(commands: string[][]): Promise<Timing> {
+  const t0 = performance.now();
+  const cpus = await Promise.all(
     commands.map(
       (argv) =>
-        new Promise<void>((resolve, reject) => {
-          const c = spawn(process.execPath, [CLI, ...argv], { stdio: ['ignore', 'ignore', 'pipe'] });
+        new Promise<number>((resolve, reject) => {
+          const [cmd, a] = timed(argv);
+          const c = spawn(cmd, a, { stdio: ['ignore', 'ignore', 'pipe'] });
           let err = '';
           c.stderr.on('data', (d: Buffer) => (err += d.toString()));
-          c.on('exit', (code) => (code === 0 ? resolve() : reject(new Error(`deflator ${argv.join(' ')} exited ${code}: ${err}`))));
+          c.on('exit', (code) => (code === 0 ? resolve(cpuOf(err)) : reject(new Error(`deflator ${argv.join(' ')} exited ${code}: ${err}`))));
         }),
     ),
   );
-  return (performance.now() - t0) / 1000;
+  return { wall: (performance.now() - t0) / 1000, cpu: cpus.reduce((x, y) => x + y, 0) };
 }
 
 const dir = mkdtempSync(path.join(tmpdir(), 'deflator-bench-batch-'));
@@ -74,18 +90,20 @@ try {
     { name: '2 processes, 1 thread each', run: (d: string) => together([0, 1].map((i) => ['batch', 'run', d, '--shard', `${i}/2`, '--threads', '1'])) },
     { name: '1 process, 2 worker threads', run: (d: string) => together([['batch', 'run', d, '--shard', '0/1', '--threads', '2']]) },
   ];
-  const seconds: number[][] = ways.map(() => []);
-  const merges: number[] = [];
-  let plan = 0;
+  const timings: Timing[][] = ways.map(() => []);
+  const merges: Timing[] = [];
+  let plan: Timing = { wall: 0, cpu: 0 };
   const records: string[] = [];
+  const load: number[] = [];
   for (let round = 0; round < ROUNDS; round++) {
     for (let w = 0; w < ways.length; w++) {
       const folder = path.join(dir, `r${round}-w${w}`);
       const p = cli(['batch', 'plan', gridFile, '--db', db, '--out', folder]);
-      plan = Math.max(plan, p.seconds);
-      seconds[w].push(await ways[w].run(folder));
+      if (p.wall > plan.wall) plan = p;
+      load.push(loadavg()[0]);
+      timings[w].push(await ways[w].run(folder));
       const m = cli(['batch', 'merge', folder, '--db', db, '--top', '3']);
-      merges.push(m.seconds);
+      merges.push(m);
       const id = Number(/Recorded as run (\d+)/.exec(m.out)![1]);
       const store = new Store(db, { mustExist: true });
       records.push(stringifyExact(getRun(store, id).result));
@@ -94,13 +112,15 @@ try {
     }
   }
   const same = records.every((r) => r === records[0]);
-  const fmt = (xs: number[]) => xs.map((s) => `${(TASKS / s).toFixed(0).padStart(5)} tasks/s (${s.toFixed(1).padStart(5)} s)`).join('   ');
+  const cpu = (x: number) => (Number.isFinite(x) ? `${((1000 * x) / TASKS).toFixed(1)} ms CPU/task` : 'CPU n/a');
+  const fmt = (xs: Timing[]) => xs.map((t) => `${(TASKS / t.wall).toFixed(0).padStart(4)} tasks/s (${t.wall.toFixed(1).padStart(5)} s; ${cpu(t.cpu)})`).join('   ');
   const out: string[] = [];
   out.push(`deflator batch: ${TASKS.toLocaleString('en-US')} linear-model fits on the demo data (N = 30, T = 192..288, K = 1..3), ${availableParallelism()} cores, ${ROUNDS} interleaved rounds`);
-  out.push(`  ${'way'.padEnd(30)}  ${Array.from({ length: ROUNDS }, (_, r) => `round ${r + 1}`.padEnd(27)).join('   ')}`);
-  ways.forEach((w, i) => out.push(`  ${w.name.padEnd(30)}  ${fmt(seconds[i])}`));
-  out.push(`  ${'merge (check, build, record)'.padEnd(30)}  ${merges.map((s) => `${s.toFixed(2)} s`).join(', ')} (whole process, each of the ${merges.length} merges)`);
-  out.push(`  plan (expand, ${GRID.grid.start.length * GRID.grid['model.factors'].length} panels, write the folder): ${plan.toFixed(2)} s at most`);
+  out.push(`  load average (1 min) at the start of each run: ${load.map((l) => l.toFixed(1)).join(', ')}`);
+  out.push(`  ${'way'.padEnd(30)}  ${Array.from({ length: ROUNDS }, (_, r) => `round ${r + 1}`.padEnd(48)).join('   ')}`);
+  ways.forEach((w, i) => out.push(`  ${w.name.padEnd(30)}  ${fmt(timings[i])}`));
+  out.push(`  ${'merge (check, build, record)'.padEnd(30)}  ${merges.map((m) => `${m.wall.toFixed(2)} s (CPU ${Number.isFinite(m.cpu) ? m.cpu.toFixed(2) : 'n/a'} s)`).join(', ')}`);
+  out.push(`  plan (expand, ${GRID.grid.start.length * GRID.grid['model.factors'].length} panels, write the folder): ${plan.wall.toFixed(2)} s at most (CPU ${Number.isFinite(plan.cpu) ? plan.cpu.toFixed(2) : 'n/a'} s)`);
   out.push(`  merged records of every way and round: ${same ? 'the same bits' : 'DIFFERENT'}`);
   process.stdout.write(`${out.join('\n')}\n`);
   if (!same) process.exitCode = 1;

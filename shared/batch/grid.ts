@@ -15,13 +15,13 @@
  */
 import { z } from 'zod';
 import { DeflatorError } from '../errors.js';
-import { backtestSchema, estimatorSchema, fitSpecSchema, formatSpecIssues, modelSchema, parseFitSpec, type FitSpec } from '../spec.js';
+import { backtestSchema, estimatorSchema, fitSpecSchema, formatSpecIssues, instrumentsSchema, modelSchema, parseFitSpec, type FitSpec } from '../spec.js';
 import { FREQUENCIES } from '../data.js';
 
 /** Grids larger than this are refused unless the caller raises the limit (`--max-tasks`). */
 export const DEFAULT_MAX_TASKS = 10_000;
-/** The ceiling of `--max-tasks`: one result file per task in one folder. */
-export const HARD_MAX_TASKS = 1_000_000;
+/** The ceiling of `--max-tasks`: plan holds every task spec in memory and writes one file per task (about 1 kB each). */
+export const HARD_MAX_TASKS = 100_000;
 
 const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
 const name = z.string().min(1);
@@ -56,6 +56,7 @@ export const AXES = [
   'assets',
   'model.kind',
   'model.factors',
+  'instruments',
   'estimator.method',
   'estimator.stage',
   'estimator.weight',
@@ -78,6 +79,8 @@ export const gridAxesSchema = z
     assets: values(assetSetSchema).optional(),
     'model.kind': values(modelSchema.shape.kind.unwrap()).optional(),
     'model.factors': z.union([values(z.array(name)), factorSubsetsSchema]).optional(),
+    /** Conditioning information per task: an instruments block, or "none" for the unconditional model. */
+    instruments: values(z.union([z.literal('none'), instrumentsSchema])).optional(),
     'estimator.method': values(estimatorSchema.shape.method.unwrap()).optional(),
     'estimator.stage': values(estimatorSchema.shape.stage.unwrap()).optional(),
     'estimator.weight': values(estimatorSchema.shape.weight.unwrap()).optional(),
@@ -201,6 +204,13 @@ function* axisValues(key: AxisKey, axes: Axes): Generator<AxisValue> {
     const { min, max } = subsetBounds(a);
     for (let k = min; k <= Math.min(max, a.subsets.length); k++) {
       for (const pick of combinations(a.subsets.length, k)) yield put([...a.always, ...pick.map((i) => a.subsets[i])]);
+    }
+    return;
+  }
+  if (key === 'instruments') {
+    for (const x of v as (z.infer<typeof instrumentsSchema> | 'none')[]) {
+      if (x === 'none') yield { text: 'none', apply: (s) => delete s.instruments };
+      else yield { text: `${x.series.join('+') || 'const'}/${x.scale}/lag${x.lag}`, apply: (s) => (s.instruments = x) };
     }
     return;
   }
@@ -374,6 +384,7 @@ export function gridNames(g: GridSpec): { series: string[]; assets: string[] | '
   for (const f of b.model.factors) series.add(f);
   if (b.model.consumption) series.add(b.model.consumption);
   for (const z of b.instruments?.series ?? []) series.add(z);
+  for (const x of g.grid.instruments ?? []) if (x !== 'none') for (const z of x.series) series.add(z);
   const fx = g.grid['model.factors'];
   if (fx) {
     if (Array.isArray(fx)) for (const l of fx) for (const f of l) series.add(f);

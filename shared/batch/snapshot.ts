@@ -3,10 +3,11 @@
  * never the project database. Two parts:
  *
  *   columns: every distinct series (asset returns, factors, risk-free, consumption
- *            growth) once, as float64 little-endian, one after another (columns.f64);
- *   index:   JSON (panels.json): per column its offset and length in values; per panel
- *            its fingerprint, frequency, return kind, period labels, asset and factor
- *            names, sample notes, and the column numbers of its series.
+ *            growth, instruments, ...: every Float64Array of the panel) once, as float64
+ *            little-endian, one after another (columns.f64);
+ *   index:   exact JSON (panels.json): per column its offset and length in values; per
+ *            panel its fingerprint and the panel itself with each series replaced by
+ *            {"$col": n}, so every field a panel has (now or later) is kept, in its order.
  *
  * Panels of a factor-subset grid share most of their series, so a column shared by
  * several panels is stored once. Reading rebuilds every panel and checks its
@@ -14,27 +15,19 @@
  * edited snapshot is refused, never estimated on.
  */
 import { DeflatorError } from '../errors.js';
-import type { ReturnsPanel, SampleNote } from '../panel.js';
+import type { ReturnsPanel } from '../panel.js';
 import { fingerprintPanel } from '../records/panel-encoding.js';
 import type { PanelFingerprint } from '../records/run-record.js';
 import { Sha256, sha256Hex, toHex } from '../records/sha256.js';
+import { parseExact, stringifyExact } from '../records/exact-json.js';
 
 export const SNAPSHOT_FORMAT = 'deflator panel snapshot';
 export const SNAPSHOT_VERSION = 1;
 
+/** A panel as stored: every Float64Array replaced by `{"$col": n}`, everything else as it is. */
 export interface SnapshotPanel {
   fingerprint: PanelFingerprint;
-  frequency: ReturnsPanel['frequency'];
-  returnKind: ReturnsPanel['returnKind'];
-  periods: string[];
-  assets: string[];
-  factors: string[];
-  sampleNotes: SampleNote[];
-  /** Column numbers: one per asset, one per factor, then the optional series. */
-  returns: number[];
-  factorColumns: number[];
-  riskfreeGross?: number;
-  consumptionGrowth?: number;
+  panel: unknown;
 }
 
 export interface SnapshotIndex {
@@ -52,10 +45,16 @@ function columnBytes(values: Float64Array): Uint8Array {
   return out;
 }
 
+const isColumnRef = (x: unknown): x is { $col: number } => {
+  if (x === null || typeof x !== 'object' || Array.isArray(x)) return false;
+  const keys = Object.keys(x);
+  return keys.length === 1 && keys[0] === '$col' && typeof (x as { $col: unknown }).$col === 'number';
+};
+
 /** Collects panels (each once, by fingerprint) and their distinct columns. */
 export class SnapshotWriter {
   private readonly panels: SnapshotPanel[] = [];
-  private readonly byPanel = new Map<string, SnapshotPanel>();
+  private readonly seen = new Set<string>();
   private readonly byColumn = new Map<string, number>();
   private readonly chunks: Uint8Array[] = [];
   private readonly columns: { offset: number; length: number }[] = [];
@@ -74,24 +73,23 @@ export class SnapshotWriter {
     return id;
   }
 
+  /** The panel's tree with each series replaced by a column reference (any field, present or future). */
+  private encode(x: unknown): unknown {
+    if (x instanceof Float64Array) return { $col: this.column(x) };
+    if (Array.isArray(x)) return x.map((v) => this.encode(v));
+    if (x !== null && typeof x === 'object') {
+      const out: Record<string, unknown> = {};
+      for (const [k, v] of Object.entries(x)) if (v !== undefined) out[k] = this.encode(v);
+      return out;
+    }
+    return x;
+  }
+
   /** Adds a panel (once per fingerprint); returns its fingerprint. */
   add(panel: ReturnsPanel, fingerprint: PanelFingerprint = fingerprintPanel(panel)): PanelFingerprint {
-    if (this.byPanel.has(fingerprint.sha256)) return fingerprint;
-    const entry: SnapshotPanel = {
-      fingerprint,
-      frequency: panel.frequency,
-      returnKind: panel.returnKind,
-      periods: panel.periods,
-      assets: panel.assets,
-      factors: panel.factors.map((f) => f.name),
-      sampleNotes: panel.sampleNotes,
-      returns: panel.returns.map((r) => this.column(r)),
-      factorColumns: panel.factors.map((f) => this.column(f.values)),
-    };
-    if (panel.riskfreeGross) entry.riskfreeGross = this.column(panel.riskfreeGross);
-    if (panel.consumptionGrowth) entry.consumptionGrowth = this.column(panel.consumptionGrowth);
-    this.panels.push(entry);
-    this.byPanel.set(fingerprint.sha256, entry);
+    if (this.seen.has(fingerprint.sha256)) return fingerprint;
+    this.seen.add(fingerprint.sha256);
+    this.panels.push({ fingerprint, panel: this.encode(panel) });
     return fingerprint;
   }
 
@@ -99,15 +97,16 @@ export class SnapshotWriter {
     return this.panels.length;
   }
 
-  /** The index (JSON) and the column bytes. */
-  finish(): { index: SnapshotIndex; columns: Uint8Array } {
+  /** The index (exact JSON text: shared/records/exact-json.ts) and the column bytes. */
+  finish(): { index: string; columns: Uint8Array } {
     const bytes = new Uint8Array(this.values * 8);
     let at = 0;
     for (const c of this.chunks) {
       bytes.set(c, at);
       at += c.length;
     }
-    return { index: { format: SNAPSHOT_FORMAT, version: SNAPSHOT_VERSION, columns: this.columns, panels: this.panels }, columns: bytes };
+    const index: SnapshotIndex = { format: SNAPSHOT_FORMAT, version: SNAPSHOT_VERSION, columns: this.columns, panels: this.panels };
+    return { index: stringifyExact(index), columns: bytes };
   }
 }
 
@@ -115,35 +114,44 @@ function broken(what: string): DeflatorError {
   return new DeflatorError('INPUT_INVALID', `the panel snapshot is damaged: ${what}`, 'plan the batch again (deflator batch plan) or copy the folder again from where it was planned');
 }
 
-/** Rebuilds every panel of a snapshot and checks each against its fingerprint. */
-export function readSnapshot(index: SnapshotIndex, columns: Uint8Array): Map<string, ReturnsPanel> {
+/** Rebuilds every panel of a snapshot (the index as written by finish) and checks each against its fingerprint. */
+export function readSnapshot(indexText: string, columns: Uint8Array): Map<string, ReturnsPanel> {
+  let index: SnapshotIndex;
+  try {
+    index = parseExact<SnapshotIndex>(indexText);
+  } catch (e) {
+    throw broken(`its index is not valid JSON (${(e as Error).message})`);
+  }
   if (index.format !== SNAPSHOT_FORMAT || index.version !== SNAPSHOT_VERSION) {
     throw broken(`format "${String(index.format)}" version ${String(index.version)} is not ${SNAPSHOT_FORMAT} ${SNAPSHOT_VERSION}`);
   }
   const view = new DataView(columns.buffer, columns.byteOffset, columns.byteLength);
-  const read = (id: number, T: number): Float64Array => {
+  const read = (id: number): Float64Array => {
     const c = index.columns[id];
-    if (!c || c.length !== T || (c.offset + c.length) * 8 > columns.byteLength) throw broken(`column ${id} is missing or of the wrong length`);
-    const out = new Float64Array(T);
-    for (let t = 0; t < T; t++) out[t] = view.getFloat64((c.offset + t) * 8, true);
+    if (!c || (c.offset + c.length) * 8 > columns.byteLength) throw broken(`column ${id} is missing or of the wrong length`);
+    const out = new Float64Array(c.length);
+    for (let t = 0; t < c.length; t++) out[t] = view.getFloat64((c.offset + t) * 8, true);
     return out;
+  };
+  const decode = (x: unknown): unknown => {
+    if (isColumnRef(x)) return read(x.$col);
+    if (Array.isArray(x)) return x.map(decode);
+    if (x !== null && typeof x === 'object') {
+      const out: Record<string, unknown> = {};
+      for (const [k, v] of Object.entries(x)) out[k] = decode(v);
+      return out;
+    }
+    return x;
   };
   const out = new Map<string, ReturnsPanel>();
   for (const p of index.panels) {
-    const T = p.periods.length;
-    if (p.returns.length !== p.assets.length || p.factorColumns.length !== p.factors.length) throw broken(`panel ${p.fingerprint.sha256.slice(0, 12)} lists ${p.assets.length} assets and ${p.returns.length} return columns`);
-    const panel: ReturnsPanel = {
-      frequency: p.frequency,
-      periods: p.periods,
-      assets: p.assets,
-      returnKind: p.returnKind,
-      returns: p.returns.map((id) => read(id, T)),
-      factors: p.factors.map((name, k) => ({ name, values: read(p.factorColumns[k], T) })),
-      sampleNotes: p.sampleNotes,
-    };
-    if (p.riskfreeGross !== undefined) panel.riskfreeGross = read(p.riskfreeGross, T);
-    if (p.consumptionGrowth !== undefined) panel.consumptionGrowth = read(p.consumptionGrowth, T);
-    const fp = fingerprintPanel(panel);
+    const panel = decode(p.panel) as ReturnsPanel;
+    let fp: PanelFingerprint;
+    try {
+      fp = fingerprintPanel(panel);
+    } catch (e) {
+      throw broken(`panel ${p.fingerprint.sha256.slice(0, 12)} does not rebuild (${(e as Error).message})`);
+    }
     if (fp.sha256 !== p.fingerprint.sha256) throw broken(`panel ${p.fingerprint.sha256.slice(0, 12)} rebuilds with fingerprint ${fp.sha256.slice(0, 12)}`);
     out.set(fp.sha256, panel);
   }

@@ -20,7 +20,6 @@ import path from 'node:path';
 import { DeflatorError } from '../../shared/errors.js';
 import type { GridSpec, BatchSetting } from '../../shared/batch/grid.js';
 import { outcomeText, type TaskOutcome } from '../../shared/batch/assemble.js';
-import type { SnapshotIndex } from '../../shared/batch/snapshot.js';
 import { parseExact, stringifyExact } from '../../shared/records/exact-json.js';
 import type { PanelFingerprint } from '../../shared/records/run-record.js';
 
@@ -168,13 +167,13 @@ export function readManifest(dir: string): Manifest {
 }
 
 /** Reads and checks the snapshot files against the manifest's digests. */
-export function readSnapshotFiles(dir: string, m: Manifest): { index: SnapshotIndex; columns: Uint8Array } {
+export function readSnapshotFiles(dir: string, m: Manifest): { index: string; columns: Uint8Array } {
   const indexText = readFileSync(path.join(dir, m.snapshot.index));
   const columns = readFileSync(path.join(dir, m.snapshot.columns));
   if (sha256(indexText) !== m.snapshot.indexSha256 || sha256(columns) !== m.snapshot.columnsSha256) {
     throw new DeflatorError('CONFLICT', `the panel snapshot in ${dir}/data differs from the one planned (SHA-256 mismatch)`, 'copy the folder again from where it was planned, or plan it again');
   }
-  return { index: JSON.parse(indexText.toString('utf8')) as SnapshotIndex, columns: new Uint8Array(columns.buffer, columns.byteOffset, columns.byteLength) };
+  return { index: indexText.toString('utf8'), columns: new Uint8Array(columns.buffer, columns.byteOffset, columns.byteLength) };
 }
 
 /** The task's result file: the header line, then the outcome line. */

@@ -78,8 +78,7 @@ export function planBatch(store: Store, json: unknown, dir: string, opts: PlanOp
   const { byTask, panels } = taskPanels(store, tasks, opts.onProgress);
   const writer = new SnapshotWriter();
   for (const fp of byTask) writer.add(panels.get(fp.sha256)!, fp);
-  const { index, columns } = writer.finish();
-  const indexText = JSON.stringify(index);
+  const { index: indexText, columns } = writer.finish();
   const distinct: PanelFingerprint[] = [];
   for (const fp of byTask) if (!distinct.some((d) => d.sha256 === fp.sha256)) distinct.push(fp);
   const specs = tasks.map((t) => stringifyExact(t.spec));

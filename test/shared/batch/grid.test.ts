@@ -58,6 +58,16 @@ describe('grid expansion', () => {
     expect(gridNames(g)).toEqual({ series: ['bill_yield', 'harbor'], assets: 'all' });
   });
 
+  it('instruments: none, or an instruments block; each a different panel', () => {
+    const g = parseGridSpec({ base, grid: { 'model.factors': [['harbor']], instruments: ['none', { series: ['board_yield'] }, { series: ['board_yield', 'term_gap'], scale: 'both', lag: 2 }] } });
+    const tasks = expandGrid(g);
+    expect(tasks.map((t) => t.label)).toEqual(['factors=harbor instruments=none', 'factors=harbor instruments=board_yield/returns/lag1', 'factors=harbor instruments=board_yield+term_gap/both/lag2']);
+    expect(tasks[0].spec.instruments).toBeUndefined();
+    expect(tasks[1].spec.instruments).toEqual({ series: ['board_yield'], scale: 'returns', lag: 1 });
+    expect(new Set(tasks.map((t) => panelKey(t.spec))).size).toBe(3);
+    expect(gridNames(g).series).toEqual(['bill_yield', 'board_yield', 'term_gap', 'harbor']);
+  });
+
   it('tasks that differ only in the estimator or window share a panel key', () => {
     const tasks = expandGrid(parseGridSpec({ base, grid: fixture.cases[0].grid }));
     expect(new Set(tasks.map((t) => panelKey(t.spec))).size).toBe(7);

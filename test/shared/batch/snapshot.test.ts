@@ -39,17 +39,31 @@ describe('panel snapshot', () => {
     w.add(p2);
     w.add(p1);
     const { index, columns } = w.finish();
-    expect(index.panels).toHaveLength(2);
+    const parsed = JSON.parse(index) as { panels: unknown[]; columns: unknown[] };
+    expect(parsed.panels).toHaveLength(2);
     // a, b, c, x, riskfree, then only y is new
-    expect(index.columns).toHaveLength(6);
+    expect(parsed.columns).toHaveLength(6);
     expect(columns.length).toBe(6 * 40 * 8);
-    const back = readSnapshot(JSON.parse(JSON.stringify(index)), columns);
+    const back = readSnapshot(index, columns);
     for (const p of [p1, p2]) {
       const q = back.get(fingerprintPanel(p).sha256)!;
       expect(encodePanel(q)).toEqual(encodePanel(p));
       expect(stringifyExact(q)).toBe(stringifyExact(p));
       expect(Object.is(q.returns[0][3], -0)).toBe(true);
     }
+  });
+
+  it('keeps every field a panel has: instruments, price ratios (with gaps), conditioning', () => {
+    const p = panel(['x']);
+    p.priceRatios = [Float64Array.from(p.returns[0], (r) => 1 + r), null, Float64Array.from(p.returns[2], (r) => 1 - r)];
+    p.instruments = { lag: 1, series: [{ name: 'board_yield', values: Float64Array.from(p.returns[1], (r) => r / 3) }], lost: ['2000-12-28'] };
+    p.conditioning = { scale: 'both', lag: 1, instruments: ['const', 'board_yield'], payoffs: [{ base: 'a', instrument: 'const', z: -1 }], factorParts: [], baseAssets: ['a'], baseFactors: ['x'], lost: [] };
+    const w = new SnapshotWriter();
+    const fp = w.add(p);
+    const { index, columns } = w.finish();
+    const q = readSnapshot(index, columns).get(fp.sha256)!;
+    expect(stringifyExact(q)).toBe(stringifyExact(p));
+    expect(q.priceRatios![1]).toBeNull();
   });
 
   it('refuses a changed value or a truncated file', () => {
