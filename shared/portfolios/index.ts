@@ -33,7 +33,7 @@ function refuseReturnHistories(hs: readonly StoredAsset[], spec: SortSpec): void
   const returnsOnly = hs.filter(isReturnHistory);
   if (returnsOnly.length === 0) return;
   const named = (xs: readonly StoredAsset[]) => `${xs.slice(0, 10).map((h) => `"${h.asset}" (${assetSourceText(h)})`).join(', ')}${xs.length > 10 ? `, ... ${xs.length} in all` : ''}`;
-  const needs = spec.characteristic === 'price' ? 'prices' : spec.characteristic === 'yield' ? 'prices and dividends' : spec.characteristic === 'size' ? 'prices and shares outstanding' : spec.weight === 'value' ? 'prices and shares outstanding (value weights)' : null;
+  const needs = spec.characteristic === 'price' ? 'prices' : spec.characteristic === 'yield' ? 'prices and dividends' : spec.characteristic === 'size' ? 'prices and shares outstanding' : spec.weight === 'value' ? 'prices and shares outstanding' : null;
   if (needs) {
     throw new DeflatorError(
       'INPUT_INVALID',

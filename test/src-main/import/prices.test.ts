@@ -311,3 +311,27 @@ describe('good input', () => {
     store.close();
   });
 });
+
+describe('reading options shared with return files', () => {
+  it('a semicolon file with decimal commas, YYYYMM dates and a missing-value code where a price stands', async () => {
+    const dir = tempDir();
+    const store = new Store(path.join(dir, 'p.db'));
+    const r = await importPrices(store, write(dir, 'semi.csv', 'date;asset;price;dividend\n200101;kelp;10,50;\n200102;kelp;NA;0,25\n200103;kelp;11,25;\n'), {
+      dateFormat: 'YYYYMM',
+      delimiter: 'semicolon',
+      decimal: 'comma',
+      missing: ['NA'],
+    });
+    expect(r.rowsRead).toBe(3);
+    expect(r.rowsStored).toBe(2);
+    const [h] = store.loadHistories();
+    expect(h.dates).toEqual(['2001-01-31', '2001-03-31']);
+    expect(Array.from(h.price)).toEqual([10.5, 11.25]);
+    // a tab-separated wide file, thousands with points under decimal commas
+    await importPrices(store, write(dir, 'tab.tsv', 'date\ttin\n2001-01-31\t1.234,5\n2001-02-28\t1.240,0\n'), { layout: 'wide', delimiter: 'tab', decimal: 'comma', thousands: 'point' });
+    expect(Array.from(store.loadHistories(['tin'])[0].price)).toEqual([1234.5, 1240]);
+    // a comma cannot be both the decimal mark and the delimiter
+    await expect(importPrices(store, write(dir, 'x.csv', 'date,asset,price\n'), { decimal: 'comma' })).rejects.toThrow(/a comma cannot be both the decimal mark and the field delimiter/);
+    store.close();
+  });
+});

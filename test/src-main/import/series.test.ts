@@ -95,4 +95,29 @@ describe('series import', () => {
     expect(store.importLog()).toEqual([]);
     store.close();
   });
+
+  it('series in the layout return files come in: YYYYMM or quarter keys, percent, missing codes (gaps, not zeros), semicolons and decimal commas', async () => {
+    const dir = tempDir();
+    const store = new Store(':memory:');
+    const r = await importSeries(store, write(dir, 'f.csv', 'date;gust;bill\n200101;0,50;0,30\n200102;-99,99;0,31\n200103;1,25;NA\n'), {
+      kind: 'factor',
+      units: 'percent',
+      dateFormat: 'YYYYMM',
+      delimiter: 'semicolon',
+      decimal: 'comma',
+      missing: ['-99.99', 'NA'],
+    });
+    expect([r.first, r.last, r.frequency]).toEqual(['2001-01-31', '2001-03-31', 'monthly']);
+    const [bill, gust] = store.loadSeries();
+    expect(gust.dates).toEqual(['2001-01-31', '2001-03-31']);
+    expect(Array.from(gust.values)).toEqual([0.5 / 100, 1.25 / 100]);
+    expect(bill.dates).toEqual(['2001-01-31', '2001-02-28']);
+    await importSeries(store, write(dir, 'q.csv', 'date,spend\n2001-Q1,100\n2001-Q2,101\n'), { kind: 'consumption', dateFormat: 'YYYY-Qn' });
+    expect(store.loadSeries(['spend'])[0].dates).toEqual(['2001-03-31', '2001-06-30']);
+    // a -99.99 with no codes named is refused, not read as -99.99 %
+    const e = await rejection(importSeries(store, write(dir, 'g.csv', 'date,wind\n200101,0.5\n200102,-99.99\n'), { kind: 'factor', units: 'percent', dateFormat: 'YYYYMM' }));
+    expect(e.message).toMatch(/g\.csv, line 3, column 2 \(wind\): -99\.99 is a code often used for a missing value/);
+    expect(e.hint).toMatch(/--missing -99\.99/);
+    store.close();
+  });
 });
