@@ -67,7 +67,8 @@ export function oosErrorsOption(bt: BacktestResult, opts: { annual?: boolean } =
   const annual = opts.annual ?? true;
   const k = (annual ? bt.sample.periodsPerYear : 1) * 100;
   const unit = annual ? '% a year' : '% per period';
-  const assets = bt.perAsset.map((a) => a.asset);
+  // With instruments one asset has a row per instrument: "<asset>:<instrument>" (the asset alone for the constant).
+  const assets = bt.perAsset.map((a) => (a.instrument === undefined || a.instrument === 'const' ? a.asset : `${a.asset}:${a.instrument}`));
   const fin = (x: number) => (Number.isFinite(x) ? x * k : null);
   return {
     id: 'oos-errors',

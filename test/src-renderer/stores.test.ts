@@ -201,8 +201,11 @@ describe('model set-up store', () => {
     expect(s.loadSpecText(text)).toBe(true);
     expect([s.form.instrumentsOn, s.form.instruments, s.form.instrumentScale]).toEqual([true, ['DY', 'TS'], 'both']);
     s.addToComparison();
+    s.form.instrumentScale = 'returns';
+    s.addToComparison();
+    expect(s.compareSet.map((e) => e.label)).toEqual(['linear(MKT) | z: const,DY,TS, scale both', 'linear(MKT) | z: const,DY,TS, scale returns']);
+    s.removeFromComparison('linear(MKT) | z: const,DY,TS, scale returns');
     s.form.instrumentsOn = false;
-    s.form.label = 'plain';
     s.addToComparison();
     const { fits } = parseCompareSpec(s.compareSpec);
     expect(fits.map((f) => f.instruments?.scale)).toEqual(['both', undefined]);

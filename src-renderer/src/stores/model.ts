@@ -144,7 +144,9 @@ export const useModelStore = defineStore('model', {
     label(): string {
       const f = this.form;
       if (f.label.trim()) return f.label.trim();
-      return f.kind === 'consumption' ? `consumption(${f.consumption})` : `${f.kind}(${f.factors.join(',')})`;
+      const base = f.kind === 'consumption' ? `consumption(${f.consumption})` : `${f.kind}(${f.factors.join(',')})`;
+      // Instruments change the moments (and with scaled factors the model): a label of their own.
+      return f.instrumentsOn ? `${base} | z: ${['const', ...f.instruments].join(',')}, scale ${f.instrumentScale}` : base;
     },
   },
   actions: {
