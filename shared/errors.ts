@@ -15,7 +15,13 @@ export type ErrorCode =
   | 'NOT_FOUND'
   | 'CONFLICT'
   /** A file or request outside what this session may touch (app file policy, foreign origin). */
-  | 'FORBIDDEN';
+  | 'FORBIDDEN'
+  /** The project database is locked by another writer beyond the wait (try again when it is done). */
+  | 'BUSY'
+  /** The project database (or a file to write) may not be written: read-only file, folder or disk, permission, disk full, I/O error. */
+  | 'NOT_WRITABLE'
+  /** The project database is damaged (malformed pages, not a database). */
+  | 'DAMAGED';
 
 export class DeflatorError extends Error {
   readonly code: ErrorCode;

@@ -107,6 +107,12 @@ export interface RunSummary {
 /** A reply that was recorded as a run carries its id (never part of the stored result). */
 export interface RunTag {
   runId?: number;
+  /**
+   * The result could not be recorded (the database busy, read-only, full or damaged): why,
+   * what to do, and the file the result was saved to so that it can be recorded later
+   * (`deflator runs --record FILE --db DB`).
+   */
+  unrecorded?: { code: string; message: string; hint?: string; savedTo?: string };
 }
 
 /** Is this parsed JSON a run record's kind? */

@@ -17,6 +17,8 @@ export interface AppParts {
   engine: Engine;
   files: FilePolicy;
   runs?: RunService;
+  /** Puts raw failures in words (the open database's storage errors); see createDispatcher. */
+  mapError?: (e: unknown) => unknown;
 }
 
 export interface AppCore {
@@ -28,7 +30,8 @@ export interface AppCore {
 export function composeApp(parts: AppParts): AppCore {
   const hub = new EventHub();
   const tasks = new TaskRegistry();
-  const handlers = createHandlers({ ...parts, tasks });
-  const dispatcher = createDispatcher(handlers, hub.emit, tasks);
+  const { mapError, ...services } = parts;
+  const handlers = createHandlers({ ...services, tasks });
+  const dispatcher = createDispatcher(handlers, hub.emit, tasks, mapError);
   return { dispatcher, hub, tasks };
 }

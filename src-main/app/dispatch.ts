@@ -27,7 +27,12 @@ export interface Dispatcher {
   readonly tasks: TaskRegistry;
 }
 
-export function createDispatcher(handlers: Handlers, emit: (event: BridgeEvent) => void, tasks = new TaskRegistry()): Dispatcher {
+/**
+ * `mapError` turns failures the handlers did not put in words (a raw SQLite error of the
+ * open database: locked, read-only, disk full, damaged) into DeflatorErrors with hints;
+ * whatever it leaves is INTERNAL.
+ */
+export function createDispatcher(handlers: Handlers, emit: (event: BridgeEvent) => void, tasks = new TaskRegistry(), mapError: (e: unknown) => unknown = (e) => e): Dispatcher {
   async function dispatch(name: unknown, raw: unknown, taskIdRaw?: unknown): Promise<Envelope<unknown>> {
     const v = validateRequest(name, raw);
     if (!v.ok) return v;
@@ -71,7 +76,7 @@ export function createDispatcher(handlers: Handlers, emit: (event: BridgeEvent) 
       return okReply(value);
     } catch (e) {
       if (ac?.signal.aborted) return errorReply('CANCELLED', `${call} was cancelled`, 'start it again when ready');
-      return replyFromError(e);
+      return replyFromError(mapError(e));
     } finally {
       if (id !== undefined) {
         tasks.end(id);

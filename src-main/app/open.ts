@@ -7,6 +7,7 @@ import { existsSync, mkdirSync } from 'node:fs';
 import path from 'node:path';
 import { DeflatorError } from '../../shared/errors.js';
 import { buildDemo } from '../data/demo.js';
+import { storageError } from '../store/errors.js';
 import { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
 import { composeApp } from './compose.js';
@@ -46,16 +47,17 @@ export async function openApp(opts: OpenOptions): Promise<OpenedApp> {
     mkdirSync(path.dirname(dbPath), { recursive: true });
     if (opts.demo) await buildDemo(dbPath);
   }
-  let store = new Store(dbPath);
+  let store = new Store(dbPath, { access: 'read' });
   let project = new StoreProject(store);
   const files = new ImportFilePolicy({ roots: opts.fileRoots ?? [], incomingDir: path.join(opts.dataDir, 'incoming') });
   const core = composeApp({
     version: VERSION,
     project: () => project,
     importer: () => project,
-    engine: new PoolEngine(opts.pool, () => store),
+    engine: new PoolEngine(opts.pool, () => store, path.join(opts.dataDir, 'unrecorded')),
     files,
     runs: new RunService(() => store, poolRecompute(opts.pool), opts.pdf, opts.pool.threads),
+    mapError: (e) => storageError(e, path.basename(store.path)) ?? e,
   });
   return {
     ...core,
@@ -66,7 +68,7 @@ export async function openApp(opts: OpenOptions): Promise<OpenedApp> {
     async openDatabase(next: string) {
       const target = path.resolve(next);
       if (core.tasks.size > 0) throw new DeflatorError('CONFLICT', 'a task is still running on the open database', 'wait for it to finish or cancel it, then open the other database');
-      const opened = new Store(target);
+      const opened = new Store(target, { access: 'read' });
       store.close();
       store = opened;
       project = new StoreProject(store);

@@ -3,6 +3,7 @@
  * import pipeline, the returns engine for one asset's history, and the worker pool for
  * every estimation. Built with plain constructor arguments by src-main/app/open.ts.
  */
+import { mkdirSync } from 'node:fs';
 import path from 'node:path';
 import { assetSourceText, isReturnHistory, type Frequency, type PriceHistory, type ReturnHistory } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
@@ -15,6 +16,7 @@ import { importPrices, importReturns, importSeries, missingCodeList, previewImpo
 import type { ImportReport as PipelineReport } from '../import/index.js';
 import type { Store } from '../store/store.js';
 import { compareAnalysis, runAnalysis, type Analysis, type ResultOf } from '../services/analysis.js';
+import { saveUnrecorded } from '../runs/unrecorded.js';
 import type { Compute } from '../services/compute.js';
 import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from './ports.js';
 
@@ -193,13 +195,33 @@ export function returnIndex(h: ReturnHistory, frequency?: Frequency): AssetHisto
  * (src-main/services/analysis.ts: load the panel, compute, record); replies carry the run id.
  */
 export class PoolEngine implements Engine {
+  /**
+   * `unrecordedDir`: where a result whose run record cannot be written (the database
+   * busy, read-only, full, damaged) is saved; the reply then carries `unrecorded` with
+   * why, and the file to record later (`deflator runs --record FILE --db DB`).
+   */
   constructor(
     private readonly pool: TaskRunner,
     private readonly store: () => Store,
+    private readonly unrecordedDir?: string,
   ) {}
 
   private async run<A extends Analysis>(a: A, ctx: TaskContext): Promise<ResultOf<A>> {
-    return (await runAnalysis(this.store(), a, this.pool, { onProgress: ctx.onProgress, signal: ctx.signal })).result;
+    const store = this.store();
+    const outcome = await runAnalysis(store, a, this.pool, { onProgress: ctx.onProgress, signal: ctx.signal, keepUnrecorded: true });
+    const e = outcome.recordError;
+    if (!e) return outcome.result;
+    let savedTo: string | undefined;
+    if (this.unrecordedDir) {
+      try {
+        mkdirSync(this.unrecordedDir, { recursive: true });
+        savedTo = saveUnrecorded(store.path, a, outcome.result, outcome.data, this.pool.threads, [this.unrecordedDir]);
+      } catch {
+        savedTo = undefined;
+      }
+    }
+    const hint = savedTo ? `the result is saved in ${savedTo}; record it later with: deflator runs --record ${savedTo} --db ${store.path}` : 'export or copy what you need from this screen: the result is not stored anywhere';
+    return Object.assign(outcome.result, { unrecorded: { code: e.code, message: e.message, hint, ...(savedTo ? { savedTo } : {}) } });
   }
 
   fit(spec: FitSpec, ctx: TaskContext): Promise<FitResult> {

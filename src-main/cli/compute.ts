@@ -49,9 +49,12 @@ export async function withCompute<T>(threads: number, fn: (compute: CliCompute) 
   }
 }
 
-/** Opens the project database a command reads (it must exist), runs fn, closes it. */
-export async function withStore<T>(db: string, fn: (store: Store) => Promise<T>): Promise<T> {
-  const store = new Store(db, { mustExist: true });
+/**
+ * Opens the project database a command works on (it must exist), runs fn, closes it.
+ * `access: 'read'` for commands that do not write it (see StoreOptions.access).
+ */
+export async function withStore<T>(db: string, fn: (store: Store) => Promise<T>, access: 'read' | 'write' = 'write'): Promise<T> {
+  const store = new Store(db, { mustExist: true, access });
   try {
     return await fn(store);
   } finally {

@@ -3,8 +3,10 @@
  * Errors go to stderr with a non-zero exit; --json output goes to stdout.
  */
 import { Command, CommanderError } from 'commander';
-import { describeError, isDeflatorError } from '../../shared/errors.js';
+import { describeError } from '../../shared/errors.js';
 import { escapeControls } from '../../shared/text.js';
+import { storageError } from '../store/errors.js';
+import { exitCodeOf } from './exit-codes.js';
 import { VERSION } from '../version.js';
 import { guardTerminal } from './terminal.js';
 import { COMMANDS } from './commands/registry.js';
@@ -18,6 +20,15 @@ export function buildProgram(): Command {
   return program;
 }
 
+/** The --db argument of a command line, for naming the database in a storage error. */
+function dbArgument(argv: readonly string[]): string {
+  for (let i = 0; i < argv.length; i++) {
+    if (argv[i] === '--db' && argv[i + 1] !== undefined) return argv[i + 1];
+    if (argv[i].startsWith('--db=')) return argv[i].slice(5);
+  }
+  return 'the project database';
+}
+
 export async function main(argv: string[]): Promise<number> {
   const program = buildProgram();
   program.exitOverride();
@@ -26,9 +37,11 @@ export async function main(argv: string[]): Promise<number> {
     return process.exitCode === undefined ? 0 : Number(process.exitCode);
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode;
+    // a raw SQLite or file-system failure of the database, said plainly
+    const err = storageError(e, dbArgument(argv)) ?? e;
     // a message quotes file contents: show control characters, never send them to the terminal
-    process.stderr.write(`deflator: ${escapeControls(describeError(e))}\n`);
-    return isDeflatorError(e) ? 1 : 3;
+    process.stderr.write(`deflator: ${escapeControls(describeError(err))}\n`);
+    return exitCodeOf(err);
   }
 }
 

@@ -25,6 +25,7 @@ import { loadPanelInput, loadPresentValueHistories } from '../data/panel.js';
 import { buildPanel } from '../../shared/returns/index.js';
 import { loadedDigests } from '../runs/dependencies.js';
 import { recordRun } from '../runs/runs.js';
+import { storageError } from '../store/errors.js';
 import type { Store } from '../store/store.js';
 import type { Compute, RunTaskOptions } from './compute.js';
 
@@ -108,7 +109,7 @@ export async function computeAnalysis<A extends Analysis>(a: A, data: AnalysisDa
 }
 
 /** The fingerprint(s) a run of this analysis records for the data it used. */
-function recordedData(a: Analysis, data: AnalysisData) {
+export function recordedData(a: Analysis, data: AnalysisData) {
   if (a.kind === 'present-value' && data.yearly) {
     const v = data.yearly.values;
     return fingerprintYearly({ closes: v.closes, assets: data.yearly.assets, weighting: v.weighting, price: v.price, dividend: v.dividend });
@@ -131,6 +132,12 @@ export function recordAnalysis(store: Store, a: Analysis, result: RunResult, dat
 export interface RunAnalysisOptions extends RunTaskOptions {
   /** Record the run (default true). */
   record?: boolean;
+  /**
+   * When the record cannot be written (the database busy, read-only, full or damaged:
+   * src-main/store/errors.ts), return the outcome with `recordError` instead of throwing,
+   * so that the computed result is not lost (the caller prints or saves it).
+   */
+  keepUnrecorded?: boolean;
 }
 
 export interface AnalysisOutcome<A extends Analysis = Analysis> {
@@ -138,7 +145,12 @@ export interface AnalysisOutcome<A extends Analysis = Analysis> {
   result: ResultOf<A> & Partial<RunTag>;
   run?: RunRecord;
   data: AnalysisData;
+  /** Why the result is not recorded (only with keepUnrecorded). */
+  recordError?: DeflatorError;
 }
+
+/** Storage failures after which a computed result is kept rather than thrown away. */
+const KEEPABLE = new Set(['BUSY', 'NOT_WRITABLE', 'DAMAGED']);
 
 /**
  * Load, run and record: the whole sequence of a fit, back-test or comparison. The run is
@@ -152,6 +164,13 @@ export async function runAnalysis<A extends Analysis>(store: Store, a: A, comput
   // is written, so a cancel either comes first (no record, CANCELLED) or after the record
   // (the reply is the recorded result, src-main/app/dispatch.ts).
   if (opts.signal?.aborted) throw new DeflatorError('CANCELLED', 'the task was cancelled', 'nothing was saved; run it again to get results');
-  const run = recordAnalysis(store, a, result, data, compute.threads);
+  let run: RunRecord;
+  try {
+    run = recordAnalysis(store, a, result, data, compute.threads);
+  } catch (e) {
+    const err = storageError(e, store.path);
+    if (opts.keepUnrecorded && err && KEEPABLE.has(err.code)) return { result: result as ResultOf<A> & Partial<RunTag>, data, recordError: err };
+    throw err ?? e;
+  }
   return { result: Object.assign(result, { runId: run.id }), run, data };
 }

@@ -5,17 +5,29 @@
  */
 import Database from 'better-sqlite3';
 import { createHash } from 'node:crypto';
-import { existsSync } from 'node:fs';
+import { accessSync, constants, copyFileSync, existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
 import type { Frequency, NamedSeries, PriceHistory, ReturnForm, ReturnHistory, ReturnSeries, RiskfreeForm, SeriesKind, StoredAsset, ValueUnits } from '../../shared/data.js';
 import { FREQUENCIES } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { coverage, type Coverage } from '../data/calendar.js';
 import { MIGRATIONS, type Migration } from './migrations.js';
+import { notWritableError, storageError } from './errors.js';
 
 export interface StoreOptions {
   /** Refuse to create a new file (commands that only read: info, returns, fit). */
   mustExist?: boolean;
   readonly?: boolean;
+  /**
+   * 'read': the caller only reads (info, runs, show, export, replay, fit --no-record). A
+   * database whose file or folder may not be written (an auditor's copy on a read-only
+   * disk) is then opened read-only instead of refused; a database in a read-only folder
+   * is read from a private snapshot (SQLite needs its -shm file beside a WAL database,
+   * which cannot be made there). 'write' (default): such a database is refused up front
+   * with NOT_WRITABLE, before anything is attempted.
+   */
+  access?: 'read' | 'write';
   /** Milliseconds to wait for another writer (default 5000). */
   busyTimeout?: number;
 }
@@ -165,24 +177,14 @@ function prepareStatements(db: Database.Database) {
 
 type Statements = ReturnType<typeof prepareStatements>;
 
-/** SQLite gave up waiting for another connection's lock (SQLITE_BUSY, after the busy timeout's retries). */
-export const isBusy = (e: unknown): boolean => typeof e === 'object' && e !== null && String((e as { code?: unknown }).code).startsWith('SQLITE_BUSY');
-
-/** The error for a database another process kept write-locked beyond the busy timeout. */
-export function lockedError(file: string, waitedMs: number): DeflatorError {
-  return new DeflatorError(
-    'CONFLICT',
-    `database ${file} is locked: another import or program is writing to it and did not release its write lock within ${waitedMs} ms`,
-    'wait for the other import (or the app) to finish, then run this again; nothing was stored',
-  );
-}
+export { isBusy, lockedError } from './errors.js';
 
 /**
- * Brings a database up to the last of `migrations`, each migration and its version bump
- * in one transaction. Refuses a file written by a newer build, and a non-empty SQLite file
- * that is not a deflator database.
+ * Refuses, before anything is written (no pragma that changes the file has run yet), a
+ * file written by a newer build and a non-empty SQLite file that is not a deflator
+ * database. Returns the schema version.
  */
-export function applyMigrations(db: Database.Database, file: string, migrations: readonly Migration[] = MIGRATIONS, readonly = false): void {
+export function checkSchema(db: Database.Database, file: string, migrations: readonly Migration[] = MIGRATIONS): number {
   const latest = migrations[migrations.length - 1]?.version ?? 0;
   const current = Number(db.pragma('user_version', { simple: true }));
   if (current > latest) {
@@ -196,9 +198,19 @@ export function applyMigrations(db: Database.Database, file: string, migrations:
     const tables = db.prepare("SELECT count(*) FROM sqlite_master WHERE type = 'table'").pluck().get() as number;
     if (tables > 0) throw new DeflatorError('CONFLICT', `${file} is an SQLite database, but not a deflator one (it has tables and no deflator schema version)`, 'point --db at a deflator database, or at a new file name');
   }
+  return current;
+}
+
+/**
+ * Brings a database up to the last of `migrations`, each migration and its version bump
+ * in one transaction. Refuses a file written by a newer build, and a non-empty SQLite file
+ * that is not a deflator database.
+ */
+export function applyMigrations(db: Database.Database, file: string, migrations: readonly Migration[] = MIGRATIONS, readonly = false): void {
+  const current = checkSchema(db, file, migrations);
   const pending = migrations.filter((m) => m.version > current);
   if (pending.length && readonly) {
-    throw new DeflatorError('CONFLICT', `database ${file} is at schema version ${current} and needs migrating, but was opened read-only`, 'open it once without read-only');
+    throw new DeflatorError('CONFLICT', `database ${file} is at schema version ${current} and needs migrating, but may not be written`, 'open it once where it may be written (copy it to a folder of yours) so that it is migrated');
   }
   for (const m of pending) {
     db.transaction(() => {
@@ -209,33 +221,92 @@ export function applyMigrations(db: Database.Database, file: string, migrations:
   }
 }
 
+const writable = (p: string): boolean => {
+  try {
+    accessSync(p, constants.W_OK);
+    return true;
+  } catch {
+    return false;
+  }
+};
+
 export class Store {
   readonly db: Database.Database;
   readonly path: string;
   private readonly st: Statements;
 
+  /** A private snapshot of a database in a read-only folder (removed by close). */
+  private snapshotDir: string | undefined;
+  /** Opened read-only (asked for, or a database that may not be written opened by a reader). */
+  readonly readOnly: boolean;
+
   constructor(file: string, options: StoreOptions = {}) {
     this.path = file;
-    if (file !== ':memory:' && options.mustExist && !existsSync(file)) {
+    const memory = file === ':memory:';
+    if (!memory && options.mustExist && !existsSync(file)) {
       throw new DeflatorError('NOT_FOUND', `database ${file} does not exist`, 'import data first (deflator import prices FILE --db DB), or run `deflator demo`');
     }
+    // Who may write where: an existing file that may not be written, or a folder that may
+    // not (SQLite writes its -wal and -shm files beside the database)
+    const exists = !memory && existsSync(file);
+    const folderOk = memory || writable(path.dirname(path.resolve(file)));
+    const fileOk = !exists || writable(file);
+    let readonly = options.readonly ?? false;
+    let openPath = file;
+    if (!memory && (!folderOk || !fileOk) && !readonly) {
+      if (options.access !== 'read') throw notWritableError(file, !fileOk ? 'the file is read-only' : 'its folder (or disk) is read-only');
+      readonly = true;
+    }
+    if (readonly && !folderOk && exists) openPath = this.snapshot(file);
+    this.readOnly = readonly;
+    const busyMs = options.busyTimeout ?? 5000;
     try {
-      this.db = new Database(file, { readonly: options.readonly ?? false, fileMustExist: options.mustExist ?? false });
+      this.db = new Database(openPath, { readonly, fileMustExist: options.mustExist ?? false });
     } catch (e) {
-      throw new DeflatorError('INPUT_INVALID', `cannot open database ${file}: ${(e as Error).message}`, 'check the path and that the file is a deflator database');
+      this.dropSnapshot();
+      throw storageError(e, file, busyMs) ?? new DeflatorError('INPUT_INVALID', `cannot open database ${file}: ${(e as Error).message}`, 'check the path and that the file is a deflator database');
     }
     try {
-      this.db.pragma(`busy_timeout = ${options.busyTimeout ?? 5000}`);
-      if (!options.readonly) this.db.pragma('journal_mode = WAL');
+      // connection settings only: the file is not touched before its schema is checked
+      this.db.pragma(`busy_timeout = ${busyMs}`);
       this.db.pragma('foreign_keys = ON');
-      this.migrate(options.readonly ?? false);
+      checkSchema(this.db, file);
+      if (!readonly) this.db.pragma('journal_mode = WAL');
+      this.migrate(readonly);
     } catch (e) {
       this.db.close();
+      this.dropSnapshot();
       if (e instanceof DeflatorError) throw e;
-      if (isBusy(e)) throw lockedError(file, options.busyTimeout ?? 5000);
+      const known = storageError(e, file, busyMs);
+      if (known && known.code !== 'DAMAGED') throw known;
       throw new DeflatorError('INPUT_INVALID', `cannot use ${file} as a deflator database: ${(e as Error).message}`, 'point --db at a deflator database, or at a new file name');
     }
     this.st = prepareStatements(this.db);
+  }
+
+  /**
+   * Copies a database (and an unfinished -wal beside it) into a new private folder and
+   * returns the copy's path: SQLite cannot read a WAL database in a folder where it may
+   * not create the -shm file. The copy is read-only for this store and removed by close.
+   */
+  private snapshot(file: string): string {
+    const dir = mkdtempSync(path.join(tmpdir(), 'deflator-readonly-'));
+    this.snapshotDir = dir;
+    const copy = path.join(dir, path.basename(file));
+    try {
+      copyFileSync(file, copy);
+      const wal = `${file}-wal`;
+      if (existsSync(wal) && statSync(wal).size > 0) copyFileSync(wal, `${copy}-wal`);
+    } catch (e) {
+      this.dropSnapshot();
+      throw new DeflatorError('NOT_WRITABLE', `database ${file} is in a read-only folder and could not be copied to read it (${(e as { code?: string }).code ?? (e as Error).message})`, 'free space in the temporary folder, or copy the database to a folder of yours');
+    }
+    return copy;
+  }
+
+  private dropSnapshot(): void {
+    if (this.snapshotDir) rmSync(this.snapshotDir, { recursive: true, force: true });
+    this.snapshotDir = undefined;
   }
 
   private migrate(readonly: boolean): void {
@@ -244,6 +315,7 @@ export class Store {
 
   close(): void {
     if (this.db.open) this.db.close();
+    this.dropSnapshot();
   }
 
   /** Stored asset names, sorted. */

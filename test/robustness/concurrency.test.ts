@@ -5,8 +5,8 @@
  * sqlite.org/wal.html). A writer that finds the lock taken waits through the store's
  * busy timeout (SQLite's busy handler retries until then, sqlite.org/c3ref/busy_timeout.html):
  *   - held shorter than the timeout: every import lands, whole, none lost;
- *   - held longer: the import fails with CONFLICT naming the database and the lock and
- *     saying what to do, and the database is unchanged.
+ *   - held longer: the import fails with BUSY (exit 5) naming the database and the lock
+ *     and saying what to do, and the database is unchanged.
  */
 import Database from 'better-sqlite3';
 import { createWriteStream, writeFileSync } from 'node:fs';
@@ -142,14 +142,14 @@ describe('two writers on one database', () => {
     } finally {
       lock.release();
     }
-    expect(r.status, r.stderr).toBe(1);
+    expect(r.status, r.stderr).toBe(5);
     expect(r.stderr).toContain(`deflator: database ${db} is locked: another import or program is writing to it and did not release its write lock within 5000 ms`);
     expect(r.stderr).toMatch(/\n {2}-> wait for the other import \(or the app\) to finish, then run this again; nothing was stored/);
     expect(r.ms).toBeGreaterThan(4900); // it did wait the busy timeout
     expect(databaseState(db).digest).toBe(before.digest);
   }, 60_000);
 
-  it('the same through the bridge: importFile answers CONFLICT with the lock named, not INTERNAL', async () => {
+  it('the same through the bridge: importFile answers BUSY with the lock named, not INTERNAL', async () => {
     const db = await seedDatabase(dir, 'bridge.db');
     const before = databaseState(db);
     const store = new Store(db, { busyTimeout: 300 });
@@ -162,7 +162,7 @@ describe('two writers on one database', () => {
     } finally {
       lock.release();
     }
-    expect(env).toMatchObject({ ok: false, error: { code: 'CONFLICT' } });
+    expect(env).toMatchObject({ ok: false, error: { code: 'BUSY' } });
     if (!env.ok) {
       expect(env.error.message).toContain(`database ${db} is locked`);
       expect(env.error.message).toContain('within 300 ms');

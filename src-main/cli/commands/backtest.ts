@@ -10,7 +10,7 @@ import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
 import { runAnalysis } from '../../services/analysis.js';
-import { printedReport } from '../../services/report.js';
+import { printOutcome } from '../outcome.js';
 import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { readFitSpec } from './fit.js';
@@ -69,11 +69,17 @@ export function register(program: Command): void {
       const spec = withWindowFlags(readFitSpec(specFile), o);
       const threads = threadsFlag(o.threads);
       const bar = progressBar('windows');
-      const outcome = await withStore(o.db, (store) =>
-        withCompute(threads, (compute) =>
-          runAnalysis(store, { kind: 'backtest', spec, engine: o.engine === 'fit' ? 'fit' : 'auto' }, compute, { record: o.record, onProgress: (d, t) => bar.update(d, t, 'windows') }),
-        ),
+      const a = { kind: 'backtest', spec, engine: o.engine === 'fit' ? 'fit' : 'auto' } as const;
+      let used: number | undefined;
+      const outcome = await withStore(
+        o.db,
+        (store) =>
+          withCompute(threads, (compute) => {
+            used = compute.threads;
+            return runAnalysis(store, a, compute, { record: o.record, keepUnrecorded: true, onProgress: (d, t) => bar.update(d, t, 'windows') });
+          }),
+        o.record ? 'write' : 'read',
       ).finally(() => bar.finish());
-      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
+      printOutcome(outcome, a, { json: o.json, db: o.db, ...(used !== undefined ? { threads: used } : {}) });
     });
 }

@@ -11,7 +11,7 @@ import { DeflatorError } from '../../../shared/errors.js';
 import { readSpecFile } from '../spec-file.js';
 import { isCompareSpec, parseCompareSpec } from '../../../shared/spec.js';
 import { runAnalysis } from '../../services/analysis.js';
-import { printedReport } from '../../services/report.js';
+import { printOutcome } from '../outcome.js';
 import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { positiveInt } from './backtest.js';
@@ -54,9 +54,17 @@ export function register(program: Command): void {
       const { spec, fits } = parseCompareSpec(Object.keys(bs).length ? { ...input, bootstrap: bs } : input);
       const threads = threadsFlag(o.threads);
       const bar = progressBar('compare');
-      const outcome = await withStore(o.db, (store) =>
-        withCompute(threads, (compute) => runAnalysis(store, { kind: 'compare', spec, fits }, compute, { record: o.record, onProgress: (d, t, stage) => bar.update(d, t, stage) })),
+      const a = { kind: 'compare', spec, fits } as const;
+      let used: number | undefined;
+      const outcome = await withStore(
+        o.db,
+        (store) =>
+          withCompute(threads, (compute) => {
+            used = compute.threads;
+            return runAnalysis(store, a, compute, { record: o.record, keepUnrecorded: true, onProgress: (d, t, stage) => bar.update(d, t, stage) });
+          }),
+        o.record ? 'write' : 'read',
       ).finally(() => bar.finish());
-      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
+      printOutcome(outcome, a, { json: o.json, db: o.db, ...(used !== undefined ? { threads: used } : {}) });
     });
 }

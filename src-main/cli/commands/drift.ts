@@ -6,7 +6,8 @@
 import type { Command } from 'commander';
 import { runAnalysis } from '../../services/analysis.js';
 import { inProcess } from '../../services/compute.js';
-import { printedReport, recordedLine } from '../../services/report.js';
+import { recordedLine } from '../../services/report.js';
+import { printOutcome } from '../outcome.js';
 import { withStore } from '../compute.js';
 import { FREQUENCIES } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
@@ -54,8 +55,9 @@ export function register(program: Command): void {
     .option('--no-record', 'do not record the run in the database')
     .action(async (o: Flags) => {
       const spec = driftSpecFromFlags(o);
-      const outcome = await withStore(o.db, (store) => runAnalysis(store, { kind: 'drift', spec }, inProcess(), { record: o.record }));
-      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
+      const a = { kind: 'drift', spec } as const;
+      const outcome = await withStore(o.db, (store) => runAnalysis(store, a, inProcess(), { record: o.record, keepUnrecorded: true }), o.record ? 'write' : 'read');
+      printOutcome(outcome, a, { json: o.json, db: o.db, threads: 1 });
       if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
     });
 }

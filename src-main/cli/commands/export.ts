@@ -27,7 +27,7 @@ export function register(program: Command): void {
     .option('--json', 'print the written paths as JSON')
     .action(async (run: string, opts: ExportOptions) => {
       const format = parseExportFormat(opts.format);
-      const store = new Store(opts.db, { mustExist: true });
+      const store = new Store(opts.db, { mustExist: true, access: 'read' });
       let record;
       try {
         record = getRun(store, parseRunId(run));

@@ -8,7 +8,7 @@
 import type { Command } from 'commander';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
 import { runAnalysis } from '../../services/analysis.js';
-import { printedReport } from '../../services/report.js';
+import { printOutcome } from '../outcome.js';
 import { withCompute, withStore } from '../compute.js';
 import { readSpecFile } from '../spec-file.js';
 
@@ -33,7 +33,8 @@ export function register(program: Command): void {
     .option('--no-record', 'do not record the run in the database')
     .action(async (specFile: string, opts: FitOptions) => {
       const spec = readFitSpec(specFile);
-      const outcome = await withStore(opts.db, (store) => withCompute(1, (compute) => runAnalysis(store, { kind: 'fit', spec }, compute, { record: opts.record })));
-      process.stdout.write(printedReport(outcome, { json: opts.json, db: opts.db }));
+      const a = { kind: 'fit', spec } as const;
+      const outcome = await withStore(opts.db, (store) => withCompute(1, (compute) => runAnalysis(store, a, compute, { record: opts.record, keepUnrecorded: true })), opts.record ? 'write' : 'read');
+      printOutcome(outcome, a, { json: opts.json, db: opts.db, threads: 1 });
     });
 }

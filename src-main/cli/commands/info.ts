@@ -10,7 +10,7 @@ export function register(program: Command): void {
     .requiredOption('--db <path>', 'database file')
     .option('--json', 'print everything (including every import warning) as JSON')
     .action((o: { db: string; json?: boolean }) => {
-      const store = new Store(o.db, { mustExist: true });
+      const store = new Store(o.db, { mustExist: true, access: 'read' });
       try {
         const info = store.info();
         process.stdout.write(o.json ? `${JSON.stringify(info, null, 2)}\n` : `${formatInfo(info)}\n`);

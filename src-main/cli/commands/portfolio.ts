@@ -111,7 +111,7 @@ export function register(program: Command): void {
     .requiredOption('--db <path>', 'project database')
     .option('--json', 'print [{name, frequency, first, last, periods, missing, rules}] as JSON')
     .action((o: { db: string; json?: boolean }) => {
-      const store = new Store(o.db, { mustExist: true });
+      const store = new Store(o.db, { mustExist: true, access: 'read' });
       try {
         const list = store.loadPortfolios().map((p) => ({
           name: p.name,

@@ -7,7 +7,8 @@
 import type { Command } from 'commander';
 import { runAnalysis } from '../../services/analysis.js';
 import { inProcess } from '../../services/compute.js';
-import { printedReport, recordedLine } from '../../services/report.js';
+import { recordedLine } from '../../services/report.js';
+import { printOutcome } from '../outcome.js';
 import { withStore } from '../compute.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { parsePresentValueSpec, type PresentValueSpec } from '../../../shared/spec.js';
@@ -75,8 +76,9 @@ export function register(program: Command): void {
     .option('--no-record', 'do not record the run in the database')
     .action(async (o: Flags) => {
       const spec = presentValueSpecFromFlags(o);
-      const outcome = await withStore(o.db, (store) => runAnalysis(store, { kind: 'present-value', spec }, inProcess(), { record: o.record }));
-      process.stdout.write(printedReport(outcome, { json: o.json, db: o.db }));
+      const a = { kind: 'present-value', spec } as const;
+      const outcome = await withStore(o.db, (store) => runAnalysis(store, a, inProcess(), { record: o.record, keepUnrecorded: true }), o.record ? 'write' : 'read');
+      printOutcome(outcome, a, { json: o.json, db: o.db, threads: 1 });
       if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
     });
 }

@@ -42,6 +42,7 @@ export function register(program: Command): void {
           r.usedThreads = compute.threads;
           return r;
         }),
+        'read',
       );
       process.stdout.write(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
       if (!report.ok) process.exitCode = REPLAY_MISMATCH_EXIT;

@@ -64,7 +64,7 @@ export function register(program: Command): void {
       const kind = pick<ReturnKind>('--kind', o.kind, RETURN_KINDS);
       const dayCount = pick('--day-count', o.dayCount, ['periods', 'actual365'] as const);
       if (o.csv && o.json) throw new DeflatorError('INPUT_INVALID', '--csv and --json both given', 'choose one output format');
-      const store = new Store(o.db, { mustExist: true });
+      const store = new Store(o.db, { mustExist: true, access: 'read' });
       try {
         const assets = o.assets ? o.assets.split(',').map((s) => s.trim()).filter(Boolean) : undefined;
         const histories = store.loadAssets(assets);

@@ -1,7 +1,8 @@
 /**
  * `deflator runs --db DB`: the recorded runs, newest first, with a STALE mark where the
  * data a run read has changed since. Filters by model, kind and recording date;
- * `--delete RUN` removes one record.
+ * `--delete RUN` removes one record; `--record FILE` records a result that was saved
+ * because its run could not be recorded then (src-main/runs/unrecorded.ts).
  */
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
@@ -10,6 +11,7 @@ import { alignColumns } from '../../../shared/report/text.js';
 import { isCalendarDate } from '../../../shared/returns/periods.js';
 import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
+import { recordSaved } from '../../runs/unrecorded.js';
 
 interface RunsOptions {
   db: string;
@@ -19,6 +21,7 @@ interface RunsOptions {
   from?: string;
   to?: string;
   delete?: string;
+  record?: string;
 }
 
 export function formatRuns(runs: RunSummary[]): string {
@@ -52,10 +55,17 @@ export function register(program: Command): void {
     .option('--from <date>', 'only runs recorded on or after this date (YYYY-MM-DD)')
     .option('--to <date>', 'only runs recorded on or before this date (YYYY-MM-DD)')
     .option('--delete <run>', 'delete this run record (the data stays)')
+    .option('--record <file>', 'record a result saved when its run could not be recorded (the data must be unchanged since)')
     .option('--json', 'print the list as JSON')
     .action((opts: RunsOptions) => {
-      const store = new Store(opts.db, { mustExist: true });
+      const store = new Store(opts.db, { mustExist: true, access: opts.delete === undefined && opts.record === undefined ? 'read' : 'write' });
       try {
+        if (opts.record !== undefined) {
+          const run = recordSaved(store, opts.record);
+          if (opts.json) process.stdout.write(`${JSON.stringify({ recorded: run.id, file: opts.record })}\n`);
+          else process.stdout.write(`Recorded ${opts.record} as run ${run.id} (deflator show ${run.id} --db ${opts.db}).\n`);
+          return;
+        }
         if (opts.delete !== undefined) {
           const id = parseRunId(opts.delete);
           deleteRun(store, id);

@@ -24,7 +24,7 @@ export function register(program: Command): void {
     .requiredOption('--db <path>', 'project database')
     .option('--json', 'print the whole record as JSON (numbers exact)')
     .action((run: string, opts: ShowOptions) => {
-      const store = new Store(opts.db, { mustExist: true });
+      const store = new Store(opts.db, { mustExist: true, access: 'read' });
       try {
         const record = getRun(store, parseRunId(run));
         const stale = staleItems(store, record);
