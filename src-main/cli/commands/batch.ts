@@ -89,7 +89,7 @@ export function register(program: Command): void {
       const maxTasks = positiveInt('--max-tasks', o.maxTasks) ?? DEFAULT_MAX_TASKS;
       if (maxTasks > HARD_MAX_TASKS) throw new DeflatorError('INPUT_INVALID', `--max-tasks ${maxTasks} is above the ceiling of ${HARD_MAX_TASKS.toLocaleString('en-US')}`, 'split the grid into several grids');
       const json = readGrid(gridFile);
-      const store = new Store(o.db, { mustExist: true });
+      const store = new Store(o.db, { mustExist: true, access: 'read' });
       const bar = progressBar('panels');
       try {
         const r = planBatch(store, json, o.out, { maxTasks, onProgress: (d, t, stage) => bar.update(d, t, stage) });
@@ -170,7 +170,7 @@ export function register(program: Command): void {
     .action((dir: string, o: { db: string; rank?: string; top?: string; json?: boolean; record: boolean }) => {
       const rankBy = rankOption(o.rank);
       const top = topOption(o.top);
-      const store = new Store(o.db, { mustExist: true });
+      const store = new Store(o.db, { mustExist: true, access: o.record ? 'write' : 'read' });
       try {
         const { result, record } = mergeBatch(store, dir, { record: o.record });
         if (o.json) {
