@@ -9,8 +9,8 @@
  */
 import * as z from 'zod';
 import { DATE_FORMATS, DECIMAL_NAMES, DELIMITER_NAMES, FREQUENCIES, RETURN_FORMS, RF_FORMS, SERIES_KINDS } from '../data.js';
-import { compareSpecSchema, fitSpecSchema, isoDate } from '../spec.js';
-import type { BacktestResult, CompareResult, FitResult } from '../results.js';
+import { compareSpecSchema, driftSpecSchema, fitSpecSchema, isoDate, presentValueSpecSchema } from '../spec.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../results.js';
 import type { AppInfo, AssetHistory, Coverage, ImportPreview, ImportReport } from './types.js';
 import { RUN_KINDS, type RunRecord, type RunSummary, type RunTag, type StaleItem } from '../records/run-record.js';
 import type { ReplayReport } from '../records/replay-report.js';
@@ -116,6 +116,14 @@ export const CALLS = {
   }),
   compare: call<CompareResult & RunTag>()(z.object({ spec: compareSpecSchema }).strict(), {
     summary: 'fit several models on one sample, side by side',
+    task: true,
+  }),
+  presentValue: call<PresentValueResult & RunTag>()(z.object({ spec: presentValueSpecSchema }).strict(), {
+    summary: 'the dividend-price decomposition of one asset or an aggregate (recorded as a run)',
+    task: true,
+  }),
+  drift: call<DriftResult & RunTag>()(z.object({ spec: driftSpecSchema }).strict(), {
+    summary: "each asset's drift split into price growth and dividend yield (recorded as a run)",
     task: true,
   }),
   cancel: call<{ cancelled: boolean }>()(

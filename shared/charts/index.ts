@@ -8,3 +8,4 @@ export * from './price-history.js';
 export * from './backtest.js';
 export * from './compare.js';
 export * from './pricing-error-heatmap.js';
+export * from './values.js';

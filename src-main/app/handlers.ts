@@ -5,7 +5,7 @@
 import { rmSync } from 'node:fs';
 import { CAUTION } from '../../shared/results.js';
 import { DeflatorError } from '../../shared/errors.js';
-import { isCompareSpec, parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
+import { isCompareSpec, parseCompareSpec, parseDriftSpec, parseFitSpec, parsePresentValueSpec } from '../../shared/spec.js';
 import type { Handlers } from './dispatch.js';
 import type { Engine, FilePolicy, Importer, ProjectData } from './ports.js';
 import type { TaskRegistry } from './tasks.js';
@@ -74,6 +74,8 @@ export function createHandlers(s: AppServices): Handlers {
       return s.engine.backtest(spec, ctx);
     },
     compare: async (req, ctx) => s.engine.compare(parseCompareSpec(req.spec).spec, ctx),
+    presentValue: async (req, ctx) => s.engine.presentValue(parsePresentValueSpec(req.spec), ctx),
+    drift: async (req, ctx) => s.engine.drift(parseDriftSpec(req.spec), ctx),
     cancel: async (req) => ({ cancelled: s.tasks.cancel(req.taskId) }),
     runs: async (req) => runService(s).list(req),
     run: async (req) => runService(s).get(req.id),

@@ -4,8 +4,8 @@
  * returns engine and the worker pool; tests hand in small fakes.
  */
 import type { Frequency } from '../../shared/data.js';
-import type { CompareSpec, FitSpec } from '../../shared/spec.js';
-import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../shared/results.js';
 import type { AssetHistory, Coverage, ImportKind, ImportPreview, ImportReport } from '../../shared/bridge/types.js';
 import type { ParsedRequestOf } from '../../shared/bridge/calls.js';
 
@@ -39,6 +39,10 @@ export interface Engine {
   fit(spec: FitSpec, ctx: TaskContext): Promise<FitResult>;
   backtest(spec: FitSpec, ctx: TaskContext): Promise<BacktestResult>;
   compare(spec: CompareSpec, ctx: TaskContext): Promise<CompareResult>;
+  /** The dividend-price decomposition (METHODS 10), recorded as a run. */
+  presentValue(spec: PresentValueSpec, ctx: TaskContext): Promise<PresentValueResult>;
+  /** The drift split (METHODS 10), recorded as a run. */
+  drift(spec: DriftSpec, ctx: TaskContext): Promise<DriftResult>;
 }
 
 /** Decides which files an import may read (see src-main/app/files.ts). */

@@ -9,8 +9,8 @@ import { assetSourceText, isReturnHistory, type Frequency, type PriceHistory, ty
 import { DeflatorError } from '../../shared/errors.js';
 import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
 import { parseAscending, spacingFrequency } from '../../shared/returns/periods.js';
-import type { CompareSpec, FitSpec } from '../../shared/spec.js';
-import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../shared/results.js';
 import type { AssetHistory, Coverage, CoverageRow, ImportKind, ImportPreview, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
 import { importPrices, importReturns, importSeries, missingCodeList, previewImport, type PreviewOptions } from '../import/index.js';
 import type { ImportReport as PipelineReport } from '../import/index.js';
@@ -234,5 +234,13 @@ export class PoolEngine implements Engine {
 
   compare(spec: CompareSpec, ctx: TaskContext): Promise<CompareResult> {
     return this.run(compareAnalysis(spec), ctx);
+  }
+
+  presentValue(spec: PresentValueSpec, ctx: TaskContext): Promise<PresentValueResult> {
+    return this.run({ kind: 'present-value', spec }, ctx);
+  }
+
+  drift(spec: DriftSpec, ctx: TaskContext): Promise<DriftResult> {
+    return this.run({ kind: 'drift', spec }, ctx);
   }
 }

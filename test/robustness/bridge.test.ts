@@ -53,6 +53,8 @@ function examples(): { [K in CallName]: RequestOf<K> } {
     fit: { spec: fitSpec },
     backtest: { spec: { ...fitSpec, backtest: { window: 2 } } },
     compare: { spec: { frequency: 'monthly', riskfree: 'gale_factor', compare: [{ model: { kind: 'linear', factors: ['gale_factor'] } }] } },
+    presentValue: { spec: { analysis: 'present-value', asset: 'alder-hollow' } },
+    drift: { spec: { analysis: 'drift', assets: ['alder-hollow', 'birch-lane'] } },
     cancel: { taskId: 'task-1' },
     runs: {},
     run: { id: 1 },

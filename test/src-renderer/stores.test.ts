@@ -357,3 +357,33 @@ describe('compare store: a merged batch', () => {
     expect(c.batch).toBeNull();
   });
 });
+
+describe('present-value store', () => {
+  it('sends the decomposition and drift specs the form holds, keeps the replies, and the errors with their hints', async () => {
+    const m = mockClient({
+      presentValue: async () => ({ kind: 'present-value', label: 'dividend-price: aggregate of 2', runId: 7 }),
+      drift: async () => {
+        throw new BridgeError('SAMPLE_TOO_SHORT', '1 period', 'use a longer window');
+      },
+    });
+    const { useValuesStore } = await import('../../src-renderer/src/stores/values.js');
+    const v = useValuesStore();
+    v.members = ['A1', 'A2'];
+    v.startYear = '2003';
+    v.lags = '2';
+    await v.runPresentValue();
+    expect(m.presentValue.mock.calls[0][0]).toEqual({ spec: { analysis: 'present-value', aggregate: true, assets: ['A1', 'A2'], start: '2003', lags: 2 } });
+    expect(v.pv?.runId).toBe(7);
+    expect(v.pvTask.running).toBe(false);
+    v.mode = 'asset';
+    v.asset = 'A1';
+    expect(v.pvSpec).toEqual({ analysis: 'present-value', asset: 'A1', start: '2003', lags: 2 });
+    v.frequency = 'quarterly';
+    v.lags = 'auto';
+    await v.runDrift();
+    expect(m.drift.mock.calls[0][0]).toEqual({ spec: { analysis: 'drift', frequency: 'quarterly', lags: 'auto' } });
+    expect(v.drift).toBeNull();
+    expect(v.driftError?.code).toBe('SAMPLE_TOO_SHORT');
+    expect(v.driftError?.hint).toBe('use a longer window');
+  });
+});

@@ -5,11 +5,11 @@
 import { init, use } from 'echarts/core';
 import type { ECharts, EChartsCoreOption } from 'echarts/core';
 import { BarChart, CustomChart, LineChart, ScatterChart } from 'echarts/charts';
-import { AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TooltipComponent } from 'echarts/components';
+import { AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TitleComponent, TooltipComponent } from 'echarts/components';
 import { SVGRenderer } from 'echarts/renderers';
 import { LabelLayout } from 'echarts/features';
 
-use([BarChart, CustomChart, LineChart, ScatterChart, AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TooltipComponent, LabelLayout, SVGRenderer]);
+use([BarChart, CustomChart, LineChart, ScatterChart, AxisPointerComponent, DataZoomComponent, GridComponent, LegendComponent, TitleComponent, TooltipComponent, LabelLayout, SVGRenderer]);
 
 export type { ECharts, EChartsCoreOption };
 

@@ -7,6 +7,7 @@ export const SCREENS = [
   { id: 'fit', label: 'Fit results', hint: 'parameters, pricing errors, tests' },
   { id: 'backtest', label: 'Back-test', hint: 'rolling windows, out of sample' },
   { id: 'compare', label: 'Comparison', hint: 'models side by side' },
+  { id: 'values', label: 'Present values', hint: 'dividend-price decomposition, drift split' },
   { id: 'runs', label: 'Run history', hint: 'past runs: open, replay, export, compare' },
 ] as const;
 

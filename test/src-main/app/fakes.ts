@@ -1,6 +1,6 @@
 /** Small stand-ins for the app's ports, for transport and dispatcher tests. */
 import type { Engine, FilePolicy, Importer, ProjectData, TaskContext } from '../../../src-main/app/ports.js';
-import type { BacktestResult, CompareResult, FitResult } from '../../../shared/results.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../../shared/results.js';
 import { DeflatorError } from '../../../shared/errors.js';
 
 export function fakeProject(): ProjectData {
@@ -66,6 +66,14 @@ export function fakeEngine(opts: { steps?: number; stepMs?: number } = {}): Engi
     compare: async () => {
       calls.push('compare');
       return { kind: 'compare' } as unknown as CompareResult;
+    },
+    presentValue: async () => {
+      calls.push('presentValue');
+      return { kind: 'present-value' } as unknown as PresentValueResult;
+    },
+    drift: async () => {
+      calls.push('drift');
+      return { kind: 'drift' } as unknown as DriftResult;
     },
   };
 }
