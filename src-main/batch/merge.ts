@@ -86,7 +86,7 @@ export function statusText(s: BatchStatus): string {
 }
 
 /** Builds the batch result from the folder; refuses a missing, foreign or changed result. */
-export function assembleFolder(dir: string, m: Manifest = readManifest(dir)): BatchResult {
+export function assembleFolder(dir: string, m: Manifest = readManifest(dir), onProgress?: (done: number, total: number) => void): BatchResult {
   const problems: string[] = [];
   let missing = 0;
   const asm = new BatchAssembler(m.label, m.tasks.length, m.axes);
@@ -98,6 +98,7 @@ export function assembleFolder(dir: string, m: Manifest = readManifest(dir)): Ba
       continue;
     }
     if (problems.length === 0 && c.file.outcome) asm.add(t, c.file.outcome, c.file.sha256);
+    onProgress?.(t.task + 1, m.tasks.length);
   }
   if (problems.length) {
     const bad = problems.length - Math.min(problems.length, missing);
@@ -136,10 +137,10 @@ export interface MergeReport {
 }
 
 /** Checks everything, then records the batch as one run (unless `record` is false). */
-export function mergeBatch(store: Store, dir: string, opts: { record?: boolean; threads?: number } = {}): MergeReport {
+export function mergeBatch(store: Store, dir: string, opts: { record?: boolean; threads?: number; onProgress?: (done: number, total: number) => void } = {}): MergeReport {
   const m = readManifest(dir);
   const panels = checkDatabase(store, m);
-  const result = assembleFolder(dir, m);
+  const result = assembleFolder(dir, m, opts.onProgress);
   if (opts.record === false) return { result };
   const record = recordRun(store, { spec: m.grid, result, panel: [...panels.values()], ...(opts.threads ? { threads: opts.threads } : {}) });
   return { result, record };

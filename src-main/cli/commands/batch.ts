@@ -171,8 +171,10 @@ export function register(program: Command): void {
       const rankBy = rankOption(o.rank);
       const top = topOption(o.top);
       const store = new Store(o.db, { mustExist: true, access: o.record ? 'write' : 'read' });
+      const bar = progressBar('results');
       try {
-        const { result, record } = mergeBatch(store, dir, { record: o.record });
+        const { result, record } = mergeBatch(store, dir, { record: o.record, onProgress: (d, t) => bar.update(d, t, 'checking results') });
+        bar.finish();
         if (o.json) {
           const ranking = Object.fromEntries(RANK_KEYS.map((k) => [k, rankBatch(result, k).map((m) => m.task)]));
           process.stdout.write(`${JSON.stringify({ ...result, ranking, ...(record ? { run: record.id } : {}), caution: CAUTION }, null, 2)}\n`);
@@ -181,6 +183,7 @@ export function register(program: Command): void {
           if (record) process.stdout.write(`Recorded as run ${record.id}: deflator show ${record.id} --db ${o.db}; deflator export ${record.id} --db ${o.db} --format csv --out DIR/\n`);
         }
       } finally {
+        bar.finish();
         store.close();
       }
     });
