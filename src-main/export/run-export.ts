@@ -3,7 +3,7 @@
  * Every format is computed from the stored result and its record, so the numbers in an
  * export are the stored ones.
  */
-import { existsSync, mkdirSync, statSync, writeFileSync } from 'node:fs';
+import { existsSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { DeflatorError } from '../../shared/errors.js';
 import { isValueResult } from '../../shared/results.js';
@@ -13,6 +13,7 @@ import { EXPORT_EXTENSIONS, EXPORT_FORMATS, type ExportFormat } from '../../shar
 import { resultToHtml } from '../../shared/report/html.js';
 import { resultToLatex } from '../../shared/report/latex.js';
 import { htmlToPdf } from './pdf.js';
+import { writeFilesAtomic } from './write.js';
 
 export { EXPORT_FORMATS, EXPORT_EXTENSIONS, type ExportFormat };
 
@@ -68,9 +69,7 @@ export function csvTargets(out: string, tables: string[]): string[] {
 export async function exportRunToPath(record: RunRecord, format: ExportFormat, out: string): Promise<string[]> {
   const files = await renderExport(record, format);
   const targets = format === 'csv' ? csvTargets(out, files.map((f) => f.name.replace(/\.csv$/, ''))) : [out];
-  targets.forEach((target, i) => {
-    mkdirSync(path.dirname(path.resolve(target)), { recursive: true });
-    writeFileSync(target, files[i].data);
-  });
+  // each file to a temporary file beside it, then renamed into place: a failure leaves old files whole
+  writeFilesAtomic(targets.map((target, i) => ({ target, data: files[i].data })));
   return targets;
 }
