@@ -4,15 +4,10 @@
  * dividend yield, sigma, and the log drift beside mu - sigma^2/2 (METHODS 10).
  */
 import type { Command } from 'commander';
-import { runAnalysis } from '../../services/analysis.js';
-import { inProcess } from '../../services/compute.js';
-import { recordedLine } from '../../services/report.js';
-import { printOutcome } from '../outcome.js';
-import { withStore } from '../compute.js';
 import { FREQUENCIES } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { parseDriftSpec, type DriftSpec } from '../../../shared/spec.js';
-import { parseLags, parseNames } from './present-value.js';
+import { parseLags, parseNames, runValueCommand } from './present-value.js';
 
 interface Flags {
   db: string;
@@ -53,11 +48,5 @@ export function register(program: Command): void {
     .option('--lags <L>', 'Newey-West lags for the s.e. of the means: a number, 0, or auto = floor(4 (T/100)^(2/9))', 'auto')
     .option('--json', 'print {frequency, assets: [{asset, drift, priceGrowth, dividendYield, sigma, logDrift, se}], sample, warnings}')
     .option('--no-record', 'do not record the run in the database')
-    .action(async (o: Flags) => {
-      const spec = driftSpecFromFlags(o);
-      const a = { kind: 'drift', spec } as const;
-      const outcome = await withStore(o.db, (store) => runAnalysis(store, a, inProcess(), { record: o.record, keepUnrecorded: true }), o.record ? 'write' : 'read');
-      printOutcome(outcome, a, { json: o.json, db: o.db, threads: 1 });
-      if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
-    });
+    .action((o: Flags) => runValueCommand({ kind: 'drift', spec: driftSpecFromFlags(o) }, o));
 }

@@ -5,7 +5,7 @@
  * Prints the readable report, or with --json exactly the documented keys plus "warnings".
  */
 import type { Command } from 'commander';
-import { runAnalysis } from '../../services/analysis.js';
+import { runAnalysis, type Analysis } from '../../services/analysis.js';
 import { inProcess } from '../../services/compute.js';
 import { recordedLine } from '../../services/report.js';
 import { printOutcome } from '../outcome.js';
@@ -74,11 +74,15 @@ export function register(program: Command): void {
     .option('--lags <L>', 'Newey-West lags: a number, 0 (heteroskedasticity only) or auto = floor(4 (n/100)^(2/9))', 'auto')
     .option('--json', 'print {asset|assets, frequency, sample, rho, regressions, identity, longRun, varianceShares, warnings}')
     .option('--no-record', 'do not record the run in the database')
-    .action(async (o: Flags) => {
-      const spec = presentValueSpecFromFlags(o);
-      const a = { kind: 'present-value', spec } as const;
-      const outcome = await withStore(o.db, (store) => runAnalysis(store, a, inProcess(), { record: o.record, keepUnrecorded: true }), o.record ? 'write' : 'read');
-      printOutcome(outcome, a, { json: o.json, db: o.db, threads: 1 });
-      if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
-    });
+    .action((o: Flags) => runValueCommand({ kind: 'present-value', spec: presentValueSpecFromFlags(o) }, o));
+}
+
+/**
+ * Both present-value commands: one small computation in this process, recorded unless
+ * --no-record; --json prints the documented keys (the run id goes to stderr).
+ */
+export async function runValueCommand(a: Analysis & { kind: 'present-value' | 'drift' }, o: { db: string; json?: boolean; record: boolean }): Promise<void> {
+  const outcome = await withStore(o.db, (store) => runAnalysis(store, a, inProcess(), { record: o.record, keepUnrecorded: true }), o.record ? 'write' : 'read');
+  printOutcome(outcome, a, { json: o.json, db: o.db, threads: 1 });
+  if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
 }
