@@ -4,7 +4,8 @@
  * (the preview points at the row and column where the import would stop, and follows the
  * options as they change), imported, covered with their form and gaps, charted as a value
  * index without a price line; the factors and the bill rate imported the same way; then a
- * spec loaded and fitted, the pricing-error bars checked against the engine's own reply.
+ * spec loaded and fitted, the pricing-error bars checked against the engine's own reply,
+ * then a back-test to 100 % and a comparison of two models on the same portfolios.
  * Runs last against the demo server (it adds the return set to the demo database).
  */
 import { mkdirSync, writeFileSync } from 'node:fs';
@@ -16,7 +17,7 @@ const root = path.resolve(import.meta.dirname, '../..');
 const sample = (f: string) => path.join(root, 'sample-data', 'returns', f);
 const PORTFOLIOS = ['small-t1', 'small-t2', 'small-t3', 'small-t4', 'mid-t1', 'mid-t2', 'mid-t3', 'mid-t4', 'large-t1', 'large-t2', 'large-t3', 'large-t4'];
 
-test('a return file through the import panel with its preview, then a fit on it', async ({ page }) => {
+test('a return file through the import panel with its preview, then a fit, a back-test and a comparison on it', async ({ page }) => {
   await page.goto('/');
   await page.locator('[data-testid=import-kind] label', { hasText: 'Returns' }).click();
   await page.setInputFiles('[data-testid=file-input]', sample('portfolios.csv'));
@@ -94,7 +95,7 @@ test('a return file through the import panel with its preview, then a fit on it'
   const specFile = path.join(dir, 'returns-spec.json');
   writeFileSync(
     specFile,
-    JSON.stringify({ frequency: 'monthly', assets: PORTFOLIOS, returns: 'excess', riskfree: 'bill_rate', start: '1999-01-31', model: { kind: 'linear', factors: ['tideline', 'keel', 'beacon'] }, estimator: { method: 'gmm', stage: 'second', lags: 'auto' } }),
+    JSON.stringify({ frequency: 'monthly', assets: PORTFOLIOS, returns: 'excess', riskfree: 'bill_rate', start: '1999-01-31', model: { kind: 'linear', factors: ['tideline', 'keel', 'beacon'] }, estimator: { method: 'gmm', stage: 'second', lags: 'auto' }, backtest: { window: 120, step: 12, horizon: 12 } }),
   );
   await page.click('[data-screen=setup]');
   await page.setInputFiles('[data-testid=spec-input]', specFile);
@@ -111,4 +112,20 @@ test('a return file through the import panel with its preview, then a fit on it'
   await expect(page.locator('[data-caution]')).toContainText('not investment advice');
   await expect(page.locator('body')).not.toContainText('NaN');
   await shot(page, 'fit-on-returns');
+
+  // back-test and comparison on the same return portfolios, recorded like any run
+  await page.click('[data-screen=setup]');
+  await page.click('[data-testid=run-backtest]');
+  await expect(page.locator('[data-testid=backtest-progress]')).toHaveAttribute('data-percent', '100', { timeout: 60_000 });
+  await expect(page.locator('[data-chart-id=oos-errors]')).toHaveAttribute('data-drawn', /[1-9]/);
+  await page.click('[data-screen=setup]');
+  await page.click('[data-testid=add-compare]');
+  await page.locator('[data-testid=factor-list] label', { hasText: 'beacon' }).click();
+  await page.click('[data-testid=add-compare]');
+  await page.click('[data-testid=run-compare]');
+  await expect(page.locator('[data-testid=compare-table] tbody tr')).toHaveCount(2, { timeout: 60_000 });
+  await expect(page.locator('body')).not.toContainText('NaN');
+  await shot(page, 'comparison-on-returns');
+  await page.click('[data-screen=runs]');
+  await expect(page.locator('body')).toContainText('tideline');
 });
