@@ -7,6 +7,31 @@
 import type { SampleInfo } from './panel.js';
 import type { Frequency } from './data.js';
 
+/**
+ * A reason not to trust a result as it stands (shared/warnings.ts lists the codes and
+ * the thresholds). Every result carries `warnings` (JSON key, a contract); every
+ * surface shows them beside the numbers they qualify.
+ */
+export interface ResultWarning {
+  /** Stable code, e.g. FEW_PERIODS (shared/warnings.ts). */
+  code: string;
+  /** One sentence a reader understands without the code: what, how much, what to do. */
+  message: string;
+  /** In a comparison: the label of the model the warning belongs to. */
+  model?: string;
+}
+
+/** What estimated a model: method, stage, first-stage weight and lags (the spec's rule and the count used). */
+export interface EstimatorIdentity {
+  method: string;
+  stage: string;
+  weight: string;
+  /** As the spec gave them: a number or "auto". */
+  lags: number | 'auto';
+  /** The count used on the (comparison's) sample. */
+  lagsUsed: number;
+}
+
 export interface ParamEstimate {
   /** b.<factor>, mu.<factor>, lambda.<factor>, lambda.const, a, delta, gamma, beta.<asset>.<factor> ... */
   name: string;
@@ -104,6 +129,8 @@ export interface VolatilityBound {
   maxSharpe: number;
   /** The model's own fitted (E m, sigma m). */
   model?: { mean: number; sigma: number };
+  /** The bound's smallest sigma(m) at the model's E[m] (sigma_min(E m), or maxSharpe x E m on excess returns). */
+  atModel?: number;
 }
 
 export interface SampleHeader extends SampleInfo {
@@ -151,6 +178,8 @@ export interface FitResult {
   notes: string[];
   /** Discounted-value paths under the fitted discount factor (METHODS 10). */
   discounted?: DiscountedPaths;
+  /** Reasons not to trust the fit as it stands (empty when there are none). */
+  warnings: ResultWarning[];
 }
 
 export interface BacktestWindow {
@@ -179,16 +208,30 @@ export interface BacktestResult {
   paths: { end: string; params: { name: string; estimate: number; se: number }[] }[];
   windowList: BacktestWindow[];
   spec: { window: number; step: number; horizon: number; expanding: boolean };
+  /** Reasons not to trust the back-test as it stands (failed windows, ...). */
+  warnings: ResultWarning[];
 }
 
 export interface CompareRow {
   label: string;
+  /** The model kind (linear, linear-raw, linear-gross, consumption). */
+  model?: string;
+  /** The estimator that fitted this model (a model is its kind, factors and estimator). */
+  estimator?: EstimatorIdentity;
+  /** Returns the model priced (excess or gross). */
+  returns?: 'excess' | 'gross';
+  /** Factors (or the consumption series) of the model. */
+  factors?: string[];
   params: ParamEstimate[];
   test: TestResult;
   hj?: HjDistanceResult;
   fit: CrossSectionFit;
   oos?: { rmse: number; rmsePooled: number; r2: number };
+  /** Windows of this model's back-test that failed (0 when all were estimated). */
+  oosWindowsFailed?: number;
   error?: string;
+  /** This model's fit and back-test warnings. */
+  warnings?: ResultWarning[];
 }
 
 export interface CompareResult {
@@ -208,20 +251,18 @@ export interface CompareResult {
     used?: number;
   }[];
   /**
-   * The best model per column: column key -> label. Keys: test.p, hj.distance, hj.p,
-   * fit.mape, fit.rmse, fit.r2, oos.rmse, oos.r2 (largest p and R^2, smallest distance and errors).
+   * The best model per column: column key -> label (the first listed on a tie). The rule
+   * and its columns are in shared/present/best.ts (hj.distance, hj.p, fit.mape, fit.rmse,
+   * fit.r2, oos.rmse, oos.rmsePooled, oos.r2); no test statistic is ranked, and nothing
+   * is marked with fewer than two models.
    */
   best?: Record<string, string>;
   /** How the HJ bootstrap was run (absent when fewer than two models have an HJ distance). */
   bootstrap?: { replications: number; block: number; blockRule: string; seed: number; method: string; failures: string[] };
   /** Models whose fit failed, with the reason; they have no row in `models`. */
   failures?: { label: string; error: string }[];
-}
-
-/** Something the reader of a result should know before trusting it: a stable code and a sentence. */
-export interface ResultWarning {
-  code: string;
-  message: string;
+  /** The comparison's own warnings (failed bootstrap replications) and every model's, each with `model`. */
+  warnings: ResultWarning[];
 }
 
 /** One predictive regression y_{t+1} = a + b dp_t + e of the dividend-price decomposition. */
@@ -363,6 +404,8 @@ export interface BatchResult {
   best: Record<string, string>;
   /** Fingerprint of the data the batch ran on: SHA-256 over its distinct returns panels' fingerprints. */
   data: { sha256: string; panels: number };
+  /** The tasks' warnings by code: how many tasks carry each, with the first task's message. */
+  warnings: ResultWarning[];
 }
 
 export type AnyResult = FitResult | BacktestResult | CompareResult | BatchResult;

@@ -277,7 +277,7 @@ export function parseCompareSpec(input: unknown, root = 'spec'): { spec: Compare
       riskfree: c.riskfree,
       includeRiskfree: entry.includeRiskfree ?? c.includeRiskfree,
       dayCount: c.dayCount,
-      label: entry.label ?? defaultLabel(entry.model.kind, entry.model.factors, entry.model.consumption),
+      label: entry.label ?? defaultModelLabel(entry.model, estimatorSchema.parse(entry.estimator ?? c.estimator ?? {}), entry.instruments),
       model: entry.model,
       estimator: entry.estimator ?? c.estimator ?? estimatorSchema.parse({}),
       backtest: c.backtest,
@@ -285,11 +285,41 @@ export function parseCompareSpec(input: unknown, root = 'spec'): { spec: Compare
     };
     return parseFitSpec(JSON.parse(JSON.stringify(full)), `${root}.compare.${i}`);
   });
+  const seen = new Map<string, number>();
+  const clashes: string[] = [];
+  fits.forEach((f, i) => {
+    const label = f.label as string;
+    const before = seen.get(label);
+    if (before !== undefined) clashes.push(`${root}.compare.${i}.label: "${label}" is also the label of model ${before} (${root}.compare.${before}); each model of a comparison needs its own label`);
+    else seen.set(label, i);
+  });
+  if (clashes.length)
+    throw new DeflatorError('SPEC_INVALID', clashes.join('\n'), 'give each entry its own "label", or leave the labels out: the default label names the model and its estimator (method, stage, weight, lags)');
   return { spec: c, fits };
 }
 
-function defaultLabel(kind: string, factors: string[], consumption?: string): string {
-  return kind === 'consumption' ? `consumption(${consumption ?? ''})` : `${kind}(${factors.join(',')})`;
+/** The estimator in a few words: "GMM first, W = HJ, lags auto"; "GMM second, start W = I, lags 3"; "two-pass"; "time-series, lags 3". */
+export function estimatorLabel(e: EstimatorSpec): string {
+  if (e.method === 'two-pass') return `two-pass${e.intercept ? '' : ', no intercept'}`;
+  if (e.method === 'time-series') return `time-series, lags ${e.lags}`;
+  const w = e.weight === 'hj' ? 'HJ' : 'I';
+  const stage = e.stage === 'first' ? `GMM first, W = ${w}` : `GMM ${e.stage === 'cue' ? 'CUE' : e.stage}, start W = ${w}`;
+  return `${stage}, lags ${e.lags}`;
+}
+
+/** The model in a few words: "linear(harbor,ember)", "consumption(spending)". */
+export function modelLabel(m: ModelSpec): string {
+  return m.kind === 'consumption' ? `consumption(${m.consumption ?? ''})` : `${m.kind}(${m.factors.join(',')})`;
+}
+
+/**
+ * The default label of a model in a comparison: the model and its estimator,
+ * "linear(harbor) [GMM second, start W = I, lags auto]", and an entry's own instruments
+ * when it has them ("... z(dp,spread; both)").
+ */
+export function defaultModelLabel(m: ModelSpec, e: EstimatorSpec, instruments?: InstrumentsSpec): string {
+  const z = instruments && instruments.series.length ? ` z(${instruments.series.join(',')}; ${instruments.scale})` : '';
+  return `${modelLabel(m)} [${estimatorLabel(e)}]${z}`;
 }
 
 /**

@@ -12,10 +12,11 @@
  * A window whose fit fails (singular matrix, no convergence, too short) is recorded
  * with its reason and left out of the summaries; it never stops the run.
  */
+import { warning } from '../warnings.js';
 import { DeflatorError, isDeflatorError } from '../errors.js';
 import type { ReturnsPanel } from '../panel.js';
 import type { FitSpec } from '../spec.js';
-import type { BacktestResult, FitResult, SampleHeader } from '../results.js';
+import type { BacktestResult, FitResult, ResultWarning, SampleHeader } from '../results.js';
 import { PERIODS_PER_YEAR } from '../data.js';
 import { conditionPanel, instrumentHeader, meanPrice, payoffKey, payoffPrices } from '../estimation/instruments.js';
 import { CrossMoments } from './crossMoments.js';
@@ -340,7 +341,16 @@ export function summarizeBacktest(spec: FitSpec, rawPanel: ReturnsPanel, records
     paths: ok.map((r) => ({ end: panel.periods[schedule[r.index].end - 1], params: r.params as WindowParam[] })),
     windowList,
     spec: { window: spec.backtest.window, step: spec.backtest.step, horizon: spec.backtest.horizon, expanding: spec.backtest.expanding },
+    warnings: failed.length ? [failedWindowsWarning(failed.length, sorted.length, failed[0].reason ?? 'failed')] : [],
   };
+}
+
+/** FAILED_WINDOWS: how many windows failed, the first reason, and what the summaries leave out. */
+export function failedWindowsWarning(failed: number, total: number, firstReason: string): ResultWarning {
+  return warning(
+    'FAILED_WINDOWS',
+    `${failed} of ${total} back-test windows could not be estimated and are left out of every summary (first reason: ${firstReason}); the out-of-sample figures describe the other ${total - failed} windows only`,
+  );
 }
 
 export function engineName(spec: FitSpec, engine: BacktestEngine = 'auto'): string {

@@ -5,9 +5,10 @@
  * the reason. Built one task at a time so a merge never holds every full result.
  */
 import { DeflatorError } from '../errors.js';
-import { bestPerColumn, outcomeRow, type ModelOutcome } from '../compare/compare.js';
+import { outcomeRow, type ModelOutcome } from '../compare/compare.js';
+import { bestPerColumn } from '../present/best.js';
 import { stringifyExact } from '../records/exact-json.js';
-import type { BatchResult, BatchRow, FitResult, SampleHeader } from '../results.js';
+import type { BatchResult, BatchRow, FitResult, ResultWarning, SampleHeader } from '../results.js';
 import type { BatchSetting } from './grid.js';
 
 /** What one task produced: its fit (or the estimation error), and its back-test when it has one. */
@@ -103,7 +104,20 @@ export class BatchAssembler {
       failures: this.failures,
       best: bestPerColumn(this.rows),
       data,
+      warnings: taskWarnings(this.rows),
     };
     return result;
   }
+}
+
+/** The tasks' warnings, one per code: how many tasks carry it and the first one's message. */
+export function taskWarnings(rows: readonly BatchRow[]): ResultWarning[] {
+  const byCode = new Map<string, { count: number; first: BatchRow; message: string }>();
+  for (const r of rows)
+    for (const w of new Map((r.warnings ?? []).map((x) => [x.code, x])).values()) {
+      const seen = byCode.get(w.code);
+      if (seen) seen.count++;
+      else byCode.set(w.code, { count: 1, first: r, message: w.message });
+    }
+  return [...byCode.entries()].map(([code, v]) => ({ code, message: `${v.count} of ${rows.length} fitted tasks; the first, task ${v.first.task}: ${v.message}` }));
 }

@@ -1,12 +1,12 @@
 /**
  * Rankings of a merged batch: its fitted tasks ordered by one comparison column, in the
- * direction the comparison's best rule gives that column (shared/compare COLUMNS):
+ * direction the one best rule gives that column (shared/present/best.ts ORDERS):
  * smallest HJ distance, largest p-value of the pricing-error test (Hansen's J at the
  * second stage), smallest out-of-sample RMSE. Tasks without the value (no HJ distance,
  * no back-test, a failed back-test) come after the others; ties keep task order.
  */
 import { DeflatorError } from '../errors.js';
-import { COLUMNS } from '../compare/compare.js';
+import { ORDERS, bestPerColumn } from '../present/best.js';
 import type { BatchResult, BatchRow, CompareResult } from '../results.js';
 
 /** The orders a batch can be ranked in: option value -> comparison column. */
@@ -24,7 +24,7 @@ export function isRankBy(x: unknown): x is RankBy {
 
 /** The fitted tasks in rank order (a new array; the result is not changed). */
 export function rankBatch(r: Pick<BatchResult, 'models'>, by: RankBy): BatchRow[] {
-  const col = COLUMNS.find((c) => c.key === RANK_BY[by].column);
+  const col = ORDERS.find((c) => c.key === RANK_BY[by].column);
   if (!col) throw new DeflatorError('INPUT_INVALID', `no comparison column ${RANK_BY[by].column}`, 'rank by hj, p or oos');
   const value = (row: BatchRow): number | undefined => {
     if (by === 'oos' && row.error) return undefined;
@@ -42,7 +42,7 @@ export function rankBatch(r: Pick<BatchResult, 'models'>, by: RankBy): BatchRow[
 
 /** How many fitted tasks have a value to be ranked on. */
 export function rankedCount(r: Pick<BatchResult, 'models'>, by: RankBy): number {
-  const col = COLUMNS.find((c) => c.key === RANK_BY[by].column)!;
+  const col = ORDERS.find((c) => c.key === RANK_BY[by].column)!;
   return r.models.filter((m) => !(by === 'oos' && m.error) && Number.isFinite(col.value(m) ?? NaN)).length;
 }
 
@@ -52,12 +52,9 @@ export function rankedCount(r: Pick<BatchResult, 'models'>, by: RankBy): number 
  */
 export function batchAsComparison(r: BatchResult, rows: BatchRow[]): CompareResult {
   const models = rows.map((m) => ({ ...m, label: `#${m.task} ${m.label}` }));
-  const best: Record<string, string> = {};
-  for (const [key, label] of Object.entries(r.best)) {
-    const hit = r.models.find((m) => m.label === label);
-    if (hit) best[key] = `#${hit.task} ${hit.label}`;
-  }
-  return { kind: 'compare', sample: r.sample, models, hjTests: [], best };
+  // Marks among the rows shown, by the one rule (shared/present/best.ts).
+  const warnings = models.flatMap((m) => (m.warnings ?? []).map((w) => ({ ...w, model: m.label })));
+  return { kind: 'compare', sample: r.sample, models, hjTests: [], best: bestPerColumn(models), warnings };
 }
 
 /** What the app's comparison screen shows of a merged batch: the top of one ranking. */

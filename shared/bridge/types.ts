@@ -36,6 +36,17 @@ export interface Coverage {
   portfolios: CoverageRow[];
 }
 
+/** The sample a fit spec would use on the stored data (the set-up shows the lags "auto" gives). */
+export interface SamplePreview {
+  start: string;
+  end: string;
+  T: number;
+  N: number;
+  /** The Newey-West lags the fit will use: the spec's number, or floor(4 (T/100)^(2/9)) for "auto". */
+  lags: number;
+  lagsRule: string;
+}
+
 export interface AppInfo {
   version: string;
   /** File name of the open project database (never a full path). */

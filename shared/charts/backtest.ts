@@ -3,6 +3,7 @@
  * +/- 2 s.e. band, and the per-asset out-of-sample pricing error beside the in-sample one.
  */
 import type { BacktestResult } from '../results.js';
+import { periodWord } from '../present/units.js';
 import { baseOption, categoryAxis, num, valueAxis } from './common.js';
 import { PALETTE, SERIES_COLORS } from './palette.js';
 import type { ChartOption, SeriesOption } from './types.js';
@@ -66,7 +67,7 @@ export function parameterPathsOption(bt: BacktestResult, names: string[] = pathP
 export function oosErrorsOption(bt: BacktestResult, opts: { annual?: boolean } = {}): ChartOption {
   const annual = opts.annual ?? true;
   const k = (annual ? bt.sample.periodsPerYear : 1) * 100;
-  const unit = annual ? '% a year' : '% per period';
+  const unit = annual ? '% per year' : `% per ${periodWord(bt.sample.frequency)}`;
   // With instruments one asset has a row per instrument: "<asset>:<instrument>" (the asset alone for the constant).
   const assets = bt.perAsset.map((a) => (a.instrument === undefined || a.instrument === 'const' ? a.asset : `${a.asset}:${a.instrument}`));
   const fin = (x: number) => (Number.isFinite(x) ? x * k : null);
@@ -79,8 +80,8 @@ export function oosErrorsOption(bt: BacktestResult, opts: { annual?: boolean } =
     xAxis: categoryAxis(assets),
     yAxis: valueAxis(`mean pricing error, ${unit}`),
     series: [
-      { type: 'bar', name: 'out of sample', data: bt.perAsset.map((a) => fin(a.alphaOos)), itemStyle: { color: PALETTE.primary }, barMaxWidth: 18 },
-      { type: 'bar', name: 'in sample', data: bt.perAsset.map((a) => fin(a.alphaIn)), itemStyle: { color: PALETTE.faint }, barMaxWidth: 18 },
+      { type: 'bar', name: 'out of sample (mean held-out α)', data: bt.perAsset.map((a) => fin(a.alphaOos)), itemStyle: { color: PALETTE.primary }, barMaxWidth: 18 },
+      { type: 'bar', name: "in sample (mean of the windows' own α)", data: bt.perAsset.map((a) => fin(a.alphaIn)), itemStyle: { color: PALETTE.faint }, barMaxWidth: 18 },
     ],
   };
 }

@@ -4,7 +4,11 @@
  * distance is the pricing error).
  */
 import type { FitResult } from '../results.js';
+import { periodWord } from '../present/units.js';
 import { baseOption, num, valueAxis } from './common.js';
+
+/** Points named on the chart: the assets with the largest pricing errors. */
+export const LABELLED = 6;
 import { PALETTE } from './palette.js';
 import type { ChartOption } from './types.js';
 
@@ -25,14 +29,25 @@ export function niceRange(min: number, max: number, ticks = 5): { lo: number; hi
 }
 
 export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean } = {}): ChartOption {
-  const annual = opts.annual ?? true;
-  const k = (annual ? fit.sample.periodsPerYear : 1) * 100;
+  // Gross returns are numbers near 1, per period: neither percent nor annualised (docs/methods.md, units).
+  const gross = fit.sample.returns === 'gross';
+  const annual = !gross && (opts.annual ?? true);
+  const k = gross ? 1 : (annual ? fit.sample.periodsPerYear : 1) * 100;
   // With instruments only the unscaled returns (the constant's rows): a scaled payoff's mean is in units of return x instrument.
   const pts = fit.pricingErrors.filter((r) => r.instrument === undefined || r.instrument === 'const').map((r) => ({ name: r.asset, value: [r.predicted * k, r.meanReturn * k] }));
   const all = pts.flatMap((p) => p.value).filter(Number.isFinite);
-  const { lo, hi, step } = niceRange(all.length ? Math.min(...all, 0) : 0, all.length ? Math.max(...all, 0) : 1);
-  const unit = annual ? '% a year' : '% per period';
-  const labels = pts.length <= 30;
+  const { lo, hi, step } = gross
+    ? niceRange(all.length ? Math.min(...all) : 0.99, all.length ? Math.max(...all) : 1.01)
+    : niceRange(all.length ? Math.min(...all, 0) : 0, all.length ? Math.max(...all, 0) : 1);
+  const unit = gross ? `gross return per ${periodWord(fit.sample.frequency)}` : annual ? '% per year' : `% per ${periodWord(fit.sample.frequency)}`;
+  // Labels never pile up: only the assets farthest from the line are named (the table lists every asset).
+  const named = new Set(
+    [...fit.pricingErrors]
+      .sort((a, b) => Math.abs(b.alpha) - Math.abs(a.alpha))
+      .slice(0, LABELLED)
+      .map((r) => r.asset),
+  );
+  const digits = gross ? 4 : 2;
   return {
     id: 'predicted-realized',
     ...baseOption(),
@@ -41,10 +56,10 @@ export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean
       ...(baseOption().tooltip as Record<string, unknown>),
       trigger: 'item',
       formatter: (p: { name?: string; value?: number[]; seriesName?: string }) =>
-        p.seriesName === '45°' || !p.value ? '' : `<b>${p.name ?? ''}</b><br/>predicted ${num(p.value[0], 2)}<br/>realised ${num(p.value[1], 2)} ${unit}`,
+        p.seriesName === '45°' || !p.value ? '' : `<b>${p.name ?? ''}</b><br/>predicted ${num(p.value[0], digits)}<br/>realised ${num(p.value[1], digits)} ${unit}`,
     },
-    xAxis: valueAxis(`predicted mean ${fit.sample.returns} return, ${unit}`, { min: lo, max: hi, interval: step, nameGap: 30, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
-    yAxis: valueAxis(`realised mean, ${unit}`, { min: lo, max: hi, interval: step, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, 1) } }),
+    xAxis: valueAxis(`predicted mean ${fit.sample.returns} return, ${unit}`, { min: lo, max: hi, interval: step, nameGap: 30, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, gross ? 3 : 1) } }),
+    yAxis: valueAxis(`realised mean, ${unit}`, { min: lo, max: hi, interval: step, axisLabel: { color: PALETTE.muted, fontSize: 10, formatter: (v: number) => num(v, gross ? 3 : 1) } }),
     series: [
       {
         type: 'line',
@@ -63,7 +78,7 @@ export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean
         data: pts,
         symbolSize: pts.length > 50 ? 5 : 8,
         itemStyle: { color: PALETTE.primary, opacity: 0.85 },
-        label: { show: labels, position: 'right', formatter: '{b}', fontSize: 9, color: PALETTE.muted },
+        label: { show: true, position: 'right', formatter: (x: { name?: string }) => (x.name && named.has(x.name) ? x.name : ''), fontSize: 9, color: PALETTE.muted },
         labelLayout: { hideOverlap: true },
       },
     ],

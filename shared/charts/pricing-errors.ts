@@ -3,6 +3,7 @@
  * error alpha_i and its standard error from the fit, METHODS section 3).
  */
 import type { FitResult, PricingErrorRow } from '../results.js';
+import { periodWord } from '../present/units.js';
 import { baseOption, categoryAxis, num, valueAxis } from './common.js';
 import { PALETTE } from './palette.js';
 import type { ChartOption, CustomApi } from './types.js';
@@ -54,7 +55,7 @@ export function pricingErrorOption(fit: FitResult, opts: PricingErrorChartOption
   const scale = 100; // percent
   const val = (r: PricingErrorRow): number => (annual ? r.alphaAnnual : r.alpha) * scale;
   const se = (r: PricingErrorRow): number => (annual ? r.seAnnual : r.se) * scale;
-  const unit = annual ? '% a year' : `% per period (${fit.sample.frequency})`;
+  const unit = annual ? '% per year' : `% per ${periodWord(fit.sample.frequency)}`;
   // With instruments one asset has a row per instrument: "<asset>:<instrument>" (the asset alone for the constant).
   const key = (r: PricingErrorRow): string => (r.instrument === undefined || r.instrument === 'const' ? r.asset : `${r.asset}:${r.instrument}`);
   const assets = rows.map(key);

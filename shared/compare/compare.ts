@@ -11,7 +11,9 @@
 import { DeflatorError, isDeflatorError } from '../errors.js';
 import { mapPanelPeriods, type ReturnsPanel } from '../panel.js';
 import type { CompareSpec, FitSpec } from '../spec.js';
-import type { BacktestResult, CompareResult, CompareRow, FitResult } from '../results.js';
+import type { BacktestResult, CompareResult, CompareRow, EstimatorIdentity, FitResult, ResultWarning } from '../results.js';
+import { bestPerColumn } from '../present/best.js';
+import { warning } from '../warnings.js';
 import { blockLength } from '../bootstrap/blocks.js';
 import type { CancelToken, FitFunction } from '../backtest/run.js';
 import { describeFailures, hjBootstrapDraws, hjDifferenceTest, type HjBootstrapChunk, type HjBootstrapDeps } from './bootstrap.js';
@@ -51,10 +53,27 @@ export function alignPanels(panels: ReturnsPanel[]): { panels: ReturnsPanel[]; d
 /** What happened to one model. */
 export interface ModelOutcome {
   label: string;
+  /** The model's full spec (its estimator identifies it beside its kind and factors). */
+  spec?: FitSpec;
   fit?: FitResult;
   error?: string;
   backtest?: BacktestResult;
   backtestError?: string;
+}
+
+/** A model's outcome before anything ran: its label and spec. */
+export function outcomeFor(f: FitSpec): ModelOutcome {
+  return { label: f.label ?? f.model.kind, spec: f };
+}
+
+/** The estimator that fitted a model: method, stage, first-stage weight, lags (spec and used). */
+export function estimatorIdentity(spec: FitSpec, fit: FitResult): EstimatorIdentity {
+  return { method: spec.estimator.method, stage: spec.estimator.stage, weight: spec.estimator.weight, lags: spec.estimator.lags, lagsUsed: fit.sample.lags };
+}
+
+/** One value if every model shares it, else a pointer to the per-model column. */
+function common(values: string[], what: string): string {
+  return new Set(values).size === 1 ? values[0] : `per model (see the ${what} column)`;
 }
 
 /** The models that take part in the HJ bootstrap: fitted, with an HJ distance. */
@@ -74,46 +93,26 @@ export function bootstrapSettings(spec: CompareSpec, T: number): { replications:
   return { replications: bs.replications, block: blockLength(T, bs.block), seed: bs.seed };
 }
 
-export type Column = { key: string; value: (r: CompareRow) => number | undefined; better: 'max' | 'min' };
-/** The comparison's columns and which way is better: the one rule for best marks and batch rankings. */
-export const COLUMNS: Column[] = [
-  { key: 'test.p', value: (r) => r.test.p, better: 'max' },
-  { key: 'hj.distance', value: (r) => r.hj?.distance, better: 'min' },
-  { key: 'hj.p', value: (r) => r.hj?.p, better: 'max' },
-  { key: 'fit.mape', value: (r) => r.fit.mape, better: 'min' },
-  { key: 'fit.rmse', value: (r) => r.fit.rmse, better: 'min' },
-  { key: 'fit.r2', value: (r) => r.fit.r2, better: 'max' },
-  { key: 'oos.rmse', value: (r) => r.oos?.rmse, better: 'min' },
-  { key: 'oos.r2', value: (r) => r.oos?.r2, better: 'max' },
-];
-
-/** Column key -> label of the best row (first on ties); columns no row has are left out. */
-export function bestPerColumn(rows: CompareRow[]): Record<string, string> {
-  const best: Record<string, string> = {};
-  for (const c of COLUMNS) {
-    let label: string | undefined;
-    let v = 0;
-    for (const r of rows) {
-      const x = c.value(r);
-      if (x === undefined || !Number.isFinite(x)) continue;
-      if (label === undefined || (c.better === 'max' ? x > v : x < v)) {
-        label = r.label;
-        v = x;
-      }
-    }
-    if (label !== undefined) best[c.key] = label;
-  }
-  return best;
-}
-
-/** The table row of a fitted model: its parameters, test, HJ distance, fit and out-of-sample errors. */
+/** The table row of a fitted model: its identity (kind, factors, estimator), parameters, test, HJ distance, fit, out-of-sample errors and warnings. */
 export function outcomeRow(o: ModelOutcome): CompareRow {
   const f = o.fit;
   if (!f) throw new DeflatorError('INPUT_INVALID', `model ${o.label} has no fit to tabulate`, 'tabulate fitted models only');
-  const row: CompareRow = { label: o.label, params: f.params, test: f.test, fit: f.fit };
+  const row: CompareRow = { label: o.label, model: f.sample.model, returns: f.sample.returns, factors: f.sample.factors, params: f.params, test: f.test, fit: f.fit };
+  if (o.spec) {
+    row.estimator = estimatorIdentity(o.spec, f);
+    if (o.spec.model.kind === 'consumption') row.factors = [o.spec.model.consumption ?? 'consumption'];
+  } else {
+    // Without the spec (a batch task read back from its result file): what the fit's header says.
+    const weight = f.sample.method !== 'gmm' ? '' : /Hansen-Jagannathan/.test(f.sample.weighting) ? 'hj' : 'identity';
+    row.estimator = { method: f.sample.method, stage: f.sample.stage, weight, lags: f.sample.lags, lagsUsed: f.sample.lags };
+  }
   if (f.hj) row.hj = f.hj;
-  if (o.backtest) row.oos = { ...o.backtest.oos };
+  if (o.backtest) {
+    row.oos = { ...o.backtest.oos };
+    row.oosWindowsFailed = o.backtest.windowsFailed;
+  }
   if (o.backtestError) row.error = `back-test failed: ${o.backtestError}`;
+  row.warnings = [...(f.warnings ?? []), ...(o.backtest?.warnings ?? [])];
   return row;
 }
 
@@ -129,13 +128,21 @@ export function assembleCompare(
     throw new DeflatorError('SINGULAR', `no model of the comparison could be fitted; ${outcomes.map((o) => `${o.label}: ${o.error}`).join('; ')}`, 'fix the first error named above');
   }
   const rows: CompareRow[] = ok.map(outcomeRow);
-  const first = (ok[0].fit as FitResult).sample;
+  const warnings: ResultWarning[] = rows.flatMap((r) => (r.warnings ?? []).map((w) => ({ ...w, model: r.label })));
+  const fitted = ok.map((o) => (o.fit as FitResult).sample);
+  const first = fitted[0];
   const sample = {
     ...first,
     model: `comparison of ${outcomes.length} models`,
+    method: common(fitted.map((x) => x.method), 'estimator'),
+    stage: common(fitted.map((x) => x.stage), 'estimator'),
+    weighting: common(fitted.map((x) => x.weighting), 'estimator'),
+    lagsRule: new Set(fitted.map((x) => `${x.lags} (${x.lagsRule})`)).size === 1 ? first.lagsRule : 'per model (see the estimator column)',
+    returns: first.returns,
+    factors: [...new Set(fitted.flatMap((x) => x.factors))],
     notes: [...first.notes, ...(spec.backtest ? [`out-of-sample columns: back-test with windows of ${spec.backtest.window}, step ${spec.backtest.step}, horizon ${spec.backtest.horizon}${spec.backtest.expanding ? ', expanding' : ''}`] : [])],
   };
-  const result: CompareResult = { kind: 'compare', sample, models: rows, hjTests: [], best: bestPerColumn(rows) };
+  const result: CompareResult = { kind: 'compare', sample, models: rows, hjTests: [], best: bestPerColumn(rows), warnings };
   const failures = outcomes.filter((o) => !o.fit).map((o) => ({ label: o.label, error: o.error ?? 'failed' }));
   if (failures.length) result.failures = failures;
   if (bootstrap && bootstrap.members.length >= 2) {
@@ -157,6 +164,15 @@ export function assembleCompare(
       method: HJ_TEST_METHOD,
       failures: bootstrap.failures,
     };
+    if (bootstrap.failures.length) {
+      const lost = Math.max(0, ...result.hjTests.map((t) => st.replications - (t.used ?? st.replications)));
+      warnings.push(
+        warning(
+          'FAILED_REPLICATIONS',
+          `${lost > 0 ? `up to ${lost} of ${st.replications}` : 'some'} bootstrap replications could not be computed and are left out of the HJ-distance p-values (${bootstrap.failures.join('; ')}); each p-value counts only the replications it used`,
+        ),
+      );
+    }
   }
   return result;
 }
@@ -205,7 +221,7 @@ export function compareModels(spec: CompareSpec, fits: FitSpec[], rawPanels: Ret
   const { panels } = alignPanels(rawPanels);
   const outcomes: ModelOutcome[] = fits.map((f, i) => {
     if (deps.signal?.aborted) throw new DeflatorError('CANCELLED', 'the comparison was cancelled', 'nothing was saved; run it again');
-    const o = modelOutcome(f, panels[i], spec.backtest !== undefined, deps);
+    const o = { ...modelOutcome(f, panels[i], spec.backtest !== undefined, deps), spec: f };
     deps.onStage?.('fit', i + 1, fits.length);
     return o;
   });

@@ -13,12 +13,25 @@
  */
 import { DeflatorError } from '../errors.js';
 import { seriesDot, type Mat } from '../linalg/matrix.js';
+import type { ResultWarning } from '../results.js';
+import { warning } from '../warnings.js';
 import { SdfMomentModel, type SdfModelKind } from './momentModel.js';
 
 /** Grid of risk-aversion values scanned for a starting value (common practice: a coarse scan before a local solver). */
-const GAMMA_GRID = { from: -20, to: 200, step: 0.5 };
+export const GAMMA_GRID = { from: -20, to: 200, step: 0.5 };
 /** Spacing of the local-minimum guard's points over the same range. */
 const GUARD_STEP = 10;
+
+/** What the start scan found (ConsumptionModel.startScan). */
+export interface GammaScan {
+  theta: Float64Array;
+  /** The best grid gamma (NaN when no grid point had a finite objective). */
+  gamma: number;
+  /** The best grid gamma is an end of the grid (of its points with a finite objective). */
+  atEdge: boolean;
+  /** Grid gammas that are local minima of the scan objective. */
+  minima: number[];
+}
 
 export class ConsumptionModel extends SdfMomentModel {
   readonly kind: SdfModelKind = 'consumption';
@@ -106,7 +119,59 @@ export class ConsumptionModel extends SdfMomentModel {
 
   /** Best gamma on a grid (identity weight); with delta free, delta is profiled out in closed form. */
   start(): Float64Array {
-    return this.scan(GAMMA_GRID.step).best;
+    return this.startScan().theta;
+  }
+
+  private scanned?: GammaScan;
+
+  /** The start scan over GAMMA_GRID (computed once): the best grid point, whether it is an end, the grid's local minima. */
+  startScan(): GammaScan {
+    if (!this.scanned) {
+      const sc = this.scan(GAMMA_GRID.step);
+      const g = sc.grid;
+      const minima: number[] = [];
+      for (let k = 0; k < g.length; k++) {
+        const o = g[k].obj;
+        if (!Number.isFinite(o)) continue;
+        const left = k > 0 && Number.isFinite(g[k - 1].obj) ? g[k - 1].obj : Infinity;
+        const right = k < g.length - 1 && Number.isFinite(g[k + 1].obj) ? g[k + 1].obj : Infinity;
+        if (o < left && o < right) minima.push(g[k].gamma);
+      }
+      const finite = g.filter((x) => Number.isFinite(x.obj));
+      const atEdge = finite.length > 0 && (sc.bestGamma === finite[0].gamma || sc.bestGamma === finite[finite.length - 1].gamma);
+      this.scanned = { theta: sc.best, gamma: sc.bestGamma, atEdge, minima };
+    }
+    return this.scanned;
+  }
+
+  /**
+   * START_AT_EDGE when the scan's best gamma is an end of GAMMA_GRID or the estimate lies
+   * outside it (the scan cannot vouch for a start it never looked beyond); SEVERAL_MINIMA
+   * when the grid objective has more than one local minimum (the solver found the one
+   * nearest the best grid point; another may be the global minimum of the stage's objective).
+   */
+  scanWarnings(estimateGamma: number): ResultWarning[] {
+    const sc = this.startScan();
+    const out: ResultWarning[] = [];
+    const range = `[${GAMMA_GRID.from}, ${GAMMA_GRID.to}]`;
+    const outside = estimateGamma < GAMMA_GRID.from || estimateGamma > GAMMA_GRID.to;
+    if (sc.atEdge || outside)
+      out.push(
+        warning(
+          'START_AT_EDGE',
+          outside
+            ? `the estimate gamma = ${estimateGamma.toPrecision(6)} lies outside the range ${range} scanned for the solver's start: the scan cannot vouch that it is the global minimum; check it with a fixed start or another sample`
+            : `the start scan of gamma over ${range} found its best value at the edge (gamma = ${sc.gamma}): the minimum may lie beyond the range; the estimate gamma = ${estimateGamma.toPrecision(6)} is a local solution from there`,
+        ),
+      );
+    if (sc.minima.length > 1)
+      out.push(
+        warning(
+          'SEVERAL_MINIMA',
+          `the start scan of gamma over ${range} (identity weight) found ${sc.minima.length} local minima (gamma = ${sc.minima.slice(0, 6).join(', ')}${sc.minima.length > 6 ? ', ...' : ''}); the solver started at the lowest, gamma = ${sc.gamma}, and another minimum may fit almost as well`,
+        ),
+      );
+    return out;
   }
 
   /**
@@ -123,10 +188,12 @@ export class ConsumptionModel extends SdfMomentModel {
     return s.points.map((theta, k) => ({ theta, g: s.moments[k] }));
   }
 
-  private scan(step: number): { best: Float64Array; points: Float64Array[]; moments: Float64Array[] } {
+  private scan(step: number): { best: Float64Array; bestGamma: number; points: Float64Array[]; moments: Float64Array[]; grid: { gamma: number; obj: number }[] } {
     const { T, nAssets } = this;
     const points: Float64Array[] = [];
     const moments: Float64Array[] = [];
+    const grid: { gamma: number; obj: number }[] = [];
+    let bestGamma = Number.NaN;
     let best = Infinity;
     let bestTheta = this.fixedDelta === undefined ? Float64Array.of(1, 0) : Float64Array.of(0);
     const h = new Float64Array(nAssets);
@@ -148,7 +215,10 @@ export class ConsumptionModel extends SdfMomentModel {
           shh += h[i] * h[i];
           scc += c[i] * c[i];
         }
-        if (!(shh > 0) || !Number.isFinite(shh)) continue;
+        if (!(shh > 0) || !Number.isFinite(shh)) {
+          grid.push({ gamma, obj: Number.NaN });
+          continue;
+        }
         delta = sh / shh;
         obj = scc - (sh * sh) / shh;
       } else {
@@ -156,6 +226,7 @@ export class ConsumptionModel extends SdfMomentModel {
         obj = 0;
         for (let i = 0; i < nAssets; i++) obj += delta * delta * h[i] * h[i];
       }
+      grid.push({ gamma, obj });
       const theta = this.fixedDelta === undefined ? Float64Array.of(delta, gamma) : Float64Array.of(gamma);
       if (Number.isFinite(obj)) {
         points.push(theta);
@@ -165,9 +236,10 @@ export class ConsumptionModel extends SdfMomentModel {
       }
       if (Number.isFinite(obj) && obj < best) {
         best = obj;
+        bestGamma = gamma;
         bestTheta = theta;
       }
     }
-    return { best: bestTheta, points, moments };
+    return { best: bestTheta, bestGamma, points, moments, grid };
   }
 }

@@ -15,8 +15,9 @@
  * - cue: minimise g(theta)'S(theta)^{-1}g(theta) (see cue.ts), started at the second
  *   stage; inference with S at the estimate.
  */
-import { DeflatorError } from '../errors.js';
 import type { Mat } from '../linalg/matrix.js';
+import type { ResultWarning } from '../results.js';
+import { warning } from '../warnings.js';
 import { solveCue } from './cue.js';
 import { solveFixedWeight, STEP_TOL, type FixedWeightSolution } from './gaussNewton.js';
 import { gmmInference, type GmmInference, type WeightingForInference } from './gmmInference.js';
@@ -59,6 +60,8 @@ export interface GmmEstimate extends GmmInference {
   /** How W and S were chosen, for the result header. */
   weightingText: string;
   notes: string[];
+  /** Reasons not to trust the estimate (ITERATION_CAP); absent when there are none. */
+  warnings?: ResultWarning[];
 }
 
 /** Long-run covariance of the model's moments at theta. */
@@ -197,6 +200,7 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
   }
 
   // Iterated.
+  const capWarnings: ResultWarning[] = [];
   let theta = theta1;
   let S = S1;
   let change = Infinity;
@@ -213,11 +217,15 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
     S = momentCovariance(model, theta, opts.lags, opts.centered);
     if (change < 1e-10) break;
   }
-  if (!(change < 1e-10))
-    throw new DeflatorError(
-      'NO_CONVERGENCE',
-      `iterated GMM: the estimate still moved by ${change.toExponential(2)} after ${k} weight updates (criterion max|theta_k - theta_k-1| < 1e-10)`,
-      'raise estimator.maxIterations or use the second stage',
+  // At the cap the last iterate is reported, not converged, with an ITERATION_CAP warning:
+  // it is a valid GMM estimate with the weight of the previous iteration, not the fixed point.
+  const converged = change < 1e-10;
+  if (!converged)
+    capWarnings.push(
+      warning(
+        'ITERATION_CAP',
+        `iterated GMM stopped at the cap of ${k} weight updates (estimator.maxIterations) with the estimate still moving by ${change.toExponential(2)} (criterion max|theta_k - theta_k-1| < 1e-10): the numbers are those of the last update, not of the fixed point; raise estimator.maxIterations or use the second stage`,
+      ),
     );
   const g = model.meanMoments(theta);
   const d = model.jacobian(theta);
@@ -233,8 +241,9 @@ export function gmmEstimate(model: MomentModel, opts: GmmOptions): GmmEstimate {
     efficient: true,
     firstStage: theta1,
     iterations: k,
-    converged: true,
+    converged,
     criterion: 'max|theta_k - theta_(k-1)| < 1e-10',
+    warnings: capWarnings,
     weightingText: `iterated, W = S^-1 on all ${model.q} moments updated to its fixed point (start: ${w1Text}${pinText}); inference with S at the fixed point`,
     notes,
   };

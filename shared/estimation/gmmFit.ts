@@ -8,7 +8,8 @@
 import { PERIODS_PER_YEAR } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import type { Conditioning, ReturnsPanel } from '../panel.js';
-import type { FitResult, ParamEstimate, PricingErrorRow, TestResult } from '../results.js';
+import type { FitResult, ParamEstimate, PricingErrorRow, ResultWarning, TestResult } from '../results.js';
+import { BOUND_TOLERANCE, fewPeriodsWarning, nearSingularWarning, warning } from '../warnings.js';
 import type { FitSpec } from '../spec.js';
 import { chiSquareSf, normalTwoSidedP } from '../stats/distributions.js';
 import { ConsumptionModel } from './consumptionSdf.js';
@@ -24,7 +25,7 @@ import { lagsChoice } from './longRunCovariance.js';
 import { discountedPaths } from '../values/discountedValue.js';
 import { mean, type MomentModel } from './momentModel.js';
 import { factorCovariance, riskPremia, RISK_PREMIA_NOTE } from './riskPremia.js';
-import { sdfMoments, volatilityBound } from './volatilityBound.js';
+import { boundAtModel, sdfMoments, volatilityBound } from './volatilityBound.js';
 import { hjWeighting, type Weighting } from './weighting.js';
 import type { FixedWeightSolution } from './gaussNewton.js';
 
@@ -264,11 +265,29 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
   const hj = hjDistance(model, lags, prep.options.centered);
   const fit = crossSectionFit(alpha, meanReturns, ppy);
   if (!fit.r2Defined) notes.push('R^2_cs is not defined (all test assets have the same mean return); reported as 0.');
-  let bound;
+  const warnings: ResultWarning[] = [];
+  const few = fewPeriodsWarning(T, model.q);
+  if (few) warnings.push(few);
+  const nearSingular = nearSingularWarning(est.sPivot.share, model.momentNames[est.sPivot.index] ?? `moment ${est.sPivot.index + 1}`);
+  if (nearSingular) warnings.push(nearSingular);
+  if (est.warnings) warnings.push(...est.warnings);
+  if (model instanceof ConsumptionModel) warnings.push(...model.scanWarnings(est.theta[model.p - 1]));
+  let bound: FitResult['bound'];
   try {
     const prices = model.prices ? Float64Array.from(model.prices, (z) => (z ? mean(z) : 1)) : undefined;
     const b = volatilityBound({ returns: model.returns, assetNames: assets, kind: spec.returns, sdf: m, ...(prices ? { prices } : {}) });
     bound = { curve: b.curve, maxSharpe: b.maxSharpe, model: b.model };
+    const at = boundAtModel(b, spec.returns);
+    if (at !== undefined && Number.isFinite(at)) {
+      bound.atModel = at;
+      if (b.model && b.model.sigma < at * (1 - BOUND_TOLERANCE))
+        warnings.push(
+          warning(
+            'BELOW_VOLATILITY_BOUND',
+            `the fitted discount factor has sigma(m) = ${b.model.sigma.toPrecision(4)} at E[m] = ${b.model.mean.toPrecision(6)}, below the Hansen-Jagannathan bound ${at.toPrecision(4)} there: no discount factor this smooth prices the test assets, so the model's pricing errors cannot all be small`,
+          ),
+        );
+    }
     if (b.riskless.length) notes.push(`Volatility bound: ${b.riskless.join(', ')} left out of the bound (riskless over the sample).`);
   } catch (e) {
     if (!(e instanceof DeflatorError)) throw e;
@@ -318,6 +337,7 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
       sdf: m,
       priority: pricingErrors.map((e) => e.t),
     }),
+    warnings,
   };
   assertAllFinite(result);
   return { result, estimate: est, prepared: prep };

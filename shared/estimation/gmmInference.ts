@@ -32,7 +32,7 @@
  * O(q^2 p), never as the product of q x q matrices.
  */
 import { DeflatorError } from '../errors.js';
-import { cholesky, cholForwardMat, cholSolveMat, cholSolveVec } from '../linalg/cholesky.js';
+import { cholesky, cholForwardMat, cholSolveMat, cholSolveVec, smallestRelativePivot } from '../linalg/cholesky.js';
 import { type Mat, zeros } from '../linalg/matrix.js';
 import { projectedCovariancePinvForm } from '../linalg/pinv.js';
 import type { MomentModel } from './momentModel.js';
@@ -54,6 +54,8 @@ export interface GmmInference {
   df: number;
   /** T g'S^{-1}g when S is positive definite (Hansen's J at the efficient stage). */
   J: number;
+  /** The smallest relative Cholesky pivot of S and its moment (shared/warnings.ts, S_NEAR_SINGULAR). */
+  sPivot: { share: number; index: number };
 }
 
 /**
@@ -74,7 +76,7 @@ export function gmmInference(model: MomentModel, g: Float64Array, d: Mat, S: Mat
   let J = 0;
   for (let i = 0; i < q; i++) J += g[i] * Sg[i];
   J *= T;
-  return { covTheta, covG, pricingErrorStat: Math.max(0, stat), df, J };
+  return { covTheta, covG, pricingErrorStat: Math.max(0, stat), df, J, sPivot: smallestRelativePivot(LS, S) };
 }
 
 /**

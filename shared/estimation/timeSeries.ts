@@ -24,6 +24,7 @@
  * a given portfolio", Econometrica 57, 1121-1152; Cochrane, J. (2005), Asset Pricing,
  * rev. ed., Princeton University Press, ch. 12; Newey and West (1987).
  */
+import { fewPeriodsWarning } from '../warnings.js';
 import { PERIODS_PER_YEAR } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { cholesky, cholSolveVec } from '../linalg/cholesky.js';
@@ -321,6 +322,7 @@ export function timeSeriesFit(spec: FitSpec, panel: ReturnsPanel): FitResult {
       priority: pricingErrors.map((e) => e.t),
       note: "m_t = 1 - fbar' Sigma_f^-1 (f_t - fbar), the linear discount factor that prices the factor means: its mean increments are the intercepts a_i",
     }),
+    warnings: [fewPeriodsWarning(panel.periods.length, inp.assets.length + inp.factorNames.length)].filter((w) => w !== undefined),
   };
   assertAllFinite(result);
   return result;

@@ -32,6 +32,7 @@
  * beta-pricing models", Review of Financial Studies 5, 1-33; Cochrane, J. (2005), Asset
  * Pricing, rev. ed., ch. 12.
  */
+import { fewPeriodsWarning } from '../warnings.js';
 import { DeflatorError } from '../errors.js';
 import { applyQ, applyQt, inverseQuadForm, qrFactor, solveR } from '../linalg/qr.js';
 import type { ReturnsPanel } from '../panel.js';
@@ -209,6 +210,7 @@ export function twoPassFit(spec: FitSpec, panel: ReturnsPanel): FitResult {
         ? "m_t = 1 - lambda' Sigma_f^-1 (f_t - fbar) applied to R^e - gamma_0 (the zero-beta rate, lambda.const): its mean increments are the pricing errors"
         : "m_t = 1 - lambda' Sigma_f^-1 (f_t - fbar): its mean increments are the pricing errors",
     }),
+    warnings: [fewPeriodsWarning(panel.periods.length, inp.assets.length + inp.factorNames.length)].filter((w) => w !== undefined),
   };
   assertAllFinite(result);
   return result;

@@ -36,8 +36,21 @@ export interface BoundInput {
 export interface BoundOutput extends VolatilityBound {
   /** Gross returns: the E[m] at which sigma_min is smallest, and that minimum. */
   minimum?: { mean: number; sigma: number };
+  /** Gross returns: sigma_min(v) at any v. */
+  sigmaAt?: (v: number) => number;
   /** Assets left out because their return never varies (a riskless asset in the gross set). */
   riskless: string[];
+}
+
+/**
+ * The bound's smallest sigma(m) at the model's own E[m]: sigma_min(E m) on gross returns,
+ * maxSharpe x |E m| on excess returns. A discount factor that prices the assets has at
+ * least this volatility (Hansen and Jagannathan 1991).
+ */
+export function boundAtModel(b: BoundOutput, kind: 'gross' | 'excess'): number | undefined {
+  if (!b.model) return undefined;
+  if (kind === 'excess') return b.maxSharpe * Math.abs(b.model.mean);
+  return b.sigmaAt?.(b.model.mean);
 }
 
 function meanAndCov(x: readonly Float64Array[]): { mu: Float64Array; cov: Float64Array } {
@@ -112,5 +125,5 @@ export function volatilityBound(input: BoundInput): BoundOutput {
     const v = centre - half + (2 * half * k) / (points - 1);
     curve.push({ mean: v, sigma: sigmaAt(v) });
   }
-  return { curve, maxSharpe: grossSharpe, model, minimum: { mean: vStar, sigma: sigmaAt(vStar) }, riskless };
+  return { curve, maxSharpe: grossSharpe, model, minimum: { mean: vStar, sigma: sigmaAt(vStar) }, riskless, sigmaAt };
 }

@@ -297,3 +297,25 @@ export function cholLogDet(L: Mat): number {
   for (let i = 0; i < L.rows; i++) s += Math.log(L.data[i * L.rows + i]);
   return 2 * s;
 }
+
+/**
+ * The smallest relative pivot L_jj^2 / A_jj of a Cholesky factor: the share of entry j's
+ * variance not explained by the entries before it, scale-free (unchanged when a row and
+ * column are multiplied by a constant). The correlation form of A has a condition number
+ * of at least 1 / that share (it is at least the unexplained share given all the other
+ * entries, which is at least the smallest eigenvalue of the correlation matrix).
+ */
+export function smallestRelativePivot(L: Mat, a: Mat): { share: number; index: number } {
+  const n = L.rows;
+  let share = Infinity;
+  let index = -1;
+  for (let j = 0; j < n; j++) {
+    const ljj = L.data[j * n + j];
+    const r = (ljj * ljj) / a.data[j * n + j];
+    if (r < share) {
+      share = r;
+      index = j;
+    }
+  }
+  return { share, index };
+}

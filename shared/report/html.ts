@@ -1,17 +1,21 @@
 /**
  * The self-contained HTML report: one file with inline CSS and inline SVG charts
  * (shared/report/svg.ts), no scripts and no external resources, so it opens the same
- * offline, in a mail attachment or printed to PDF. It carries the caution, the sample
- * header, every table, the run record and its fingerprints. Numeric cells show a
- * rounded value and hold the exact stored double in `data-value` (and as a tooltip).
+ * offline, in a mail attachment or printed to PDF. It renders the presentation model
+ * (shared/present): caution, header, warnings, charts, every table with its marks,
+ * notes and warnings, the result's notes, the run record and the spec. Numeric cells
+ * show the display rounding and hold the exact stored double in `data-value`.
+ * Long listings (the m_t series, parameter paths, windows) form an appendix, left out
+ * of the printed (PDF) report unless asked for; the m_t series is drawn as a chart.
  */
-import type { AnyResult, BacktestResult, CompareResult, FitResult } from '../results.js';
-import { CAUTION } from '../results.js';
+import type { AnyResult, BacktestResult, CompareResult, FitResult, ResultWarning } from '../results.js';
 import { stringifyExact } from '../records/exact-json.js';
-import { recordLines, sampleHeaderLines, type ExportRecord } from './header.js';
-import { displayNumber, exactNumber } from './numbers.js';
-import { barChart, lineChart, scatterChart, xmlEscape } from './svg.js';
-import { resultTables, resultTitle, type ReportTable } from './tables.js';
+import { present, warningNumbers, type Presentation, type PresentedTable } from '../present/index.js';
+import { exactNumber, tableCellText, ROUNDING_NOTE } from '../present/format.js';
+import { annualPercent, percent, unitsFor } from '../present/units.js';
+import { recordLines, type ExportRecord } from './header.js';
+import { barChart, lineChart, scatterChart, standOut, xmlEscape } from './svg.js';
+import { splitColumns } from './wide.js';
 import { batchAsComparison, rankBatch } from '../batch/rank.js';
 
 /** A batch's charts show its best tasks by HJ distance. */
@@ -26,85 +30,145 @@ const CSS = `
 body{font-family:Helvetica,Arial,sans-serif;color:#1d1d1d;margin:24px auto;max-width:1040px;padding:0 16px;line-height:1.4}
 h1{font-size:22px;margin:0 0 4px}h2{font-size:17px;margin:28px 0 8px;border-bottom:1px solid #ccc;padding-bottom:3px}
 .caution{background:#fff6e0;border:1px solid #e0b84a;padding:6px 10px;margin:10px 0;font-size:13px}
-table{border-collapse:collapse;margin:6px 0 14px;font-size:12.5px}
-th,td{padding:3px 9px;border-bottom:1px solid #e2e2e2;text-align:left;vertical-align:top}
+.warnings{background:#fdecea;border:1px solid #d9534f;padding:6px 10px;margin:10px 0;font-size:12.5px}
+.warnings li{margin:2px 0}
+table{border-collapse:collapse;margin:6px 0 4px;font-size:12px}
+th,td{padding:3px 8px;border-bottom:1px solid #e2e2e2;text-align:left;vertical-align:top}
 th{border-bottom:2px solid #777;background:#f4f4f4}
 td.num{text-align:right;font-variant-numeric:tabular-nums;white-space:nowrap}
+td.best{font-weight:bold;background:#eef6ee}
+tr.warned td:first-child{color:#a02a22}
 table.header td:first-child,table.record td:first-child{color:#555;white-space:nowrap}
 code,.mono{font-family:Menlo,Consolas,monospace;font-size:11.5px;word-break:break-all}
 .charts{display:flex;flex-wrap:wrap;gap:16px}
+.charts figure{margin:0}
+.charts figcaption{font-size:11.5px;color:#555;max-width:640px}
 .charts svg{border:1px solid #ddd}
 pre.spec{background:#f7f7f7;border:1px solid #e2e2e2;padding:8px;font-size:11.5px;white-space:pre-wrap}
-p.note{font-size:12px;color:#555}
-@media print{body{margin:0;max-width:none}h2{break-after:avoid}table,svg{break-inside:avoid}}
+p.note,ul.tnotes{font-size:11.5px;color:#555;margin:2px 0 14px}
+ul.tnotes{padding-left:18px}
+p.twarn{font-size:11.5px;color:#a02a22;margin:2px 0}
+@media print{body{margin:0;max-width:none}h2{break-after:avoid}table,svg,figure{break-inside:avoid}table{font-size:10px}}
 `;
 
-function tableHtml(t: ReportTable): string {
-  const head = t.columns.map((c) => `<th data-key="${esc(c.key)}">${esc(c.label)}</th>`).join('');
-  const rows = t.rows.map((row) => {
+function tableHtml(t: PresentedTable, ref: (w: ResultWarning) => number): string {
+  const head = t.columns.map((c) => `<th data-key="${esc(c.key)}"${c.note ? ` title="${esc(c.note)}"` : ''}>${esc(c.header)}</th>`).join('');
+  const rowWarn = new Map<number, number[]>();
+  for (const w of t.warnings) for (const i of w.rows ?? []) rowWarn.set(i, [...(rowWarn.get(i) ?? []), ref(w)]);
+  const rows = t.rows.map((row, i) => {
     const cells = row.map((v, j) => {
       const col = t.columns[j];
+      const best = (t.marks[col.key] ?? []).includes(i);
+      const warn = j === 0 && rowWarn.has(i) ? ` <sup>!${[...new Set(rowWarn.get(i))].join(',')}</sup>` : '';
       if (v === null) return '<td></td>';
       if (typeof v === 'number') {
-        const exact = exactNumber(v);
-        return `<td class="num" data-value="${exact}" title="${exact}">${esc(displayNumber(v, col.format))}</td>`;
+        return `<td class="num${best ? ' best' : ''}" data-value="${exactNumber(v)}">${esc(tableCellText(t, i, j))}${best ? '*' : ''}</td>`;
       }
       if (typeof v === 'boolean') return `<td data-value="${v}">${v ? 'yes' : 'no'}</td>`;
-      return `<td>${esc(v)}</td>`;
+      return `<td>${esc(v)}${warn}</td>`;
     });
-    return `<tr>${cells.join('')}</tr>`;
+    return `<tr data-row="${esc(t.rowKeys[i] ?? String(i))}"${rowWarn.has(i) ? ' class="warned"' : ''}>${cells.join('')}</tr>`;
   });
-  return `<table class="result" id="table-${esc(t.id)}" data-table="${esc(t.id)}"><caption style="caption-side:top;text-align:left;font-weight:bold;padding:2px 0">${esc(t.title)}</caption><thead><tr>${head}</tr></thead><tbody>${rows.join('')}</tbody></table>`;
+  const notes = t.notes.length ? `<ul class="tnotes">${t.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : '';
+  const warns = t.warnings
+    .filter((w) => !w.rows)
+    .map((w) => `<p class="twarn" data-warning="${esc(w.code)}">! Warning ${ref(w)} (${esc(w.code)}) applies to this table.</p>`)
+    .join('');
+  return `<table class="result" id="table-${esc(t.id)}" data-table="${esc(t.id)}"><caption style="caption-side:top;text-align:left;font-weight:bold;padding:2px 0">${esc(t.title)}</caption><thead><tr>${head}</tr></thead><tbody>${rows.join('')}</tbody></table>${warns}${notes}`;
 }
 
 function keyValueTable(cls: string, lines: { key: string; value: string }[]): string {
   return `<table class="${cls}"><tbody>${lines.map((l) => `<tr><td>${esc(l.key)}</td><td${/sha256/.test(l.key) ? ' class="mono"' : ''}>${esc(l.value)}</td></tr>`).join('')}</tbody></table>`;
 }
 
+function figure(svg: string, caption: string): string {
+  return `<figure>${svg}<figcaption>${esc(caption)}</figcaption></figure>`;
+}
+
+const LABELLED = 6;
+
 function fitCharts(r: FitResult): string[] {
   if (!r.pricingErrors.length) return [];
+  const u = unitsFor(r.sample.frequency, r.sample.periodsPerYear);
   const ppy = r.sample.periodsPerYear;
-  return [
-    barChart({
-      id: 'chart-pricing-errors',
-      title: 'Pricing errors (annualised, %), 95% band',
-      yLabel: 'alpha, % per year',
-      bars: r.pricingErrors.map((e) => ({
-        label: e.asset,
-        value: 100 * e.alphaAnnual,
-        low: 100 * (e.alphaAnnual - Z95 * e.seAnnual),
-        high: 100 * (e.alphaAnnual + Z95 * e.seAnnual),
-      })),
-    }),
-    scatterChart({
-      id: 'chart-predicted-realised',
-      title: 'Predicted vs realised mean return (%, annual)',
-      xLabel: 'predicted, % per year',
-      yLabel: 'realised, % per year',
-      diagonal: true,
-      points: r.pricingErrors.map((e) => ({ label: e.asset, x: 100 * ppy * e.predicted, y: 100 * ppy * e.meanReturn })),
-    }),
+  const gross = r.sample.returns === 'gross';
+  const many = r.pricingErrors.length > 40;
+  const bigAlpha = new Set([...standOut(r.pricingErrors, (e) => Math.abs(e.t), LABELLED)].map((e) => e.asset));
+  const charts = [
+    figure(
+      barChart({
+        id: 'chart-pricing-errors',
+        title: `Pricing errors (${u.pctYear}), 95% band`,
+        yLabel: `alpha, ${u.pctYear}`,
+        bars: r.pricingErrors.map((e) => ({
+          label: e.asset,
+          value: percent(e.alphaAnnual),
+          low: percent(e.alphaAnnual - Z95 * e.seAnnual),
+          high: percent(e.alphaAnnual + Z95 * e.seAnnual),
+        })),
+        labelled: bigAlpha,
+      }),
+      `Annualised pricing error of each test asset with alpha ± 1.96 s.e. (a 95% normal band, common practice).${many ? ` Labelled: the ${LABELLED} assets with the largest |t|; every asset is in the pricing errors table.` : ''}`,
+    ),
   ];
+  if (!gross) {
+    const off = new Set([...standOut(r.pricingErrors, (e) => Math.abs(e.alpha), LABELLED)].map((e) => e.asset));
+    charts.push(
+      figure(
+        scatterChart({
+          id: 'chart-predicted-realised',
+          title: `Predicted and realised mean return (${u.pctYear})`,
+          xLabel: `predicted, ${u.pctYear}`,
+          yLabel: `realised, ${u.pctYear}`,
+          diagonal: true,
+          points: r.pricingErrors.map((e) => ({ label: e.asset, x: annualPercent(e.predicted, ppy), y: annualPercent(e.meanReturn, ppy) })),
+          labelled: off,
+        }),
+        `On the dashed 45-degree line the model prices the asset exactly. Labelled: the ${Math.min(LABELLED, r.pricingErrors.length)} assets farthest from the line; every asset is in the pricing errors table.`,
+      ),
+    );
+  }
+  if (r.sdf && r.sdf.values.length > 1) {
+    charts.push(
+      figure(
+        lineChart({ id: 'chart-sdf', title: 'Fitted discount factor m_t', yLabel: 'm_t', steps: r.sdf.periods, series: [{ name: 'm_t', values: r.sdf.values }], showLegend: false }),
+        `The fitted discount factor in each period (E[m] = ${r.sdf.mean.toPrecision(6)}, sigma(m) = ${r.sdf.std.toPrecision(6)} per ${u.word}); the values are in the appendix table and the CSV and XLSX exports.`,
+      ),
+    );
+  }
+  return charts;
 }
 
 function backtestCharts(r: BacktestResult): string[] {
   const charts: string[] = [];
+  const u = unitsFor(r.sample.frequency, r.sample.periodsPerYear);
+  const ppy = r.sample.periodsPerYear;
   if (r.perAsset.length) {
+    const big = new Set([...standOut(r.perAsset, (a) => Math.abs(a.alphaOos), LABELLED)].map((a) => a.asset));
+    const off = new Set([...standOut(r.perAsset, (a) => Math.abs(a.alphaOos - a.alphaIn), LABELLED)].map((a) => a.asset));
     charts.push(
-      barChart({
-        id: 'chart-oos-errors',
-        title: 'Out-of-sample pricing errors (% per period)',
-        yLabel: 'alpha out of sample, %',
-        bars: r.perAsset.map((a) => ({ label: a.asset, value: 100 * a.alphaOos })),
-      }),
-      scatterChart({
-        id: 'chart-in-vs-out',
-        title: 'Pricing error in vs out of sample (% per period)',
-        xLabel: 'in sample, %',
-        yLabel: 'out of sample, %',
-        diagonal: true,
-        points: r.perAsset.map((a) => ({ label: a.asset, x: 100 * a.alphaIn, y: 100 * a.alphaOos })),
-      }),
+      figure(
+        barChart({
+          id: 'chart-oos-errors',
+          title: `Out-of-sample pricing errors (${u.pctYear})`,
+          yLabel: `alpha out of sample, ${u.pctYear}`,
+          bars: r.perAsset.map((a) => ({ label: a.asset, value: annualPercent(a.alphaOos, ppy) })),
+          labelled: big,
+        }),
+        "Each asset's held-out pricing error, averaged over the windows, annualised.",
+      ),
+      figure(
+        scatterChart({
+          id: 'chart-in-vs-out',
+          title: `Pricing error in and out of sample (${u.pctYear})`,
+          xLabel: `in sample (mean over windows), ${u.pctYear}`,
+          yLabel: `out of sample, ${u.pctYear}`,
+          diagonal: true,
+          points: r.perAsset.map((a) => ({ label: a.asset, x: annualPercent(a.alphaIn, ppy), y: annualPercent(a.alphaOos, ppy) })),
+          labelled: off,
+        }),
+        `In sample: each window's own errors on its estimation periods, averaged over the windows. Labelled: the ${Math.min(LABELLED, r.perAsset.length)} assets farthest from the line; every asset is in the per-asset table.`,
+      ),
     );
   }
   if (r.paths.length) {
@@ -112,30 +176,46 @@ function backtestCharts(r: BacktestResult): string[] {
     const series = names
       .map((name) => ({ name, values: r.paths.map((w) => w.params.find((p) => p.name === name)?.estimate ?? NaN) }))
       .filter((s) => s.values.every(Number.isFinite));
-    if (series.length) charts.push(lineChart({ id: 'chart-paths', title: 'Parameter paths', yLabel: 'estimate', steps: r.paths.map((w) => w.end), series }));
+    if (series.length) charts.push(figure(lineChart({ id: 'chart-paths', title: 'Parameter paths', yLabel: 'estimate', steps: r.paths.map((w) => w.end), series }), 'Each parameter estimated on each window, by the window\'s last period.'));
   }
   return charts;
 }
 
 function compareCharts(r: CompareResult): string[] {
-  const ok = r.models.filter((m) => !m.error);
+  const ok = r.models;
   if (!ok.length) return [];
+  const u = unitsFor(r.sample.frequency, r.sample.periodsPerYear);
   const charts = [
-    barChart({ id: 'chart-rmse', title: 'RMSE of pricing errors (% per period)', yLabel: 'RMSE, %', bars: ok.map((m) => ({ label: m.label, value: 100 * m.fit.rmse })) }),
+    figure(
+      barChart({ id: 'chart-rmse', title: `RMSE of pricing errors (${u.pctYear})`, yLabel: `RMSE, ${u.pctYear}`, bars: ok.map((m) => ({ label: m.label, value: percent(m.fit.rmseAnnual) })) }),
+      'Root mean square pricing error across the test assets, in sample, annualised.',
+    ),
   ];
   const hj = ok.filter((m) => m.hj);
-  if (hj.length) charts.push(barChart({ id: 'chart-hj', title: 'HJ distance', yLabel: 'HJ distance', bars: hj.map((m) => ({ label: m.label, value: m.hj!.distance })) }));
+  if (hj.length) charts.push(figure(barChart({ id: 'chart-hj', title: 'HJ distance', yLabel: `HJ distance, ${u.perPeriod}`, bars: hj.map((m) => ({ label: m.label, value: m.hj!.distance })) }), 'Hansen-Jagannathan distance of each model (the same weighting for every model).'));
   return charts;
 }
 
 export interface HtmlOptions {
   /** Generated-at stamp shown in the footer; omitted when absent (keeps output deterministic). */
   generatedAt?: string;
+  /** Add the appendix tables (long listings). Default true. */
+  appendix?: boolean;
+  /** For print (PDF): wide tables split into column groups that fit the page. */
+  print?: boolean;
+}
+
+function warningsHtml(p: Presentation): string {
+  if (!p.warnings.length) return '';
+  return `<div class="warnings" id="warnings"><b>Warnings: these results should not be trusted as they stand.</b><ol>${p.warnings
+    .map((w) => `<li data-warning="${esc(w.code)}"><b>${esc(w.code)}</b>${w.model ? ` (${esc(w.model)})` : ''}: ${esc(w.message)}</li>`)
+    .join('')}</ol></div>`;
 }
 
 /** The whole report as one HTML document. */
 export function resultToHtml(result: AnyResult, record?: ExportRecord, options: HtmlOptions = {}): string {
-  const title = resultTitle(result);
+  const p = present(result);
+  const ref = warningNumbers(p.warnings);
   const charts =
     result.kind === 'fit'
       ? fitCharts(result)
@@ -144,24 +224,31 @@ export function resultToHtml(result: AnyResult, record?: ExportRecord, options: 
         : result.kind === 'batch'
           ? compareCharts(batchAsComparison(result, rankBatch(result, 'hj').slice(0, BATCH_CHART_TOP)))
           : compareCharts(result);
-  const notes = result.kind === 'fit' ? result.notes : [];
+  const fitPage = (t: PresentedTable) => (options.print ? splitColumns(t) : [t]);
+  const main = p.tables.filter((t) => t.role === 'main');
+  const appendix = p.tables.filter((t) => t.role === 'appendix');
+  const withAppendix = options.appendix ?? true;
   const parts = [
     '<!DOCTYPE html>',
     '<html lang="en"><head><meta charset="utf-8">',
-    `<title>${esc(`deflator: ${title}${record ? ` (run ${record.id})` : ''}`)}</title>`,
+    `<title>${esc(`deflator: ${p.title}${record ? ` (run ${record.id})` : ''}`)}</title>`,
     `<meta name="generator" content="deflator${record ? ` ${esc(record.version)}` : ''}">`,
     `<style>${CSS}</style></head><body>`,
-    `<h1>${esc(title)}</h1>`,
+    `<h1>${esc(p.title)}</h1>`,
     record ? `<div class="sub">Run ${record.id}, recorded ${esc(record.createdAt)}, deflator ${esc(record.version)}</div>` : '',
-    `<p class="caution" id="caution">${esc(CAUTION)}</p>`,
-    '<h2>Sample</h2>',
-    keyValueTable('header', sampleHeaderLines(result.sample)),
+    `<p class="caution" id="caution">${esc(p.caution)}</p>`,
+    warningsHtml(p),
+    keyValueTable('header', p.header),
     charts.length ? `<h2>Charts</h2><div class="charts">${charts.join('\n')}</div>` : '',
     '<h2>Tables</h2>',
-    '<p class="note">Numbers are shown to 6 significant digits (test statistics to 3 decimals, p-values to 4); each cell holds the exact stored value (hover to see it).</p>',
-    ...resultTables(result).map(tableHtml),
-    notes.length ? `<h2>Notes</h2><ul>${notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : '',
+    `<p class="note">${esc(ROUNDING_NOTE)} Cells marked * are the best in their column by the rule in the table's note; !n refers to warning n.</p>`,
+    ...main.flatMap(fitPage).map((t) => tableHtml(t, ref)),
+    p.notes.length ? `<h2>Notes</h2><ul>${p.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : '',
   ];
+  if (appendix.length) {
+    if (withAppendix) parts.push('<h2>Appendix</h2>', ...appendix.flatMap(fitPage).map((t) => tableHtml(t, ref)));
+    else parts.push(`<p class="note">Left out of this report: ${esc(appendix.map((t) => t.title.toLowerCase()).join(', '))}; the CSV, XLSX and HTML exports hold them.</p>`);
+  }
   if (record) {
     parts.push(
       '<h2>Record</h2>',
@@ -170,6 +257,6 @@ export function resultToHtml(result: AnyResult, record?: ExportRecord, options: 
       `<pre class="spec" id="spec">${esc(stringifyExact(record.spec, 2))}</pre>`,
     );
   }
-  parts.push(`<p class="note">deflator${record ? ` ${esc(record.version)}` : ''}${options.generatedAt ? `, generated ${esc(options.generatedAt)}` : ''}. ${esc(CAUTION)}</p>`, '</body></html>', '');
-  return parts.filter((p) => p !== '').join('\n');
+  parts.push(`<p class="note">deflator${record ? ` ${esc(record.version)}` : ''}${options.generatedAt ? `, generated ${esc(options.generatedAt)}` : ''}. ${esc(p.caution)}</p>`, '</body></html>', '');
+  return parts.filter((x) => x !== '').join('\n');
 }

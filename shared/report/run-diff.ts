@@ -4,18 +4,12 @@
  * both results have, matched by table, row (its text cells) and column, with B - A.
  */
 import type { RunRecord } from '../records/run-record.js';
-import { isValueResult, type RunResult } from '../results.js';
-import { sampleHeaderLines, type HeaderLine } from './header.js';
-import { resultTables, type ReportTable } from './tables.js';
-import { valueHeaderLines, valueTables } from './value-tables.js';
-
-const tablesOf = (r: RunResult): ReportTable[] => (isValueResult(r) ? valueTables(r) : resultTables(r));
-const headerOf = (r: RunResult): HeaderLine[] => (isValueResult(r) ? valueHeaderLines(r) : sampleHeaderLines(r.sample));
+import { present } from '../present/index.js';
 
 export interface RunDiffCell {
   table: string;
   tableTitle: string;
-  /** The row's text cells joined by " | " (e.g. "b.harbor", or "2030-01-31 | b.harbor"). */
+  /** The row's key in the presentation model (e.g. "b.harbor", "2030-01-31|b.harbor", "MAPE % per year"). */
   row: string;
   column: string;
   a: number;
@@ -40,24 +34,22 @@ type Side = Pick<RunRecord, 'id' | 'label' | 'createdAt' | 'result' | 'panel'>;
 
 function rowsByKey(r: Side): Map<string, { title: string; columns: string[]; values: Map<string, number> }> {
   const out = new Map<string, { title: string; columns: string[]; values: Map<string, number> }>();
-  for (const t of tablesOf(r.result)) {
-    const textCols = t.columns.map((c, j) => (c.type === 'text' && c.key !== 'note' && c.key !== 'detail' && c.key !== 'reason' && c.key !== 'error' ? j : -1)).filter((j) => j >= 0);
-    for (const row of t.rows) {
-      const key = textCols.map((j) => String(row[j] ?? '')).join(' | ');
+  for (const t of present(r.result).tables) {
+    t.rows.forEach((row, i) => {
       const values = new Map<string, number>();
       t.columns.forEach((c, j) => {
         const v = row[j];
-        if (typeof v === 'number') values.set(c.label, v);
+        if (typeof v === 'number') values.set(c.header, v);
       });
-      out.set(`${t.id}\u0000${key}`, { title: t.title, columns: t.columns.map((c) => c.label), values });
-    }
+      out.set(`${t.id}\u0000${t.rowKeys[i]}`, { title: t.title, columns: t.columns.map((c) => c.header), values });
+    });
   }
   return out;
 }
 
 export function diffRuns(a: Side, b: Side): RunDiff {
-  const ha = headerOf(a.result);
-  const hb = headerOf(b.result);
+  const ha = present(a.result).header;
+  const hb = present(b.result).header;
   const keys = [...new Set([...ha.map((l) => l.key), ...hb.map((l) => l.key)])];
   const header = keys.map((key) => {
     const va = ha.filter((l) => l.key === key).map((l) => l.value).join('; ');

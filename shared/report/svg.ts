@@ -5,7 +5,7 @@
  * no scripts, fonts or external references. Every mark carries a data-* attribute with
  * its exact value, so a reader can check the chart against the result.
  */
-import { exactNumber, significant } from './numbers.js';
+import { exactNumber, significant } from '../present/format.js';
 
 export function xmlEscape(s: string): string {
   return s.replace(/[&<>"']/g, (c) => ({ '&': '&amp;', '<': '&lt;', '>': '&gt;', '"': '&quot;', "'": '&#39;' })[c] as string);
@@ -79,8 +79,19 @@ export interface BarDatum {
   high?: number;
 }
 
+/**
+ * Labels that never pile up: the `k` items farthest out by `size` (largest first); a
+ * chart labels these and leaves the rest to the table beside it.
+ */
+export function standOut<T>(items: readonly T[], size: (x: T) => number, k = 6): Set<T> {
+  return new Set([...items].sort((a, b) => size(b) - size(a)).slice(0, k));
+}
+
+/** Most bars a chart labels one by one; beyond it, only `labelled` bars carry a label. */
+export const MAX_BAR_LABELS = 40;
+
 /** Vertical bars from zero with optional whiskers; one bar per datum. */
-export function barChart(opts: { id: string; title: string; yLabel: string; bars: BarDatum[]; width?: number; height?: number }): string {
+export function barChart(opts: { id: string; title: string; yLabel: string; bars: BarDatum[]; width?: number; height?: number; labelled?: ReadonlySet<string> }): string {
   const f: Frame = { width: opts.width ?? 640, height: opts.height ?? 340, left: 64, right: 16, top: 28, bottom: 84 };
   const vals = opts.bars.flatMap((b) => [b.value, b.low ?? b.value, b.high ?? b.value, 0]);
   const ticks = niceTicks(Math.min(...vals), Math.max(...vals));
@@ -107,7 +118,8 @@ export function barChart(opts: { id: string; title: string; yLabel: string; bars
       );
     }
     const ly = f.height - f.bottom + 12;
-    out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}>${xmlEscape(b.label)}</text>`);
+    const show = n <= MAX_BAR_LABELS || (opts.labelled?.has(b.label) ?? false);
+    if (show) out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}${n > 24 ? ' font-size="8"' : ''}>${xmlEscape(b.label)}</text>`);
   });
   out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f1(y0)}" y2="${f1(y0)}" stroke="#555"/>`);
   out.push('</svg>');
@@ -121,7 +133,7 @@ export interface ScatterPoint {
 }
 
 /** Points with labels; `diagonal` draws the y = x line (predicted = realised). */
-export function scatterChart(opts: { id: string; title: string; xLabel: string; yLabel: string; points: ScatterPoint[]; diagonal?: boolean; width?: number; height?: number }): string {
+export function scatterChart(opts: { id: string; title: string; xLabel: string; yLabel: string; points: ScatterPoint[]; diagonal?: boolean; width?: number; height?: number; labelled?: ReadonlySet<string> }): string {
   const f: Frame = { width: opts.width ?? 480, height: opts.height ?? 400, left: 64, right: 20, top: 28, bottom: 48 };
   const xs = opts.points.map((p) => p.x);
   const ys = opts.points.map((p) => p.y);
@@ -151,7 +163,7 @@ export function scatterChart(opts: { id: string; title: string; xLabel: string; 
     out.push(
       `<circle class="point" cx="${f1(x(p.x))}" cy="${f1(y(p.y))}" r="4" fill="${PALETTE[0]}" data-label="${xmlEscape(p.label)}" data-x="${exactNumber(p.x)}" data-y="${exactNumber(p.y)}"><title>${xmlEscape(`${p.label}: ${significant(p.x, 6)}, ${significant(p.y, 6)}`)}</title></circle>`,
     );
-    out.push(`<text x="${f1(x(p.x) + 6)}" y="${f1(y(p.y) - 5)}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
+    if (!opts.labelled || opts.labelled.has(p.label)) out.push(`<text x="${f1(x(p.x) + 6)}" y="${f1(y(p.y) - 5)}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
   }
   out.push('</svg>');
   return out.join('\n');
@@ -163,8 +175,8 @@ export interface LineSeries {
 }
 
 /** One line per series over shared step labels (e.g. window ends), with a legend. */
-export function lineChart(opts: { id: string; title: string; yLabel: string; steps: string[]; series: LineSeries[]; width?: number; height?: number }): string {
-  const f: Frame = { width: opts.width ?? 640, height: opts.height ?? 320, left: 64, right: 120, top: 28, bottom: 48 };
+export function lineChart(opts: { id: string; title: string; yLabel: string; steps: string[]; series: LineSeries[]; width?: number; height?: number; showLegend?: boolean }): string {
+  const f: Frame = { width: opts.width ?? 640, height: opts.height ?? 320, left: 64, right: opts.showLegend === false ? 20 : 120, top: 28, bottom: 48 };
   const all = opts.series.flatMap((s) => s.values);
   const yt = niceTicks(Math.min(...all), Math.max(...all));
   const n = opts.steps.length;
@@ -180,6 +192,10 @@ export function lineChart(opts: { id: string; title: string; yLabel: string; ste
   opts.series.forEach((s, k) => {
     const colour = PALETTE[k % PALETTE.length];
     const d = s.values.map((v, i) => `${i === 0 ? 'M' : 'L'}${f1(x(i))},${f1(y(v))}`).join(' ');
+    if (opts.showLegend === false) {
+      out.push(`<path class="line" d="${d}" fill="none" stroke="${colour}" stroke-width="1.2" data-series="${xmlEscape(s.name)}" data-values="${s.values.map(exactNumber).join(' ')}"/>`);
+      return;
+    }
     out.push(`<path class="line" d="${d}" fill="none" stroke="${colour}" stroke-width="1.5" data-series="${xmlEscape(s.name)}" data-values="${s.values.map(exactNumber).join(' ')}"/>`);
     const ly = f.top + 14 * k + 6;
     out.push(`<line x1="${f.width - f.right + 8}" x2="${f.width - f.right + 24}" y1="${ly}" y2="${ly}" stroke="${colour}" stroke-width="2"/>`);

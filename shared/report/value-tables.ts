@@ -1,14 +1,13 @@
 /**
- * The tables of the present-value analyses (METHODS 10) in the neutral table model of
- * tables.ts, which the terminal report and every export read.
+ * The tables of the present-value analyses (METHODS 10) in the presentation model
+ * (shared/present), which the terminal report and every export read.
  */
 import type { DriftResult, PresentValueResult, ValueResult } from '../results.js';
-import type { HeaderLine } from './header.js';
-import type { CellValue, ReportColumn, ReportTable } from './tables.js';
-import type { NumberFormat } from './numbers.js';
+import { numCol, table, textCol } from '../present/build.js';
+import type { CellValue, HeaderLine, NumberFormat, PresentedColumn as ReportColumn, PresentedTable as ReportTable } from '../present/types.js';
 
-const text = (key: string, label = key): ReportColumn => ({ key, label, type: 'text' });
-const num = (key: string, label: string, format: NumberFormat = 'value'): ReportColumn => ({ key, label, type: 'number', format });
+const text = (key: string, label = key): ReportColumn => textCol(key, label);
+const num = (key: string, label: string, format: NumberFormat = 'value', unit?: string): ReportColumn => numCol(key, label, format, unit);
 
 const REGRESSION_LABELS = { r: 'return r(t+1)', dd: 'dividend growth dd(t+1)', dp: 'dividend-price ratio dp(t+1)' } as const;
 
@@ -28,15 +27,17 @@ export function presentValueTables(r: PresentValueResult): ReportTable[] {
   const T = r.sample.T;
   const years: CellValue[][] = r.series.years.map((y, t) => [y, r.series.closes[t], r.series.price[t], r.series.dividend[t], r.series.dp[t], t > 0 ? r.series.r[t - 1] : null, t > 0 ? r.series.dd[t - 1] : null]);
   return [
-    { id: 'summary', title: 'Dividend-price decomposition', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: summary },
+    { id: 'summary', title: 'Dividend-price decomposition', sheet: 'Decomposition', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: summary },
     {
       id: 'regressions',
+      sheet: 'Predictive regressions',
       title: `Predictive regressions on dp(t), ${T - 1} years (Newey-West s.e.)`,
       columns: [text('regression', 'Regression of'), num('a', 'a'), num('seA', 's.e.(a)'), num('b', 'b (phi for dp)'), num('seB', 's.e.(b)'), num('tB', 't(b)', 'stat'), num('r2', 'R2')],
       rows: regs,
     },
     {
       id: 'long-run',
+      sheet: 'Long-run coefficients',
       title: 'Long-run coefficients and variance shares of dp',
       columns: [text('part', 'Part'), num('b', 'Long-run coefficient'), num('se', 's.e. (delta method)'), num('share', 'Share of Var(dp)')],
       rows: [
@@ -47,40 +48,44 @@ export function presentValueTables(r: PresentValueResult): ReportTable[] {
     {
       id: 'years',
       title: 'Yearly values',
+      role: 'appendix' as const,
       columns: [text('year', 'Year'), text('close', 'Year-end close'), num('price', 'P (year end)'), num('dividend', 'D (paid in year)'), num('dp', 'dp = ln(D/P)'), num('r', 'r = ln R'), num('dd', 'dd = ln D growth')],
       rows: years,
     },
     {
       id: 'covariance',
       title: 'Joint Newey-West covariance of the coefficients',
+      sheet: 'Coefficient covariance',
       columns: [text('coefficient', 'Coefficient'), ...r.covariance.names.map((n) => num(n, n))],
       rows: r.covariance.names.map((n, i) => [n, ...r.covariance.values[i]]),
     },
-  ];
+  ].map(table);
 }
 
 export function driftTables(r: DriftResult): ReportTable[] {
+  const y = 'decimal per year';
   return [
     {
       id: 'drift',
-      title: `Drift split, annualised (${r.frequency}, ${r.periodsPerYear} periods per year; decimals per year)`,
+      title: `Drift split, annualised (${r.frequency}, ${r.periodsPerYear} periods per year)`,
+      sheet: 'Drift split',
       columns: [
         text('asset', 'Asset'),
         text('source', 'Data'),
-        num('drift', 'Drift mu'),
-        num('seDrift', 's.e.'),
-        num('priceGrowth', 'Price growth'),
-        num('sePriceGrowth', 's.e.'),
-        num('dividendYield', 'Dividend yield'),
-        num('seDividendYield', 's.e.'),
-        num('sigma', 'sigma'),
-        num('logDrift', 'Log drift'),
-        num('seLogDrift', 's.e.'),
-        num('driftLessHalfVariance', 'mu - sigma^2/2'),
+        num('drift', 'Drift mu', 'value', y),
+        num('seDrift', 's.e.', 'value', y),
+        num('priceGrowth', 'Price growth', 'value', y),
+        num('sePriceGrowth', 's.e.', 'value', y),
+        num('dividendYield', 'Dividend yield', 'value', y),
+        num('seDividendYield', 's.e.', 'value', y),
+        num('sigma', 'sigma', 'value', 'decimal per square root of a year'),
+        num('logDrift', 'Log drift', 'value', y),
+        num('seLogDrift', 's.e.', 'value', y),
+        num('driftLessHalfVariance', 'mu - sigma^2/2', 'value', y),
       ],
       rows: r.assets.map((a) => [a.asset, a.source, a.drift, a.se.drift, a.priceGrowth, a.se.priceGrowth, a.dividendYield, a.se.dividendYield, a.sigma, a.logDrift, a.se.logDrift, a.driftLessHalfVariance]),
     },
-  ];
+  ].map(table);
 }
 
 /** The tables of either analysis. */

@@ -65,6 +65,7 @@ export function createHandlers(s: AppServices): Handlers {
       if (isCompareSpec(req.spec)) return { kind: 'compare', spec: parseCompareSpec(req.spec).spec };
       return { kind: 'fit', spec: parseFitSpec(req.spec) };
     },
+    samplePreview: async (req) => s.project().samplePreview(parseFitSpec(req.spec)),
     fit: async (req, ctx) => s.engine.fit(parseFitSpec(req.spec), ctx),
     backtest: async (req, ctx) => {
       const spec = parseFitSpec(req.spec);

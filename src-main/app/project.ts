@@ -11,8 +11,10 @@ import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
 import { parseAscending, spacingFrequency } from '../../shared/returns/periods.js';
 import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../shared/results.js';
-import type { AssetHistory, Coverage, CoverageRow, ImportKind, ImportPreview, ImportReport, ImportWarning } from '../../shared/bridge/types.js';
+import type { AssetHistory, Coverage, CoverageRow, ImportKind, ImportPreview, ImportReport, ImportWarning, SamplePreview } from '../../shared/bridge/types.js';
 import { importPrices, importReturns, importSeries, missingCodeList, previewImport, type PreviewOptions } from '../import/index.js';
+import { autoLags } from '../../shared/estimation/longRunCovariance.js';
+import { loadPanel } from '../data/panel.js';
 import type { ImportReport as PipelineReport } from '../import/index.js';
 import type { Store } from '../store/store.js';
 import { compareAnalysis, runAnalysis, type Analysis, type ResultOf } from '../services/analysis.js';
@@ -30,6 +32,21 @@ export class StoreProject implements ProjectData, Importer {
 
   get databaseName(): string {
     return path.basename(this.store.path);
+  }
+
+  samplePreview(spec: FitSpec): SamplePreview {
+    const panel = loadPanel(this.store, spec);
+    const T = panel.periods.length;
+    const auto = spec.estimator.lags === 'auto';
+    const lags = auto ? autoLags(T) : (spec.estimator.lags as number);
+    return {
+      start: panel.periods[0] ?? '',
+      end: panel.periods[T - 1] ?? '',
+      T,
+      N: panel.assets.length,
+      lags,
+      lagsRule: auto ? `automatic, floor(4 (T/100)^(2/9)) = ${lags}` : 'as set',
+    };
   }
 
   coverage(): Coverage {

@@ -18,7 +18,7 @@ import { writeFilesAtomic } from './write.js';
 export { EXPORT_FORMATS, EXPORT_EXTENSIONS, type ExportFormat };
 
 export interface ExportFile {
-  /** File name without folder: `<table>.csv` for CSV, `run-<id>.<ext>` otherwise. */
+  /** File name without folder: `<table>.csv` (and `about.txt`) for CSV, `run-<id>.<ext>` otherwise. */
   name: string;
   data: Buffer;
 }
@@ -31,8 +31,15 @@ export function parseExportFormat(s: string): ExportFormat {
   return f as ExportFormat;
 }
 
+export interface ExportOptions {
+  /** CSV: the run's metadata in `#` lines above each table instead of the sidecar about.txt. */
+  csvComments?: boolean;
+  /** HTML and PDF: the long listings (m_t series, parameter paths, windows) as appendix tables (default: HTML yes, PDF no). */
+  appendix?: boolean;
+}
+
 /** The export's bytes, in memory (the app saves them where the user chooses). */
-export async function renderExport(input: RunRecord, format: ExportFormat, pdf: (html: string) => Promise<Buffer> = htmlToPdf): Promise<ExportFile[]> {
+export async function renderExport(input: RunRecord, format: ExportFormat, pdf: (html: string) => Promise<Buffer> = htmlToPdf, options: ExportOptions = {}): Promise<ExportFile[]> {
   if (isValueResult(input.result)) {
     throw new DeflatorError('INPUT_INVALID', `run ${input.id} is a ${input.kind} run: its exports are not written yet by this version`, `\`deflator show ${input.id} --db DB\` prints it; \`--json\` gives every number`);
   }
@@ -40,16 +47,16 @@ export async function renderExport(input: RunRecord, format: ExportFormat, pdf: 
   const single = (data: Buffer): ExportFile[] => [{ name: `run-${record.id}.${EXPORT_EXTENSIONS[format]}`, data }];
   switch (format) {
     case 'csv':
-      return resultToCsv(record.result, record).map((f) => ({ name: `${f.table}.csv`, data: Buffer.from(f.text, 'utf8') }));
+      return resultToCsv(record.result, record, { comments: options.csvComments }).map((f) => ({ name: `${f.table}.${f.ext}`, data: Buffer.from(f.text, 'utf8') }));
     case 'xlsx':
       // loaded on demand: exceljs takes about 0.2 s to load, which no other command should pay
       return single(await (await import('./xlsx.js')).resultToXlsx(record.result, record));
     case 'latex':
       return single(Buffer.from(resultToLatex(record.result, record), 'utf8'));
     case 'html':
-      return single(Buffer.from(resultToHtml(record.result, record), 'utf8'));
+      return single(Buffer.from(resultToHtml(record.result, record, { appendix: options.appendix ?? true }), 'utf8'));
     case 'pdf':
-      return single(await pdf(resultToHtml(record.result, record)));
+      return single(await pdf(resultToHtml(record.result, record, { appendix: options.appendix ?? false, print: true })));
   }
 }
 
@@ -58,17 +65,17 @@ export async function renderExport(input: RunRecord, format: ExportFormat, pdf: 
  * trailing slash, gets `<folder>/<table>.csv`; anything else is a prefix,
  * `<prefix>-<table>.csv` (a trailing `.csv` on the prefix is dropped).
  */
-export function csvTargets(out: string, tables: string[]): string[] {
+export function csvTargets(out: string, files: string[]): string[] {
   const isDir = /[\\/]$/.test(out) || (existsSync(out) && statSync(out).isDirectory());
-  if (isDir) return tables.map((t) => path.join(out, `${t}.csv`));
+  if (isDir) return files.map((f) => path.join(out, f));
   const prefix = out.replace(/\.csv$/i, '');
-  return tables.map((t) => `${prefix}-${t}.csv`);
+  return files.map((f) => `${prefix}-${f}`);
 }
 
 /** Writes the export and returns the paths written. */
-export async function exportRunToPath(record: RunRecord, format: ExportFormat, out: string): Promise<string[]> {
-  const files = await renderExport(record, format);
-  const targets = format === 'csv' ? csvTargets(out, files.map((f) => f.name.replace(/\.csv$/, ''))) : [out];
+export async function exportRunToPath(record: RunRecord, format: ExportFormat, out: string, options: ExportOptions = {}): Promise<string[]> {
+  const files = await renderExport(record, format, htmlToPdf, options);
+  const targets = format === 'csv' ? csvTargets(out, files.map((f) => f.name)) : [out];
   // each file to a temporary file beside it, then renamed into place: a failure leaves old files whole
   writeFilesAtomic(targets.map((target, i) => ({ target, data: files[i].data })));
   return targets;

@@ -65,6 +65,6 @@ export class RunService {
   async export(id: number, format: ExportFormat): Promise<{ files: ExportedFile[] }> {
     const record = getRun(this.store(), id);
     const files = await renderExport(record, format, this.pdf);
-    return { files: files.map((f) => ({ name: f.name, mime: EXPORT_MIME[format], base64: f.data.toString('base64') })) };
+    return { files: files.map((f) => ({ name: f.name, mime: f.name.endsWith('.txt') ? 'text/plain' : EXPORT_MIME[format], base64: f.data.toString('base64') })) };
   }
 }

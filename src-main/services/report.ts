@@ -3,30 +3,14 @@
  * report, or as JSON with every number in full precision, the run id and the caution.
  * Every command that prints a fit, back-test or comparison prints it through here.
  */
-import { backtestText } from '../../shared/backtest/text.js';
-import { compareText } from '../../shared/compare/text.js';
-import { batchText } from '../../shared/batch/text.js';
-import { fitText } from '../../shared/report/fit-text.js';
-import { valueResultText } from '../../shared/report/value-text.js';
+import { resultToText } from '../../shared/report/text.js';
 import { CAUTION, type AnyResult, type RunResult } from '../../shared/results.js';
 import type { RunRecord } from '../../shared/records/run-record.js';
 import { driftJson, presentValueJson } from '../../shared/values/json.js';
 
-/** The readable report of a result (each carries the caution). */
+/** The readable report of a result, from the presentation model (shared/report/text.ts); it ends with the caution. */
 export function analysisText(result: RunResult): string {
-  switch (result.kind) {
-    case 'fit':
-      return fitText(result);
-    case 'backtest':
-      return backtestText(result);
-    case 'compare':
-      return compareText(result);
-    case 'batch':
-      return batchText(result);
-    case 'present-value':
-    case 'drift':
-      return valueResultText(result);
-  }
+  return resultToText(result);
 }
 
 /** The line that tells where a recorded run can be found again. */
@@ -51,5 +35,5 @@ export function printedReport(outcome: { result: RunResult; run?: Pick<RunRecord
   if (o.json) return `${JSON.stringify(analysisJson(outcome.result as AnyResult, outcome.run), null, 2)}\n`;
   const text = analysisText(outcome.result);
   if (!outcome.run) return text;
-  return `${text}${outcome.result.kind === 'fit' ? '\n' : ''}${recordedLine(outcome.run, o.db)}`;
+  return `${text}\n${recordedLine(outcome.run, o.db)}`;
 }

@@ -14,7 +14,7 @@ import type { ReturnsPanel } from '../../shared/panel.js';
 import type { BacktestSpec, CompareSpec, FitSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult } from '../../shared/results.js';
 import { engineName, rollsSums, summarizeBacktest, windowChunks, windowSchedule, type BacktestEngine, type WindowRecord } from '../../shared/backtest/index.js';
-import { alignPanels, assembleCompare, bootstrapChunk, bootstrapMembers, bootstrapSettings, mergeDraws, type HjBootstrapDraws, type ModelOutcome } from '../../shared/compare/index.js';
+import { alignPanels, assembleCompare, outcomeFor, bootstrapChunk, bootstrapMembers, bootstrapSettings, mergeDraws, type HjBootstrapDraws, type ModelOutcome } from '../../shared/compare/index.js';
 import type { TaskKind, TaskMap } from './protocol.js';
 
 export type RawRun = <K extends TaskKind>(
@@ -134,7 +134,7 @@ export async function compareInPool(run: RawRun, threads: number, payload: { spe
   const { spec, fits } = payload;
   const { panels } = alignPanels(payload.panels);
   const cancelled = (): boolean => opts.signal?.aborted === true;
-  const outcomes: ModelOutcome[] = fits.map((f) => ({ label: f.label ?? f.model.kind }));
+  const outcomes: ModelOutcome[] = fits.map(outcomeFor);
   let done = 0;
   const total = fits.length;
   // Fits (and back-tests) side by side: each is its own task; a failed fit is a row's error, not the run's.

@@ -130,7 +130,11 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
 
   // Model set-up
   await page.click('[data-screen=setup]');
+  // No factor is chosen for the user: the set-up asks, and one click picks the first.
+  await expect(page.locator('[data-testid=factor-prompt]')).toBeVisible();
+  await page.locator('[data-testid=factor-list] label').first().click();
   await expect(page.locator('.ok-line')).toBeVisible();
+  await expect(page.locator('[data-testid=lags-preview]')).toContainText(/auto gives \d+ lags? on T = \d+ periods/);
   await shot(page, `${prefix}model-setup`);
   const spec = await specOnScreen(page);
 
@@ -168,8 +172,9 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
   await page.locator('[data-testid=factor-list] label').nth(1).click();
   await page.click('[data-testid=add-compare]');
   await page.click('[data-testid=run-compare]');
-  await expect(page.locator('[data-testid=compare-table] tbody tr')).toHaveCount(2, { timeout: 60_000 });
-  expect(await page.locator('[data-testid=compare-table] td.best').count()).toBeGreaterThanOrEqual(4);
+  await expect(page.locator('[data-testid=compare-fit] tbody tr')).toHaveCount(2, { timeout: 60_000 });
+  expect(await page.locator('[data-testid=compare-fit] td.best').count()).toBeGreaterThanOrEqual(4);
+  await expect(page.locator('[data-testid=compare-models] td[data-key=stat].best')).toHaveCount(0); // test statistics are never ranked
   await expect(page.locator('body')).not.toContainText('NaN');
   await shot(page, `${prefix}comparison`);
 }

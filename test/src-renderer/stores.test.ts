@@ -126,6 +126,13 @@ describe('model set-up store', () => {
     const s = useModelStore();
     s.suggest({ testAssets: ['A1'], portfolios: ['S1', 'S2'], factors: ['MKT', 'SMB'], riskfree: ['RF'], consumption: [] });
     expect(s.form.assets).toEqual(['S1', 'S2']);
+    // No factor is chosen for the user: the spec asks for one until the user picks (or picks all).
+    expect(s.form.factors).toEqual([]);
+    expect(Object.keys(s.problems)).toEqual(['model.factors']);
+    s.setAllFactors(['MKT', 'SMB']);
+    expect(s.form.factors).toEqual(['MKT', 'SMB']);
+    s.setAllFactors([]);
+    s.toggle('factors', 'MKT');
     expect(s.valid).toBe(true);
     const spec = parseFitSpec(s.spec);
     expect(spec.model).toEqual({ kind: 'linear', factors: ['MKT'] });
@@ -176,15 +183,34 @@ describe('model set-up store', () => {
   it('collects models for a comparison spec that the shared validator accepts', () => {
     const s = useModelStore();
     Object.assign(s.form, { assets: ['S1', 'S2'], riskfree: 'RF', factors: ['MKT'] });
-    s.addToComparison();
+    expect(s.addToComparison()).toBe('added');
     s.form.factors = ['MKT', 'SMB'];
-    s.addToComparison();
-    s.addToComparison(); // same label replaces
-    expect(s.compareSet.map((e) => e.label)).toEqual(['linear(MKT)', 'linear(MKT,SMB)']);
+    expect(s.addToComparison()).toBe('added');
+    expect(s.addToComparison()).toBe('unchanged'); // the same model again changes nothing
+    // The same model at another stage is another model: its default label names the estimator.
+    s.form.stage = 'first';
+    expect(s.addToComparison()).toBe('added');
+    expect(s.compareSet.map((e) => e.label)).toEqual([
+      'linear(MKT) [GMM second, start W = I, lags auto]',
+      'linear(MKT,SMB) [GMM second, start W = I, lags auto]',
+      'linear(MKT,SMB) [GMM first, W = I, lags auto]',
+    ]);
     const { fits } = parseCompareSpec(s.compareSpec);
-    expect(fits.map((f) => f.model.factors)).toEqual([['MKT'], ['MKT', 'SMB']]);
-    s.removeFromComparison('linear(MKT)');
-    expect(s.compareSet.length).toBe(1);
+    expect(fits.map((f) => [f.model.factors, f.estimator.stage])).toEqual([[['MKT'], 'second'], [['MKT', 'SMB'], 'second'], [['MKT', 'SMB'], 'first']]);
+    // A different model under a label already in the set waits for the user's answer.
+    s.form.label = 'mine';
+    s.addToComparison();
+    s.form.stage = 'second';
+    expect(s.addToComparison()).toBe('ask');
+    expect(s.pendingReplace?.estimator.stage).toBe('second');
+    s.resolveReplace(false);
+    expect(s.compareSet.find((e) => e.label === 'mine')?.estimator.stage).toBe('first');
+    expect(s.addToComparison()).toBe('ask');
+    s.resolveReplace(true);
+    expect(s.compareSet.find((e) => e.label === 'mine')?.estimator.stage).toBe('second');
+    expect(s.pendingReplace).toBeNull();
+    s.removeFromComparison('linear(MKT) [GMM second, start W = I, lags auto]');
+    expect(s.compareSet.length).toBe(3);
   });
 
   it('instruments: off leaves the key out; on, the spec carries series, scale and lag, loads back, and travels with a comparison entry', () => {
@@ -203,8 +229,9 @@ describe('model set-up store', () => {
     s.addToComparison();
     s.form.instrumentScale = 'returns';
     s.addToComparison();
-    expect(s.compareSet.map((e) => e.label)).toEqual(['linear(MKT) | z: const,DY,TS, scale both', 'linear(MKT) | z: const,DY,TS, scale returns']);
-    s.removeFromComparison('linear(MKT) | z: const,DY,TS, scale returns');
+    // The default label names the model, its estimator and its instruments (shared/spec.ts defaultModelLabel).
+    expect(s.compareSet.map((e) => e.label)).toEqual(['linear(MKT) [GMM second, start W = I, lags auto] z(DY,TS; both)', 'linear(MKT) [GMM second, start W = I, lags auto] z(DY,TS; returns)']);
+    s.removeFromComparison('linear(MKT) [GMM second, start W = I, lags auto] z(DY,TS; returns)');
     s.form.instrumentsOn = false;
     s.addToComparison();
     const { fits } = parseCompareSpec(s.compareSpec);

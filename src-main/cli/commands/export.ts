@@ -1,6 +1,7 @@
 /**
  * `deflator export RUN --db DB --format csv|xlsx|latex|html|pdf --out FILE`: writes a
- * recorded run's tables and record. CSV writes one file per table: --out is a folder
+ * recorded run's tables and record. CSV writes one file per table (header row and data
+ * only) and an about.txt with the record, notes and warnings: --out is a folder
  * (existing, or ending in /) for `<folder>/<table>.csv`, otherwise a prefix for
  * `<prefix>-<table>.csv`.
  */
@@ -14,6 +15,8 @@ interface ExportOptions {
   format: string;
   out: string;
   json?: boolean;
+  csvComments?: boolean;
+  appendix?: boolean;
 }
 
 export function register(program: Command): void {
@@ -24,6 +27,8 @@ export function register(program: Command): void {
     .requiredOption('--db <path>', 'project database')
     .requiredOption('--format <format>', EXPORT_FORMATS.join(' | '))
     .requiredOption('--out <path>', 'output file (csv: a folder, or a file-name prefix)')
+    .option('--csv-comments', 'csv: the run record, header, notes and warnings as # lines above each table (default: a sidecar about.txt)')
+    .option('--appendix', 'pdf: add the long listings (m_t series, parameter paths, windows) as appendix tables (html has them always)')
     .option('--json', 'print the written paths as JSON')
     .action(async (run: string, opts: ExportOptions) => {
       const format = parseExportFormat(opts.format);
@@ -34,7 +39,7 @@ export function register(program: Command): void {
       } finally {
         store.close();
       }
-      const written = await exportRunToPath(record, format, opts.out);
+      const written = await exportRunToPath(record, format, opts.out, { csvComments: opts.csvComments, ...(opts.appendix ? { appendix: true } : {}) });
       process.stdout.write(opts.json ? `${JSON.stringify({ run: record.id, format, files: written })}\n` : `${written.map((w) => `wrote ${w}`).join('\n')}\n`);
     });
 }

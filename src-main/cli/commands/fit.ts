@@ -1,7 +1,7 @@
 /**
  * `deflator fit SPEC --db DB [--json]`: estimates one model as the spec file says, on the
  * returns panel built from the project database, in the worker pool; prints the readable
- * report (shared/report/fit-text.ts) or the result as JSON, and records the run in the
+ * report (shared/report/text.ts, from the presentation model) or the result as JSON, and records the run in the
  * database (unless --no-record) so that `deflator show`, `export` and `replay` find it.
  * One fit is one piece of work: it runs in this process (src-main/services).
  */

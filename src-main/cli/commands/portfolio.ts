@@ -9,7 +9,7 @@ import type { Command } from 'commander';
 import { FREQUENCIES } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { CHARACTERISTICS, parseSortSpec, sortPortfolios, type SortResult } from '../../../shared/portfolios/index.js';
-import { alignTable } from '../../../shared/report/fit-text.js';
+import { alignTable } from '../../../shared/report/text.js';
 import { fixed } from '../../../shared/report/numbers.js';
 import { CAUTION } from '../../../shared/results.js';
 import { Store } from '../../store/store.js';

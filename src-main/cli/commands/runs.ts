@@ -7,7 +7,7 @@
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { isRunKind, RUN_KINDS, type RunSummary } from '../../../shared/records/run-record.js';
-import { alignColumns } from '../../../shared/report/text.js';
+import { alignTable } from '../../../shared/report/text.js';
 import { isCalendarDate } from '../../../shared/returns/periods.js';
 import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
@@ -37,7 +37,7 @@ export function formatRuns(runs: RunSummary[]): string {
     String(r.K),
     r.stale ? 'STALE' : 'ok',
   ]);
-  const lines = alignColumns(['run', 'kind', 'recorded (UTC)', 'model', 'sample', 'T', 'N', 'K', 'data'], rows, [true, false, false, false, false, true, true, true, false]);
+  const lines = alignTable(['run', 'kind', 'recorded (UTC)', 'model', 'sample', 'T', 'N', 'K', 'data'], rows, '', [true, false, false, false, false, true, true, true, false]).split('\n');
   for (const r of runs.filter((x) => x.stale)) {
     lines.push('', `run ${r.id} is stale:`);
     for (const s of r.staleItems) lines.push(`  ${s.what}: ${s.reason}`);

@@ -6,9 +6,11 @@ import { defineStore } from 'pinia';
 import { DeflatorError } from '../../../shared/errors.js';
 import { FREQUENCIES } from '../../../shared/data.js';
 import type { Frequency } from '../../../shared/data.js';
-import { isCompareSpec, parseCompareSpec, parseFitSpec, specJson } from '../../../shared/spec.js';
+import { defaultModelLabel, isCompareSpec, parseCompareSpec, parseFitSpec, specJson } from '../../../shared/spec.js';
 import type { FitSpec, FitSpecInput, CompareSpec, InstrumentScale } from '../../../shared/spec.js';
 import { fieldsOf } from '../lib/errors.js';
+import { bridge } from '../bridge/index.js';
+import type { SamplePreview } from '../../../shared/bridge/index.js';
 
 /** JSON.stringify with 2-space indent, lists of plain values kept on one line. */
 export function compactJson(value: unknown): string {
@@ -69,6 +71,11 @@ export const useModelStore = defineStore('model', {
   state: () => ({
     form: defaults(),
     compareSet: [] as CompareEntry[],
+    /** A model waiting for the user to confirm that it replaces the one with its label. */
+    pendingReplace: null as CompareEntry | null,
+    /** The sample the current spec gives on the stored data (periods and the lags "auto" uses); null while unknown. */
+    preview: null as SamplePreview | null,
+    previewFor: '',
     loadError: null as string | null,
     touched: false,
   }),
@@ -156,7 +163,7 @@ export const useModelStore = defineStore('model', {
       if (this.touched) return;
       if (f.assets.length === 0) f.assets = names.portfolios.length ? [...names.portfolios] : [...names.testAssets];
       if (!f.riskfree && names.riskfree.length) f.riskfree = names.riskfree[0];
-      if (f.factors.length === 0 && names.factors.length) f.factors = [names.factors[0]];
+      // Factors are the model: none is chosen for the user (the set-up asks for them).
       if (!f.consumption && names.consumption.length) f.consumption = names.consumption[0];
     },
     setKind(kind: ModelKind): void {
@@ -175,13 +182,52 @@ export const useModelStore = defineStore('model', {
       else arr.push(name);
       this.touched = true;
     },
-    addToComparison(): void {
+    /**
+     * Adds the set-up's model to the comparison. Unlabelled, its label names the model and
+     * its estimator, so the same model at another stage is another entry. A different
+     * model under a label already in the set waits in `pendingReplace` for the user.
+     */
+    addToComparison(): 'added' | 'unchanged' | 'ask' {
       const spec = parseFitSpec(JSON.parse(JSON.stringify(this.spec)));
-      const label = this.label;
+      const label = this.form.label.trim() || defaultModelLabel(spec.model, spec.estimator, spec.instruments);
       const entry: CompareEntry = { label, model: spec.model, estimator: spec.estimator, ...(spec.instruments ? { instruments: spec.instruments } : {}) };
       const i = this.compareSet.findIndex((e) => e.label === label);
+      if (i < 0) {
+        this.compareSet.push(entry);
+        return 'added';
+      }
+      if (JSON.stringify(this.compareSet[i]) === JSON.stringify(entry)) return 'unchanged';
+      this.pendingReplace = entry;
+      return 'ask';
+    },
+    /** The user's answer to "replace the model with this label?". */
+    resolveReplace(replace: boolean): void {
+      const entry = this.pendingReplace;
+      this.pendingReplace = null;
+      if (!replace || !entry) return;
+      const i = this.compareSet.findIndex((e) => e.label === entry.label);
       if (i >= 0) this.compareSet.splice(i, 1, entry);
-      else this.compareSet.push(entry);
+    },
+    /** Asks the project which sample (and lag count) the current spec gives; stale replies are dropped. */
+    async refreshPreview(): Promise<void> {
+      if (!this.valid) {
+        this.preview = null;
+        return;
+      }
+      const key = JSON.stringify(this.fitSpec);
+      if (key === this.previewFor) return;
+      this.previewFor = key;
+      try {
+        const p = await bridge().samplePreview({ spec: JSON.parse(key) });
+        if (this.previewFor === key) this.preview = p;
+      } catch {
+        if (this.previewFor === key) this.preview = null;
+      }
+    },
+    /** Chooses every stored factor, or none. */
+    setAllFactors(names: string[]): void {
+      this.form.factors = [...names];
+      this.touched = true;
     },
     removeFromComparison(label: string): void {
       this.compareSet = this.compareSet.filter((e) => e.label !== label);

@@ -1,9 +1,7 @@
 import { describe, expect, it } from 'vitest';
 import {
   barColor,
-  bestByColumn,
   compareChartOption,
-  compareColumnsFor,
   oosErrorsOption,
   parameterPathsOption,
   pathParameterNames,
@@ -124,6 +122,7 @@ const bt: BacktestResult = {
   ],
   windowList: [],
   spec: { window: 6, step: 1, horizon: 1, expanding: false },
+  warnings: [],
 };
 
 describe('back-test charts', () => {
@@ -157,22 +156,14 @@ describe('comparison', () => {
   const result: CompareResult = {
     kind: 'compare',
     sample: base.sample,
-    models: [row('one', 0.002, 0.3, 0.2), row('two', 0.001, 0.6, 0.1), row('broken', 0.0001, 0.99, 0.9, 'singular')],
+    models: [row('one', 0.002, 0.3, 0.2), row('two', 0.001, 0.6, 0.1), row('no back-test', 0.0001, 0.99, 0.9, 'back-test failed: singular')],
     hjTests: [],
+    warnings: [],
   };
-  it('marks the lowest error and the highest R^2 and p; failed models never win', () => {
-    const best = bestByColumn(result);
-    expect(best.rmse).toEqual(['two']);
-    expect(best.r2).toEqual(['two']);
-    expect(best.testP).toEqual(['one']);
-    expect(best.hj).toEqual([]);
-    const cols = compareColumnsFor(result).map((c) => c.key);
-    expect(cols).toContain('rmse');
-    expect(cols).not.toContain('hj');
-  });
-  it('charts only models that ran', () => {
+  it('charts every fitted model: a failed back-test leaves its in-sample bars', () => {
     const o = compareChartOption(result);
-    expect((o.xAxis as { data: string[] }).data).toEqual(['one', 'two']);
+    expect((o.xAxis as { data: string[] }).data).toEqual(['one', 'two', 'no back-test']);
+    expect(o.series[0].data).toEqual([0.002 * 1200, 0.001 * 1200, 0.0001 * 1200].map((x) => expect.closeTo(x, 12)));
   });
 });
 

@@ -10,7 +10,7 @@ import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { fit } from '../../../shared/estimation/fit.js';
-import { fitText } from '../../../shared/report/fit-text.js';
+import { resultToText } from '../../../shared/report/text.js';
 import { CAUTION, type FitResult } from '../../../shared/results.js';
 import { loadPanel } from '../../../src-main/data/panel.js';
 import { Store } from '../../../src-main/store/store.js';
@@ -58,9 +58,10 @@ describe('deflator fit on the demo database', () => {
     it(`${f} runs and prints the report`, () => {
       const r = cli(['fit', path.join('sample-data/specs', f), '--db', db, '--no-record']);
       expect(r.code, r.err).toBe(0);
-      expect(r.out).toMatch(/^Sample {8}\d{4}-\d{2}-\d{2} to \d{4}-\d{2}-\d{2}, monthly, T = \d+$/m);
+      expect(r.out).toMatch(/^  sample +\d{4}-\d{2}-\d{2} to \d{4}-\d{2}-\d{2}, monthly \(12 periods per year\), T = \d+$/m);
       expect(r.out).toContain('Parameter estimates');
-      expect(r.out).toContain('Pricing errors (percent; per month, and annualised x 12)');
+      expect(r.out).toContain('Pricing errors');
+      expect(r.out).toContain('(% per month)');
       expect(r.out).toContain('Tests');
       expect(r.out.trimEnd().endsWith(CAUTION)).toBe(true);
     });
@@ -89,7 +90,7 @@ describe('deflator fit on the demo database', () => {
       local.pricingErrors.forEach((e, i) => expect(Object.is(j.pricingErrors[i].alpha, e.alpha), e.asset).toBe(true));
       expect(j.test.stat).toBe(local.test.stat);
       expect(j.hj!.p).toBe(local.hj!.p);
-      expect(fitText(local)).toContain(local.label);
+      expect(resultToText(local)).toContain(local.label);
     } finally {
       store.close();
     }

@@ -82,6 +82,7 @@ describe.runIf(HAVE_CHROMIUM)('HTML report opened in headless Chromium', () => {
         header: Array.from(document.querySelectorAll('table.header tr')).map((tr) => tr.textContent),
         record: document.querySelector('table.record')?.textContent ?? '',
         title: document.title,
+        hover: /hover/i.test(document.querySelector('body')?.textContent ?? ''),
       };
     });
     expect(got.params.length).toBe(r.params.length);
@@ -92,8 +93,9 @@ describe.runIf(HAVE_CHROMIUM)('HTML report opened in headless Chromium', () => {
     });
     r.pricingErrors.forEach((e, i) => {
       expect(got.alphas[i][0]).toBe(e.asset);
-      expect(Object.is(Number(got.alphas[i][1]), e.alpha), `alpha ${e.asset}`).toBe(true);
-      expect(Object.is(Number(got.alphas[i][7]), e.predicted)).toBe(true);
+      // Percent columns hold 100 x the stored decimal, as every surface shows them.
+      expect(Object.is(Number(got.alphas[i][1]), 100 * e.alpha), `alpha ${e.asset}`).toBe(true);
+      expect(Object.is(Number(got.alphas[i][7]), 100 * e.predicted)).toBe(true);
     });
     expect(got.tests.map((t) => t[0])).toEqual(['pricing errors chi-square', 'Hansen J', 'GRS']);
     expect(got.bars.map((b) => b[0])).toEqual(ASSETS);
@@ -101,16 +103,17 @@ describe.runIf(HAVE_CHROMIUM)('HTML report opened in headless Chromium', () => {
     expect(got.whiskers).toBe(ASSETS.length);
     expect(got.points.length).toBe(ASSETS.length);
     got.points.forEach((p, i) => {
-      expect(Number(p[1])).toBe(100 * 12 * r.pricingErrors[i].predicted);
-      expect(Number(p[2])).toBe(100 * 12 * r.pricingErrors[i].meanReturn);
+      expect(Number(p[1])).toBe(100 * (r.pricingErrors[i].predicted * 12));
+      expect(Number(p[2])).toBe(100 * (r.pricingErrors[i].meanReturn * 12));
     });
     expect(got.svgs.length).toBe(2);
+    expect(got.hover).toBe(false);
     for (const s of got.svgs) {
       expect(s.ns).toBe('http://www.w3.org/2000/svg');
       expect(s.w).toBeGreaterThan(100);
     }
     expect(got.caution).toBe(CAUTION);
-    expect(got.header.some((h) => h === 'sample2031-01-31 to 2035-12-31')).toBe(true);
+    expect(got.header.some((h) => h?.startsWith('sample2031-01-31 to 2035-12-31, monthly'))).toBe(true);
     expect(got.record).toContain('ab'.repeat(32));
     expect(got.record).toContain('cd'.repeat(32));
     expect(got.title).toContain('run 42');
@@ -125,8 +128,9 @@ describe.runIf(HAVE_CHROMIUM)('HTML report opened in headless Chromium', () => {
       bars: document.querySelectorAll('#chart-oos-errors rect.bar').length,
     }));
     expect(bt.tables).toEqual([
-      ['summary', 12],
+      ['summary', 6],
       ['per-asset', ASSETS.length],
+      ['path-summary', 2],
       ['paths', b.paths.length * 2],
       ['windows', b.windowList.length],
     ]);
@@ -140,8 +144,8 @@ describe.runIf(HAVE_CHROMIUM)('HTML report opened in headless Chromium', () => {
       tables: Array.from(document.querySelectorAll('table.result')).map((t) => t.getAttribute('data-table')),
       rmseBars: Array.from(document.querySelectorAll('#chart-rmse rect.bar')).map((x) => x.getAttribute('data-label')),
     }));
-    expect(cm.tables).toEqual(['models', 'parameters', 'hj-tests']);
-    expect(cm.rmseBars).toEqual(['linear(MKT)', 'linear(MKT,SIZE)']);
+    expect(cm.tables).toEqual(['models', 'fit', 'out-of-sample', 'parameters', 'hj-tests']);
+    expect(cm.rmseBars).toEqual(['linear(MKT)', 'linear(MKT,SIZE)', 'consumption(CONS)']);
     expect(requests).toEqual([]);
   });
 });

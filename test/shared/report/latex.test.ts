@@ -5,6 +5,8 @@ import path from 'node:path';
 import { describe, expect, it } from 'vitest';
 import type { AnyResult } from '../../../shared/results.js';
 import { latexEscape, resultToLatex } from '../../../shared/report/latex.js';
+import { present } from '../../../shared/present/index.js';
+import { tableCellText } from '../../../shared/present/format.js';
 import { sampleBacktest, sampleCompare, sampleFit, sampleRecord } from './sample-results.js';
 
 /**
@@ -59,37 +61,44 @@ describe('LaTeX export', () => {
     expect(envs.filter((e) => e === 'table').length).toBeGreaterThanOrEqual(2);
     expect(tex).toMatch(/\\toprule[\s\S]*\\midrule[\s\S]*\\bottomrule/);
     expect(tex).not.toMatch(/\\hline/);
-    expect(tex).toMatch(/rounded to \d decimals/);
+    expect(tex).toMatch(/to \d decimals/);
     expect(tex).not.toMatch(/NaN|Infinity|undefined/);
   });
 
-  it('fit: estimates rounded to 4 decimals with s.e. in parentheses beneath, alphas in percent with t', () => {
+  it('fit: every number at the display rounding every surface shows, headings with units, names escaped', () => {
     const r = sampleFit();
     const tex = resultToLatex(r, sampleRecord());
-    const p = r.params[1];
-    const shown = (x: number, d: number) => (x < 0 ? `$-$${(-x).toFixed(d)}` : x.toFixed(d));
-    const est = new RegExp(`${latexEscape(p.name).replace(/[.\\]/g, '\\$&')} & ${shown(p.estimate, 4).replace(/\$/g, '\\$')}`);
-    expect(tex).toMatch(est);
-    expect(tex).toContain(` & (${shown(p.se, 4)}) & & \\\\`);
-    // A value below the last displayed decimal is shown in scientific notation, not as 0.0000.
-    expect(tex).toContain('$1.23\\times 10^{-7}$');
-    const e = r.pricingErrors[0];
-    expect(tex).toContain(`${latexEscape(e.asset)} & ${shown(100 * e.alpha, 3)} & ${shown(e.t, 2)} &`);
+    const p = present(r);
+    const shown = (text: string) => (text.startsWith('-') ? `$-$${text.slice(1)}` : text);
+    const params = p.tables.find((t) => t.id === 'parameters')!;
+    const q = 1;
+    expect(tex).toContain(`${latexEscape(r.params[q].name)} & ${shown(tableCellText(params, q, 1))} & ${shown(tableCellText(params, q, 2))} &`);
+    // A value below 1e-4 keeps 6 significant digits in exponent form, as in the terminal.
+    expect(tex).toContain('$1.23457\\times 10^{-7}$');
+    const pe = p.tables.find((t) => t.id === 'pricing-errors')!;
+    expect(tex).toContain(`${latexEscape(r.pricingErrors[0].asset)} & ${shown(tableCellText(pe, 0, 1))} & ${shown(tableCellText(pe, 0, 2))} &`);
+    expect(tex).toContain('alpha (\\% per month)'); // a bare Greek name stays a word, as on every surface
     // Names are escaped: & _ " # % { } ~ never appear raw inside a cell.
     expect(tex).toContain('Birch \\& Pine\\_2');
     expect(tex).toContain('Dune, Ltd \\#4');
     expect(tex).toContain('Elm 50\\% \\{x\\}');
     expect(tex).toContain('Fir\\textasciitilde{}Co');
+    // Formulas in notes are in math mode, never \textasciicircum.
+    expect(tex).toContain('$R^{2}$ (cross-section) = $1 - \\sum');
+    expect(tex).not.toContain('textasciicircum');
+  });
+
+  it('splits a table wider than the page into column groups that repeat the first column', () => {
+    const tex = resultToLatex(sampleFit(), sampleRecord());
+    expect(tex).toContain('Pricing errors (1 of 2)');
+    expect(tex).toContain('Pricing errors (2 of 2)');
+    for (const m of tex.matchAll(/\\begin\{tabular\}\{([lr]+)\}/g)) expect(m[1].length).toBeLessThanOrEqual(7);
   });
 
   // Compiler check: Debian's texlive (pdflatex) when installed; skipped with the reason otherwise.
-  it('compiles with pdflatex where texlive is present', () => {
-    const which = spawnSync('sh', ['-c', 'command -v pdflatex'], { encoding: 'utf8' });
-    const pdflatex = which.stdout.trim();
-    if (which.status !== 0 || !pdflatex) {
-      console.log('pdflatex check skipped: pdflatex not on PATH (Debian: apt-get install texlive-latex-recommended)');
-      return;
-    }
+  const which = spawnSync('sh', ['-c', 'command -v pdflatex'], { encoding: 'utf8' });
+  const pdflatex = which.status === 0 ? which.stdout.trim() : '';
+  it.skipIf(!pdflatex)(`compiles with pdflatex${pdflatex ? '' : ' (skipped: pdflatex not on PATH; Debian: apt-get install texlive-latex-recommended)'}`, () => {
     const dir = mkdtempSync(path.join(tmpdir(), 'deflator-tex-'));
     for (const [k, make] of kinds) {
       writeFileSync(path.join(dir, `${k}.tex`), resultToLatex(make(), sampleRecord()));

@@ -75,6 +75,7 @@ export function sampleFit(seed = 7): FitResult {
     hj: { distance: Math.abs(small[j++]), p: 0.04, method: 'Imhof (1961) numerical inversion' },
     fit: { mape: 0.0012, rmse: 0.0016, r2: 0.61, mapeAnnual: 0.0144, rmseAnnual: 0.0192 },
     notes: ['second stage: S from the first-stage estimate'],
+    warnings: [],
   };
 }
 
@@ -104,6 +105,7 @@ export function sampleBacktest(seed = 11): BacktestResult {
       ...(end === '2034-02-28' ? { reason: 'S is singular in this window' } : {}),
     })),
     spec: { window: 36, step: 1, horizon: 1, expanding: false },
+    warnings: [{ code: 'FAILED_WINDOWS', message: '1 of 5 back-test windows could not be estimated' }],
   };
 }
 
@@ -119,6 +121,7 @@ export function sampleCompare(seed = 13): CompareResult {
       { label: 'consumption(CONS)', params: [], test: { name: 'Hansen J', stat: 0, df: 1, p: 1 }, fit: { mape: 0, rmse: 0, r2: 0, mapeAnnual: 0, rmseAnnual: 0 }, error: 'NO_CONVERGENCE: gamma diverged' },
     ],
     hjTests: [{ a: 'linear(MKT)', b: 'linear(MKT,SIZE)', diff: 0.0123456789, p: 0.2, replications: 499, block: 4, seed: 20261201 }],
+    warnings: [],
   };
 }
 

@@ -15,6 +15,7 @@ export function fakeProject(): ProjectData {
       if (asset !== 'A1') throw new DeflatorError('NOT_FOUND', `no asset named ${asset}`, 'import it first');
       return { asset, frequency: 'stored', dates: ['2001-01-31'], price: [10], totalReturn: [10], dividends: 0 };
     },
+    samplePreview: (spec) => ({ start: '2001-01-31', end: '2001-12-31', T: 12, N: 1, lags: spec.estimator.lags === 'auto' ? 2 : spec.estimator.lags, lagsRule: spec.estimator.lags === 'auto' ? 'automatic, floor(4 (T/100)^(2/9)) = 2' : 'as set' }),
   };
 }
 
@@ -36,6 +37,7 @@ export function tinyFit(label = 'fake'): FitResult {
     tests: [],
     fit: { mape: 0.0015, rmse: 0.0016, r2: 0.5, mapeAnnual: 0.018, rmseAnnual: 0.019 },
     notes: [],
+    warnings: [],
   };
 }
 

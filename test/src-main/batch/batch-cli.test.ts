@@ -7,6 +7,7 @@
  * task, a task computed from other data and a changed result; plan refuses a grid above
  * the task limit without --max-tasks.
  */
+import { parse } from 'csv-parse/sync';
 import { spawn, spawnSync } from 'node:child_process';
 import { cpSync, existsSync, readFileSync, readdirSync, rmSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
@@ -113,8 +114,8 @@ describe('deflator batch: 28 tasks, one shard against three shards with a kill',
     const b = ok(['batch', 'merge', three, '--db', p.dbPath, '--rank', 'oos', '--top', '5']);
     runs.one = Number(/Recorded as run (\d+)/.exec(a.out)![1]);
     runs.three = Number(/Recorded as run (\d+)/.exec(b.out)![1]);
-    expect(a.out).toContain('Ranked by HJ distance (smallest first): top 20 of 28 fitted tasks');
-    expect(b.out).toContain('Ranked by out-of-sample RMSE (smallest first): top 5 of 28 fitted tasks');
+    expect(a.out).toContain('Top 20 of 28 by HJ distance (smallest first)');
+    expect(b.out).toContain('Top 5 of 28 by out-of-sample RMSE (smallest first)');
     expect(a.out).toContain('not investment advice');
     const store = new Store(p.dbPath, { mustExist: true });
     try {
@@ -178,20 +179,21 @@ describe('deflator batch: 28 tasks, one shard against three shards with a kill',
     expect(r.out).toMatch(/numbers: all \d+ stored numbers reproduced bit for bit\nREPLAY OK/);
     expect(r.code).toBe(0);
     const show = ok(['show', String(runs.three), '--db', p.dbPath]).out;
-    expect(show).toContain('Batch: factor search (28 tasks)');
-    expect(show).toContain('Ranked by HJ distance');
+    expect(show).toContain('Batch "factor search": 28 tasks');
+    expect(show).toContain('by HJ distance (smallest first)');
     const out = path.join(p.dir, 'export') + path.sep;
     ok(['export', String(runs.one), '--db', p.dbPath, '--format', 'csv', '--out', out]);
-    const csv = readFileSync(path.join(out, 'tasks.csv'), 'utf8').split('\n').filter((l) => l && !l.startsWith('#'));
+    // Reader: csv-parse (the file holds the table alone: header row and data).
+    const csv = parse(readFileSync(path.join(out, 'tasks.csv'), 'utf8')) as string[][];
     expect(csv).toHaveLength(1 + TASKS);
-    const head = csv[0].split(',');
-    expect(head.slice(0, 5)).toEqual(['task', 'label', 'model.factors', 'estimator.stage', 'backtest.window']);
+    const head = csv[0];
+    expect(head.slice(0, 5)).toEqual(['Task', 'Settings', 'model.factors', 'estimator.stage', 'backtest.window']);
     const store = new Store(p.dbPath, { mustExist: true });
     const stored = getRun(store, runs.one).result as BatchResult;
     store.close();
-    const hj = head.indexOf('hj');
-    for (const line of csv.slice(1)) {
-      const cells = line.split(',');
+    const hj = head.indexOf('HJ distance (per month)');
+    expect(hj).toBeGreaterThan(0);
+    for (const cells of csv.slice(1)) {
       const m = stored.models[Number(cells[0])];
       expect(Number(cells[hj])).toBe(m.hj!.distance);
     }

@@ -57,14 +57,15 @@ describe('run history through the bridge (the app)', () => {
     const pe = csv.files.find((f) => f.name === 'pricing-errors.csv')!;
     expect(pe.mime).toBe('text/csv');
     // Reader: csv-parse.
-    const rows = parse(Buffer.from(pe.base64, 'base64').toString('utf8'), { comment: '#', comment_no_infix: true, columns: true }) as Record<string, string>[];
-    rows.forEach((row, i) => expect(Object.is(Number(row.alpha), result.pricingErrors[i].alpha), row.asset).toBe(true));
+    const rows = parse(Buffer.from(pe.base64, 'base64').toString('utf8'), { columns: true }) as Record<string, string>[];
+    rows.forEach((row, i) => expect(Object.is(Number(row['alpha (% per month)']), 100 * result.pricingErrors[i].alpha), row.Asset).toBe(true));
+    expect(csv.files.some((f) => f.name === 'about.txt')).toBe(true);
     const xlsx = await call<{ files: { name: string; base64: string }[] }>('exportRun', { id: 1, format: 'xlsx' });
     expect(xlsx.files[0].name).toBe('run-1.xlsx');
     // Reader: exceljs.
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.load(Buffer.from(xlsx.files[0].base64, 'base64') as unknown as ArrayBuffer);
-    result.params.forEach((q, i) => expect(Object.is(wb.getWorksheet('Parameter estimates')!.getCell(i + 2, 2).value, q.estimate)).toBe(true));
+    result.params.forEach((q, i) => expect(Object.is(wb.getWorksheet('Parameters')!.getCell(i + 2, 2).value, q.estimate)).toBe(true));
     const bad = await app.dispatcher.dispatch('exportRun', { id: 1, format: 'docx' });
     expect(bad.ok).toBe(false);
   });

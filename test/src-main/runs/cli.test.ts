@@ -66,18 +66,28 @@ describe('deflator runs / show / export (built CLI)', () => {
     expect(missing.err).toMatch(/run 9 is not in .*\n\s+-> run `deflator runs --db DB`/);
   });
 
-  it('export csv into a folder: every cell parses back to the stored double (csv-parse)', () => {
+  it('export csv into a folder: the tables alone, every cell parses back to the presented double (csv-parse), metadata in about.txt', () => {
     const dir = path.join(p.dir, 'csv-out') + path.sep;
     const r = cli(['export', '1', '--db', p.dbPath, '--format', 'csv', '--out', dir]);
     expect(r.code, r.err).toBe(0);
-    expect(readdirSync(dir).sort()).toEqual(['fit.csv', 'parameters.csv', 'pricing-errors.csv', 'tests.csv'].concat(result.sdf ? ['sdf.csv'] : []).concat(result.bound?.curve?.length ? ['bound.csv'] : []).sort());
-    const rows = parse(readFileSync(path.join(dir, 'pricing-errors.csv'), 'utf8'), { comment: '#', comment_no_infix: true, columns: true }) as Record<string, string>[];
-    expect(rows.map((x) => x.asset)).toEqual(result.pricingErrors.map((e) => e.asset));
+    expect(readdirSync(dir).sort()).toEqual(
+      ['about.txt', 'fit.csv', 'parameters.csv', 'pricing-errors.csv', 'tests.csv'].concat(result.sdf || result.bound ? ['discount-factor.csv'] : []).concat(result.sdf ? ['sdf.csv'] : []).concat(result.bound?.curve?.length ? ['bound.csv'] : []).sort(),
+    );
+    const rows = parse(readFileSync(path.join(dir, 'pricing-errors.csv'), 'utf8'), { columns: true }) as Record<string, string>[];
+    expect(rows.map((x) => x.Asset)).toEqual(result.pricingErrors.map((e) => e.asset));
+    const cols: [string, (e: FitResult['pricingErrors'][number]) => number][] = [
+      ['alpha (% per month)', (e) => 100 * e.alpha],
+      ['s.e. (% per month)', (e) => 100 * e.se],
+      ['t', (e) => e.t],
+      ['alpha (% per year)', (e) => 100 * e.alphaAnnual],
+      ['s.e. (% per year)', (e) => 100 * e.seAnnual],
+      ['mean return (% per month)', (e) => 100 * e.meanReturn],
+      ['predicted (% per month)', (e) => 100 * e.predicted],
+    ];
     rows.forEach((x, i) => {
-      for (const k of ['alpha', 'se', 't', 'alphaAnnual', 'seAnnual', 'meanReturn', 'predicted'] as const) {
-        expect(Object.is(Number(x[k]), result.pricingErrors[i][k]), `${x.asset}.${k}: ${x[k]} vs ${result.pricingErrors[i][k]}`).toBe(true);
-      }
+      for (const [k, f] of cols) expect(Object.is(Number(x[k]), f(result.pricingErrors[i])), `${x.Asset}.${k}: ${x[k]} vs ${f(result.pricingErrors[i])}`).toBe(true);
     });
+    expect(readFileSync(path.join(dir, 'about.txt'), 'utf8')).toContain(`caution: ${CAUTION}`);
     // A prefix instead of a folder.
     const pre = cli(['export', '1', '--db', p.dbPath, '--format', 'csv', '--out', path.join(p.dir, 'pre', 'run1')]);
     expect(pre.code, pre.err).toBe(0);
@@ -89,7 +99,7 @@ describe('deflator runs / show / export (built CLI)', () => {
     expect(cli(['export', '1', '--db', p.dbPath, '--format', 'xlsx', '--out', x]).code).toBe(0);
     const wb = new ExcelJS.Workbook();
     await wb.xlsx.readFile(x);
-    const ws = wb.getWorksheet('Parameter estimates')!;
+    const ws = wb.getWorksheet('Parameters')!;
     result.params.forEach((q, i) => expect(Object.is(ws.getCell(i + 2, 2).value, q.estimate), q.name).toBe(true));
     expect(wb.getWorksheet('Record')).toBeDefined();
 
@@ -111,8 +121,7 @@ describe('deflator runs / show / export (built CLI)', () => {
     const tex = path.join(p.dir, 'run2.tex');
     expect(cli(['export', '2', '--db', p.dbPath, '--format', 'latex', '--out', tex]).code).toBe(0);
     const body = readFileSync(tex, 'utf8');
-    expect(body).toContain('Shanken (1992) corrected standard errors in brackets');
-    expect(body).toMatch(/ & \[\d\.\d{4}\] & & \\\\/);
+    expect(body).toContain('s.e. (Shanken)');
     const which = spawnSync('sh', ['-c', 'command -v pdflatex'], { encoding: 'utf8' });
     if (which.status !== 0) {
       console.log('pdflatex check skipped: pdflatex not on PATH (Debian: apt-get install texlive-latex-recommended)');

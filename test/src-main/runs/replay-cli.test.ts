@@ -109,7 +109,7 @@ describe('deflator replay (built CLI, worker pool)', () => {
       expect(r.out).toContain('STALE: the data this run read has changed');
       expect(r.out).toContain('fingerprint MISMATCH');
       expect(r.out).toMatch(/numbers: \d+ value\(s\) differ/);
-      expect(r.out).toMatch(/\n {4}\S+: stored -?[\d.e+-]+, recomputed -?[\d.e+-]+/);
+      expect(r.out).toMatch(/\n {4}.+: stored -?[\d.e+-]+, recomputed -?[\d.e+-]+/);
       expect(r.out.trim().endsWith('REPLAY MISMATCH')).toBe(true);
     }
     const show = cli(['show', String(ids.fit), '--db', p.dbPath]);
