@@ -11,7 +11,8 @@
  * Strict where RFC 4180 is: a quote inside an unquoted field, or text after a closing
  * quote, is an error naming the line and column. Empty lines are skipped.
  */
-import { open } from 'node:fs/promises';
+import { open, stat, type FileHandle } from 'node:fs/promises';
+import type { BigIntStats } from 'node:fs';
 import { isUtf8 } from 'node:buffer';
 import type { DelimiterName } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
@@ -139,6 +140,24 @@ function completeUtf8End(buf: Buffer, from: number, to: number): number {
 }
 
 /**
+ * A file that changed while it was read is refused: its bytes are not one version of it
+ * (a file cut short while it was imported was stored as a prefix, its last number cut).
+ * Compared with the start: the bytes read and the size, the size now, the modification
+ * time, and that the path still names the same file (not one saved over it by rename).
+ */
+async function unchangedSince(fh: FileHandle, file: string, began: BigIntStats, bytesRead: number | undefined): Promise<void> {
+  const now = await fh.stat({ bigint: true });
+  const atPath = await stat(file, { bigint: true }).catch(() => undefined);
+  const startBytes = Number(began.size);
+  let what: string | undefined;
+  if (now.size !== began.size) what = `it had ${startBytes} bytes when the import began and has ${now.size} now`;
+  else if (bytesRead !== undefined && bytesRead !== startBytes) what = `it had ${startBytes} bytes when the import began, ${bytesRead} were read`;
+  else if (now.mtimeNs !== began.mtimeNs) what = 'it was written to while it was read (its modification time changed)';
+  else if (!atPath || atPath.ino !== began.ino || atPath.dev !== began.dev) what = atPath ? 'another file was saved in its place while it was read' : 'it was deleted or moved while it was read';
+  if (what) throw new DeflatorError('INPUT_INVALID', `${file} changed while it was being imported: ${what}`, 'import it again once nothing is writing to it (a download, copy or export still running?); nothing was stored');
+}
+
+/**
  * Reads `file` record by record. `onRow` runs synchronously for each record; a thrown
  * error stops the read and propagates.
  */
@@ -151,8 +170,12 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
   const fh = await open(file, 'r').catch((e: NodeJS.ErrnoException) => {
     throw new DeflatorError('NOT_FOUND', `cannot read ${file}: ${e.code === 'ENOENT' ? 'no such file' : e.message}`, 'check the file name and path');
   });
+  let began: BigIntStats | undefined;
   try {
-    const { size } = await fh.stat();
+    // the file as it is when the read begins: its size and identity (device, inode,
+    // modification time to the nanosecond), checked again when the read reaches its end
+    began = await fh.stat({ bigint: true });
+    const size = Number(began.size);
     if (size === 0) throw new DeflatorError('INPUT_INVALID', `${file} is empty`, 'choose a CSV file with a header line and data rows');
     let buf = Buffer.allocUnsafe(Math.max(chunk * 2, 1024));
     let len = 0; // bytes in buf
@@ -317,7 +340,12 @@ export async function readCsv(file: string, onRow: (row: CsvRow) => void, option
       options.onProgress?.(bytesRead, size);
       if (eof) break;
     }
+    await unchangedSince(fh, file, began, bytesRead);
     return { bytes: bytesRead, records, lines: line - 1 };
+  } catch (e) {
+    // a file cut or grown mid-read fails on its broken last row: say the real cause
+    if (began) await unchangedSince(fh, file, began, undefined);
+    throw e;
   } finally {
     await fh.close();
   }
