@@ -5,6 +5,7 @@
  * date order, keeping only a few numbers per asset (memory does not grow with the file).
  */
 import type { Frequency } from '../../shared/data.js';
+import { DeflatorError } from '../../shared/errors.js';
 import type { ImportWarning } from '../store/store.js';
 import { GAP_DAYS, frequencyFromSpacing, histogramMedian } from '../data/calendar.js';
 
@@ -67,8 +68,14 @@ export class HistoryChecker {
     yield* this.spacingLarge;
   }
 
-  /** Price rows: the return and dividend checks run here; `adjust` is the split factor on that date. */
-  push(date: string, day: number, price: number, dividend: number, adjust: number): void {
+  /**
+   * Price rows: the return and dividend checks run here; `adjust` is the split factor on
+   * that date, `origin` the file line when the row comes from the file being imported.
+   * A gross return that is not a finite positive number (prices so far apart that their
+   * ratio leaves the range of a double, 1e-300 then 1e300) is an error naming the row:
+   * stored, it would make every fit on that asset fail later.
+   */
+  push(date: string, day: number, price: number, dividend: number, adjust: number, origin?: { file: string; line: number }): void {
     if (this.unordered) return;
     if (this.rows > 0 && day <= this.lastDay) {
       this.unordered = true;
@@ -78,8 +85,16 @@ export class HistoryChecker {
     const t = this.thresholds;
     if (this.rows > 1) {
       this.space(day, date);
+      const gross = (price + dividend) / (this.lastPrice / adjust);
+      if (!(Number.isFinite(gross) && gross > 0)) {
+        throw new DeflatorError(
+          'INPUT_INVALID',
+          `${origin ? `${origin.file}, line ${origin.line}: ` : ''}${this.subject}: the return from ${this.lastDate} to ${date} (price ${this.lastPrice}, then ${price}${dividend ? ` with dividend ${dividend}` : ''}${adjust !== 1 ? `, split factor ${adjust}` : ''}) is ${gross}, beyond the range of a double`,
+          'check the prices: their units or scale changed, or a value is misplaced by many powers of ten',
+        );
+      }
       if (t) {
-        const r = (price + dividend) / (this.lastPrice / adjust) - 1;
+        const r = gross - 1;
         if (Math.abs(r) > t.maxReturn) {
           this.sink.add({ kind: 'large-return', subject: this.subject, from: this.lastDate, to: date, message: `${this.subject}: return ${pct(r)} from ${this.lastDate} to ${date} (beyond ${pct(t.maxReturn)}; a missing split factor?)` });
         }

@@ -464,12 +464,12 @@ export async function importPrices(store: Store, file: string, options: PriceImp
   // the checks see each asset's rows in file order as the session writes them
   let hookId = -1;
   let hookChecker: HistoryChecker | null = null;
-  session.rowHook = (id, date, day, price, dividend, adjust) => {
+  session.rowHook = (id, date, day, price, dividend, adjust, line, file) => {
     if (id !== hookId || !hookChecker) {
       hookChecker = checker(ctx, id, session.assetName(id));
       hookId = id;
     }
-    hookChecker.push(date, day, price, dividend, adjust);
+    hookChecker.push(date, day, price, dividend, adjust, { file, line });
   };
   const recorded = {
     layout,

@@ -31,6 +31,17 @@ export interface SeriesImportOptions extends ReadingOptions {
 }
 
 /** Which values make sense for a series of this kind and form (in decimals). */
+/** A consumption level's plausible magnitude (common practice, not a standard): indices near 100, amounts per person, national totals up to about 1e14 in any currency. */
+const PLAUSIBLE_LEVEL = [1e-6, 1e15] as const;
+/** Warn when consumption changes by more than this in one period (decimal). */
+const MAX_LEVEL_CHANGE = 0.5;
+
+interface LevelState {
+  last: number;
+  lastDate: string;
+  flagged: boolean;
+}
+
 function valueProblem(kind: SeriesKind, rfForm: RiskfreeForm | null, v: number): string | null {
   if (kind === 'consumption' && !(v > 0)) return `a consumption level must be positive, not ${v}`;
   if (kind === 'riskfree' && rfForm === 'account' && !(v > 0)) return `an account level must be positive, not ${v}`;
@@ -81,13 +92,32 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
   const checkers: HistoryChecker[] = [];
   let names: string[] = [];
   let dateCol = -1;
-  let columns: { col: number; id: number; checker: HistoryChecker }[] = [];
+  let columns: ({ col: number; id: number; checker: HistoryChecker } & LevelState)[] = [];
   let header = true;
   let read = 0;
   let prevDay = -Infinity;
   let first = Infinity;
   let last = -Infinity;
   const scale = units === 'percent' ? 100 : 1;
+  // levels (consumption, a risk-free account): what matters is the growth from one date to the next
+  const levels = kind === 'consumption' || rfForm === 'account';
+  const levelCheck = (c: LevelState & { col: number }, name: string, v: number, date: string, where: (col: number) => string): void => {
+    if (c.last > 0) {
+      const g = v / c.last;
+      if (!(Number.isFinite(g) && g > 0)) {
+        throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${name} goes from ${c.last} on ${c.lastDate} to ${v}, a growth factor of ${g}: beyond the range of a double`, 'check the values: their units or scale changed, or a value is misplaced by many powers of ten');
+      }
+      if (kind === 'consumption' && Math.abs(g - 1) > MAX_LEVEL_CHANGE) {
+        sink.add({ kind: 'large-return', subject: name, from: c.lastDate, to: date, message: `${name}: consumption changes by ${((g - 1) * 100).toFixed(1)}% from ${c.lastDate} to ${date} (beyond ${MAX_LEVEL_CHANGE * 100}% in one period; did the units change?)` });
+      }
+    }
+    if (kind === 'consumption' && !c.flagged && (v < PLAUSIBLE_LEVEL[0] || v > PLAUSIBLE_LEVEL[1])) {
+      c.flagged = true;
+      sink.add({ kind: 'implausible-level', subject: name, from: date, to: date, message: `${name}: a consumption level of ${v} on ${date} is outside ${PLAUSIBLE_LEVEL[0].toExponential()} to ${PLAUSIBLE_LEVEL[1].toExponential()} (an index, an amount per person or a national total is inside); check the units and the column` });
+    }
+    c.last = v;
+    c.lastDate = date;
+  };
   try {
     const logId = session.begin({ fileName: logName(file), sha256: '', kind: 'series', options: recorded });
     const takenOut = takeOutDiffering(store, differing);
@@ -110,7 +140,7 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
             .map((c) => {
               const checker = new HistoryChecker(c.name, null, sink);
               checkers.push(checker);
-              return { col: c.col, id: session.seriesId(c.name, kind, units, rfForm, { file, line: row.line }), checker };
+              return { col: c.col, id: session.seriesId(c.name, kind, units, rfForm, { file, line: row.line }), checker, last: NaN, lastDate: '', flagged: false };
             });
           if (columns.length === 0) throw new DeflatorError('INPUT_INVALID', `${file}, line ${row.line}: the header has no series columns`, 'add one column per series after the date column');
           return;
@@ -148,6 +178,7 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
           const v = raw / scale;
           const problem = valueProblem(kind, rfForm, v);
           if (problem) throw new DeflatorError('INPUT_INVALID', `${where(c.col)}: ${problem}`, reading.usualCodeHint(raw) ?? 'check the value and the --kind/--units/--rf-form options');
+          if (levels) levelCheck(c, names[c.col], v, date, where);
           session.seriesValue(c.id, names[c.col], date, v, { file, line: row.line });
           c.checker.pushDate(date, day);
         }

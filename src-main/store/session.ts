@@ -137,7 +137,7 @@ export class ImportSession {
    * Sees every queued observation once, grouped by asset and in file order within an asset,
    * when its chunk is written (the import checks run here: one asset's state at a time).
    */
-  rowHook: ((assetId: number, date: string, day: number, price: number, dividend: number, adjust: number) => void) | null = null;
+  rowHook: ((assetId: number, date: string, day: number, price: number, dividend: number, adjust: number, line: number, file: string) => void) | null = null;
   private order = new Int32Array(4096);
   private readonly params: (string | number | null)[] = new Array(BATCH * OBS_COLS);
   private readonly serBuf: (string | number)[] = [];
@@ -280,7 +280,7 @@ export class ImportSession {
     if (hook) {
       for (let r = 0; r < n; r++) {
         const i = order[r];
-        hook(c.asset[i], c.date[i], c.day[i], c.price[i], c.dividend[i], c.adjust[i]);
+        hook(c.asset[i], c.date[i], c.day[i], c.price[i], c.dividend[i], c.adjust[i], c.line[i], this.chunkFile);
       }
     }
     const params = this.params;

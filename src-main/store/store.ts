@@ -33,7 +33,7 @@ export interface StoreOptions {
 }
 
 export interface ImportWarning {
-  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'replaced' | 'missing' | 'small-returns' | 'more';
+  kind: 'gap' | 'stale-price' | 'large-return' | 'large-dividend' | 'ignored-columns' | 'rejected-row' | 'replaced' | 'missing' | 'small-returns' | 'implausible-level' | 'more';
   /** Asset or series name; '' for file-level warnings. */
   subject: string;
   from?: string;
