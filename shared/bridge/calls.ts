@@ -11,7 +11,7 @@ import * as z from 'zod';
 import { DATE_FORMATS, DECIMAL_NAMES, DELIMITER_NAMES, FREQUENCIES, RETURN_FORMS, RF_FORMS, SERIES_KINDS } from '../data.js';
 import { compareSpecSchema, driftSpecSchema, fitSpecSchema, isoDate, presentValueSpecSchema } from '../spec.js';
 import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../results.js';
-import type { AppInfo, AssetHistory, Coverage, ImportPreview, ImportReport, SamplePreview } from './types.js';
+import type { AppInfo, AssetHistory, Coverage, ImportPreview, ImportReport, SamplePreview, StoredImport } from './types.js';
 import { RUN_KINDS, type RunRecord, type RunSummary, type RunTag, type StaleItem } from '../records/run-record.js';
 import type { ReplayReport } from '../records/replay-report.js';
 import { EXPORT_FORMATS } from '../report/formats.js';
@@ -109,6 +109,7 @@ export const CALLS = {
     z.object({ spec: z.unknown() }).strict(),
     { summary: 'validate a spec (fit or comparison) and return it with defaults filled in' },
   ),
+  imports: call<StoredImport[]>()(empty, { summary: 'the imports stored in the project, newest first, with their warnings (file names without folders)' }),
   samplePreview: call<SamplePreview>()(z.object({ spec: z.unknown() }).strict(), {
     summary: 'the sample a fit spec would use on the stored data: periods, test assets, and the Newey-West lags "auto" gives',
   }),

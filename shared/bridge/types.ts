@@ -73,6 +73,22 @@ export interface AssetHistory {
   data?: string;
 }
 
+/** One import stored in the project (the import log), as the app lists it. */
+export interface StoredImport {
+  id: number;
+  /** The file's own name, without folders (an uploaded copy shows the name it was chosen under). */
+  file: string;
+  kind: string;
+  /** ISO time of the import. */
+  importedAt: string;
+  rowsRead: number;
+  rowsStored: number;
+  rowsRejected: number;
+  /** The first warnings (up to 50) and how many there were. */
+  warnings: ImportWarning[];
+  warningCount: number;
+}
+
 export interface ImportWarning {
   /** What kind of warning (gap, stale-price, large-return, rejected-row ...), where known. */
   kind?: string;

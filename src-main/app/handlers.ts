@@ -66,6 +66,7 @@ export function createHandlers(s: AppServices): Handlers {
       return { kind: 'fit', spec: parseFitSpec(req.spec) };
     },
     samplePreview: async (req) => s.project().samplePreview(parseFitSpec(req.spec)),
+    imports: async () => s.project().imports(),
     fit: async (req, ctx) => s.engine.fit(parseFitSpec(req.spec), ctx),
     backtest: async (req, ctx) => {
       const spec = parseFitSpec(req.spec);

@@ -6,7 +6,7 @@
 import type { Frequency } from '../../shared/data.js';
 import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../shared/results.js';
-import type { AssetHistory, Coverage, ImportKind, ImportPreview, ImportReport, SamplePreview } from '../../shared/bridge/types.js';
+import type { AssetHistory, Coverage, ImportKind, ImportPreview, ImportReport, SamplePreview, StoredImport } from '../../shared/bridge/types.js';
 import type { ParsedRequestOf } from '../../shared/bridge/calls.js';
 
 /** Progress of a long task: units done out of total, with an optional stage name. */
@@ -25,6 +25,8 @@ export interface ProjectData {
   history(asset: string, frequency?: Frequency): AssetHistory;
   /** The sample a fit spec would use: periods, test assets, lags. */
   samplePreview(spec: FitSpec): SamplePreview;
+  /** The stored import log, newest first. */
+  imports(): StoredImport[];
 }
 
 export type ImportOptions = NonNullable<ParsedRequestOf<'importFile'>['options']>;

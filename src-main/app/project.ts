@@ -11,7 +11,7 @@ import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
 import { parseAscending, spacingFrequency } from '../../shared/returns/periods.js';
 import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
 import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult } from '../../shared/results.js';
-import type { AssetHistory, Coverage, CoverageRow, ImportKind, ImportPreview, ImportReport, ImportWarning, SamplePreview } from '../../shared/bridge/types.js';
+import type { AssetHistory, Coverage, CoverageRow, ImportKind, ImportPreview, ImportReport, ImportWarning, SamplePreview, StoredImport } from '../../shared/bridge/types.js';
 import { importPrices, importReturns, importSeries, missingCodeList, previewImport, type PreviewOptions } from '../import/index.js';
 import { autoLags } from '../../shared/estimation/longRunCovariance.js';
 import { loadPanel } from '../data/panel.js';
@@ -25,6 +25,15 @@ import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from '
 /** What the app computes on: its worker pool (src-main/workers/pool.ts), which keeps the main thread free. */
 export type TaskRunner = Compute;
 
+/**
+ * A logged file name as the app shows it: the name without folders, and for a copy the app
+ * stored from an upload (incoming/<time>-<n>-<name>) the name it was chosen under.
+ */
+export function displayFileName(fileName: string): string {
+  const base = fileName.split(/[\\/]/).pop() ?? fileName;
+  return base.replace(/^\d{8}T\d{6}-\d+-/, '');
+}
+
 const longest = (gaps: { days: number }[]): number | undefined => (gaps.length ? Math.max(...gaps.map((g) => g.days)) : undefined);
 
 export class StoreProject implements ProjectData, Importer {
@@ -32,6 +41,24 @@ export class StoreProject implements ProjectData, Importer {
 
   get databaseName(): string {
     return path.basename(this.store.path);
+  }
+
+  imports(): StoredImport[] {
+    return this.store
+      .importLog()
+      .slice()
+      .reverse()
+      .map((e) => ({
+        id: e.id,
+        file: displayFileName(e.fileName),
+        kind: e.kind,
+        importedAt: e.importedAt,
+        rowsRead: e.rowsRead,
+        rowsStored: e.rowsStored,
+        rowsRejected: e.rowsRejected,
+        warnings: e.warnings.slice(0, 50).map((w) => ({ kind: w.kind, ...(w.subject ? { subject: w.subject } : {}), message: w.message })),
+        warningCount: e.warnings.length,
+      }));
   }
 
   samplePreview(spec: FitSpec): SamplePreview {

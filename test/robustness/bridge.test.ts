@@ -51,6 +51,7 @@ function examples(): { [K in CallName]: RequestOf<K> } {
     previewImport: { source: { path: path.join(data, 'ok.csv') }, kind: 'returns', options: { dateFormat: 'YYYY-MM-DD', missing: '-99.99' }, rows: 5 },
     checkSpec: { spec: fitSpec },
     samplePreview: { spec: fitSpec },
+    imports: {},
     fit: { spec: fitSpec },
     backtest: { spec: { ...fitSpec, backtest: { window: 2 } } },
     compare: { spec: { frequency: 'monthly', riskfree: 'gale_factor', compare: [{ model: { kind: 'linear', factors: ['gale_factor'] } }] } },

@@ -4,7 +4,7 @@
  * (the first rows as the import will read them, nothing stored), then imported.
  */
 import { defineStore } from 'pinia';
-import type { AppInfo, AssetHistory, Coverage, CoverageRow, ImportPreview, ImportReport, RequestOf } from '../../../shared/bridge/index.js';
+import type { AppInfo, AssetHistory, Coverage, CoverageRow, ImportPreview, ImportReport, RequestOf, StoredImport } from '../../../shared/bridge/index.js';
 import { bridge } from '../bridge/index.js';
 import { toUiError } from '../lib/errors.js';
 import type { UiError } from '../lib/errors.js';
@@ -42,6 +42,8 @@ export const useProjectStore = defineStore('project', {
     importFileName: '',
     importError: null as UiError | null,
     importLog: [] as ImportLogEntry[],
+    /** The imports stored in the project (newest first), with their warnings. */
+    storedImports: [] as StoredImport[],
     historyAsset: '',
     history: null as AssetHistory | null,
     historyLoading: false,
@@ -79,9 +81,10 @@ export const useProjectStore = defineStore('project', {
       this.loading = true;
       this.error = null;
       try {
-        const [info, coverage] = await Promise.all([bridge().info({}), bridge().coverage({})]);
+        const [info, coverage, imports] = await Promise.all([bridge().info({}), bridge().coverage({}), bridge().imports({}).catch(() => [] as StoredImport[])]);
         this.info = info;
         this.coverage = coverage;
+        this.storedImports = imports;
         if (!this.historyAsset && coverage.assets.length > 0) this.historyAsset = coverage.assets[0].name;
       } catch (e) {
         this.error = toUiError(e);

@@ -15,6 +15,7 @@ export function fakeProject(): ProjectData {
       if (asset !== 'A1') throw new DeflatorError('NOT_FOUND', `no asset named ${asset}`, 'import it first');
       return { asset, frequency: 'stored', dates: ['2001-01-31'], price: [10], totalReturn: [10], dividends: 0 };
     },
+    imports: () => [{ id: 1, file: 'prices.csv', kind: 'prices', importedAt: '2026-01-01T00:00:00.000Z', rowsRead: 12, rowsStored: 12, rowsRejected: 0, warnings: [], warningCount: 0 }],
     samplePreview: (spec) => ({ start: '2001-01-31', end: '2001-12-31', T: 12, N: 1, lags: spec.estimator.lags === 'auto' ? 2 : spec.estimator.lags, lagsRule: spec.estimator.lags === 'auto' ? 'automatic, floor(4 (T/100)^(2/9)) = 2' : 'as set' }),
   };
 }
