@@ -23,6 +23,8 @@ export const WARNING_CODES = [
   'FAILED_WINDOWS',
   /** Some bootstrap replications could not be computed. */
   'FAILED_REPLICATIONS',
+  /** A factor scaled by an instrument whose mean is large against its s.d.: f z is nearly collinear with f. */
+  'INSTRUMENT_LEVEL',
 ] as const;
 export type WarningCode = (typeof WARNING_CODES)[number];
 
@@ -73,4 +75,21 @@ export function nearSingularWarning(minPivot: number, moment: string): ResultWar
 /** The warnings with codes in `codes`, in their order. */
 export function warningsWith(ws: readonly ResultWarning[] | undefined, codes: readonly string[]): ResultWarning[] {
   return (ws ?? []).filter((w) => codes.includes(w.code));
+}
+
+/**
+ * INSTRUMENT_LEVEL when an instrument that scales the factors has |mean| > this x its s.d.
+ * (rule of thumb, ours): f z = zbar f + f (z - zbar) is then mostly zbar f, so the loadings
+ * on f and on f z are nearly collinear and their standard errors far above those of a
+ * model without the scaled factor.
+ */
+export const INSTRUMENT_LEVEL_RATIO = 3;
+
+/** INSTRUMENT_LEVEL for an instrument of the given mean and s.d. (only where it scales factors). */
+export function instrumentLevelWarning(name: string, mean: number, sd: number): ResultWarning | undefined {
+  if (!(Math.abs(mean) > INSTRUMENT_LEVEL_RATIO * sd)) return undefined;
+  return warning(
+    'INSTRUMENT_LEVEL',
+    `instrument "${name}" has a mean ${sd > 0 ? `${(Math.abs(mean) / sd).toFixed(1)} times` : 'far above'} its standard deviation (warning above ${INSTRUMENT_LEVEL_RATIO}): the factors scaled by it are nearly the plain factors times ${mean.toPrecision(3)}, so the loadings b.<factor> and b.<factor>:${name} are weakly identified (large, offsetting, with large s.e.); storing "${name}" as its deviation from its mean gives the same fit (same J, pricing errors and HJ distance) with loadings that separate`,
+  );
 }

@@ -18,7 +18,7 @@ import { assertAllFinite } from './finiteGuard.js';
 import { firstStage, gmmEstimate, type GmmEstimate, type GmmOptions } from './gmm.js';
 import { standardErrors } from './gmmInference.js';
 import { hjDistance } from './hjDistance.js';
-import { checkInstruments, conditionPanel, instrumentHeader, modelFactorNames, payoffPrices } from './instruments.js';
+import { checkInstruments, conditionPanel, instrumentHeader, instrumentWarnings, modelFactorNames, payoffPrices } from './instruments.js';
 import { assertFiniteSeries, checkAssets, checkFactors, checkIdentification, checkSampleLength } from './inputChecks.js';
 import { DemeanedLinearModel, GrossLinearModel, RawLinearModel } from './linearSdf.js';
 import { lagsChoice } from './longRunCovariance.js';
@@ -272,6 +272,7 @@ export function gmmFitDetailed(spec: FitSpec, panel: ReturnsPanel): GmmFitDetail
   if (nearSingular) warnings.push(nearSingular);
   if (est.warnings) warnings.push(...est.warnings);
   if (model instanceof ConsumptionModel) warnings.push(...model.scanWarnings(est.theta[model.p - 1]));
+  warnings.push(...instrumentWarnings(prep.conditioning, panel.instruments));
   let bound: FitResult['bound'];
   try {
     const prices = model.prices ? Float64Array.from(model.prices, (z) => (z ? mean(z) : 1)) : undefined;

@@ -23,7 +23,8 @@
 import { DeflatorError } from '../errors.js';
 import { qrFactor } from '../linalg/qr.js';
 import type { Conditioning, ReturnsPanel, ScaledPart } from '../panel.js';
-import type { SampleHeader } from '../results.js';
+import type { ResultWarning, SampleHeader } from '../results.js';
+import { instrumentLevelWarning } from '../warnings.js';
 import { CONSTANT_INSTRUMENT, type FitSpec } from '../spec.js';
 
 /** "<base>:<instrument>", or the base name alone for the constant. */
@@ -166,4 +167,21 @@ export function meanPrice(z: Float64Array | null, from: number, to: number): num
   let s = 0;
   for (let t = from; t < to; t++) s += z[t];
   return s / (to - from);
+}
+
+/** INSTRUMENT_LEVEL warnings of a conditioned panel whose factors are scaled (shared/warnings.ts). */
+export function instrumentWarnings(c: Conditioning | undefined, instruments: ReturnsPanel['instruments']): ResultWarning[] {
+  if (!c || c.scale === 'returns' || c.baseFactors.length === 0) return [];
+  const out: ResultWarning[] = [];
+  for (const z of instruments?.series ?? []) {
+    const T = z.values.length;
+    let m = 0;
+    for (let t = 0; t < T; t++) m += z.values[t];
+    m /= T;
+    let v = 0;
+    for (let t = 0; t < T; t++) v += (z.values[t] - m) ** 2;
+    const w = instrumentLevelWarning(z.name, m, Math.sqrt(v / T));
+    if (w) out.push(w);
+  }
+  return out;
 }

@@ -7,7 +7,7 @@ import { ANNUALISING_NOTE, percent, unitsFor } from './units.js';
 import type { CellValue, NumberFormat, Presentation, PresentedTable } from './types.js';
 
 /** Warning codes that qualify estimates, standard errors and tests. */
-export const ESTIMATE_WARNINGS = ['FEW_PERIODS', 'S_NEAR_SINGULAR', 'ITERATION_CAP', 'START_AT_EDGE', 'SEVERAL_MINIMA'];
+export const ESTIMATE_WARNINGS = ['FEW_PERIODS', 'S_NEAR_SINGULAR', 'ITERATION_CAP', 'START_AT_EDGE', 'SEVERAL_MINIMA', 'INSTRUMENT_LEVEL'];
 /** Warning codes that qualify the discount factor and its bound. */
 export const SDF_WARNINGS = ['BELOW_VOLATILITY_BOUND'];
 

@@ -173,3 +173,28 @@ describe('the instruments\' units and level do not matter (scale-aware solvers a
       expectClose(b.hj!.distance, a.hj!.distance, 1e-6, 'HJ distance');
     });
 });
+
+describe('INSTRUMENT_LEVEL warning (rule of thumb: |mean| > 3 s.d. of an instrument that scales factors)', () => {
+  const T = fixture.data.excess.length;
+  const panel = panelFromFixture(fixture.data, 'excess', FACTORS);
+  const run = (scale: string, dpMap: (x: number) => number) =>
+    gmmFit(
+      parseFitSpec({ riskfree: 'rf', model: { kind: 'linear', factors: FACTORS }, instruments: { series: ['dp'], scale } }),
+      withInstruments(panel, [{ name: 'dp', values: z(0, T, dpMap) }]),
+    );
+  it('a dividend yield of mean 0.04 and s.d. 0.008 scaling the factors is flagged; demeaned it is not, with the same J', () => {
+    const level = run('both', (x) => x);
+    const w = level.warnings.find((x) => x.code === 'INSTRUMENT_LEVEL');
+    expect(w?.message).toMatch(/instrument "dp" has a mean \d+\.\d times its standard deviation/);
+    const dp = z(0, T);
+    const m = dp.reduce((a, b) => a + b, 0) / T;
+    const demeaned = run('both', (x) => x - m);
+    expect(demeaned.warnings.some((x) => x.code === 'INSTRUMENT_LEVEL')).toBe(false);
+    // {1, z - zbar} spans what {1, z} spans, so the payoffs and factors are the same space: the HJ
+    // distance is invariant (J of the two-step estimator is not, its W = I first stage is not)
+    expectClose(demeaned.hj!.distance, level.hj!.distance, 1e-8, 'HJ distance, instrument demeaned or not');
+  });
+  it('scaling only the returns is not flagged (no loading on f z)', () => {
+    expect(run('returns', (x) => x).warnings.some((x) => x.code === 'INSTRUMENT_LEVEL')).toBe(false);
+  });
+});
