@@ -226,6 +226,28 @@ export function fitTables(r: FitResult): PresentedTable[] {
       }),
     );
   }
+  const d = r.discounted;
+  if (d && Object.keys(d.series).length) {
+    const assets = Object.keys(d.series);
+    const gains = d.form === 'gains';
+    tables.push(
+      table({
+        id: 'discounted',
+        title: gains ? 'Discounted gains G_t = sum of m_s R^e_s' : 'Discounted value prod of m_s R_s',
+        sheet: gains ? 'Discounted gains' : 'Discounted value',
+        columns: [textCol('period', 'Period'), ...assets.map((a) => numCol(a, a, 'value'))],
+        rows: d.periods.map((p, t) => [p, ...assets.map((a) => finite(d.series[a][t]))]),
+        notes: [
+          gains
+            ? 'Per asset, the sum of m_s R^e_s up to each period (0 before the first): its mean increment G_T / T is the pricing error, 0 for an asset the model prices.'
+            : 'Per asset, the product of m_s R_s up to each period (1 before the first): its mean increment ratio is 1 + the pricing error.',
+          ...(d.note ? [d.note] : []),
+          ...(d.omitted ? [`${d.omitted.count} assets left out: ${d.omitted.rule}.`] : []),
+        ],
+        role: 'appendix',
+      }),
+    );
+  }
   if (r.bound?.curve?.length) {
     tables.push(
       table({

@@ -1,8 +1,116 @@
-/** The presentation of the present-value analyses (the dividend-price decomposition and the drift split). */
-import type { DriftResult, PresentValueResult } from '../results.js';
+/**
+ * The presentation of the present-value analyses (METHODS 10): the dividend-price
+ * decomposition and the drift split, as tables with units and notes that the terminal,
+ * the app and every export render.
+ */
+import type { DriftResult, PresentValueResult, ValueResult } from '../results.js';
 import { CAUTION } from '../results.js';
-import { driftTables, presentValueTables, valueHeaderLines } from '../report/value-tables.js';
-import type { Presentation } from './types.js';
+import { numCol, table, textCol } from './build.js';
+import type { CellValue, HeaderLine, NumberFormat, Presentation, PresentedColumn as ReportColumn, PresentedTable as ReportTable } from './types.js';
+
+const text = (key: string, label = key): ReportColumn => textCol(key, label);
+const num = (key: string, label: string, format: NumberFormat = 'value', unit?: string): ReportColumn => numCol(key, label, format, unit);
+
+const REGRESSION_LABELS = { r: 'return r(t+1)', dd: 'dividend growth dd(t+1)', dp: 'dividend-price ratio dp(t+1)' } as const;
+
+export function presentValueTables(r: PresentValueResult): ReportTable[] {
+  const summary: CellValue[][] = [
+    ['years used (T)', r.sample.T, `${r.sample.first}-${r.sample.last}`],
+    ['mean dp', r.meanDp, 'over all T years'],
+    ['rho', r.rho, '1 / (1 + exp(mean dp))'],
+    ['identity b_r - b_d + rho phi', r.identity.value, 'near 1'],
+    ['identity gap', r.identity.gap, 'value - 1: the linearisation error'],
+    ['Newey-West lags', r.lags, r.lagsRule],
+  ];
+  const regs = (['r', 'dd', 'dp'] as const).map((k) => {
+    const g = r.regressions[k];
+    return [REGRESSION_LABELS[k], g.a, g.seA, g.b, g.seB, g.tB, g.r2] as CellValue[];
+  });
+  const T = r.sample.T;
+  const years: CellValue[][] = r.series.years.map((y, t) => [y, r.series.closes[t], r.series.price[t], r.series.dividend[t], r.series.dp[t], t > 0 ? r.series.r[t - 1] : null, t > 0 ? r.series.dd[t - 1] : null]);
+  return [
+    { id: 'summary', title: 'Dividend-price decomposition', sheet: 'Decomposition', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: summary },
+    {
+      id: 'regressions',
+      sheet: 'Predictive regressions',
+      title: `Predictive regressions on dp(t), ${T - 1} years (Newey-West s.e.)`,
+      columns: [text('regression', 'Regression of'), num('a', 'a'), num('seA', 's.e.(a)'), num('b', 'b (phi for dp)'), num('seB', 's.e.(b)'), num('tB', 't(b)', 'stat'), num('r2', 'R2')],
+      rows: regs,
+    },
+    {
+      id: 'long-run',
+      sheet: 'Long-run coefficients',
+      title: 'Long-run coefficients and variance shares of dp',
+      columns: [text('part', 'Part'), num('b', 'Long-run coefficient'), num('se', 's.e. (delta method)'), num('share', 'Share of Var(dp)')],
+      rows: [
+        ['returns: b_r / (1 - rho phi)', r.longRun.r.b, r.longRun.r.se, r.varianceShares.r],
+        ['dividend growth: b_d / (1 - rho phi)', r.longRun.dd.b, r.longRun.dd.se, r.varianceShares.dd],
+      ],
+    },
+    {
+      id: 'years',
+      title: 'Yearly values',
+      role: 'appendix' as const,
+      columns: [text('year', 'Year'), text('close', 'Year-end close'), num('price', 'P (year end)'), num('dividend', 'D (paid in year)'), num('dp', 'dp = ln(D/P)'), num('r', 'r = ln R'), num('dd', 'dd = ln D growth')],
+      rows: years,
+    },
+    {
+      id: 'covariance',
+      title: 'Joint Newey-West covariance of the coefficients',
+      sheet: 'Coefficient covariance',
+      columns: [text('coefficient', 'Coefficient'), ...r.covariance.names.map((n) => num(n, n))],
+      rows: r.covariance.names.map((n, i) => [n, ...r.covariance.values[i]]),
+    },
+  ].map(table);
+}
+
+export function driftTables(r: DriftResult): ReportTable[] {
+  const y = 'decimal per year';
+  return [
+    {
+      id: 'drift',
+      title: `Drift split, annualised (${r.frequency}, ${r.periodsPerYear} periods per year)`,
+      sheet: 'Drift split',
+      columns: [
+        text('asset', 'Asset'),
+        text('source', 'Data'),
+        num('drift', 'Drift mu', 'value', y),
+        num('seDrift', 's.e.', 'value', y),
+        num('priceGrowth', 'Price growth', 'value', y),
+        num('sePriceGrowth', 's.e.', 'value', y),
+        num('dividendYield', 'Dividend yield', 'value', y),
+        num('seDividendYield', 's.e.', 'value', y),
+        num('sigma', 'sigma', 'value', 'decimal per square root of a year'),
+        num('logDrift', 'Log drift', 'value', y),
+        num('seLogDrift', 's.e.', 'value', y),
+        num('driftLessHalfVariance', 'mu - sigma^2/2', 'value', y),
+      ],
+      rows: r.assets.map((a) => [a.asset, a.source, a.drift, a.se.drift, a.priceGrowth, a.se.priceGrowth, a.dividendYield, a.se.dividendYield, a.sigma, a.logDrift, a.se.logDrift, a.driftLessHalfVariance]),
+    },
+  ].map(table);
+}
+
+/** The sample header of either analysis, as key/value lines in a fixed order. */
+export function valueHeaderLines(r: ValueResult): HeaderLine[] {
+  if (r.kind === 'present-value') {
+    const what = r.asset !== undefined ? `asset ${r.asset} (per current share)` : `aggregate of ${r.assets?.length ?? 0} assets (${r.weighting === 'shares' ? 'market values' : 'one share of each'})`;
+    return [
+      { key: 'analysis', value: 'dividend-price decomposition' },
+      { key: 'data', value: what },
+      { key: 'years', value: `${r.sample.first} to ${r.sample.last}, T = ${r.sample.T} (regressions on ${r.sample.T - 1})` },
+      { key: 'frequency', value: 'annual (calendar years)' },
+      { key: 'lags', value: `${r.lags} (${r.lagsRule})` },
+      ...(r.assets ? [{ key: 'assets', value: r.assets.join(', ') }] : []),
+    ];
+  }
+  return [
+    { key: 'analysis', value: 'drift split' },
+    { key: 'assets', value: `${r.assets.length}${r.dropped.length ? ` (${r.dropped.length} left out)` : ''}: ${r.assets.map((a) => a.asset).join(', ')}` },
+    { key: 'sample', value: `${r.sample.first} to ${r.sample.last}, T = ${r.sample.T}` },
+    { key: 'frequency', value: `${r.frequency} (${r.periodsPerYear} periods per year)` },
+    { key: 'lags', value: `${r.lags} (${r.lagsRule})` },
+  ];
+}
 
 export function presentPresentValue(r: PresentValueResult): Presentation {
   return { kind: r.kind, title: r.label, caution: CAUTION, header: valueHeaderLines(r), tables: presentValueTables(r), notes: [...new Set(r.notes)], warnings: r.warnings };

@@ -10,7 +10,7 @@
  *
  * `csvField` is the one CSV cell writer of the program (the app's CSV buttons use it).
  */
-import type { AnyResult } from '../results.js';
+import type { RunResult } from '../results.js';
 import { present, type CellValue, type Presentation, type PresentedTable } from '../present/index.js';
 import { exactNumber, tableCellText } from '../present/format.js';
 import { reorderRows } from '../present/sort.js';
@@ -91,7 +91,7 @@ export interface CsvOptions {
 const flat = (s: string) => s.replace(/[\r\n]+/g, ' ');
 
 /** Every table of the result as a CSV file, and the sidecar "about" text (unless `comments`). */
-export function resultToCsv(result: AnyResult, record?: ExportRecord, options: CsvOptions = {}): CsvFile[] {
+export function resultToCsv(result: RunResult, record?: ExportRecord, options: CsvOptions = {}): CsvFile[] {
   const p = present(result);
   const files: CsvFile[] = p.tables.map((t) => {
     const body = tableCsv(t);

@@ -8,13 +8,14 @@
  * Long listings (the m_t series, parameter paths, windows) form an appendix, left out
  * of the printed (PDF) report unless asked for; the m_t series is drawn as a chart.
  */
-import type { AnyResult, BacktestResult, CompareResult, FitResult, ResultWarning } from '../results.js';
+import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult, ResultWarning, RunResult } from '../results.js';
 import { stringifyExact } from '../records/exact-json.js';
 import { present, warningNumbers, type Presentation, type PresentedTable } from '../present/index.js';
 import { exactNumber, tableCellText, ROUNDING_NOTE } from '../present/format.js';
 import { annualPercent, percent, unitsFor } from '../present/units.js';
 import { recordLines, type ExportRecord } from './header.js';
-import { barChart, lineChart, scatterChart, standOut, xmlEscape } from './svg.js';
+import { barChart, lineChart, scatterChart, stackedBarChart, standOut, xmlEscape } from './svg.js';
+import { flatLevel, mostDrifting } from '../charts/values.js';
 import { splitColumns } from './wide.js';
 import { batchAsComparison, rankBatch } from '../batch/rank.js';
 
@@ -136,7 +137,79 @@ function fitCharts(r: FitResult): string[] {
       ),
     );
   }
+  const discounted = discountedChart(r);
+  if (discounted) charts.push(discounted);
   return charts;
+}
+
+/** Paths drawn in a report's discounted-value chart: the ones that drift most (every path is in the CSV and XLSX exports). */
+const DISCOUNTED_DRAWN = 6;
+
+function discountedChart(r: FitResult): string | null {
+  const d = r.discounted;
+  if (!d || d.periods.length < 2 || !Object.keys(d.series).length) return null;
+  const gains = d.form === 'gains';
+  const k = gains ? 100 : 1;
+  const named = mostDrifting(d, DISCOUNTED_DRAWN);
+  const flat = flatLevel(d) * k;
+  return figure(
+    lineChart({
+      id: 'chart-discounted',
+      title: gains ? 'Discounted gains G_t (%)' : 'Discounted value',
+      yLabel: gains ? 'sum of m_s R^e_s, %' : 'prod of m_s R_s',
+      steps: d.periods,
+      series: [{ name: `priced (flat at ${flat})`, values: d.periods.map(() => flat) }, ...named.map((a) => ({ name: a, values: d.series[a].map((v) => v * k) }))],
+    }),
+    `${gains ? "Each asset's discounted gains: their mean increment is its pricing error, zero for an asset the model prices (the flat line)." : "Each asset's discounted value: its mean increment ratio is 1 + its pricing error, 1 for an asset the model prices (the flat line)."} Drawn: the ${named.length} of ${Object.keys(d.series).length} paths that end farthest from the flat line; every path is in the appendix table and the CSV and XLSX exports.${d.note ? ` ${d.note}.` : ''}`,
+  );
+}
+
+function presentValueCharts(r: PresentValueResult): string[] {
+  const years = r.series.years;
+  const charts = [
+    figure(
+      lineChart({ id: 'chart-dp', title: 'Dividend-price ratio dp = ln(D/P)', yLabel: 'dp', steps: years, series: [{ name: 'dp', values: r.series.dp }, { name: 'mean', values: years.map(() => r.meanDp) }] }),
+      `dp each year and its mean over the ${r.sample.T} years (rho = 1/(1 + exp(mean dp)) = ${r.rho.toPrecision(6)}).`,
+    ),
+  ];
+  const x = r.series.dp.slice(0, -1);
+  const ys = { r: r.series.r, dd: r.series.dd, dp: r.series.dp.slice(1) };
+  const names = { r: ['Return r(t+1)', 'b_r'], dd: ['Dividend growth dd(t+1)', 'b_d'], dp: ['dp(t+1)', 'phi'] } as const;
+  for (const key of ['r', 'dd', 'dp'] as const) {
+    const g = r.regressions[key];
+    charts.push(
+      figure(
+        scatterChart({
+          id: `chart-regression-${key}`,
+          title: `${names[key][0]} on dp(t)`,
+          xLabel: 'dp(t)',
+          yLabel: names[key][0],
+          points: x.map((v, t) => ({ label: years[t + 1], x: v, y: ys[key][t] })),
+          fitLine: { intercept: g.a, slope: g.b },
+          labelled: new Set<string>(),
+        }),
+        `Each year's dp against the next year's value, with the OLS line: ${names[key][1]} = ${g.b.toPrecision(4)} (Newey-West s.e. ${g.seB.toPrecision(3)}), R^2 ${g.r2.toPrecision(3)}.`,
+      ),
+    );
+  }
+  return charts;
+}
+
+function driftCharts(r: DriftResult): string[] {
+  const pct = (v: number | null) => (v === null ? null : v * 100);
+  return [
+    figure(
+      stackedBarChart({
+        id: 'chart-drift-split',
+        title: 'Drift split (% a year)',
+        yLabel: '% a year',
+        partNames: ['price growth', 'dividend yield', 'drift (no split)'],
+        markerName: 'drift mu',
+        bars: r.assets.map((a) => ({ label: a.asset, parts: a.source === 'returns' ? [null, null, pct(a.drift)] : [pct(a.priceGrowth), pct(a.dividendYield), null], marker: a.drift * 100 })),
+      }),
+      "Each asset's annual drift as price growth plus dividend yield (they add up to the drift, the marker); an asset stored as returns has no split and shows its drift alone.",
+    ),
+  ];
 }
 
 function backtestCharts(r: BacktestResult): string[] {
@@ -213,7 +286,7 @@ function warningsHtml(p: Presentation): string {
 }
 
 /** The whole report as one HTML document. */
-export function resultToHtml(result: AnyResult, record?: ExportRecord, options: HtmlOptions = {}): string {
+export function resultToHtml(result: RunResult, record?: ExportRecord, options: HtmlOptions = {}): string {
   const p = present(result);
   const ref = warningNumbers(p.warnings);
   const charts =
@@ -223,7 +296,11 @@ export function resultToHtml(result: AnyResult, record?: ExportRecord, options: 
         ? backtestCharts(result)
         : result.kind === 'batch'
           ? compareCharts(batchAsComparison(result, rankBatch(result, 'hj').slice(0, BATCH_CHART_TOP)))
-          : compareCharts(result);
+          : result.kind === 'present-value'
+            ? presentValueCharts(result)
+            : result.kind === 'drift'
+              ? driftCharts(result)
+              : compareCharts(result);
   const fitPage = (t: PresentedTable) => (options.print ? splitColumns(t) : [t]);
   const main = p.tables.filter((t) => t.role === 'main');
   const appendix = p.tables.filter((t) => t.role === 'appendix');

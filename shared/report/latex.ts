@@ -6,7 +6,7 @@
  * page is split into column groups (shared/report/wide.ts). Cells marked * are the best
  * in their column; !n refers to warning n, listed at the top and under each table.
  */
-import type { AnyResult, ResultWarning } from '../results.js';
+import type { ResultWarning, RunResult } from '../results.js';
 import { present, warningNumbers, type PresentedTable } from '../present/index.js';
 import { tableCellText, ROUNDING_NOTE } from '../present/format.js';
 import type { ExportRecord } from './header.js';
@@ -134,7 +134,7 @@ function tableTex(t: PresentedTable, label: string, ref: (w: ResultWarning) => n
 }
 
 /** The LaTeX tables of a result (the appendix listings left out unless `appendix`), with a comment block naming the run. */
-export function resultToLatex(result: AnyResult, record?: ExportRecord, options: { appendix?: boolean } = {}): string {
+export function resultToLatex(result: RunResult, record?: ExportRecord, options: { appendix?: boolean } = {}): string {
   const p = present(result);
   const tag = record ? `deflator-run${record.id}` : 'deflator';
   const ref = warningNumbers(p.warnings);
@@ -147,8 +147,13 @@ export function resultToLatex(result: AnyResult, record?: ExportRecord, options:
     '% Needs \\usepackage{booktabs} in the including document.',
     '',
   ].map((l) => l.replace(/[\r\n]+/g, ' '));
-  const s = result.sample;
-  const sampleNote = latexText(`Sample ${s.start} to ${s.end}, ${s.frequency}, T = ${s.T}, N = ${s.N}. ${ROUNDING_NOTE.replace(/ CSV and XLSX.*$/, '')} ${p.caution}`);
+  const sampleText =
+    result.kind === 'present-value'
+      ? `Years ${result.sample.first} to ${result.sample.last}, annual, T = ${result.sample.T}.`
+      : result.kind === 'drift'
+        ? `Sample ${result.sample.first} to ${result.sample.last}, ${result.frequency}, T = ${result.sample.T}, N = ${result.assets.length}.`
+        : `Sample ${result.sample.start} to ${result.sample.end}, ${result.sample.frequency}, T = ${result.sample.T}, N = ${result.sample.N}.`;
+  const sampleNote = latexText(`${sampleText} ${ROUNDING_NOTE.replace(/ CSV and XLSX.*$/, '')} ${p.caution}`);
   const tables = p.tables.filter((t) => options.appendix || t.role === 'main').flatMap((t) => splitColumns(t));
   const warnBlock = p.warnings.length
     ? [`\\paragraph{Warnings} ${p.warnings.map((w, i) => `(${i + 1}) ${latexEscape(w.code)}${w.model ? ` (${latexEscape(w.model)})` : ''}: ${latexText(w.message)}`).join(' ')}`, '']

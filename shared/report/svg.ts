@@ -132,8 +132,8 @@ export interface ScatterPoint {
   y: number;
 }
 
-/** Points with labels; `diagonal` draws the y = x line (predicted = realised). */
-export function scatterChart(opts: { id: string; title: string; xLabel: string; yLabel: string; points: ScatterPoint[]; diagonal?: boolean; width?: number; height?: number; labelled?: ReadonlySet<string> }): string {
+/** Points with labels; `diagonal` draws the y = x line (predicted = realised), `fitLine` the line a + b x over the points' x range. */
+export function scatterChart(opts: { id: string; title: string; xLabel: string; yLabel: string; points: ScatterPoint[]; diagonal?: boolean; fitLine?: { intercept: number; slope: number }; width?: number; height?: number; labelled?: ReadonlySet<string> }): string {
   const f: Frame = { width: opts.width ?? 480, height: opts.height ?? 400, left: 64, right: 20, top: 28, bottom: 48 };
   const xs = opts.points.map((p) => p.x);
   const ys = opts.points.map((p) => p.y);
@@ -144,7 +144,9 @@ export function scatterChart(opts: { id: string; title: string; xLabel: string; 
     lo = xt[0];
     hi = xt[xt.length - 1];
   }
-  const yt = opts.diagonal ? xt : niceTicks(Math.min(...ys), Math.max(...ys));
+  const fit = opts.fitLine;
+  const lineYs = fit ? [fit.intercept + fit.slope * Math.min(...xs), fit.intercept + fit.slope * Math.max(...xs)] : [];
+  const yt = opts.diagonal ? xt : niceTicks(Math.min(...ys, ...lineYs), Math.max(...ys, ...lineYs));
   const x = scale(xt[0], xt[xt.length - 1], f.left, f.width - f.right);
   const y = scale(yt[0], yt[yt.length - 1], f.height - f.bottom, f.top);
   const out = open(opts.id, opts.title, f, 'scatter');
@@ -159,12 +161,77 @@ export function scatterChart(opts: { id: string; title: string; xLabel: string; 
     const b = Math.min(xt[xt.length - 1], yt[yt.length - 1]);
     out.push(`<line class="diagonal" x1="${f1(x(a))}" y1="${f1(y(a))}" x2="${f1(x(b))}" y2="${f1(y(b))}" stroke="#999" stroke-dasharray="4 3"/>`);
   }
+  if (fit) {
+    const a = Math.min(...xs);
+    const b = Math.max(...xs);
+    out.push(
+      `<line class="fit" x1="${f1(x(a))}" y1="${f1(y(fit.intercept + fit.slope * a))}" x2="${f1(x(b))}" y2="${f1(y(fit.intercept + fit.slope * b))}" stroke="${PALETTE[1]}" stroke-width="1.5" data-intercept="${exactNumber(fit.intercept)}" data-slope="${exactNumber(fit.slope)}"/>`,
+    );
+  }
   for (const p of opts.points) {
     out.push(
       `<circle class="point" cx="${f1(x(p.x))}" cy="${f1(y(p.y))}" r="4" fill="${PALETTE[0]}" data-label="${xmlEscape(p.label)}" data-x="${exactNumber(p.x)}" data-y="${exactNumber(p.y)}"><title>${xmlEscape(`${p.label}: ${significant(p.x, 6)}, ${significant(p.y, 6)}`)}</title></circle>`,
     );
     if (!opts.labelled || opts.labelled.has(p.label)) out.push(`<text x="${f1(x(p.x) + 6)}" y="${f1(y(p.y) - 5)}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
   }
+  out.push('</svg>');
+  return out.join('\n');
+}
+
+export interface StackedBar {
+  label: string;
+  /** One value per part, stacked from zero in order (positive parts upward, negative downward). */
+  parts: (number | null)[];
+  /** Drawn as a marker on the bar (e.g. the parts' sum). */
+  marker?: number;
+}
+
+/** Bars stacked from parts (each part a colour, named in the legend), with an optional marker per bar. */
+export function stackedBarChart(opts: { id: string; title: string; yLabel: string; partNames: string[]; bars: StackedBar[]; markerName?: string; width?: number; height?: number }): string {
+  const f: Frame = { width: opts.width ?? 640, height: opts.height ?? 340, left: 64, right: 130, top: 28, bottom: 84 };
+  const ends: number[] = [0];
+  for (const b of opts.bars) {
+    let up = 0;
+    let down = 0;
+    for (const v of b.parts) if (v !== null && Number.isFinite(v)) (v >= 0 ? (up += v) : (down += v));
+    ends.push(up, down, ...(b.marker !== undefined ? [b.marker] : []));
+  }
+  const ticks = niceTicks(Math.min(...ends), Math.max(...ends));
+  const y = scale(ticks[0], ticks[ticks.length - 1], f.height - f.bottom, f.top);
+  const out = open(opts.id, opts.title, f, 'stacked-bars');
+  yAxis(out, f, ticks, y, opts.yLabel);
+  const n = Math.max(1, opts.bars.length);
+  const band = (f.width - f.left - f.right) / n;
+  opts.bars.forEach((b, i) => {
+    const cx = f.left + band * (i + 0.5);
+    const w = Math.max(2, band * 0.6);
+    let up = 0;
+    let down = 0;
+    b.parts.forEach((v, k) => {
+      if (v === null || !Number.isFinite(v)) return;
+      const from = v >= 0 ? up : down;
+      const to = from + v;
+      if (v >= 0) up = to;
+      else down = to;
+      const top = Math.min(y(from), y(to));
+      out.push(
+        `<rect class="bar" x="${f1(cx - w / 2)}" y="${f1(top)}" width="${f1(w)}" height="${f1(Math.max(0.5, Math.abs(y(to) - y(from))))}" fill="${PALETTE[k % PALETTE.length]}" data-label="${xmlEscape(b.label)}" data-part="${xmlEscape(opts.partNames[k] ?? '')}" data-value="${exactNumber(v)}"><title>${xmlEscape(`${b.label}, ${opts.partNames[k] ?? ''}: ${significant(v, 6)}`)}</title></rect>`,
+      );
+    });
+    if (b.marker !== undefined) {
+      const my = f1(y(b.marker));
+      out.push(`<path class="marker" d="M${f1(cx)},${Number(my) - 5} L${f1(cx + 5)},${my} L${f1(cx)},${Number(my) + 5} L${f1(cx - 5)},${my} Z" fill="#222" data-label="${xmlEscape(b.label)}" data-value="${exactNumber(b.marker)}"/>`);
+    }
+    const ly = f.height - f.bottom + 12;
+    if (n <= MAX_BAR_LABELS) out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}${n > 24 ? ' font-size="8"' : ''}>${xmlEscape(b.label)}</text>`);
+  });
+  out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f1(y(0))}" y2="${f1(y(0))}" stroke="#555"/>`);
+  const legend = [...opts.partNames.map((name, k) => ({ name, colour: PALETTE[k % PALETTE.length] })), ...(opts.markerName ? [{ name: opts.markerName, colour: '#222' }] : [])];
+  legend.forEach((l, k) => {
+    const ly = f.top + 14 * k + 6;
+    out.push(`<rect x="${f.width - f.right + 8}" y="${ly - 5}" width="12" height="10" fill="${l.colour}"/>`);
+    out.push(`<text x="${f.width - f.right + 24}" y="${ly + 4}" ${FONT}>${xmlEscape(l.name)}</text>`);
+  });
   out.push('</svg>');
   return out.join('\n');
 }

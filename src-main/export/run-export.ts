@@ -6,7 +6,6 @@
 import { existsSync, statSync } from 'node:fs';
 import path from 'node:path';
 import { DeflatorError } from '../../shared/errors.js';
-import { isValueResult } from '../../shared/results.js';
 import type { RunRecord } from '../../shared/records/run-record.js';
 import { resultToCsv } from '../../shared/report/csv.js';
 import { EXPORT_EXTENSIONS, EXPORT_FORMATS, type ExportFormat } from '../../shared/report/formats.js';
@@ -39,11 +38,7 @@ export interface ExportOptions {
 }
 
 /** The export's bytes, in memory (the app saves them where the user chooses). */
-export async function renderExport(input: RunRecord, format: ExportFormat, pdf: (html: string) => Promise<Buffer> = htmlToPdf, options: ExportOptions = {}): Promise<ExportFile[]> {
-  if (isValueResult(input.result)) {
-    throw new DeflatorError('INPUT_INVALID', `run ${input.id} is a ${input.kind} run: its exports are not written yet by this version`, `\`deflator show ${input.id} --db DB\` prints it; \`--json\` gives every number`);
-  }
-  const record = { ...input, result: input.result };
+export async function renderExport(record: RunRecord, format: ExportFormat, pdf: (html: string) => Promise<Buffer> = htmlToPdf, options: ExportOptions = {}): Promise<ExportFile[]> {
   const single = (data: Buffer): ExportFile[] => [{ name: `run-${record.id}.${EXPORT_EXTENSIONS[format]}`, data }];
   switch (format) {
     case 'csv':

@@ -9,7 +9,7 @@
  * reads back as 0.
  */
 import ExcelJS from 'exceljs';
-import type { AnyResult } from '../../shared/results.js';
+import type { RunResult } from '../../shared/results.js';
 import { stringifyExact } from '../../shared/records/exact-json.js';
 import { present, type NumberFormat, type PresentedTable } from '../../shared/present/index.js';
 import { cellFormat } from '../../shared/present/format.js';
@@ -65,7 +65,7 @@ function addTableSheet(wb: ExcelJS.Workbook, t: PresentedTable, taken: Set<strin
 }
 
 /** The workbook for a result (and its run record, when there is one). */
-export function resultToWorkbook(result: AnyResult, record?: ExportRecord): ExcelJS.Workbook {
+export function resultToWorkbook(result: RunResult, record?: ExportRecord): ExcelJS.Workbook {
   const p = present(result);
   const wb = new ExcelJS.Workbook();
   wb.creator = 'deflator';
@@ -116,7 +116,7 @@ export function resultToWorkbook(result: AnyResult, record?: ExportRecord): Exce
   return wb;
 }
 
-export async function resultToXlsx(result: AnyResult, record?: ExportRecord): Promise<Buffer> {
+export async function resultToXlsx(result: RunResult, record?: ExportRecord): Promise<Buffer> {
   const data = await resultToWorkbook(result, record).xlsx.writeBuffer();
   return Buffer.from(data as ArrayBuffer);
 }

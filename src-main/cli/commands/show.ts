@@ -4,8 +4,7 @@
  * every number exact (-0 and non-finite values tagged, docs/methods.md "Run records").
  */
 import type { Command } from 'commander';
-import { CAUTION, isValueResult } from '../../../shared/results.js';
-import { valueResultText } from '../../../shared/report/value-text.js';
+import { CAUTION } from '../../../shared/results.js';
 import { toExactJson } from '../../../shared/records/exact-json.js';
 import { resultToText } from '../../../shared/report/text.js';
 import { getRun, parseRunId, staleItems } from '../../runs/runs.js';
@@ -33,7 +32,7 @@ export function register(program: Command): void {
           return;
         }
         const lines = [`Run ${record.id} (${record.kind}), recorded ${record.createdAt} by deflator ${record.version}`, ''];
-        lines.push(isValueResult(record.result) ? valueResultText(record.result, record) : resultToText(record.result, record));
+        lines.push(resultToText(record.result, record));
         if (stale.length) {
           lines.push('STALE: the data this run read has changed since it was recorded:');
           for (const s of stale) lines.push(`  ${s.what}: ${s.reason}`);

@@ -71,7 +71,7 @@ describe('deflator runs / show / export (built CLI)', () => {
     const r = cli(['export', '1', '--db', p.dbPath, '--format', 'csv', '--out', dir]);
     expect(r.code, r.err).toBe(0);
     expect(readdirSync(dir).sort()).toEqual(
-      ['about.txt', 'fit.csv', 'parameters.csv', 'pricing-errors.csv', 'tests.csv'].concat(result.sdf || result.bound ? ['discount-factor.csv'] : []).concat(result.sdf ? ['sdf.csv'] : []).concat(result.bound?.curve?.length ? ['bound.csv'] : []).sort(),
+      ['about.txt', 'fit.csv', 'parameters.csv', 'pricing-errors.csv', 'tests.csv'].concat(result.sdf || result.bound ? ['discount-factor.csv'] : []).concat(result.sdf ? ['sdf.csv'] : []).concat(result.bound?.curve?.length ? ['bound.csv'] : []).concat(result.discounted ? ['discounted.csv'] : []).sort(),
     );
     const rows = parse(readFileSync(path.join(dir, 'pricing-errors.csv'), 'utf8'), { columns: true }) as Record<string, string>[];
     expect(rows.map((x) => x.Asset)).toEqual(result.pricingErrors.map((e) => e.asset));

@@ -12,6 +12,20 @@ import { formatReplay, poolRecompute, replayRun } from '../../../src-main/runs/r
 import { getRun, listRuns } from '../../../src-main/runs/runs.js';
 import { importPrices } from '../../../src-main/import/index.js';
 import { editPrice, forgetImport, makeProject, type Project } from './helpers.js';
+import { execFileSync } from 'node:child_process';
+import ExcelJS from 'exceljs';
+import type { DriftResult, FitResult, PresentValueResult } from '../../../shared/results.js';
+import { parseFitSpec } from '../../../shared/spec.js';
+import { renderExport } from '../../../src-main/export/run-export.js';
+
+const hasChromium = (() => {
+  if (process.env.DEFLATOR_CHROMIUM) return true;
+  try {
+    return execFileSync('sh', ['-c', 'command -v chromium'], { encoding: 'utf8' }).trim() !== '';
+  } catch {
+    return false;
+  }
+})();
 import Database from 'better-sqlite3';
 import { applyMigrations } from '../../../src-main/store/store.js';
 import { MIGRATIONS, SCHEMA_VERSION } from '../../../src-main/store/migrations.js';
@@ -87,6 +101,53 @@ describe('present-value and drift runs', () => {
       expect(r.compared).toBeGreaterThan(20);
       expect(r.ok, formatReplay(r)).toBe(true);
     }
+  });
+
+  it('export in every format from the stored result: CSV and XLSX read back exactly, LaTeX tables, HTML with its charts (PDF where a Chromium is installed)', async () => {
+    const pv = getRun(p.store, pvRun);
+    const r = pv.result as PresentValueResult;
+    const csv = await renderExport(pv, 'csv');
+    expect(csv.map((f) => f.name)).toEqual(expect.arrayContaining(['summary.csv', 'regressions.csv', 'long-run.csv', 'years.csv', 'covariance.csv', 'about.txt']));
+    const regs = csv.find((f) => f.name === 'regressions.csv')?.data.toString('utf8') ?? '';
+    const rows = regs.trim().split('\r\n').map((l) => l.split(','));
+    const bCol = rows[0].findIndex((h) => h.startsWith('b '));
+    expect(Number(rows[1][bCol])).toBe(r.regressions.r.b);
+    expect(Number(rows[3][bCol])).toBe(r.regressions.dp.b);
+    const wb = new ExcelJS.Workbook();
+    await wb.xlsx.load((await renderExport(pv, 'xlsx'))[0].data as unknown as ArrayBuffer);
+    const values = wb.worksheets.flatMap((ws) => ws.getSheetValues().flat().filter((v): v is number => typeof v === 'number'));
+    expect(values).toContain(r.longRun.r.se);
+    expect((await renderExport(pv, 'latex'))[0].data.toString('utf8')).toContain('\\toprule');
+    const html = (await renderExport(pv, 'html'))[0].data.toString('utf8');
+    expect(html).toContain('id="chart-dp"');
+    expect(html).toContain(`data-slope="${r.regressions.r.b}"`);
+    expect(html).toContain('not investment advice');
+    const dr = getRun(p.store, driftRun);
+    const dhtml = (await renderExport(dr, 'html'))[0].data.toString('utf8');
+    expect(dhtml).toContain('id="chart-drift-split"');
+    const d = dr.result as DriftResult;
+    expect(dhtml).toContain(`data-value="${d.assets[0].priceGrowth! * 100}"`);
+    expect((await renderExport(dr, 'csv')).map((f) => f.name)).toContain('drift.csv');
+  });
+
+  it.skipIf(!hasChromium)('PDF of a present-value run (skipped: no Chromium)', async () => {
+    const pdf = (await renderExport(getRun(p.store, pvRun), 'pdf'))[0].data;
+    expect(pdf.subarray(0, 5).toString('latin1')).toBe('%PDF-');
+  });
+
+  it('a fit\'s HTML report draws its discounted-value paths; CSV and XLSX carry them as a table', async () => {
+    const fitSpec = parseFitSpec({ riskfree: 'bill_yield', assets: ['brinemoor-ferries', 'corvane-saltworks', 'lanternfold-power'], model: { factors: ['harbor'] } });
+    const out = await runAnalysis(p.store, { kind: 'fit', spec: fitSpec }, inProcess());
+    const rec = getRun(p.store, out.run?.id as number);
+    const html = (await renderExport(rec, 'html'))[0].data.toString('utf8');
+    expect(html).toContain('id="chart-discounted"');
+    const csv = await renderExport(rec, 'csv');
+    const table = csv.find((f) => f.name === 'discounted.csv')?.data.toString('utf8') ?? '';
+    const lines = table.trim().split('\r\n');
+    expect(lines.length).toBe(rec.result.kind === 'fit' ? rec.result.sample.T + 1 : 0);
+    const last = lines[lines.length - 1].split(',');
+    const fitResult = rec.result as FitResult;
+    expect(Number(last[1]) / fitResult.sample.T).toBeCloseTo(fitResult.pricingErrors[0].alpha, 12);
   });
 
   it('a changed price of lanternfold-power makes its runs stale, and their replay says so; the other asset\'s run stays fresh', async () => {
