@@ -8,7 +8,17 @@
  * The run's metadata (record, header, caution, notes, warnings, column definitions) go
  * to a sidecar text file, or with `comments: true` into `#` lines above each table.
  *
- * `csvField` is the one CSV cell writer of the program (the app's CSV buttons use it).
+ * `csvField` is the one CSV cell writer of the program (the app's CSV buttons and
+ * `deflator returns --csv` use it).
+ *
+ * Formula injection: a spreadsheet opening a CSV file runs a text cell that begins with
+ * =, +, -, @ (or a tab or line break before them) as a formula, and text reaches these
+ * files from imported names, spec labels and file names. Such a text cell is written with
+ * a leading single quote, inside double quotes ("'=1+1"): the spreadsheet shows it as
+ * text, a program reading the file sees the quote. This is the common practice of OWASP's
+ * CSV-injection guidance. Refusing such names at import was the other choice; it would
+ * refuse ordinary names ("-spread", "+carry"), and labels and file names do not pass the
+ * import. Numbers are cells of their own type and are never prefixed (-0.5 stays -0.5).
  */
 import type { RunResult } from '../results.js';
 import { present, type CellValue, type Presentation, type PresentedTable } from '../present/index.js';
@@ -26,11 +36,20 @@ export interface CsvFile {
 
 export const CSV_EOL = '\r\n';
 
-/** One CSV cell: numbers exact, booleans true/false, text quoted when it holds a comma, quote, line break or `#`, or has outer spaces. */
+/** Characters that make a spreadsheet read a text cell as a formula when it begins with one (OWASP, CSV injection). */
+const FORMULA_START = /^[=+\-@\t\r\n]/;
+
+/** Text as a spreadsheet must show it, not run it: a leading single quote before a formula character. */
+export function neutralizeFormula(text: string): string {
+  return FORMULA_START.test(text) ? `'${text}` : text;
+}
+
+/** One CSV cell: numbers exact, booleans true/false, text quoted when it holds a comma, quote, line break or `#`, or has outer spaces; formula-leading text neutralised (see the file comment). */
 export function csvField(v: CellValue): string {
   if (v === null) return '';
   if (typeof v === 'number') return exactNumber(v);
   if (typeof v === 'boolean') return v ? 'true' : 'false';
+  if (FORMULA_START.test(v)) return `"${neutralizeFormula(v).replace(/"/g, '""')}"`;
   return /[",\r\n#]/.test(v) || v !== v.trim() ? `"${v.replace(/"/g, '""')}"` : v;
 }
 
@@ -106,9 +125,13 @@ export function resultToCsv(result: RunResult, record?: ExportRecord, options: C
   return files;
 }
 
-/** A table as tab-separated display text (the app's Copy button): headings, then the cells as shown, marks as `*`. */
+/** A table as tab-separated display text (the app's Copy button): headings, then the cells as shown, marks as `*`; pasted into a spreadsheet, formula-leading text stays text. */
 export function tableTsv(t: PresentedTable, rowOrder: number[] = t.rows.map((_, i) => i)): string {
-  const clean = (s: string) => s.replace(/[\t\n\r]/g, ' ');
+  const clean = (s: string) => {
+    const flat = s.replace(/[\t\n\r]/g, ' ');
+    // a shown number ("-0.52", "+1.3") is not text to neutralise; anything else beginning with a formula character is
+    return /^[-+]?[\d.,]+(?:e[-+]?\d+)?%?$/i.test(flat.trim()) ? flat : neutralizeFormula(flat);
+  };
   const lines = [t.columns.map((c) => clean(c.header)).join('\t')];
   for (const i of rowOrder) lines.push(t.columns.map((c, j) => clean(tableCellText(t, i, j) + ((t.marks[c.key] ?? []).includes(i) ? '*' : ''))).join('\t'));
   return `${lines.join('\n')}\n`;

@@ -6,6 +6,7 @@
  */
 import type { Command } from 'commander';
 import { FREQUENCIES, type Frequency } from '../../../shared/data.js';
+import { CSV_EOL, csvLine } from '../../../shared/report/csv.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { RETURN_KINDS, returnsTable, type ReturnKind, type ReturnsTable } from '../../../shared/returns/index.js';
 import { textTable } from '../../data/summary.js';
@@ -27,13 +28,12 @@ function pick<T extends string>(flag: string, value: string, allowed: readonly T
   return value as T;
 }
 
-/** CSV: one row per period, one column per asset; shortest round-trip decimals; empty where missing. */
+/** CSV: one row per period, one column per asset; shortest round-trip decimals; empty where missing (the one CSV cell writer, shared/report/csv.ts). */
 export function returnsCsv(t: ReturnsTable): string {
   const names = Object.keys(t.series);
-  const q = (s: string) => (/[",\r\n]/.test(s) ? `"${s.replaceAll('"', '""')}"` : s);
-  const lines = [['period', ...names].map(q).join(',')];
-  t.periods.forEach((p, i) => lines.push([p, ...names.map((n) => (t.series[n][i] === null ? '' : String(t.series[n][i])))].join(',')));
-  return `${lines.join('\r\n')}\r\n`;
+  const lines = [csvLine(['period', ...names])];
+  t.periods.forEach((p, i) => lines.push(csvLine([p, ...names.map((n) => t.series[n][i])])));
+  return `${lines.join(CSV_EOL)}${CSV_EOL}`;
 }
 
 function readable(t: ReturnsTable): string {
