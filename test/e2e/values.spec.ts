@@ -47,6 +47,8 @@ test('the present-value screen: decomposition of the demo aggregate and the drif
 test('the fit screen charts the discounted-value paths', async ({ page }) => {
   await page.goto('/');
   await page.click('[data-screen=setup]');
+  // no factor is chosen for the user: pick the first
+  await page.locator('[data-testid=factor-list] label').first().click();
   await expect(page.locator('.ok-line')).toBeVisible();
   await page.click('[data-testid=run-fit]');
   const chart = page.locator('[data-testid=discounted-chart]');
