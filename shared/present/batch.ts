@@ -21,6 +21,17 @@ export interface BatchOptions {
 
 export const DEFAULT_TOP = 20;
 
+/** A comparison table of ranked batch rows with the rank and task number first (rows in rank order). */
+export function withRankColumns(t: PresentedTable, rows: readonly { rank: number; task: number }[]): PresentedTable {
+  return table({
+    ...t,
+    columns: [numCol('rank', 'Rank', 'integer'), numCol('task', 'Task', 'integer'), ...t.columns],
+    rows: t.rows.map((row, i) => [rows[i]?.rank ?? i + 1, rows[i]?.task ?? null, ...row]),
+    marks: Object.fromEntries(Object.entries(t.marks)),
+    warnings: t.warnings,
+  });
+}
+
 export function presentBatch(r: BatchResult, opts: BatchOptions = {}): Presentation {
   const by = opts.rankBy ?? 'hj';
   const top = opts.top ?? DEFAULT_TOP;
@@ -32,18 +43,16 @@ export function presentBatch(r: BatchResult, opts: BatchOptions = {}): Presentat
   const head = `Top ${shown.length === ranked.length ? `${ranked.length}` : `${shown.length} of ${ranked.length}`} by ${RANK_BY[by].title}`;
   // The ranking's rows as a comparison: the comparison's tables, rank and task first.
   const cmp = compareTables(batchAsComparison(r, shown)).filter((t) => ['models', 'fit', 'out-of-sample'].includes(t.id));
-  const ranking = cmp.map((t) =>
-    table({
-      ...t,
+  const ranking = cmp.map((t) => {
+    const ranked2 = withRankColumns(t, shown.map((m, i) => ({ rank: i + 1, task: m.task })));
+    return {
+      ...ranked2,
       id: `ranking-${t.id}`,
       title: `${head}: ${t.title.toLowerCase()}`,
-      sheet: `Top ${t.sheet}`,
-      columns: [numCol('rank', 'Rank', 'integer'), numCol('task', 'Task', 'integer'), ...t.columns],
-      rows: t.rows.map((row, i) => [i + 1, shown[i].task, ...row]),
-      marks: Object.fromEntries(Object.entries(t.marks)),
+      sheet: `Top ${t.sheet}`.slice(0, 31),
       notes: [...t.notes, ...(t.id === 'models' && withValue < ranked.length ? [`${ranked.length - withValue} fitted tasks have no value for this ranking and come last.`] : []), 'Marks: the best among the rows shown.'],
-    }),
-  );
+    };
+  });
   const ranks = RANK_KEYS.map((k) => new Map(rankBatch(r, k).map((m, i) => [m.task, i + 1])));
   const has = (k: RankBy, m: BatchResult['models'][number]) => (k === 'hj' ? m.hj !== undefined : k === 'oos' ? m.oos !== undefined && !m.error : Number.isFinite(m.test.p));
   const best = bestRows(r.models);

@@ -3,7 +3,7 @@ import { expect, test } from './fixtures.js';
 import { mkdirSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import type { FitResult } from '../../shared/results.js';
-import { barsOf, checkBars, runDemoFlow, shot, specOnScreen } from './flow.js';
+import { barsOf, checkBars, chooseFirstFactor, runDemoFlow, shot, specOnScreen } from './flow.js';
 import { serverAddress } from './fixtures.js';
 
 const root = path.resolve(import.meta.dirname, '../..');
@@ -22,7 +22,7 @@ test('demo: histories, fit, pricing-error bars equal to the engine result, back-
 test('the bars show the very reply the screen received', async ({ page }) => {
   await page.goto('/');
   await page.click('[data-screen=setup]');
-  await expect(page.locator('.ok-line')).toBeVisible();
+  await chooseFirstFactor(page);
   const spec = await specOnScreen(page);
   const replied = page.waitForResponse((r) => r.url().endsWith('/api/fit'));
   await page.click('[data-testid=run-fit]');
@@ -34,14 +34,14 @@ test('the bars show the very reply the screen received', async ({ page }) => {
   // per-period view: the same bars scaled by 1/12
   await page.locator('label:has-text("annualised") input').uncheck();
   await expect.poll(async () => (await barsOf(page, '[data-testid=pricing-error-chart]')).length).toBe(body.value.pricingErrors.length);
-  await expect(page.locator('.panel-sub', { hasText: 'per period' })).toBeVisible();
+  await expect(page.locator('.panel-sub', { hasText: 'chart in % per month' })).toBeVisible();
   checkBars(await barsOf(page, '[data-testid=pricing-error-chart]'), body.value.pricingErrors.map((r) => r.alpha * 100));
 });
 
 test('an engine error appears as a readable message with its hint', async ({ page }) => {
   await page.goto('/');
   await page.click('[data-screen=setup]');
-  await expect(page.locator('.ok-line')).toBeVisible();
+  await chooseFirstFactor(page);
   // one test asset, two factors: fewer moments than parameters
   await page.locator('.checkgroup-head >> text=none').first().click();
   await page.locator('[data-testid=asset-list] label.check').first().click();
@@ -79,7 +79,7 @@ test('import: a file chosen in the page is uploaded, logged with its warnings, a
 test('charts save as PNG and SVG, tables export as CSV', async ({ page }) => {
   await page.goto('/');
   await page.click('[data-screen=setup]');
-  await expect(page.locator('.ok-line')).toBeVisible();
+  await chooseFirstFactor(page);
   await page.click('[data-testid=run-fit]');
   const chart = page.locator('[data-testid=pricing-error-chart]');
   await expect(chart).toHaveAttribute('data-drawn', /[1-9]/);
@@ -95,10 +95,10 @@ test('charts save as PNG and SVG, tables export as CSV', async ({ page }) => {
   const png = await read(() => chart.locator('button', { hasText: 'PNG' }).click());
   expect(png.name).toMatch(/pricing-errors\.png$/);
   expect([...png.bytes.subarray(0, 8)]).toEqual([0x89, 0x50, 0x4e, 0x47, 0x0d, 0x0a, 0x1a, 0x0a]); // PNG signature (ISO/IEC 15948)
-  const params = page.locator('.panel', { hasText: 'Parameters' }).locator('.datatable');
+  const params = page.locator('.datatable[data-table=parameters]');
   const csv = await read(() => params.locator('button', { hasText: 'CSV' }).click());
   const lines = csv.bytes.toString('utf8').trim().split(/\r\n/);
-  expect(lines[0]).toBe('parameter,estimate,s.e.,t,p');
+  expect(lines[0]).toBe('Parameter,Estimate,s.e.,t,p'); // the same headings as the screen and every export
   expect(lines.length).toBe(4);
   expect(Number(lines[1].split(',')[1])).not.toBeNaN();
 });

@@ -32,7 +32,7 @@ test('the comparison screen opens a merged batch and ranks its tasks as merge do
     await expect(pick.locator(`option[value="${merged.run}"]`)).toHaveCount(1);
     await pick.selectOption(String(merged.run));
     await expect(page.locator('[data-testid=batch-summary]')).toContainText('28 tasks, 28 fitted');
-    const rows = page.locator('[data-testid=compare-table] tbody tr');
+    const rows = page.locator('[data-testid=compare-models] tbody tr');
     await expect(rows).toHaveCount(25);
     const expectOrder = async (by: 'hj' | 'oos') => {
       const tasks = (await rows.locator('td:nth-child(2)').allTextContents()).map((t) => Number(t.trim()));

@@ -5,12 +5,12 @@
  */
 import { expect, test } from './fixtures.js';
 import { BENCH_PORT } from './ports.js';
-import { barsOf, checkBars, fitThroughPage, shot, specOnScreen } from './flow.js';
+import { barsOf, checkBars, chooseFirstFactor, fitThroughPage, shot, specOnScreen } from './flow.js';
 
 test('100 test assets: the pricing-error chart is drawn within 300 ms of the engine reply', async ({ page }) => {
   await page.goto(`http://127.0.0.1:${BENCH_PORT}/`);
   await page.click('[data-screen=setup]');
-  await expect(page.locator('.ok-line')).toBeVisible();
+  await chooseFirstFactor(page);
   // second-stage GMM (W = S^-1 on all 102 moments), the default: the Newton solver
   // converges on this large, noisy cross-section in a handful of steps
   await page.locator('label:has-text("stage") select').first().selectOption('second');

@@ -7,7 +7,9 @@ import { expect } from '@playwright/test';
 import type { Page } from '@playwright/test';
 import { mkdirSync } from 'node:fs';
 import path from 'node:path';
-import type { FitResult } from '../../shared/results.js';
+import type { BacktestResult, CompareResult, FitResult } from '../../shared/results.js';
+import { present, type Presentation } from '../../shared/present/index.js';
+import { tableCellText } from '../../shared/present/format.js';
 import { PALETTE } from '../../shared/charts/palette.js';
 
 const root = path.resolve(import.meta.dirname, '../..');
@@ -93,6 +95,44 @@ export function checkBars(bars: Bar[], values: number[]): { scale: number; worst
   return { scale, worstPx };
 }
 
+/** The set-up chooses no factor for the user: pick the first one (where none is chosen yet), so the spec is valid. */
+export async function chooseFirstFactor(page: Page): Promise<void> {
+  if (await page.locator('[data-testid=factor-prompt]').isVisible()) await page.locator('[data-testid=factor-list] label').first().click();
+  await expect(page.locator('.ok-line')).toBeVisible();
+}
+
+/**
+ * The screen's tables against the presentation model of the result it shows
+ * (shared/present): each table's headings (units included), and each cell's text and full
+ * value (data-value), in the table's own row order.
+ */
+export async function checkScreenTables(page: Page, p: Presentation, ids: string[]): Promise<number> {
+  let cells = 0;
+  for (const id of ids) {
+    const t = p.tables.find((x) => x.id === id);
+    expect(t, `presentation table ${id}`).toBeDefined();
+    const box = page.locator(`.datatable[data-table="${id}"]`).first();
+    await expect(box, `table ${id} on screen`).toBeVisible();
+    const got = await box.evaluate((el) => ({
+      head: Array.from(el.querySelectorAll('thead th')).map((th) => (th.textContent ?? '').trim()),
+      rows: Array.from(el.querySelectorAll('tbody tr')).map((tr) => Array.from(tr.querySelectorAll('td')).map((td) => ({ text: (td.textContent ?? '').replace(/\s+/g, ' ').trim(), value: td.getAttribute('data-value') }))),
+    }));
+    expect(got.head, `${id}: headings`).toEqual(t!.columns.map((c) => c.header));
+    expect(got.rows.length, `${id}: rows`).toBe(t!.rows.length);
+    t!.rows.forEach((row, i) =>
+      row.forEach((v, j) => {
+        const cell = got.rows[i][j];
+        const mark = (t!.marks[t!.columns[j].key] ?? []).includes(i) ? '*' : '';
+        const shown = tableCellText(t!, i, j, '—') + mark;
+        expect(cell.text.replace(/ !$/, ''), `${id} row ${i + 1} "${t!.columns[j].header}"`).toBe(shown);
+        if (typeof v === 'number') expect(Object.is(Number(cell.value), v), `${id} row ${i + 1} "${t!.columns[j].header}": ${cell.value} vs ${v}`).toBe(true);
+        cells++;
+      }),
+    );
+  }
+  return cells;
+}
+
 /** The fit request as the set-up shows it (the spec JSON without its back-test key). */
 export async function specOnScreen(page: Page): Promise<Record<string, unknown>> {
   const text = await page.locator('[data-testid=spec-json]').textContent({ timeout: 10_000 });
@@ -132,8 +172,7 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
   await page.click('[data-screen=setup]');
   // No factor is chosen for the user: the set-up asks, and one click picks the first.
   await expect(page.locator('[data-testid=factor-prompt]')).toBeVisible();
-  await page.locator('[data-testid=factor-list] label').first().click();
-  await expect(page.locator('.ok-line')).toBeVisible();
+  await chooseFirstFactor(page);
   await expect(page.locator('[data-testid=lags-preview]')).toContainText(/auto gives \d+ lags? on T = \d+ periods/);
   await shot(page, `${prefix}model-setup`);
   const spec = await specOnScreen(page);
@@ -145,6 +184,12 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
   const result = await fitThroughPage(page, spec);
   const bars = await barsOf(page, chart);
   checkBars(bars, result.pricingErrors.map((r) => r.alphaAnnual * 100));
+  // every table of the fit screen: the presentation model's headings, texts and values
+  const fitCells = await checkScreenTables(page, present(result), ['tests', 'fit', 'parameters', 'discount-factor', 'pricing-errors']);
+  expect(fitCells).toBeGreaterThan(200);
+  // the demo fit's discount factor is below the volatility bound: the warning is listed and flags its table
+  await expect(page.locator('[data-testid=result-warnings] [data-warning=BELOW_VOLATILITY_BOUND]')).toBeVisible();
+  await expect(page.locator('.datatable[data-table=discount-factor] [data-warning=BELOW_VOLATILITY_BOUND]')).toBeVisible();
   await expect(page.locator('[data-caution]')).toContainText('not investment advice');
   await expect(page.locator('body')).not.toContainText('NaN');
   await shot(page, `${prefix}fit-results`);
@@ -159,11 +204,20 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
   // Back-test: short (step 12), progress to 100 %
   await page.click('[data-screen=setup]');
   await page.locator('label:has-text("step") input').fill('12');
+  // through the loopback server the screen's own reply is read back (the Electron run has no HTTP to watch)
+  const overHttp = page.url().startsWith('http');
+  const btReplied = overHttp ? page.waitForResponse((r) => r.url().endsWith('/api/backtest')) : undefined;
   await page.click('[data-testid=run-backtest]');
   const progress = page.locator('[data-testid=backtest-progress]');
   await expect(progress).toHaveAttribute('data-percent', '100', { timeout: 60_000 });
   await expect(page.locator('[data-chart-id=parameter-paths]')).toHaveAttribute('data-drawn', /[1-9]/);
   await expect(page.locator('[data-chart-id=oos-errors]')).toHaveAttribute('data-drawn', /[1-9]/);
+  if (btReplied) {
+    const bt = (await (await btReplied).json()) as { ok: boolean; value: BacktestResult };
+    expect(bt.ok).toBe(true);
+    await checkScreenTables(page, present(bt.value), ['summary', 'per-asset', 'path-summary']);
+    await expect(page.locator('body')).toContainText("in sample (mean of the windows' own α)");
+  }
   await shot(page, `${prefix}back-test`);
 
   // Comparison of two models, best in each column marked
@@ -171,8 +225,14 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
   await page.click('[data-testid=add-compare]');
   await page.locator('[data-testid=factor-list] label').nth(1).click();
   await page.click('[data-testid=add-compare]');
+  const cmpReplied = overHttp ? page.waitForResponse((r) => r.url().endsWith('/api/compare')) : undefined;
   await page.click('[data-testid=run-compare]');
   await expect(page.locator('[data-testid=compare-fit] tbody tr')).toHaveCount(2, { timeout: 60_000 });
+  if (cmpReplied) {
+    const cmp = (await (await cmpReplied).json()) as { ok: boolean; value: CompareResult };
+    expect(cmp.ok).toBe(true);
+    await checkScreenTables(page, present(cmp.value), ['models', 'fit', 'out-of-sample']);
+  }
   expect(await page.locator('[data-testid=compare-fit] td.best').count()).toBeGreaterThanOrEqual(4);
   await expect(page.locator('[data-testid=compare-models] td[data-key=stat].best')).toHaveCount(0); // test statistics are never ranked
   await expect(page.locator('body')).not.toContainText('NaN');

@@ -60,7 +60,7 @@ test('a return file through the import panel with its preview, then a fit, a bac
 
   await page.click('[data-testid=import-confirm]');
   await expect(page.locator('.log > li').first()).toContainText('portfolios.csv');
-  await expect(page.locator('.log > li').first()).toContainText('12 assets');
+  await expect(page.locator('.log > li').first()).toContainText('rows stored'); // the stored import, newest first
   const row = page.locator('.datatable tbody tr', { hasText: 'small-t1' });
   await expect(row).toContainText('net returns (percent)');
   await expect(row).toContainText('2'); // two missing months: gaps
@@ -123,7 +123,7 @@ test('a return file through the import panel with its preview, then a fit, a bac
   await page.locator('[data-testid=factor-list] label', { hasText: 'beacon' }).click();
   await page.click('[data-testid=add-compare]');
   await page.click('[data-testid=run-compare]');
-  await expect(page.locator('[data-testid=compare-table] tbody tr')).toHaveCount(2, { timeout: 60_000 });
+  await expect(page.locator('[data-testid=compare-models] tbody tr')).toHaveCount(2, { timeout: 60_000 });
   await expect(page.locator('body')).not.toContainText('NaN');
   await shot(page, 'comparison-on-returns');
   await page.click('[data-screen=runs]');

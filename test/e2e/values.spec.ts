@@ -5,7 +5,7 @@
  */
 import type { DriftResult, PresentValueResult } from '../../shared/results.js';
 import { expect, test } from './fixtures.js';
-import { shot } from './flow.js';
+import { chooseFirstFactor, shot } from './flow.js';
 
 async function call<T>(page: import('@playwright/test').Page, name: string, req: unknown): Promise<T> {
   const env = (await page.evaluate(
@@ -47,9 +47,7 @@ test('the present-value screen: decomposition of the demo aggregate and the drif
 test('the fit screen charts the discounted-value paths', async ({ page }) => {
   await page.goto('/');
   await page.click('[data-screen=setup]');
-  // no factor is chosen for the user: pick the first
-  await page.locator('[data-testid=factor-list] label').first().click();
-  await expect(page.locator('.ok-line')).toBeVisible();
+  await chooseFirstFactor(page);
   await page.click('[data-testid=run-fit]');
   const chart = page.locator('[data-testid=discounted-chart]');
   await expect(chart).toHaveAttribute('data-drawn', /[1-9]/, { timeout: 60_000 });
