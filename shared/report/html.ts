@@ -24,6 +24,9 @@ const BATCH_CHART_TOP = 20;
 
 const esc = xmlEscape;
 
+/** Most columns a printed (PDF) table keeps side by side at the print font size, A4 portrait. */
+const PRINT_COLUMNS = 10;
+
 /** Normal 97.5% quantile for the whiskers (alpha ± 1.96 s.e.): common practice for a 95% band. */
 const Z95 = 1.959963984540054;
 
@@ -49,7 +52,9 @@ pre.spec{background:#f7f7f7;border:1px solid #e2e2e2;padding:8px;font-size:11.5p
 p.note,ul.tnotes{font-size:11.5px;color:#555;margin:2px 0 14px}
 ul.tnotes{padding-left:18px}
 p.twarn{font-size:11.5px;color:#a02a22;margin:2px 0}
-@media print{body{margin:0;max-width:none}h2{break-after:avoid}table,svg,figure{break-inside:avoid}table{font-size:10px}}
+@media print{body{margin:0;max-width:none;font-size:11px}h2{break-after:avoid}table,svg,figure{break-inside:avoid}table{font-size:9px}th,td{padding:1px 5px}
+.charts{display:grid;grid-template-columns:1fr 1fr;gap:8px}.charts svg{width:100%;height:auto}.charts figcaption{font-size:9px}
+ul.tnotes,p.note{font-size:9px}pre.spec{font-size:8px}table.record,table.header{font-size:9px}}
 `;
 
 function tableHtml(t: PresentedTable, ref: (w: ResultWarning) => number): string {
@@ -301,7 +306,7 @@ export function resultToHtml(result: RunResult, record?: ExportRecord, options: 
             : result.kind === 'drift'
               ? driftCharts(result)
               : compareCharts(result);
-  const fitPage = (t: PresentedTable) => (options.print ? splitColumns(t) : [t]);
+  const fitPage = (t: PresentedTable) => (options.print ? splitColumns(t, PRINT_COLUMNS) : [t]);
   const main = p.tables.filter((t) => t.role === 'main');
   const appendix = p.tables.filter((t) => t.role === 'appendix');
   const withAppendix = options.appendix ?? true;

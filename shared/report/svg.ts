@@ -168,11 +168,33 @@ export function scatterChart(opts: { id: string; title: string; xLabel: string; 
       `<line class="fit" x1="${f1(x(a))}" y1="${f1(y(fit.intercept + fit.slope * a))}" x2="${f1(x(b))}" y2="${f1(y(fit.intercept + fit.slope * b))}" stroke="${PALETTE[1]}" stroke-width="1.5" data-intercept="${exactNumber(fit.intercept)}" data-slope="${exactNumber(fit.slope)}"/>`,
     );
   }
+  // Labels never pile up: each named point's label goes right of it, else left, else below;
+  // one that would still overlap a placed label is left out (every point is in the table beside the chart).
+  const placed: { x0: number; y0: number; x1: number; y1: number }[] = [];
+  const labelAt = (px: number, py: number, text: string): { x: number; y: number; anchor: string } | undefined => {
+    const w = 5 * text.length + 2;
+    const tries = [
+      { x: px + 6, y: py - 5, anchor: 'start', x0: px + 6, x1: px + 6 + w },
+      { x: px - 6, y: py - 5, anchor: 'end', x0: px - 6 - w, x1: px - 6 },
+      { x: px + 6, y: py + 12, anchor: 'start', x0: px + 6, x1: px + 6 + w },
+    ];
+    for (const t of tries) {
+      const box = { x0: t.x0, y0: t.y - 9, x1: t.x1, y1: t.y + 2 };
+      if (box.x0 < f.left || box.x1 > f.width - f.right + 40) continue;
+      if (placed.some((b) => b.x0 < box.x1 && box.x0 < b.x1 && b.y0 < box.y1 && box.y0 < b.y1)) continue;
+      placed.push(box);
+      return { x: t.x, y: t.y, anchor: t.anchor };
+    }
+    return undefined;
+  };
   for (const p of opts.points) {
     out.push(
       `<circle class="point" cx="${f1(x(p.x))}" cy="${f1(y(p.y))}" r="4" fill="${PALETTE[0]}" data-label="${xmlEscape(p.label)}" data-x="${exactNumber(p.x)}" data-y="${exactNumber(p.y)}"><title>${xmlEscape(`${p.label}: ${significant(p.x, 6)}, ${significant(p.y, 6)}`)}</title></circle>`,
     );
-    if (!opts.labelled || opts.labelled.has(p.label)) out.push(`<text x="${f1(x(p.x) + 6)}" y="${f1(y(p.y) - 5)}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
+    if (!opts.labelled || opts.labelled.has(p.label)) {
+      const at = labelAt(x(p.x), y(p.y), p.label);
+      if (at) out.push(`<text class="point-label" x="${f1(at.x)}" y="${f1(at.y)}" text-anchor="${at.anchor}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
+    }
   }
   out.push('</svg>');
   return out.join('\n');
