@@ -22,7 +22,7 @@
  */
 import type { RunResult } from '../results.js';
 import { present, type CellValue, type Presentation, type PresentedTable } from '../present/index.js';
-import { exactNumber, tableCellText } from '../present/format.js';
+import { exactNumber, plainText, tableCellText } from '../present/format.js';
 import { reorderRows } from '../present/sort.js';
 import { recordLines, type ExportRecord } from './header.js';
 
@@ -90,14 +90,14 @@ export function aboutLines(p: Presentation, record?: ExportRecord): string[] {
   if (record) for (const l of recordLines(record)) lines.push(`${l.key}: ${l.value}`);
   for (const h of p.header) lines.push(`${h.key}: ${h.value}`);
   p.warnings.forEach((w, i) => lines.push(`warning ${i + 1}: ${w.code}${w.model ? ` (${w.model})` : ''}: ${w.message}`));
-  for (const n of p.notes) lines.push(`note: ${n}`);
+  for (const n of p.notes) lines.push(`note: ${plainText(n)}`);
   return lines;
 }
 
 function tableAbout(t: PresentedTable): string[] {
   const lines = [`table ${t.id}: ${t.title}`];
   for (const c of t.columns) if (c.note) lines.push(`  column "${c.header}": ${c.note}`);
-  for (const n of t.notes) lines.push(`  note: ${n}`);
+  for (const n of t.notes) lines.push(`  note: ${plainText(n)}`);
   for (const w of t.warnings) lines.push(`  warning: ${w.code}${w.model ? ` (${w.model})` : ''}${w.rows ? `, rows ${w.rows.map((r) => r + 1).join(', ')}` : ''}`);
   return lines;
 }

@@ -11,7 +11,7 @@
 import type { BacktestResult, CompareResult, DriftResult, FitResult, PresentValueResult, ResultWarning, RunResult } from '../results.js';
 import { stringifyExact } from '../records/exact-json.js';
 import { present, warningNumbers, type Presentation, type PresentedTable } from '../present/index.js';
-import { exactNumber, tableCellText, ROUNDING_NOTE } from '../present/format.js';
+import { exactNumber, plainText, tableCellText, ROUNDING_NOTE } from '../present/format.js';
 import { annualPercent, percent, unitsFor } from '../present/units.js';
 import { recordLines, type ExportRecord } from './header.js';
 import { barChart, lineChart, scatterChart, stackedBarChart, standOut, xmlEscape } from './svg.js';
@@ -75,7 +75,7 @@ function tableHtml(t: PresentedTable, ref: (w: ResultWarning) => number): string
     });
     return `<tr data-row="${esc(t.rowKeys[i] ?? String(i))}"${rowWarn.has(i) ? ' class="warned"' : ''}>${cells.join('')}</tr>`;
   });
-  const notes = t.notes.length ? `<ul class="tnotes">${t.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : '';
+  const notes = t.notes.length ? `<ul class="tnotes">${t.notes.map((n) => `<li>${esc(plainText(n))}</li>`).join('')}</ul>` : '';
   const warns = t.warnings
     .filter((w) => !w.rows)
     .map((w) => `<p class="twarn" data-warning="${esc(w.code)}">! Warning ${ref(w)} (${esc(w.code)}) applies to this table.</p>`)
@@ -325,7 +325,7 @@ export function resultToHtml(result: RunResult, record?: ExportRecord, options: 
     '<h2>Tables</h2>',
     `<p class="note">${esc(ROUNDING_NOTE)} Cells marked * are the best in their column by the rule in the table's note; !n refers to warning n.</p>`,
     ...main.flatMap(fitPage).map((t) => tableHtml(t, ref)),
-    p.notes.length ? `<h2>Notes</h2><ul>${p.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : '',
+    p.notes.length ? `<h2>Notes</h2><ul>${p.notes.map((n) => `<li>${esc(plainText(n))}</li>`).join('')}</ul>` : '',
   ];
   if (appendix.length) {
     if (withAppendix) parts.push('<h2>Appendix</h2>', ...appendix.flatMap(fitPage).map((t) => tableHtml(t, ref)));

@@ -12,7 +12,7 @@ import ExcelJS from 'exceljs';
 import type { RunResult } from '../../shared/results.js';
 import { stringifyExact } from '../../shared/records/exact-json.js';
 import { present, type NumberFormat, type PresentedTable } from '../../shared/present/index.js';
-import { cellFormat } from '../../shared/present/format.js';
+import { cellFormat, plainText } from '../../shared/present/format.js';
 import { exportGrid, aboutLines } from '../../shared/report/csv.js';
 import { recordLines, type ExportRecord } from '../../shared/report/header.js';
 
@@ -90,7 +90,7 @@ export function resultToWorkbook(result: RunResult, record?: ExportRecord): Exce
     about.addRow([]);
     about.addRow([`table: ${t.title}`, `sheet "${wb.worksheets[p.tables.indexOf(t)].name}"`]).font = { bold: true };
     for (const c of t.columns) if (c.note) about.addRow([`column ${c.header}`, c.note]);
-    for (const n of t.notes) about.addRow(['note', n]);
+    for (const n of t.notes) about.addRow(['note', plainText(n)]);
     for (const w of t.warnings) about.addRow(['warning', `${w.code}${w.model ? ` (${w.model})` : ''}${w.rows ? `, rows ${w.rows.map((r) => r + 2).join(', ')}` : ''}: ${w.message}`]);
   }
   about.getColumn(1).width = 22;
