@@ -25,6 +25,7 @@ function mockClient(overrides: Partial<Record<keyof BridgeClient, (...args: neve
   const base: Record<string, (...args: never[]) => unknown> = {
     info: async () => ({ version: '0', database: 'demo.db', caution: 'c', counts: { assets: 1, series: 2, portfolios: 1 } }),
     coverage: async () => coverage,
+    imports: async () => [{ id: 3, file: 'prices.csv', kind: 'prices', importedAt: '2026-01-01T00:00:00.000Z', rowsRead: 10, rowsStored: 10, rowsRejected: 0, warnings: [{ kind: 'gap', subject: 'A1', message: 'a gap' }], warningCount: 1 }],
     history: async () => ({ asset: 'A1', frequency: 'stored', dates: [], price: [], totalReturn: [], dividends: 0 }),
     importFile: async () => ({ file: 'x.csv', kind: 'prices', rows: 10, names: ['A1'], warnings: [], durationMs: 1 }),
     checkSpec: async () => ({}),
@@ -55,6 +56,8 @@ describe('project store', () => {
     expect(p.testAssetNames).toEqual(['S1', 'A1']);
     expect(p.historyAsset).toBe('A1');
     expect(p.isEmpty).toBe(false);
+    // the import log lists the stored imports with their warnings
+    expect(p.storedImports.map((e) => [e.file, e.warnings.length])).toEqual([['prices.csv', 1]]);
   });
 
   it('keeps a failing load as a readable error with the hint', async () => {
