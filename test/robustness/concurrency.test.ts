@@ -8,7 +8,6 @@
  *   - held longer: the import fails with BUSY (exit 5) naming the database and the lock
  *     and saying what to do, and the database is unchanged.
  */
-import Database from 'better-sqlite3';
 import { createWriteStream, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -17,7 +16,7 @@ import { ImportFilePolicy } from '../../src-main/app/files.js';
 import { StoreProject } from '../../src-main/app/project.js';
 import { Store } from '../../src-main/store/store.js';
 import { fakeEngine } from '../src-main/app/fakes.js';
-import { cleanTempDirs, databaseState, runCliAsync, seedDatabase, stopwatch, tempDir } from './helpers.js';
+import { cleanTempDirs, databaseState, holdWriteLock, runCliAsync, seedDatabase, stopwatch, tempDir } from './helpers.js';
 
 let dir: string;
 let done: () => number;
@@ -42,18 +41,6 @@ async function writeLong(file: string, assets: number, days: number, prefix: str
   await new Promise<void>((r) => out.end(() => r()));
 }
 
-/** A connection of its own that takes the write lock and keeps it until release(). */
-function holdWriteLock(db: string): { release: () => void } {
-  const holder = new Database(db);
-  holder.exec('BEGIN IMMEDIATE');
-  holder.prepare('INSERT INTO asset (name) VALUES (?)').run('lock-holder');
-  return {
-    release: () => {
-      holder.exec('ROLLBACK');
-      holder.close();
-    },
-  };
-}
 
 const logCount = (db: string, file: string) => {
   const s = new Store(db, { readonly: true });

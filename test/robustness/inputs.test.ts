@@ -9,45 +9,23 @@
  * something (see README, Robustness).
  */
 import http from 'node:http';
-import { spawnSync } from 'node:child_process';
 import { mkdirSync, readdirSync, readFileSync, symlinkSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { parseSortSpec } from '../../shared/portfolios/spec.js';
 import { validateRequest } from '../../shared/bridge/validate.js';
-import { fit } from '../../shared/estimation/fit.js';
 import { parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
 import { composeApp } from '../../src-main/app/compose.js';
 import { ImportFilePolicy } from '../../src-main/app/files.js';
 import { threadsFlag } from '../../src-main/cli/compute.js';
-import { loadPanel } from '../../src-main/data/panel.js';
-import { recordRun } from '../../src-main/runs/runs.js';
 import { startServer } from '../../src-main/server/http.js';
 import { fakeEngine, fakeImporter, fakeProject, openPolicy } from '../src-main/app/fakes.js';
-import { makeProject, type Project } from '../src-main/runs/helpers.js';
-import { CLI, cleanTempDirs, tempDir } from './helpers.js';
-
-function cli(args: string[]): { code: number; out: string; err: string } {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8' });
-  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
-}
-
-const code = (f: () => unknown): string | undefined => {
-  try {
-    f();
-    return undefined;
-  } catch (e) {
-    return (e as { code?: string }).code;
-  }
-};
+import type { Project } from '../src-main/runs/helpers.js';
+import { cleanTempDirs, tempDir, cli, codeOf, projectWithRun } from './helpers.js';
 
 let p: Project;
 beforeAll(async () => {
-  p = await makeProject();
-  const spec = parseFitSpec({ riskfree: 'bill_yield', assets: ['brinemoor-ferries', 'corvane-saltworks', 'greyhallow-banking'], model: { factors: ['harbor'] } });
-  const panel = loadPanel(p.store, spec);
-  recordRun(p.store, { spec, result: fit(spec, panel), panel });
-  p.store.close();
+  p = await projectWithRun();
 }, 60_000);
 afterAll(() => {
   p?.store.close();
@@ -59,9 +37,9 @@ const NOT_DATES = ['2010-02-30', '2010-13-01', '2010-00-10', '2010-04-31', '2011
 describe('dates are calendar dates everywhere', () => {
   it('spec start and end, comparison specs, portfolio options and the runs filter refuse them; real dates pass', () => {
     for (const d of NOT_DATES) {
-      expect(code(() => parseFitSpec({ start: d, riskfree: 'rf', model: { factors: ['f'] } })), `start ${d}`).toBe('SPEC_INVALID');
-      expect(code(() => parseCompareSpec({ end: d, riskfree: 'rf', compare: [{ model: { factors: ['f'] } }] })), `end ${d}`).toBe('SPEC_INVALID');
-      expect(code(() => parseSortSpec({ characteristic: 'momentum', name: 'mom', start: d })), `portfolio start ${d}`).toBe('SPEC_INVALID');
+      expect(codeOf(() => parseFitSpec({ start: d, riskfree: 'rf', model: { factors: ['f'] } })), `start ${d}`).toBe('SPEC_INVALID');
+      expect(codeOf(() => parseCompareSpec({ end: d, riskfree: 'rf', compare: [{ model: { factors: ['f'] } }] })), `end ${d}`).toBe('SPEC_INVALID');
+      expect(codeOf(() => parseSortSpec({ characteristic: 'momentum', name: 'mom', start: d })), `portfolio start ${d}`).toBe('SPEC_INVALID');
       expect(validateRequest('runs', { from: d }).ok, `runs from ${d}`).toBe(false);
     }
     for (const d of ['2012-02-29', '2000-02-29', '2010-12-31']) {
@@ -160,10 +138,10 @@ describe('uploads and file paths', () => {
         answers.add(`${err.code}|${err.message.replace(target, '<path>')}|${err.hint}`);
       }
     }
-    for (const dev of ['/dev/null', '/proc/self/environ', '/etc/nonexistent.csv', '/etc/passwd']) expect(code(() => policy.check(dev)), dev).toBe('FORBIDDEN');
+    for (const dev of ['/dev/null', '/proc/self/environ', '/etc/nonexistent.csv', '/etc/passwd']) expect(codeOf(() => policy.check(dev)), dev).toBe('FORBIDDEN');
     expect(answers.size, [...answers].join('\n')).toBe(1);
     // inside an allowed folder the file system is asked, and a missing file is said so
-    expect(code(() => policy.check(path.join(data, 'missing.csv')))).toBe('NOT_FOUND');
+    expect(codeOf(() => policy.check(path.join(data, 'missing.csv')))).toBe('NOT_FOUND');
   });
 
   it.skipIf(typeof process.getuid !== 'function' || process.getuid() !== 0)('an upload to a full disk says so, without the folder path, and leaves no half file (skipped unless root: needs a small tmpfs)', async () => {
@@ -226,7 +204,7 @@ describe('thread counts are bounded by the machine', () => {
     expect(threadsFlag('1', '--threads', 2)).toBe(1);
     expect(threadsFlag('3', '--threads', 2)).toBe(3);
     expect(threadsFlag(undefined, '--threads', 2)).toBe(2);
-    for (const bad of ['0', '-1', '1.5', 'two', '', '1e3', '0x10']) expect(code(() => threadsFlag(bad, '--threads', 2)), bad).toBe('INPUT_INVALID');
+    for (const bad of ['0', '-1', '1.5', 'two', '', '1e3', '0x10']) expect(codeOf(() => threadsFlag(bad, '--threads', 2)), bad).toBe('INPUT_INVALID');
   });
 
   it('`replay --threads 100000` replays with at most two threads per core and says so; `--threads 0` is refused', () => {

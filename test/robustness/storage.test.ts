@@ -15,63 +15,27 @@
  * The mounts need root; elsewhere those cases are skipped and say so.
  */
 import Database from 'better-sqlite3';
-import { spawn } from 'node:child_process';
 import { createHash } from 'node:crypto';
 import { closeSync, copyFileSync, existsSync, openSync, readdirSync, readFileSync, rmSync, truncateSync, writeFileSync, writeSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { fit } from '../../shared/estimation/fit.js';
-import { parseFitSpec } from '../../shared/spec.js';
 import { openApp } from '../../src-main/app/open.js';
-import { loadPanel } from '../../src-main/data/panel.js';
-import { getRun, recordRun } from '../../src-main/runs/runs.js';
+import { getRun } from '../../src-main/runs/runs.js';
 import { Store } from '../../src-main/store/store.js';
 import { createPool } from '../../src-main/workers/pool.js';
-import { makeProject, type Project } from '../src-main/runs/helpers.js';
-import { CLI, cleanTempDirs, databaseState, ROOT, stopwatch, tempDir } from './helpers.js';
+import type { Project } from '../src-main/runs/helpers.js';
+import { cleanTempDirs, databaseState, ROOT, stopwatch, tempDir, holdWriteLock, projectWithRun, runCliAsync, type CliResult } from './helpers.js';
 import { IS_ROOT, mountTmpfs } from './mounts.js';
 
 const SPEC = path.join(ROOT, 'sample-data', 'specs', 'linear-second.json');
 
-interface Ran {
-  status: number | null;
-  stdout: string;
-  stderr: string;
-  ms: number;
-}
+type Ran = CliResult;
 
-function run(args: string[], cwd?: string): Promise<Ran> {
-  const t0 = performance.now();
-  return new Promise((resolve, reject) => {
-    const child = spawn(process.execPath, [CLI, ...args], { stdio: ['ignore', 'pipe', 'pipe'], ...(cwd ? { cwd } : {}) });
-    let stdout = '';
-    let stderr = '';
-    child.stdout.on('data', (c: Buffer) => (stdout += c.toString('utf8')));
-    child.stderr.on('data', (c: Buffer) => (stderr += c.toString('utf8')));
-    const timer = setTimeout(() => child.kill('SIGKILL'), 120_000);
-    child.on('error', reject);
-    child.on('close', (status) => {
-      clearTimeout(timer);
-      resolve({ status, stdout, stderr, ms: performance.now() - t0 });
-    });
-  });
-}
+const run = (args: string[], cwd?: string): Promise<Ran> => runCliAsync(args, cwd ? { cwd } : {});
 
 const sha = (file: string): string => createHash('sha256').update(readFileSync(file)).digest('hex');
 const RAW_SQLITE = /SqliteError|SQLITE_[A-Z_]+:|database disk image is malformed\s*$|^deflator: database is locked/m;
 
-/** A connection of its own that takes the write lock and keeps it until release(). */
-function holdWriteLock(db: string): { release: () => void } {
-  const holder = new Database(db);
-  holder.exec('BEGIN IMMEDIATE');
-  holder.prepare('INSERT INTO asset (name) VALUES (?)').run('lock-holder');
-  return {
-    release: () => {
-      holder.exec('ROLLBACK');
-      holder.close();
-    },
-  };
-}
 
 let p: Project;
 let done: () => number;
@@ -79,11 +43,7 @@ const tally = { commands: 0 };
 
 beforeAll(async () => {
   done = stopwatch('storage');
-  p = await makeProject();
-  const spec = parseFitSpec({ riskfree: 'bill_yield', assets: ['brinemoor-ferries', 'corvane-saltworks', 'greyhallow-banking'], model: { factors: ['harbor'] } });
-  const panel = loadPanel(p.store, spec);
-  recordRun(p.store, { spec, result: fit(spec, panel), panel });
-  p.store.close();
+  p = await projectWithRun();
 }, 60_000);
 
 afterAll(() => {

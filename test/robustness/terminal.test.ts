@@ -5,7 +5,6 @@
  * whatever is printed anyway (the label of a run recorded before the rule, say) has its
  * control characters shown as \uXXXX. The sequences are ECMA-48 controls (OSC, CSI, BEL).
  */
-import { spawnSync } from 'node:child_process';
 import { copyFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -14,15 +13,10 @@ import { parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
 import { loadPanel } from '../../src-main/data/panel.js';
 import { recordRun } from '../../src-main/runs/runs.js';
 import { makeProject, type Project } from '../src-main/runs/helpers.js';
-import { CLI, databaseState } from './helpers.js';
+import { databaseState, cli } from './helpers.js';
 
 const HOSTILE = '\u001b]0;owned\u0007\u001b[2J\u001b[31mred\u009b0m';
 const RAW = /[\u0000-\u0008\u000b-\u001f\u007f-\u009f]/;
-
-function cli(args: string[]): { code: number; out: string; err: string } {
-  const r = spawnSync(process.execPath, [CLI, ...args], { encoding: 'utf8' });
-  return { code: r.status ?? -1, out: r.stdout, err: r.stderr };
-}
 
 let p: Project;
 beforeAll(async () => {

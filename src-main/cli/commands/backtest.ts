@@ -9,9 +9,8 @@
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
-import { runAnalysis } from '../../services/analysis.js';
-import { printOutcome } from '../outcome.js';
-import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
+import { runAndPrint } from '../outcome.js';
+import { defaultThreads, threadsFlag } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { readFitSpec } from './fit.js';
 
@@ -69,17 +68,6 @@ export function register(program: Command): void {
       const spec = withWindowFlags(readFitSpec(specFile), o);
       const threads = threadsFlag(o.threads);
       const bar = progressBar('windows');
-      const a = { kind: 'backtest', spec, engine: o.engine === 'fit' ? 'fit' : 'auto' } as const;
-      let used: number | undefined;
-      const outcome = await withStore(
-        o.db,
-        (store) =>
-          withCompute(threads, (compute) => {
-            used = compute.threads;
-            return runAnalysis(store, a, compute, { record: o.record, keepUnrecorded: true, onProgress: (d, t) => bar.update(d, t, 'windows') });
-          }),
-        o.record ? 'write' : 'read',
-      ).finally(() => bar.finish());
-      printOutcome(outcome, a, { json: o.json, db: o.db, ...(used !== undefined ? { threads: used } : {}) });
+      await runAndPrint({ kind: 'backtest', spec, engine: o.engine === 'fit' ? 'fit' : 'auto' }, { db: o.db, json: o.json, record: o.record, threads, onProgress: (d, t) => bar.update(d, t, 'windows'), finish: () => bar.finish() });
     });
 }

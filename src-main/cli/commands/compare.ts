@@ -10,9 +10,8 @@ import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
 import { readSpecFile } from '../spec-file.js';
 import { isCompareSpec, parseCompareSpec } from '../../../shared/spec.js';
-import { runAnalysis } from '../../services/analysis.js';
-import { printOutcome } from '../outcome.js';
-import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
+import { runAndPrint } from '../outcome.js';
+import { defaultThreads, threadsFlag } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { positiveInt } from './backtest.js';
 
@@ -54,17 +53,6 @@ export function register(program: Command): void {
       const { spec, fits } = parseCompareSpec(Object.keys(bs).length ? { ...input, bootstrap: bs } : input);
       const threads = threadsFlag(o.threads);
       const bar = progressBar('compare');
-      const a = { kind: 'compare', spec, fits } as const;
-      let used: number | undefined;
-      const outcome = await withStore(
-        o.db,
-        (store) =>
-          withCompute(threads, (compute) => {
-            used = compute.threads;
-            return runAnalysis(store, a, compute, { record: o.record, keepUnrecorded: true, onProgress: (d, t, stage) => bar.update(d, t, stage) });
-          }),
-        o.record ? 'write' : 'read',
-      ).finally(() => bar.finish());
-      printOutcome(outcome, a, { json: o.json, db: o.db, ...(used !== undefined ? { threads: used } : {}) });
+      await runAndPrint({ kind: 'compare', spec, fits }, { db: o.db, json: o.json, record: o.record, threads, onProgress: (d, t, stage) => bar.update(d, t, stage), finish: () => bar.finish() });
     });
 }

@@ -7,9 +7,7 @@
  */
 import type { Command } from 'commander';
 import { parseFitSpec, type FitSpec } from '../../../shared/spec.js';
-import { runAnalysis } from '../../services/analysis.js';
-import { printOutcome } from '../outcome.js';
-import { withCompute, withStore } from '../compute.js';
+import { runAndPrint } from '../outcome.js';
 import { readSpecFile } from '../spec-file.js';
 
 interface FitOptions {
@@ -33,8 +31,6 @@ export function register(program: Command): void {
     .option('--no-record', 'do not record the run in the database')
     .action(async (specFile: string, opts: FitOptions) => {
       const spec = readFitSpec(specFile);
-      const a = { kind: 'fit', spec } as const;
-      const outcome = await withStore(opts.db, (store) => withCompute(1, (compute) => runAnalysis(store, a, compute, { record: opts.record, keepUnrecorded: true })), opts.record ? 'write' : 'read');
-      printOutcome(outcome, a, { json: opts.json, db: opts.db, threads: 1 });
+      await runAndPrint({ kind: 'fit', spec }, { db: opts.db, json: opts.json, record: opts.record, threads: 1 });
     });
 }
