@@ -40,6 +40,8 @@ import { utf8Encode } from './utf8.js';
 
 export const PANEL_ENCODING_VERSION = 1;
 
+const LITTLE_ENDIAN = new Uint8Array(Float64Array.of(1).buffer)[7] === 0x3f;
+
 /** Appends to a growable byte buffer. */
 class ByteWriter {
   private buf = new Uint8Array(1024);
@@ -73,6 +75,23 @@ class ByteWriter {
     const b = utf8Encode(s);
     this.u32(b.length);
     this.bytes(b);
+  }
+  /**
+   * A whole float64 series: its bytes copied at once, then each NaN overwritten with the one
+   * quiet NaN as f64 writes it, on a little-endian machine; value by value elsewhere.
+   */
+  f64s(xs: Float64Array): void {
+    if (!LITTLE_ENDIAN) {
+      for (let i = 0; i < xs.length; i++) this.f64(xs[i]);
+      return;
+    }
+    const at = this.n;
+    this.bytes(new Uint8Array(xs.buffer, xs.byteOffset, xs.byteLength));
+    for (let i = 0; i < xs.length; i++) {
+      if (!Number.isNaN(xs[i])) continue;
+      this.view.setUint32(at + i * 8, 0, true);
+      this.view.setUint32(at + i * 8 + 4, 0x7ff80000, true);
+    }
   }
   f64(x: number): void {
     this.reserve(8);
@@ -120,11 +139,11 @@ export function encodePanel(panel: ReturnsPanel): Uint8Array {
   for (const f of panel.factors) w.str(f.name);
   panel.returns.forEach((r, i) => {
     checkLength(`asset ${panel.assets[i]}`, r.length, T);
-    for (let t = 0; t < T; t++) w.f64(r[t]);
+    w.f64s(r);
   });
   for (const f of panel.factors) {
     checkLength(`factor ${f.name}`, f.values.length, T);
-    for (let t = 0; t < T; t++) w.f64(f.values[t]);
+    w.f64s(f.values);
   }
   for (const [what, s] of [['riskfreeGross', panel.riskfreeGross], ['consumptionGrowth', panel.consumptionGrowth]] as const) {
     if (!s) continue;

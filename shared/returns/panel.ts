@@ -13,7 +13,7 @@ import { isReturnHistory, type Frequency, type NamedSeries, type ReturnSeries, t
 import { DeflatorError } from '../errors.js';
 import type { ReturnsPanel, SampleNote } from '../panel.js';
 import type { FitSpec } from '../spec.js';
-import { frequencyRank, parseAscending, periodCalendar, parseDate, type PeriodCalendar } from './periods.js';
+import { dayNumbers, frequencyRank, parseAscending, periodCalendar, parseDate, type PeriodCalendar } from './periods.js';
 import { consumptionPeriods, factorPeriods, instrumentPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
 import { assetPeriods, observedDates } from './stored-returns.js';
 import { assetLastDates, periodLabels } from './table.js';
@@ -136,8 +136,14 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   let cal: PeriodCalendar;
   if (frequency === 'daily') {
     const days: number[] = [];
-    for (const h of chosenH) for (const d of observedDates(h)) days.push(parseDate(d, `${isReturnHistory(h) ? 'return' : 'price'} history "${h.asset}"`).day);
-    for (const p of chosenP) for (const d of p.periods) days.push(parseDate(d, `portfolio "${p.name}"`).day);
+    const seen = new Set<readonly string[]>(); // histories on the same (shared) list of dates add it once
+    for (const h of chosenH) {
+      const list = observedDates(h);
+      if (seen.has(list)) continue;
+      seen.add(list);
+      dayNumbers(list, () => `${isReturnHistory(h) ? 'return' : 'price'} history "${h.asset}"`, days);
+    }
+    for (const p of chosenP) dayNumbers(p.periods, () => `portfolio "${p.name}"`, days);
     cal = periodCalendar('daily', days);
   } else cal = periodCalendar(frequency);
 

@@ -59,17 +59,51 @@ export function isCalendarDate(date: unknown): date is string {
   return year >= 1 && month >= 1 && month <= 12 && dom >= 1 && dom <= daysInMonth(year, month);
 }
 
-/** Parses an ISO date (YYYY-MM-DD); `where` names the field for the error message. */
-export function parseDate(date: string, where = 'date'): CalendarDate {
+/**
+ * Parsed dates by their text, shared by every history of a panel (a daily panel of N assets
+ * repeats each trading date N times). The entries are never modified. Emptied when it
+ * reaches MEMO_LIMIT entries, so it stays a few megabytes.
+ */
+const memo = new Map<string, CalendarDate>();
+const MEMO_LIMIT = 1 << 18;
+
+/** The parsed date, or null when the text is not a calendar date written as YYYY-MM-DD. */
+function tryParseDate(date: string): CalendarDate | null {
+  const hit = memo.get(date);
+  if (hit !== undefined) return hit;
   if (typeof date === 'string' && date.length === 10 && date[4] === '-' && date[7] === '-') {
     const year = digits(date, 0, 4);
     const month = digits(date, 5, 7);
     const dom = digits(date, 8, 10);
     if (year >= 1 && month >= 1 && month <= 12 && dom >= 1 && dom <= daysInMonth(year, month)) {
-      return { day: daysFromCivil(year, month, dom), year, month, date };
+      const d: CalendarDate = { day: daysFromCivil(year, month, dom), year, month, date };
+      if (memo.size >= MEMO_LIMIT) memo.clear();
+      memo.set(date, d);
+      return d;
     }
   }
-  throw new DeflatorError('INPUT_INVALID', `${where}: "${date}" is not a calendar date written as YYYY-MM-DD`, 'write dates as YYYY-MM-DD, e.g. 2024-03-28');
+  return null;
+}
+
+function notADate(date: string, where: string): DeflatorError {
+  return new DeflatorError('INPUT_INVALID', `${where}: "${date}" is not a calendar date written as YYYY-MM-DD`, 'write dates as YYYY-MM-DD, e.g. 2024-03-28');
+}
+
+/** Parses an ISO date (YYYY-MM-DD); `where` names the field for the error message. The result is shared: do not modify it. */
+export function parseDate(date: string, where = 'date'): CalendarDate {
+  const d = tryParseDate(date);
+  if (d === null) throw notADate(date, where);
+  return d;
+}
+
+/** Day numbers of dates; `where(i)` names row i for an error message (built only on error). */
+export function dayNumbers(dates: readonly string[], where: (i: number) => string, out: number[] = []): number[] {
+  for (let i = 0; i < dates.length; i++) {
+    const d = tryParseDate(dates[i]);
+    if (d === null) throw notADate(dates[i], where(i));
+    out.push(d.day);
+  }
+  return out;
 }
 
 /** The ISO date of a day number. */
@@ -279,10 +313,28 @@ export function spacingFrequency(dates: readonly CalendarDate[]): Frequency | nu
 }
 
 /** Checks that dates are strictly ascending; throws INPUT_INVALID naming the first offending pair. */
+/**
+ * Dates already parsed and checked ascending, by the frozen array they came in (a store
+ * hands one frozen array to every asset on the same trading days): parsed once per array.
+ * Only frozen arrays are remembered, so a list that could change is always parsed again.
+ */
+const parsedLists = new WeakMap<readonly string[], CalendarDate[]>();
+
 export function parseAscending(dates: readonly string[], where: string): CalendarDate[] {
+  if (!Object.isFrozen(dates)) return parseAscendingOnce(dates, where);
+  const hit = parsedLists.get(dates);
+  if (hit !== undefined) return hit;
+  const out = parseAscendingOnce(dates, where);
+  parsedLists.set(dates, out);
+  return out;
+}
+
+function parseAscendingOnce(dates: readonly string[], where: string): CalendarDate[] {
   const out: CalendarDate[] = new Array(dates.length);
   for (let i = 0; i < dates.length; i++) {
-    out[i] = parseDate(dates[i], `${where}, row ${i + 1}`);
+    const d = tryParseDate(dates[i]);
+    if (d === null) throw notADate(dates[i], `${where}, row ${i + 1}`);
+    out[i] = d;
     if (i > 0 && out[i].day <= out[i - 1].day) {
       throw new DeflatorError(
         'INPUT_INVALID',

@@ -13,6 +13,7 @@
 import type { Frequency, PriceHistory } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { frequencyRank, parseAscending, storedFrequency, type PeriodCalendar } from './periods.js';
+import { PeriodMap } from './periodMap.js';
 
 export interface AssetPeriods {
   asset: string;
@@ -49,7 +50,10 @@ export interface AssetPeriods {
 
 /** Dates with a price (rows whose price is NaN are no observation): the history's trading dates. */
 export function pricedDates(h: PriceHistory): string[] {
-  return h.dates.filter((_, i) => !Number.isNaN(h.price[i]));
+  // every row priced (the usual case): the history's own list, no copy
+  let all = true;
+  for (let i = 0; i < h.price.length && all; i++) all = !Number.isNaN(h.price[i]);
+  return all && h.price.length === h.dates.length ? h.dates : h.dates.filter((_, i) => !Number.isNaN(h.price[i]));
 }
 
 function invalid(asset: string, date: string, what: string): DeflatorError {
@@ -70,11 +74,11 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   }
   const dates = parseAscending(h.dates, where);
 
-  // Row returns over priced rows.
-  const rowDays: number[] = [];
-  const rowDates: typeof dates = [];
-  const rowGross: number[] = []; // NaN for the first priced row
-  const rowPriceGross: number[] = []; // P_t a_t / P_{t-1}: the row return without the dividend
+  // Row returns over priced rows (typed arrays of the history's length; m of them used).
+  const rowAt = new Int32Array(n); // the priced rows' positions in the history
+  const rowGross = new Float64Array(n); // NaN for the first priced row
+  const rowPriceGross = new Float64Array(n); // P_t a_t / P_{t-1}: the row return without the dividend
+  let m = 0;
   let prevPrice = Number.NaN;
   let factor = 1;
   let carried = 0;
@@ -99,22 +103,29 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
       g = (p * factor) / prevPrice;
       if (!Number.isFinite(r) || r <= 0) throw invalid(h.asset, h.dates[i], `the return from the previous close is ${r}`);
     }
-    rowDays.push(dates[i].day);
-    rowDates.push(dates[i]);
-    rowGross.push(r);
-    rowPriceGross.push(g);
+    rowAt[m] = i;
+    rowGross[m] = r;
+    rowPriceGross[m] = g;
+    m++;
     prevPrice = p;
     factor = 1;
     carried = 0;
   }
 
-  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: new Map(), priceGross: new Map(), gross: new Map(), lastDay: new Map(), lastDate: new Map() };
+  const rowDates = m === n ? dates : Array.from(rowAt.subarray(0, m), (i) => dates[i]);
+  // Dense period maps over the periods of the first and last priced rows: rows are
+  // ascending, so are their periods (periodMap.ts)
+  const k0 = m > 0 ? cal.indexOf(rowDates[0]) : null;
+  const k1 = m > 0 ? cal.indexOf(rowDates[m - 1]) : null;
+  const span = k0 !== null && k1 !== null && k1 >= k0 ? k1 - k0 + 1 : undefined;
+  const dense = <V>() => (span !== undefined && k0 !== null ? new PeriodMap<V>(k0, span) : new PeriodMap<V>());
+  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: dense(), priceGross: dense(), gross: dense(), lastDay: dense(), lastDate: dense() };
   const f = cal.frequency;
   if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
     out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
     return out;
   }
-  if (rowDays.length === 0) {
+  if (m === 0) {
     out.unusable = 'no priced rows';
     return out;
   }
@@ -135,7 +146,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     prevClosedK = k;
   };
   let lastPeriodStart: string | null = null;
-  for (let j = 0; j < rowDays.length; j++) {
+  for (let j = 0; j < m; j++) {
     const idx = cal.indexOf(rowDates[j]);
     if (idx === null) continue;
     if (idx !== k) {
@@ -151,7 +162,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
       product *= r;
       priceProduct *= rowPriceGross[j];
     }
-    out.lastDay.set(idx, rowDays[j]);
+    out.lastDay.set(idx, rowDates[j].day);
     out.lastDate.set(idx, rowDates[j].date);
   }
   flush();

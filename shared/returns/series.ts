@@ -16,6 +16,7 @@
 import { PERIODS_PER_YEAR, type Frequency, type NamedSeries, type RiskfreeForm } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { frequencyRank, parseAscending, storedFrequency, dateOfDay, type CalendarDate, type PeriodCalendar } from './periods.js';
+import { PeriodMap } from './periodMap.js';
 
 export type DayCount = 'periods' | 'actual365';
 export type YieldConvention = 'simple' | 'annual' | 'continuous';
@@ -100,7 +101,8 @@ function byPeriod(
   combine: (acc: number, v: number, first: boolean) => number,
   perPeriod: boolean,
 ): PeriodSeries {
-  const out: PeriodSeries = { name, values: new Map(), lastDate: new Map(), stored: obs.stored };
+  // observations are ascending, so are their periods: dense maps (periodMap.ts)
+  const out: PeriodSeries = { name, values: new PeriodMap(), lastDate: new PeriodMap(), stored: obs.stored };
   const aggregated = frequencyRank(obs.stored) < frequencyRank(cal.frequency);
   const observed = new Set(obs.index);
   let j = 0;

@@ -4,7 +4,8 @@
  */
 import { isReturnHistory, type Frequency, type NamedSeries, type StoredAsset } from '../data.js';
 import { DeflatorError } from '../errors.js';
-import { parseDate, periodCalendar, type PeriodCalendar } from './periods.js';
+import { dayNumbers, parseDate, periodCalendar, type PeriodCalendar } from './periods.js';
+import { PeriodMap } from './periodMap.js';
 import type { AssetPeriods } from './prices.js';
 import { riskfreePeriods, type DayCount, type PeriodSeries } from './series.js';
 import { assetPeriods, observedDates } from './stored-returns.js';
@@ -40,18 +41,18 @@ export interface ReturnsTableOptions {
 export function tradingCalendar(frequency: Frequency, dateLists: readonly (readonly string[])[]): PeriodCalendar {
   if (frequency !== 'daily') return periodCalendar(frequency);
   const days: number[] = [];
-  for (const list of dateLists) for (const d of list) days.push(parseDate(d).day);
+  for (const list of dateLists) dayNumbers(list, () => 'date', days);
   return periodCalendar('daily', days);
 }
 
 /** Period index -> label: the latest date seen in that period across the given period maps. */
 export function periodLabels(lastDates: readonly Map<number, string>[]): Map<number, string> {
-  const labels = new Map<number, string>();
+  const labels = new PeriodMap<string>();
   for (const m of lastDates) {
-    for (const [k, d] of m) {
+    m.forEach((d, k) => {
       const cur = labels.get(k);
       if (cur === undefined || d > cur) labels.set(k, d);
-    }
+    });
   }
   return labels;
 }

@@ -8,6 +8,8 @@
  * - An asset without a value in some period of the window is dropped, with the reason;
  *   the window is then recomputed from the assets left, until nothing changes.
  */
+import { PeriodMap } from './periodMap.js';
+
 export interface WindowAsset {
   name: string;
   values: Map<number, unknown>;
@@ -22,6 +24,7 @@ export interface WindowResult {
 }
 
 function extent(m: Map<number, unknown>): [number, number] {
+  if (m instanceof PeriodMap) return m.extent();
   let lo = Number.POSITIVE_INFINITY;
   let hi = Number.NEGATIVE_INFINITY;
   for (const k of m.keys()) {

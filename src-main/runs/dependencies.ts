@@ -96,6 +96,7 @@ export class DataFingerprinter {
       assetFiles: db.prepare(
         'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT import_id FROM observation WHERE asset_id = $id UNION SELECT import_id FROM return_observation WHERE asset_id = $id) ORDER BY l.id',
       ),
+      logEntry: db.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id = ?'),
       seriesFiles: db.prepare(
         'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM series_observation WHERE series_id = ?) ORDER BY l.id',
       ),
@@ -119,7 +120,11 @@ export class DataFingerprinter {
     let fp: SubjectFingerprint | null = null;
     if (id !== undefined) {
       const form = ref.kind === 'asset' ? (this.st.assetForm.get(id) as [ReturnForm | null, ValueUnits | null, number | null] | undefined) : undefined;
-      if (form && form[0] !== null) {
+      const packed = form?.[0] === null || ref.kind === 'series' ? this.store.packs.digest(ref.kind === 'series' ? 'series' : 'asset', id) : undefined;
+      if (packed) {
+        // the digest stored with the subject's pack: current whenever the pack exists (store/packs.ts)
+        fp = { kind: ref.kind, name: ref.name, sha256: packed.sha256, rows: packed.rows };
+      } else if (form && form[0] !== null) {
         const rows = this.st.returnRows.all(id) as [string, number | null][];
         fp = subjectDigest(returnRows(ref.name, { form: form[0], units: form[1] ?? 'decimal', excess: form[2] === 1 }, rows.map((r) => r[0]), rows.map((r) => r[1])));
       } else if (ref.kind === 'asset') {
@@ -144,8 +149,11 @@ export class DataFingerprinter {
       if (ref.kind === 'portfolio') continue;
       const id = this.id(ref);
       if (id === undefined) continue;
+      // a packed subject knows its imports (store/packs.ts); otherwise its rows are scanned
+      const packed = this.store.packs.imports(ref.kind === 'series' ? 'series' : 'asset', id);
       const st = ref.kind === 'asset' ? this.st.assetFiles : this.st.seriesFiles;
-      for (const row of (ref.kind === 'asset' ? st.all({ id }) : st.all(id)) as { id: number; file_name: string; sha256: string }[]) {
+      const rows = packed ? packed.map((i: number) => this.st.logEntry.get(i)).filter((r: unknown) => r !== undefined) : ref.kind === 'asset' ? st.all({ id }) : st.all(id);
+      for (const row of rows as { id: number; file_name: string; sha256: string }[]) {
         const f = byImport.get(row.id) ?? { file: row.file_name, sha256: row.sha256, importId: row.id, subjects: [] };
         f.subjects.push(ref.name);
         byImport.set(row.id, f);
@@ -215,9 +223,17 @@ export function subjectDigest(s: SubjectRows): SubjectFingerprint {
 }
 
 /** Digests of what a panel load read (src-main/data/panel.ts loadPanelInput), without reading the store again. */
-export function loadedDigests(input: { histories: readonly StoredAsset[]; series: readonly NamedSeries[]; portfolios?: readonly ReturnSeries[] }): SubjectFingerprint[] {
+export function loadedDigests(
+  input: { histories: readonly StoredAsset[]; series: readonly NamedSeries[]; portfolios?: readonly ReturnSeries[] },
+  known: (loaded: object) => SubjectFingerprint | undefined = () => undefined,
+): SubjectFingerprint[] {
   const out: SubjectFingerprint[] = [];
   for (const h of input.histories) {
+    const k = known(h);
+    if (k) {
+      out.push(k);
+      continue;
+    }
     if (isReturnHistory(h)) {
       out.push(subjectDigest(returnRows(h.asset, h, h.dates, h.values)));
       continue;
@@ -225,7 +241,7 @@ export function loadedDigests(input: { histories: readonly StoredAsset[]; series
     const n = h.dates.length;
     out.push(subjectDigest({ kind: 'asset', name: h.asset, dates: h.dates, values: [h.price, h.dividend, h.adjust ?? new Float64Array(n).fill(1)], optional: h.shares ?? new Float64Array(n).fill(NaN) }));
   }
-  for (const x of input.series) out.push(subjectDigest({ kind: 'series', name: x.name, dates: x.dates, values: [x.values] }));
+  for (const x of input.series) out.push(known(x) ?? subjectDigest({ kind: 'series', name: x.name, dates: x.dates, values: [x.values] }));
   for (const p of input.portfolios ?? []) out.push(subjectDigest({ kind: 'portfolio', name: p.name, dates: p.periods, values: [], optional: p.net }));
   return out;
 }

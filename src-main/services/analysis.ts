@@ -81,7 +81,7 @@ export function loadAnalysisData(store: Store, a: Analysis, opts: { digests?: bo
   const inputs = a.kind === 'drift' ? [{ ...loadPanelInput(store, driftPanelSpec(a.spec)), priceRatios: true }] : analysisFits(a).map((f) => loadPanelInput(store, f));
   for (const input of inputs) {
     panels.push(buildPanel(input));
-    if (opts.digests) for (const s of loadedDigests(input)) subjects.set(`${s.kind}\u0000${s.name}`, s);
+    if (opts.digests) for (const s of loadedDigests(input, (x) => store.loadedDigest(x))) subjects.set(`${s.kind}\u0000${s.name}`, s);
   }
   return opts.digests ? { panels, subjects: [...subjects.values()] } : { panels };
 }

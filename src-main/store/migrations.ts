@@ -139,6 +139,25 @@ export const MIGRATIONS: Migration[] = [
   },
   { version: 5, name: RUNS_BATCH_MIGRATION_NAME, up: RUNS_BATCH_MIGRATION_SQL },
   { version: 6, name: RUNS_KINDS_MIGRATION_NAME, up: RUNS_KINDS_MIGRATION_SQL },
+  {
+    version: 7,
+    name: 'packed series: one blob per price history or named series beside its rows (src-main/store/packs.ts)',
+    up: `
+      -- A copy of a subject's rows column by column, with their digest; present only while
+      -- current (dropped by every write to the subject, rebuilt by the next read).
+      CREATE TABLE subject_pack (
+        kind       TEXT    NOT NULL CHECK (kind IN ('asset', 'series')),
+        subject_id INTEGER NOT NULL,
+        rows       INTEGER NOT NULL,
+        -- before the blob: reading the digest does not walk the blob's overflow pages
+        sha256     TEXT    NOT NULL,
+        -- the ids of the imports its rows came from, as a JSON array (the record's files)
+        imports    TEXT    NOT NULL,
+        data       BLOB    NOT NULL,
+        PRIMARY KEY (kind, subject_id)
+      ); -- a rowid table: a WITHOUT ROWID row is read whole, blob and all, to reach any column
+    `,
+  },
 ];
 
 /** The schema version this build writes. */

@@ -202,6 +202,7 @@ export class ImportSession {
         this.st.returnAssetSet.run(null, null, null, id);
       }
       if (this.st.assetHasRows.get(id) !== undefined) this.preexisting.add(id);
+      this.store.packs.drop('asset', id); // its rows change in this transaction (store/packs.ts)
     } else {
       id = Number(this.st.assetInsert.run(name).lastInsertRowid);
     }
@@ -398,6 +399,7 @@ export class ImportSession {
         );
       }
       id = found.id;
+      this.store.packs.drop('series', id); // its rows change in this transaction (store/packs.ts)
     } else {
       id = Number(this.st.seriesInsert.run(name, kind, units, rfForm).lastInsertRowid);
     }
@@ -482,6 +484,7 @@ export class ImportSession {
       }
       if (hasReturns) this.preexisting.add(id);
       else this.st.returnAssetSet.run(meta.form, meta.units, meta.excess ? 1 : 0, id);
+      this.store.packs.drop('asset', id);
     } else {
       id = Number(this.st.returnAssetInsert.run(name, meta.form, meta.units, meta.excess ? 1 : 0).lastInsertRowid);
     }

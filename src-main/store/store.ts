@@ -14,6 +14,8 @@ import { DeflatorError } from '../../shared/errors.js';
 import { coverage, type Coverage } from '../data/calendar.js';
 import { MIGRATIONS, type Migration } from './migrations.js';
 import { notWritableError, storageError } from './errors.js';
+import { DateTexts, decodeHistory, decodeSeries, encodeHistory, encodeSeries, historyDigest, Packs, seriesDigest } from './packs.js';
+import type { SubjectFingerprint } from '../../shared/records/run-record.js';
 
 export interface StoreOptions {
   /** Refuse to create a new file (commands that only read: info, returns, fit). */
@@ -282,6 +284,17 @@ export class Store {
       throw new DeflatorError('INPUT_INVALID', `cannot use ${file} as a deflator database: ${(e as Error).message}`, 'point --db at a deflator database, or at a new file name');
     }
     this.st = prepareStatements(this.db);
+    this.packs = new Packs(this.db);
+  }
+
+  /** Packed series (./packs.ts): one blob per price history or named series, beside its rows. */
+  readonly packs: Packs;
+  /** Digests of the histories and series this store handed out (from their packs, or computed when packing). */
+  private readonly digests = new WeakMap<object, SubjectFingerprint>();
+
+  /** The subject digest of a price history or named series this store loaded, when known (no hashing, no read). */
+  loadedDigest(loaded: object): SubjectFingerprint | undefined {
+    return this.digests.get(loaded);
   }
 
   /**
@@ -358,10 +371,38 @@ export class Store {
    */
   loadAssets(assets?: string[]): StoredAsset[] {
     const wanted = assets ?? this.assets();
-    return wanted.map((name) => {
+    const found = wanted.map((name) => {
       const a = this.st.assetRowByName.get(name) as AssetRow | undefined;
       if (a === undefined) throw new DeflatorError('NOT_FOUND', `asset "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored assets');
-      if (a.form !== null) return this.returnHistory(a);
+      return a;
+    });
+    const texts = new DateTexts();
+    const fromPack = (a: AssetRow): PriceHistory | null => {
+      const pk = this.packs.get('asset', a.id);
+      const h = pk ? decodeHistory(a.name, pk.data, texts) : null;
+      if (h && pk) this.digests.set(h, { kind: 'asset', name: a.name, sha256: pk.sha256, rows: pk.rows });
+      return h;
+    };
+    const load = (canPack: boolean): StoredAsset[] =>
+      found.map((a) => {
+        if (a.form !== null) return this.returnHistory(a);
+        const h = fromPack(a) ?? this.historyFromRows(a);
+        if (canPack && !this.digests.has(h)) {
+          const data = encodeHistory(h);
+          const d = historyDigest(h);
+          this.digests.set(h, d);
+          if (data && h.dates.length > 0) this.packs.put('asset', a.id, d.rows, data, d.sha256);
+        }
+        return h;
+      });
+    // Read and pack in one write transaction when some price history has no pack yet.
+    const unpacked = found.some((a) => a.form === null && this.packs.digest('asset', a.id) === undefined);
+    return unpacked ? this.packs.withWrite(load) : load(false);
+  }
+
+  private historyFromRows(a: AssetRow): PriceHistory {
+    {
+      const name = a.name;
       const id = a.id;
       const rows = this.st.history.all(id) as [string, number, number, number, number | null][];
       const n = rows.length;
@@ -385,7 +426,7 @@ export class Store {
       if (adjusted) h.adjust = adjust;
       if (withShares) h.shares = shares;
       return h;
-    });
+    }
   }
 
   private returnHistory(a: AssetRow): ReturnHistory {
@@ -410,12 +451,32 @@ export class Store {
           return r;
         })
       : (this.st.seriesAll.all() as SeriesRow[]);
-    return rows.map((r) => {
-      const obs = this.st.seriesObs.all(r.id) as [string, number][];
-      const s: NamedSeries = { name: r.name, kind: r.kind, dates: obs.map((o) => o[0]), values: Float64Array.from(obs, (o) => o[1]) };
-      if (r.rf_form) s.rfForm = r.rf_form;
-      return s;
-    });
+    const texts = new DateTexts();
+    const load = (canPack: boolean): NamedSeries[] =>
+      rows.map((r) => {
+        const pk = this.packs.get('series', r.id);
+        const packed = pk ? decodeSeries(pk.data, texts) : null;
+        let dates: string[];
+        let values: Float64Array;
+        if (packed) ({ dates, values } = packed);
+        else {
+          const obs = this.st.seriesObs.all(r.id) as [string, number][];
+          dates = obs.map((o) => o[0]);
+          values = Float64Array.from(obs, (o) => o[1]);
+        }
+        const s: NamedSeries = { name: r.name, kind: r.kind, dates, values };
+        if (r.rf_form) s.rfForm = r.rf_form;
+        if (packed && pk) this.digests.set(s, { kind: 'series', name: r.name, sha256: pk.sha256, rows: pk.rows });
+        else if (canPack) {
+          const d = seriesDigest(r.name, s);
+          this.digests.set(s, d);
+          const data = encodeSeries(s);
+          if (data && dates.length > 0) this.packs.put('series', r.id, d.rows, data, d.sha256);
+        }
+        return s;
+      });
+    const unpacked = rows.some((r) => this.packs.digest('series', r.id) === undefined);
+    return unpacked ? this.packs.withWrite(load) : load(false);
   }
 
   /** Stored portfolio return series (NaN where a period had no return). */
@@ -516,6 +577,7 @@ export class Store {
         ? `SELECT id, name FROM asset WHERE id IN (SELECT DISTINCT asset_id FROM ${table} WHERE import_id = ?) ORDER BY name`
         : 'SELECT id, name FROM series WHERE id IN (SELECT DISTINCT series_id FROM series_observation WHERE import_id = ?) ORDER BY name';
       const touched = db.prepare(subjectsSql).all(importId) as { id: number; name: string }[];
+      for (const t of touched) this.packs.drop(isAssets ? 'asset' : 'series', t.id); // their rows change (packs.ts)
       const rows = db.prepare(`DELETE FROM ${table} WHERE import_id = ?`).run(importId).changes;
       const hasRows = db
         .prepare(isAssets ? 'SELECT 1 WHERE EXISTS (SELECT 1 FROM observation WHERE asset_id = $id) OR EXISTS (SELECT 1 FROM return_observation WHERE asset_id = $id)' : 'SELECT 1 FROM series_observation WHERE series_id = $id LIMIT 1')

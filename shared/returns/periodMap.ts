@@ -1,0 +1,127 @@
+/**
+ * A Map from period index to a value, stored densely: the period indices of one history
+ * are a contiguous-ish run of integers (trading days 0..P-1, months year*12+m), so an
+ * array over [lo, hi) with a presence flag replaces a hash table. For a daily panel of a
+ * million rows this is the difference between five million hash-table insertions (and
+ * the garbage they leave) and array writes.
+ *
+ * It is a Map (it extends Map and overrides every method), so every consumer of
+ * AssetPeriods keeps its code; iteration is in ascending index, which is the insertion
+ * order where it is used (a history's rows are ascending, so are their periods).
+ */
+export class PeriodMap<V> extends Map<number, V> {
+  private lo = 0;
+  private vals: V[] = [];
+  private has_: Uint8Array = new Uint8Array(0);
+  private count = 0;
+
+  /** `lo`, `capacity`: the first period index and how many follow, when known (saves growing). */
+  constructor(lo?: number, capacity?: number) {
+    super();
+    if (lo !== undefined && capacity !== undefined && Number.isInteger(lo) && capacity > 0) {
+      this.lo = lo;
+      this.has_ = new Uint8Array(capacity);
+      this.vals = new Array<V>(capacity);
+    }
+  }
+
+  private slot(k: number): number {
+    return k - this.lo;
+  }
+
+  private growTo(k: number): void {
+    if (this.has_.length === 0) {
+      this.lo = k;
+      this.has_ = new Uint8Array(64);
+      this.vals = new Array<V>(64);
+      return;
+    }
+    if (k < this.lo) {
+      const shift = Math.max(this.lo - k, this.has_.length);
+      const flags = new Uint8Array(this.has_.length + shift);
+      flags.set(this.has_, shift);
+      const vals = new Array<V>(this.has_.length + shift);
+      for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) vals[i + shift] = this.vals[i];
+      this.has_ = flags;
+      this.vals = vals;
+      this.lo -= shift;
+      return;
+    }
+    let size = this.has_.length;
+    while (k - this.lo >= size) size *= 2;
+    const flags = new Uint8Array(size);
+    flags.set(this.has_);
+    this.has_ = flags;
+    this.vals.length = size;
+  }
+
+  override set(k: number, v: V): this {
+    if (!Number.isInteger(k)) throw new RangeError(`PeriodMap: period index ${k} is not an integer`);
+    if (this.has_.length === 0 || k < this.lo || k - this.lo >= this.has_.length) this.growTo(k);
+    const i = this.slot(k);
+    if (!this.has_[i]) {
+      this.has_[i] = 1;
+      this.count++;
+    }
+    this.vals[i] = v;
+    return this;
+  }
+
+  override get(k: number): V | undefined {
+    const i = this.slot(k);
+    return i >= 0 && i < this.has_.length && this.has_[i] ? this.vals[i] : undefined;
+  }
+
+  override has(k: number): boolean {
+    const i = this.slot(k);
+    return i >= 0 && i < this.has_.length && this.has_[i] === 1;
+  }
+
+  override delete(k: number): boolean {
+    if (!this.has(k)) return false;
+    const i = this.slot(k);
+    this.has_[i] = 0;
+    this.vals[i] = undefined as V;
+    this.count--;
+    return true;
+  }
+
+  override clear(): void {
+    this.has_ = new Uint8Array(0);
+    this.vals = [];
+    this.count = 0;
+  }
+
+  override get size(): number {
+    return this.count;
+  }
+
+  /** The smallest and largest index held ([+inf, -inf] when empty), without iterating. */
+  extent(): [number, number] {
+    let a = 0;
+    while (a < this.has_.length && !this.has_[a]) a++;
+    let b = this.has_.length - 1;
+    while (b >= 0 && !this.has_[b]) b--;
+    return a <= b ? [a + this.lo, b + this.lo] : [Number.POSITIVE_INFINITY, Number.NEGATIVE_INFINITY];
+  }
+
+  override *entries(): MapIterator<[number, V]> {
+    for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) yield [i + this.lo, this.vals[i]];
+  }
+
+  override *keys(): MapIterator<number> {
+    for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) yield i + this.lo;
+  }
+
+  override *values(): MapIterator<V> {
+    for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) yield this.vals[i];
+  }
+
+  override [Symbol.iterator](): MapIterator<[number, V]> {
+    return this.entries();
+  }
+
+  override forEach(fn: (value: V, key: number, map: Map<number, V>) => void, thisArg?: unknown): void {
+    for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) fn.call(thisArg, this.vals[i], i + this.lo, this);
+  }
+}
