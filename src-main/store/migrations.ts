@@ -10,6 +10,7 @@
  *   { version: 2, name: 'run records', up: `CREATE TABLE run (...);` },
  */
 import type Database from 'better-sqlite3';
+import { PACK_TRIGGERS_SQL } from './packs.js';
 import { RUNS_BATCH_MIGRATION_NAME, RUNS_BATCH_MIGRATION_SQL, RUNS_COMPUTE_MIGRATION_NAME, RUNS_COMPUTE_MIGRATION_SQL, RUNS_KINDS_MIGRATION_NAME, RUNS_KINDS_MIGRATION_SQL, RUNS_MIGRATION_NAME, RUNS_MIGRATION_SQL } from '../runs/migration.js';
 
 export interface Migration {
@@ -142,7 +143,8 @@ export const MIGRATIONS: Migration[] = [
   {
     version: 7,
     name: 'packed series: one blob per price history or named series beside its rows (src-main/store/packs.ts)',
-    up: `
+    up: (db) => {
+      db.exec(`
       -- A copy of a subject's rows column by column, with their digest; present only while
       -- current (dropped by every write to the subject, rebuilt by the next read).
       CREATE TABLE subject_pack (
@@ -156,7 +158,9 @@ export const MIGRATIONS: Migration[] = [
         data       BLOB    NOT NULL,
         PRIMARY KEY (kind, subject_id)
       ); -- a rowid table: a WITHOUT ROWID row is read whole, blob and all, to reach any column
-    `,
+    `);
+      db.exec(PACK_TRIGGERS_SQL);
+    },
   },
 ];
 

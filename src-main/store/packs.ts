@@ -8,11 +8,12 @@
  *
  * Guarantees. The keyed rows stay the truth: a pack is a copy, and there is a copy only
  * when it is current.
- * - Every write to a subject's rows goes through an ImportSession (import, --replace,
- *   dividends) or Store.removeImport; both drop the packs of the subjects they touch inside
- *   their own transaction (ImportSession.assetId / seriesId, the first time a subject is
- *   named; removeImport, for the subjects it takes rows from). An import that rolls back
- *   rolls the drop back with it.
+ * - Any write to a subject's rows drops its pack in the same transaction: triggers on the
+ *   row tables do it for every writer (this program, the sqlite3 shell, another program);
+ *   an import drops the packs of the subjects it touches itself (ImportSession.assetId /
+ *   seriesId, the first time a subject is named) and suspends the triggers for its own
+ *   transaction, so a million inserted rows do not fire them. An import that rolls back
+ *   rolls all of it back.
  * - A pack is (re)built from the rows by a read that finds none (`Packs.ensure`), inside a
  *   write transaction that reads the rows and stores the pack together, so no other
  *   writer's commit can fall between them. A read-only database, or one another program is
@@ -176,6 +177,41 @@ export function seriesDigest(name: string, s: Pick<NamedSeries, 'dates' | 'value
   return subjectDigest({ kind: 'series', name, dates: s.dates, values: [s.values] });
 }
 
+/**
+ * Triggers that drop a subject's pack whenever its rows change by any route: this program,
+ * the sqlite3 shell, any other program writing the file. Each fires per row but does work
+ * only while the subject still has a pack (the WHEN clause). An import (ImportSession), the
+ * one bulk writer, drops the packs of the subjects it touches itself and takes the triggers
+ * out for its own transaction (`suspendTriggers`), putting them back before it commits, so
+ * its inserts do not pay for them; a rolled-back import rolls that back too, and no other
+ * connection ever sees the database without them.
+ */
+const TRIGGERS: { name: string; sql: string }[] = (() => {
+  const out: { name: string; sql: string }[] = [];
+  for (const [table, kind, col] of [
+    ['observation', 'asset', 'asset_id'],
+    ['series_observation', 'series', 'series_id'],
+  ] as const) {
+    const drop = (row: 'NEW' | 'OLD') => `DELETE FROM subject_pack WHERE kind = '${kind}' AND subject_id = ${row}.${col};`;
+    const has = (row: 'NEW' | 'OLD') => `EXISTS (SELECT 1 FROM subject_pack WHERE kind = '${kind}' AND subject_id = ${row}.${col})`;
+    out.push({ name: `${table}_pack_insert`, sql: `CREATE TRIGGER ${table}_pack_insert AFTER INSERT ON ${table} WHEN ${has('NEW')} BEGIN ${drop('NEW')} END` });
+    out.push({ name: `${table}_pack_update`, sql: `CREATE TRIGGER ${table}_pack_update AFTER UPDATE ON ${table} WHEN ${has('NEW')} OR ${has('OLD')} BEGIN ${drop('NEW')} ${drop('OLD')} END` });
+    out.push({ name: `${table}_pack_delete`, sql: `CREATE TRIGGER ${table}_pack_delete AFTER DELETE ON ${table} WHEN ${has('OLD')} BEGIN ${drop('OLD')} END` });
+  }
+  return out;
+})();
+
+/** The triggers' DDL (migration 7 runs it: change the triggers only with a new migration). */
+export const PACK_TRIGGERS_SQL = TRIGGERS.map((t) => `${t.sql};`).join('\n');
+
+/** Inside the caller's write transaction: the triggers out; the returned function puts them back (call it before COMMIT). */
+export function suspendTriggers(db: Database.Database): () => void {
+  for (const t of TRIGGERS) db.exec(`DROP TRIGGER IF EXISTS ${t.name}`);
+  return () => {
+    for (const t of TRIGGERS) db.exec(t.sql);
+  };
+}
+
 /** The pack table's statements on one connection. */
 export class Packs {
   private readonly st;
@@ -203,8 +239,14 @@ export class Packs {
 
   /** Stores a pack (with the ids of the imports the subject's rows come from, read here). */
   put(kind: PackKind, id: number, rows: number, data: Buffer, sha256: string): void {
-    const imports = (kind === 'asset' ? this.st.assetImports : this.st.seriesImports).all(id) as number[];
-    this.st.put.run(kind, id, rows, sha256, JSON.stringify(imports), data);
+    if (this.failed || !this.db.inTransaction) return;
+    try {
+      const imports = (kind === 'asset' ? this.st.assetImports : this.st.seriesImports).all(id) as number[];
+      this.st.put.run(kind, id, rows, sha256, JSON.stringify(imports), data);
+    } catch {
+      // e.g. the disk is full: no packs this time (withWrite rolls back what was stored)
+      this.failed = true;
+    }
   }
 
   /** The ids of the imports a packed subject's rows come from (undefined without a pack). */
@@ -238,13 +280,27 @@ export class Packs {
       this.db.pragma(`busy_timeout = ${previous}`);
     }
     if (!began) return fn(false);
+    this.failed = false;
+    let out: T;
     try {
-      const out = fn(true);
-      this.db.prepare('COMMIT').run();
-      return out;
+      out = fn(true);
     } catch (e) {
       if (this.db.inTransaction) this.db.prepare('ROLLBACK').run();
       throw e;
     }
+    // The packs are a copy: when they cannot be stored (a full disk), the load stands without them.
+    try {
+      if (this.db.inTransaction) this.db.prepare(this.failed ? 'ROLLBACK' : 'COMMIT').run();
+    } catch {
+      try {
+        if (this.db.inTransaction) this.db.prepare('ROLLBACK').run();
+      } catch {
+        // nothing stored; the rows read are what the caller uses
+      }
+    }
+    return out;
   }
+
+  /** Set when a pack could not be stored during withWrite (the rest are not tried). */
+  private failed = false;
 }

@@ -8,6 +8,7 @@ import type Database from 'better-sqlite3';
 import type { ReturnForm, RiskfreeForm, SeriesKind, ValueUnits } from '../../shared/data.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { isoDayNumber } from '../data/calendar.js';
+import { suspendTriggers } from './packs.js';
 import { isBusy, lockedError, type ImportLogEntry, type ImportWarning, type Store } from './store.js';
 
 const BATCH = 64;
@@ -174,9 +175,13 @@ export class ImportSession {
       throw e;
     }
     this.open = true;
+    // the packs' triggers out for this transaction: this session drops the packs it touches (store/packs.ts)
+    this.restoreTriggers = suspendTriggers(this.db);
     this.importId = this.addLog(draft);
     return this.importId;
   }
+
+  private restoreTriggers: (() => void) | null = null;
 
   /** A further log entry in the same transaction (e.g. a wide dividends file). */
   addLog(draft: LogDraft): number {
@@ -565,6 +570,8 @@ export class ImportSession {
 
   commit(): void {
     if (!this.open) return;
+    this.restoreTriggers?.();
+    this.restoreTriggers = null;
     this.st.commit.run();
     this.open = false;
     this.db.pragma(`cache_size = ${DEFAULT_CACHE_KIB}`);

@@ -91,7 +91,8 @@ export function digestOf(db: Database.Database): { digest: string; rows: Record<
     put(h, BigInt(Number(db.pragma('user_version', { simple: true }))));
     const schema = safe(db.prepare("SELECT type, name, tbl_name, sql FROM sqlite_master WHERE name NOT LIKE 'sqlite_autoindex%' ORDER BY type, name")).raw().all() as unknown[][];
     for (const r of schema) for (const v of r) put(h, v);
-    const tables = schema.filter((r) => r[0] === 'table').map((r) => String(r[1]));
+    // subject_pack holds copies of rows digested here anyway, stored by reads (src-main/store/packs.ts): a cache, not data
+    const tables = schema.filter((r) => r[0] === 'table' && r[1] !== 'subject_pack').map((r) => String(r[1]));
     for (const t of tables) {
       const q = `"${t.replaceAll('"', '""')}"`;
       const info = db.prepare(`PRAGMA table_info(${q})`).all() as { name: string; pk: number }[];

@@ -5,9 +5,12 @@
  * split factors, share counts; series values), with the digest of the rows (the record's,
  * and the value node:crypto gives for the documented layout, test/src-main/runs/digests);
  * every write path drops the packs of the subjects it changes in its own transaction (an
- * import adding dates, an import with --replace, removing an import), a failed import
- * leaves them as they were, and a read-only database reads its rows without packing.
+ * import adding dates, an import with --replace, removing an import, and a change another
+ * program makes with plain SQL), a failed import leaves them as they were, an import puts
+ * the triggers back before it commits, and a read-only database reads its rows without
+ * packing.
  */
+import Database from 'better-sqlite3';
 import { copyFileSync, writeFileSync } from 'node:fs';
 import path from 'node:path';
 import { afterEach, beforeEach, describe, expect, it } from 'vitest';
@@ -107,6 +110,35 @@ describe('packed series', () => {
     await importSeries(p.store, p.file('factors.csv'), { kind: 'factor' });
     const s = p.store.loadSeries();
     fromRows(p.store).series.forEach((x, i) => expect(sameBits(s[i].values, x.values) && s[i].dates.join() === x.dates.join(), x.name).toBe(true));
+  });
+
+  it('a change made by another program with plain SQL drops the pack it touches (the triggers), so loads and digests follow the rows', () => {
+    const before = p.store.loadAssets().find((h) => h.asset === 'brinemoor-ferries') as PriceHistory;
+    const digest = p.store.loadedDigest(before);
+    const other = new Database(p.dbPath);
+    try {
+      expect(other.prepare("SELECT count(*) FROM sqlite_master WHERE type = 'trigger' AND name LIKE '%_pack_%'").pluck().get()).toBe(6);
+      other.prepare("UPDATE observation SET price = price * 1.01 WHERE asset_id = (SELECT id FROM asset WHERE name = 'brinemoor-ferries') AND date = (SELECT max(date) FROM observation)").run();
+    } finally {
+      other.close();
+    }
+    const after = p.store.loadAssets().find((h) => h.asset === 'brinemoor-ferries') as PriceHistory;
+    const n = after.price.length;
+    expect(after.price[n - 1]).toBe(before.price[n - 1] * 1.01);
+    expect(p.store.loadedDigest(after)?.sha256).not.toBe(digest?.sha256);
+    expect(new DataFingerprinter(p.store).subject({ kind: 'asset', name: 'brinemoor-ferries' })).toEqual(p.store.loadedDigest(after));
+  });
+
+  it('an import takes the triggers out only inside its own transaction', async () => {
+    const triggers = () => p.store.db.prepare("SELECT count(*) FROM sqlite_master WHERE type = 'trigger' AND name LIKE '%_pack_%'").pluck().get();
+    const more = p.file('later.csv');
+    writeFileSync(more, 'date,asset,price\n2031-01-31,corvane-saltworks,10\n');
+    await importPrices(p.store, more, { layout: 'long' });
+    expect(triggers()).toBe(6);
+    const bad = p.file('bad2.csv');
+    writeFileSync(bad, 'date,asset,price\n2032-01-31,corvane-saltworks,10\n2032-01-31,corvane-saltworks,11\n');
+    await expect(importPrices(p.store, bad, { layout: 'long' })).rejects.toThrow(/duplicate/);
+    expect(triggers()).toBe(6);
   });
 
   it('a read-only database reads its rows and writes no pack', () => {
