@@ -87,6 +87,12 @@ export function standOut<T>(items: readonly T[], size: (x: T) => number, k = 6):
   return new Set([...items].sort((a, b) => size(b) - size(a)).slice(0, k));
 }
 
+/** A bar's label under the axis, turned 40 degrees (smaller where there are many bars). */
+function categoryLabel(out: string[], f: Frame, cx: number, label: string, n: number): void {
+  const ly = f.height - f.bottom + 12;
+  out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}${n > 24 ? ' font-size="8"' : ''}>${xmlEscape(label)}</text>`);
+}
+
 /** Most bars a chart labels one by one; beyond it, only `labelled` bars carry a label. */
 export const MAX_BAR_LABELS = 40;
 
@@ -117,9 +123,7 @@ export function barChart(opts: { id: string; title: string; yLabel: string; bars
         `<g class="whisker" stroke="#222" data-label="${xmlEscape(b.label)}" data-low="${exactNumber(b.low)}" data-high="${exactNumber(b.high)}"><line x1="${f1(cx)}" x2="${f1(cx)}" y1="${yl}" y2="${yh}"/><line x1="${f1(cx - Number(cap))}" x2="${f1(cx + Number(cap))}" y1="${yl}" y2="${yl}"/><line x1="${f1(cx - Number(cap))}" x2="${f1(cx + Number(cap))}" y1="${yh}" y2="${yh}"/></g>`,
       );
     }
-    const ly = f.height - f.bottom + 12;
-    const show = n <= MAX_BAR_LABELS || (opts.labelled?.has(b.label) ?? false);
-    if (show) out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}${n > 24 ? ' font-size="8"' : ''}>${xmlEscape(b.label)}</text>`);
+    if (n <= MAX_BAR_LABELS || (opts.labelled?.has(b.label) ?? false)) categoryLabel(out, f, cx, b.label, n);
   });
   out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f1(y0)}" y2="${f1(y0)}" stroke="#555"/>`);
   out.push('</svg>');
@@ -244,8 +248,7 @@ export function stackedBarChart(opts: { id: string; title: string; yLabel: strin
       const my = f1(y(b.marker));
       out.push(`<path class="marker" d="M${f1(cx)},${Number(my) - 5} L${f1(cx + 5)},${my} L${f1(cx)},${Number(my) + 5} L${f1(cx - 5)},${my} Z" fill="#222" data-label="${xmlEscape(b.label)}" data-value="${exactNumber(b.marker)}"/>`);
     }
-    const ly = f.height - f.bottom + 12;
-    if (n <= MAX_BAR_LABELS) out.push(`<text x="${f1(cx)}" y="${ly}" transform="rotate(-40 ${f1(cx)} ${ly})" text-anchor="end" ${FONT}${n > 24 ? ' font-size="8"' : ''}>${xmlEscape(b.label)}</text>`);
+    if (n <= MAX_BAR_LABELS) categoryLabel(out, f, cx, b.label, n);
   });
   out.push(`<line x1="${f.left}" x2="${f.width - f.right}" y1="${f1(y(0))}" y2="${f1(y(0))}" stroke="#555"/>`);
   const legend = [...opts.partNames.map((name, k) => ({ name, colour: PALETTE[k % PALETTE.length] })), ...(opts.markerName ? [{ name: opts.markerName, colour: '#222' }] : [])];

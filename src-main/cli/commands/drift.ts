@@ -7,7 +7,7 @@ import type { Command } from 'commander';
 import { FREQUENCIES } from '../../../shared/data.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { parseDriftSpec, type DriftSpec } from '../../../shared/spec.js';
-import { parseLags, parseNames, runValueCommand } from './present-value.js';
+import { parseNames, runValueCommand, windowKeys } from './present-value.js';
 
 interface Flags {
   db: string;
@@ -28,9 +28,7 @@ export function driftSpecFromFlags(o: Omit<Flags, 'db' | 'json' | 'record'>): Dr
       analysis: 'drift',
       ...(assets ? { assets } : {}),
       frequency: o.frequency,
-      ...(o.start !== undefined ? { start: o.start } : {}),
-      ...(o.end !== undefined ? { end: o.end } : {}),
-      lags: parseLags(o.lags),
+      ...windowKeys(o),
     },
     'options',
   );

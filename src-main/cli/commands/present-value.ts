@@ -33,6 +33,11 @@ export function parseLags(flag: string): number | 'auto' {
   return Number(flag);
 }
 
+/** The spec keys of --start, --end and --lags (both present-value commands). */
+export function windowKeys(o: { start?: string; end?: string; lags: string }): { start?: string; end?: string; lags: number | 'auto' } {
+  return { ...(o.start !== undefined ? { start: o.start } : {}), ...(o.end !== undefined ? { end: o.end } : {}), lags: parseLags(o.lags) };
+}
+
 /** Comma-separated names, trimmed; empty entries dropped. */
 export function parseNames(flag: string | undefined): string[] | undefined {
   if (flag === undefined) return undefined;
@@ -52,9 +57,7 @@ export function presentValueSpecFromFlags(o: Omit<Flags, 'db' | 'json' | 'record
       analysis: 'present-value',
       ...(o.asset !== undefined ? { asset: o.asset } : { aggregate: true, ...(assets ? { assets } : {}) }),
       frequency: 'annual',
-      ...(o.start !== undefined ? { start: o.start } : {}),
-      ...(o.end !== undefined ? { end: o.end } : {}),
-      lags: parseLags(o.lags),
+      ...windowKeys(o),
     },
     'options',
   );
