@@ -19,15 +19,8 @@ import time
 
 import numpy as np
 
-
-def newey_west(u, L):
-    n = u.shape[0]
-    u = u - u.mean(axis=0)
-    S = u.T @ u / n
-    for j in range(1, L + 1):
-        G = u[j:].T @ u[:-j] / n
-        S = S + (1.0 - j / (L + 1.0)) * (G + G.T)
-    return S
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), "numpy"))
+from gmm_linear import newey_west  # noqa: E402  (one Newey-West for every numpy anchor)
 
 
 def fit_window(R, f, L):

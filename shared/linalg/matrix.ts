@@ -59,45 +59,13 @@ export function transpose(a: Mat): Mat {
 /** A B. */
 export function mul(a: Mat, b: Mat): Mat {
   if (a.cols !== b.rows) throw new RangeError(`mul: ${a.rows}x${a.cols} times ${b.rows}x${b.cols}`);
-  const n = a.rows;
-  const m = b.cols;
-  const k = a.cols;
-  const c = zeros(n, m);
-  const A = a.data;
-  const B = b.data;
-  const C = c.data;
-  for (let i = 0; i < n; i++) {
-    const ci = i * m;
-    for (let l = 0; l < k; l++) {
-      const ail = A[i * k + l];
-      if (ail === 0) continue;
-      const bl = l * m;
-      for (let j = 0; j < m; j++) C[ci + j] += ail * B[bl + j];
-    }
-  }
-  return c;
+  return { rows: a.rows, cols: b.cols, data: matMulFlat(a.data, b.data, a.rows, a.cols, b.cols) };
 }
 
 /** A' B, without forming A'. */
 export function mulAtB(a: Mat, b: Mat): Mat {
   if (a.rows !== b.rows) throw new RangeError(`mulAtB: (${a.rows}x${a.cols})' times ${b.rows}x${b.cols}`);
-  const n = a.cols;
-  const m = b.cols;
-  const c = zeros(n, m);
-  const A = a.data;
-  const B = b.data;
-  const C = c.data;
-  for (let l = 0; l < a.rows; l++) {
-    const al = l * n;
-    const bl = l * m;
-    for (let i = 0; i < n; i++) {
-      const ali = A[al + i];
-      if (ali === 0) continue;
-      const ci = i * m;
-      for (let j = 0; j < m; j++) C[ci + j] += ali * B[bl + j];
-    }
-  }
-  return c;
+  return { rows: a.cols, cols: b.cols, data: crossProducts(a.data, b.data, a.rows, a.cols, b.cols) };
 }
 
 /** A x. */
