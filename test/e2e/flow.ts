@@ -112,6 +112,9 @@ export async function checkScreenTables(page: Page, p: Presentation, ids: string
     const t = p.tables.find((x) => x.id === id);
     expect(t, `presentation table ${id}`).toBeDefined();
     const box = page.locator(`.datatable[data-table="${id}"]`).first();
+    // a table folded under its chart (closed so the chart draws first) is opened to be read
+    const fold = page.locator('details.under-chart', { has: box });
+    if ((await fold.count()) && !(await fold.first().evaluate((d) => (d as HTMLDetailsElement).open))) await fold.first().locator('summary').click();
     await expect(box, `table ${id} on screen`).toBeVisible();
     const got = await box.evaluate((el) => ({
       head: Array.from(el.querySelectorAll('thead th')).map((th) => (th.textContent ?? '').trim()),

@@ -67,6 +67,8 @@ function defaults() {
 
 export type ModelForm = ReturnType<typeof defaults>;
 
+let previewTimer: ReturnType<typeof setTimeout> | undefined;
+
 export const useModelStore = defineStore('model', {
   state: () => ({
     form: defaults(),
@@ -207,6 +209,21 @@ export const useModelStore = defineStore('model', {
       if (!replace || !entry) return;
       const i = this.compareSet.findIndex((e) => e.label === entry.label);
       if (i >= 0) this.compareSet.splice(i, 1, entry);
+    },
+    /**
+     * Asks for the preview once the set-up has been still for a moment (loading a panel takes
+     * the server a while; a run started meanwhile cancels the pending request).
+     */
+    schedulePreview(delayMs = 600): void {
+      if (previewTimer) clearTimeout(previewTimer);
+      previewTimer = setTimeout(() => {
+        previewTimer = undefined;
+        void this.refreshPreview();
+      }, delayMs);
+    },
+    cancelPreview(): void {
+      if (previewTimer) clearTimeout(previewTimer);
+      previewTimer = undefined;
     },
     /** Asks the project which sample (and lag count) the current spec gives; stale replies are dropped. */
     async refreshPreview(): Promise<void> {
