@@ -94,7 +94,12 @@ const validCompare = fc.record({
   frequency: fc.constantFrom(...FREQUENCIES),
   returns: fc.constant('excess' as const),
   riskfree: NAME,
-  compare: fc.array(fc.record({ label: fc.string({ maxLength: 12 }), model: linearModel, estimator }, { requiredKeys: ['model'] }), { minLength: 1, maxLength: 4 }),
+  // Each model of a comparison needs its own label (a clash is refused, naming both entries):
+  // several entries carry distinct labels; a lone entry may leave its label to the default.
+  compare: fc.oneof(
+    fc.uniqueArray(fc.record({ label: fc.string({ maxLength: 12 }), model: linearModel, estimator }), { minLength: 1, maxLength: 4, selector: (e) => e.label }),
+    fc.tuple(fc.record({ model: linearModel, estimator }, { requiredKeys: ['model'] })),
+  ),
   bootstrap: fc.record({ replications: fc.integer({ min: 10, max: 999 }), block: fc.oneof(fc.integer({ min: 1, max: 24 }), fc.constant('auto' as const)), seed: fc.integer({ min: 0, max: 2 ** 31 - 1 }) }, { requiredKeys: [] }),
 });
 

@@ -132,6 +132,10 @@ async function stress(threads: number, seed: number): Promise<Tally> {
     const runIds = new Set<number>();
     const tally: Tally = { calls: 0, cancelRequests: 0, ok: 0, cancelled: 0, seconds: 0 };
     for (let w = 0; w < WAVES; w++) {
+      // Cancels still pending when their call has already been answered are dropped at the
+      // wave's end; the ones sent are awaited, so none reaches a server that has been closed.
+      const cancelTimers: ReturnType<typeof setTimeout>[] = [];
+      const cancelPosts: Promise<unknown>[] = [];
       const calls = Array.from({ length: PER_WAVE }, (_, j) => {
         const r = requests[Math.floor(rand() * requests.length)];
         const id = `t${threads}-w${w}-${j}`;
@@ -143,10 +147,12 @@ async function stress(threads: number, seed: number): Promise<Tally> {
         });
         if (cancelAt >= 0) {
           tally.cancelRequests++;
-          setTimeout(() => {
-            cancelled.add(id);
-            void post(srv, 'cancel', { taskId: id });
-          }, cancelAt);
+          cancelTimers.push(
+            setTimeout(() => {
+              cancelled.add(id);
+              cancelPosts.push(post(srv, 'cancel', { taskId: id }));
+            }, cancelAt),
+          );
         }
         return reply.then((x) => ({ id, name: r.name, reply: x }));
       });
@@ -155,6 +161,8 @@ async function stress(threads: number, seed: number): Promise<Tally> {
         const missing = Array.from({ length: PER_WAVE }, (_, j) => `t${threads}-w${w}-${j}`).filter((id) => !replies.has(id));
         throw new Error(`${threads} thread(s), wave ${w}: no reply within ${WAVE_BOUND_MS / 1000} s to ${missing.join(', ')}`);
       }
+      cancelTimers.forEach(clearTimeout);
+      await Promise.all(cancelPosts);
       await new Promise((res) => setTimeout(res, 100)); // the wave's last events
       for (const { id, name, reply } of outcome) {
         expect(replies.get(id), `${id}: replies`).toBe(1);
