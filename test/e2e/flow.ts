@@ -97,7 +97,10 @@ export function checkBars(bars: Bar[], values: number[]): { scale: number; worst
 
 /** The set-up chooses no factor for the user: pick the first one (where none is chosen yet), so the spec is valid. */
 export async function chooseFirstFactor(page: Page): Promise<void> {
-  if (await page.locator('[data-testid=factor-prompt]').isVisible()) await page.locator('[data-testid=factor-list] label').first().click();
+  // the factor names arrive with the project's coverage: wait for them before asking whether one is chosen
+  const first = page.locator('[data-testid=factor-list] label').first();
+  await expect(first).toBeVisible();
+  if (await page.locator('[data-testid=factor-prompt]').isVisible()) await first.click();
   await expect(page.locator('.ok-line')).toBeVisible();
 }
 
