@@ -129,14 +129,42 @@ export function backtestTables(r: BacktestResult): PresentedTable[] {
   return tables;
 }
 
+/**
+ * The weighting of a GMM back-test in words. The result records the first-stage weight
+ * ("identity" or "hj") in `sample.weighting`; each window runs the stage from it.
+ */
+export function backtestWeighting(stage: string, weight: string): string {
+  if (weight !== 'identity' && weight !== 'hj') return weight;
+  const w1 = weight === 'hj' ? "W = (E[RR'])^-1 (Hansen-Jagannathan)" : 'W = I';
+  switch (stage) {
+    case 'first':
+      return `first stage in each window, ${w1}`;
+    case 'second':
+      return `second stage in each window, W = S^-1 with S from the window's first stage (${w1})`;
+    case 'iterated':
+      return `iterated in each window, W = S^-1 updated to its fixed point (start: ${w1})`;
+    case 'cue':
+      return `continuously updated in each window, W = S(theta)^-1 (start: second stage from ${w1})`;
+    default:
+      return `${stage} stage in each window, first-stage ${w1}`;
+  }
+}
+
+/**
+ * Sample notes the presentation already says elsewhere: the window rule (the header's
+ * windows line) and the R^2 benchmark (the summary table's note).
+ */
+const REPEATED_NOTES = [/^back-test: (rolling|expanding) windows of /, /^in-sample and out-of-sample R\^2 both against/];
+
 export function presentBacktest(r: BacktestResult): Presentation {
+  const header = sampleLines(r.sample).map((l) => (l.key === 'weighting' && r.sample.method === 'gmm' ? { ...l, value: backtestWeighting(r.sample.stage, r.sample.weighting) } : l));
   return {
     kind: 'backtest',
     title: `Back-test: ${r.label}`,
     caution: CAUTION,
-    header: [...sampleLines(r.sample), ...backtestWindowLines(r)],
+    header: [...header, ...backtestWindowLines(r)],
     tables: backtestTables(r),
-    notes: [...new Set(r.sample.notes.map(noteText))],
+    notes: [...new Set(r.sample.notes.map(noteText))].filter((n) => !REPEATED_NOTES.some((re) => re.test(n))),
     warnings: r.warnings ?? [],
   };
 }

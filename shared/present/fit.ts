@@ -29,6 +29,20 @@ export function fitTitle(r: FitResult): string {
   return r.label;
 }
 
+/** Which estimates are per period (factor means, risk premia, constants), named only where the table has them. */
+function perPeriodNote(names: string[], word: string): string {
+  const kinds = [
+    ['factor means (mu)', (n: string) => n.startsWith('mu.')],
+    ['risk premia (lambda)', (n: string) => n.startsWith('lambda.') && !n.endsWith('.const')],
+    ['constants', (n: string) => n.endsWith('.const')],
+  ]
+    .filter(([, is]) => names.some(is as (n: string) => boolean))
+    .map(([what]) => what as string);
+  if (!kinds.length) return '';
+  const list = kinds.length === 1 ? kinds[0] : `${kinds.slice(0, -1).join(', ')} and ${kinds[kinds.length - 1]}`;
+  return ` ${list[0].toUpperCase()}${list.slice(1)} are per ${word}, as decimals.`;
+}
+
 export function fitTables(r: FitResult): PresentedTable[] {
   const s = r.sample;
   const u = unitsFor(s.frequency, s.periodsPerYear);
@@ -57,7 +71,7 @@ export function fitTables(r: FitResult): PresentedTable[] {
       rows: r.params.map((p) => [p.name, p.estimate, p.se, p.t, p.p, ...(shanken ? [opt(p.seShanken)] : [])]),
       notes: [
         ...paramNotes,
-        `p: two-sided, normal. Factor means (mu), risk premia (lambda) and constants are per ${u.word}, as decimals.`,
+        `p: two-sided, normal.${perPeriodNote(r.params.map((p) => p.name), u.word)}`,
       ],
       warnings: estWarn,
     }),

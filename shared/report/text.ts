@@ -46,6 +46,12 @@ export function tableToText(t: PresentedTable, ref: (w: ResultWarning) => number
   return out.join('\n');
 }
 
+/** A title inside a sentence: its first word in lower case unless it is a symbol (m_t, G_t, HJ). */
+function lowerFirst(title: string): string {
+  const [first] = title.split(' ');
+  return /^[A-Z][a-z]+$/.test(first) ? title[0].toLowerCase() + title.slice(1) : title;
+}
+
 export interface TextOptions {
   /** Print the appendix tables (series and per-window listings) too. */
   appendix?: boolean;
@@ -69,7 +75,7 @@ export function presentationText(p: Presentation, options: TextOptions = {}): st
     for (const n of p.notes) out.push(`  - ${plainText(n)}`);
     out.push('');
   }
-  if (left.length) out.push(`Not printed here: ${left.map((t) => t.title.toLowerCase()).join(', ')} (in every export and in --json).`, '');
+  if (left.length) out.push(`Not printed here: ${left.map((t) => lowerFirst(t.title)).join(', ')} (in every export and in --json).`, '');
   out.push(p.caution);
   return `${out.join('\n')}\n`;
 }
