@@ -3,7 +3,7 @@ import { existsSync, mkdtempSync, readFileSync, writeFileSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { describe, expect, it } from 'vitest';
-import type { AnyResult } from '../../../shared/results.js';
+import type { AnyResult, CompareResult } from '../../../shared/results.js';
 import { latexEscape, resultToLatex } from '../../../shared/report/latex.js';
 import { present } from '../../../shared/present/index.js';
 import { tableCellText } from '../../../shared/present/format.js';
@@ -53,6 +53,22 @@ const kinds: [string, () => AnyResult][] = [
   ['compare', () => sampleCompare()],
 ];
 
+/** A comparison of one model at two stages and another, labelled as the default labels read (model and estimator). */
+function longLabels(): CompareResult {
+  const r = sampleCompare();
+  const names = ['linear(MKT,SIZE) [GMM second, start W = I, lags auto]', 'linear(MKT,SIZE) [GMM first, W = I, lags auto]', 'consumption(CONS) [GMM iterated, start W = HJ, lags 6]'];
+  r.models.forEach((m, i) => {
+    m.label = names[i];
+    m.model = i === 2 ? 'consumption' : 'linear';
+    m.factors = i === 2 ? ['CONS'] : ['MKT', 'SIZE'];
+    m.estimator = { method: 'gmm', stage: i === 1 ? 'first' : i === 2 ? 'iterated' : 'second', weight: i === 2 ? 'hj' : 'identity', lags: i === 2 ? 6 : 'auto', lagsUsed: i === 2 ? 6 : 3 };
+    m.oos = { rmse: 0.002 + i / 1000, rmsePooled: 0.003, r2: -0.25 };
+    m.oosWindowsFailed = 0;
+  });
+  r.hjTests = [{ a: names[0], b: names[1], diff: 0.0123456789, p: 0.2, replications: 499, block: 4, seed: 20261201 }];
+  return r;
+}
+
 describe('LaTeX export', () => {
   it.each(kinds)('%s: balanced braces, dollars and environments; booktabs rules; rounding note', (_k, make) => {
     const tex = resultToLatex(make(), sampleRecord());
@@ -95,6 +111,20 @@ describe('LaTeX export', () => {
     for (const m of tex.matchAll(/\\begin\{tabular\}\{([lr]+)\}/g)) expect(m[1].length).toBeLessThanOrEqual(7);
   });
 
+  it('a formula word keeps its own parentheses in math mode: sigma(m), E[m]', () => {
+    const r = sampleFit();
+    r.warnings = [{ code: 'BELOW_VOLATILITY_BOUND', message: 'the fitted discount factor has sigma(m) = 0.1 at E[m] = 0.99, below the bound (0.3)' }];
+    const tex = resultToLatex(r, sampleRecord());
+    expect(tex).toContain('has $\\sigma (m)$ = 0.1 at $E[m]$ = 0.99');
+    expect(tex).not.toContain('(m$)');
+  });
+
+  it('long model labels and headings wrap inside their columns instead of widening the table', () => {
+    const tex = resultToLatex(longLabels(), sampleRecord());
+    expect(tex).toContain('\\parbox[t]{');
+    expect(tex).toMatch(/\\raggedright linear\(MKT,\\allowbreak\{\}SIZE\)/);
+  });
+
   // Compiler check: Debian's texlive (pdflatex) when installed; skipped with the reason otherwise.
   const which = spawnSync('sh', ['-c', 'command -v pdflatex'], { encoding: 'utf8' });
   const pdflatex = which.status === 0 ? which.stdout.trim() : '';
@@ -107,6 +137,19 @@ describe('LaTeX export', () => {
       execFileSync(pdflatex, ['-interaction=nonstopmode', '-halt-on-error', `doc-${k}.tex`], { cwd: dir, stdio: 'pipe' });
       expect(existsSync(path.join(dir, `doc-${k}.pdf`))).toBe(true);
       expect(readFileSync(path.join(dir, `doc-${k}.log`), 'utf8')).not.toMatch(/^! /m);
+    }
+  });
+
+  // Wide tables fit the page: pdflatex reports no line wider than the text (article class, 10 pt, its default text width).
+  it.skipIf(!pdflatex)(`every table fits the text width: no overfull box in pdflatex's log${pdflatex ? '' : ' (skipped: pdflatex not on PATH; Debian: apt-get install texlive-latex-recommended)'}`, () => {
+    const dir = mkdtempSync(path.join(tmpdir(), 'deflator-tex-'));
+    const cases: [string, () => AnyResult][] = [...kinds, ['long-labels', longLabels]];
+    for (const [k, make] of cases) {
+      writeFileSync(path.join(dir, `${k}.tex`), resultToLatex(make(), sampleRecord(), { appendix: true }));
+      writeFileSync(path.join(dir, `doc-${k}.tex`), `\\documentclass{article}\n\\usepackage{booktabs}\n\\begin{document}\n\\input{${k}.tex}\n\\end{document}\n`);
+      execFileSync(pdflatex, ['-interaction=nonstopmode', '-halt-on-error', `doc-${k}.tex`], { cwd: dir, stdio: 'pipe' });
+      const log = readFileSync(path.join(dir, `doc-${k}.log`), 'utf8');
+      expect(log.match(/^Overfull \\hbox.*$/gm) ?? [], `${k}: overfull lines`).toEqual([]);
     }
   });
 });

@@ -47,6 +47,25 @@ describe('PDF export', () => {
     expect(pdf.toString('latin1')).toBe('%PDF');
   });
 
+  // A fit of 24 years of monthly data: the m_t series is a chart, its 288 values an appendix the PDF leaves out unless asked.
+  const pdfinfoPath = onPath('pdfinfo');
+  it.skipIf(!HAVE_CHROMIUM || !pdfinfoPath)(`a fit's PDF is a few pages; the m_t listing only with the appendix${HAVE_CHROMIUM && pdfinfoPath ? '' : ' (skipped: needs Chromium and pdfinfo; Debian: apt-get install chromium poppler-utils)'}`, async () => {
+    const r = sampleFit();
+    const periods = Array.from({ length: 288 }, (_, t) => `${2031 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')}-28`);
+    const values = periods.map((_, t) => 1 + 0.1 * Math.sin(t / 5));
+    r.sdf = { periods, values, mean: 1, std: 0.07 };
+    const dir = mkdtempSync(path.join(tmpdir(), 'deflator-pdf-'));
+    const pages = async (appendix: boolean): Promise<number> => {
+      const file = path.join(dir, `fit-${appendix}.pdf`);
+      writeFileSync(file, await htmlToPdf(resultToHtml(r, sampleRecord(), { appendix, print: true }), { executablePath: CHROMIUM_PATH }));
+      return Number(/Pages:\s+(\d+)/.exec(execFileSync(pdfinfoPath!, [file], { encoding: 'utf8' }))?.[1]);
+    };
+    const short = await pages(false);
+    const long = await pages(true);
+    expect(short, 'pages without the appendix').toBeLessThanOrEqual(5);
+    expect(long, 'the appendix adds the m_t listing').toBeGreaterThan(short + 2);
+  }, 60_000);
+
   // Produced with headless Debian Chromium; first page rendered by poppler's pdftoppm where installed.
   it.runIf(HAVE_CHROMIUM)('prints the HTML report to a PDF whose first page renders', async () => {
     const pdf = await htmlToPdf(resultToHtml(sampleFit(), sampleRecord()), { executablePath: CHROMIUM_PATH });
@@ -60,10 +79,10 @@ describe('PDF export', () => {
       const info = execFileSync(pdfinfo, [file], { encoding: 'utf8' });
       expect(Number(/Pages:\s+(\d+)/.exec(info)?.[1])).toBeGreaterThanOrEqual(2);
       expect(info).toMatch(/Page size:\s+59\d\.\d+ x 84\d\.\d+ pts \(A4\)/);
-    } else console.log('pdfinfo check skipped: poppler-utils not installed');
+    } else console.log('pdfinfo check skipped: poppler-utils not installed (Debian: apt-get install poppler-utils)');
     const pdftoppm = onPath('pdftoppm');
     if (!pdftoppm) {
-      console.log('page render check skipped: pdftoppm (poppler-utils) not installed');
+      console.log('page render check skipped: pdftoppm not installed (Debian: apt-get install poppler-utils)');
       return;
     }
     execFileSync(pdftoppm, ['-f', '1', '-l', '1', '-r', '40', '-gray', file, path.join(dir, 'page')]);
