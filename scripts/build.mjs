@@ -1,14 +1,14 @@
 // Bundles the Node-side entry points (CLI, worker, Electron main, preload) into dist/.
 // Runs on `npm ci` (the package's prepare step) so that `npx deflator` works on a fresh clone.
 import { build } from 'esbuild';
-import { existsSync } from 'node:fs';
+import { createHash } from 'node:crypto';
+import { existsSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import path from 'node:path';
 
 const root = path.resolve(path.dirname(fileURLToPath(import.meta.url)), '..');
 const external = ['better-sqlite3', 'electron', 'piscina', 'exceljs', 'playwright-core'];
 const entries = [
-  { in: 'src-main/cli/index.ts', out: 'cli' },
   { in: 'src-main/workers/worker.ts', out: 'worker' },
   { in: 'src-main/electron/main.ts', out: 'main' },
 ].filter((e) => existsSync(path.join(root, e.in)));
@@ -17,8 +17,39 @@ const banner = {
   js: "import { createRequire as __deflatorCreateRequire } from 'node:module'; const require = __deflatorCreateRequire(import.meta.url);",
 };
 
-// Code splitting: modules reached only through a dynamic import() (the worker pool and piscina,
-// the XLSX writer and exceljs) land in their own chunks, so a command loads them only when used.
+// The command line: one CommonJS file (dist/cli.cjs) that the launcher (dist/cli.js,
+// src-main/cli/launch.ts) runs with V8's code cache. Modules reached only through a dynamic
+// import() (the worker pool and piscina, the XLSX writer and exceljs) are evaluated, and
+// external packages loaded, only when a command uses them.
+await build({
+  absWorkingDir: root,
+  entryPoints: ['src-main/cli/index.ts'],
+  outfile: 'dist/cli.cjs',
+  bundle: true,
+  platform: 'node',
+  format: 'cjs',
+  target: 'node20',
+  sourcemap: true,
+  external,
+  define: { 'import.meta.url': '__deflatorModuleUrl' },
+  banner: { js: "const __deflatorModuleUrl = require('node:url').pathToFileURL(__filename).href;" },
+  logLevel: 'warning',
+});
+const cliBuild = createHash('sha256').update(readFileSync(path.join(root, 'dist/cli.cjs'))).digest('hex').slice(0, 16);
+await build({
+  absWorkingDir: root,
+  entryPoints: ['src-main/cli/launch.ts'],
+  outfile: 'dist/cli.js',
+  bundle: true,
+  platform: 'node',
+  format: 'esm',
+  target: 'node20',
+  define: { __DEFLATOR_CLI_BUILD__: JSON.stringify(cliBuild) },
+  logLevel: 'warning',
+});
+
+// The worker and the Electron main. Code splitting: modules reached only through a dynamic
+// import() land in their own chunks, so they are loaded only when used.
 await build({
   absWorkingDir: root,
   entryPoints: entries,

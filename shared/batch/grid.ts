@@ -17,6 +17,7 @@ import { z } from 'zod';
 import { DeflatorError } from '../errors.js';
 import { backtestSchema, estimatorSchema, fitSpecSchema, formatSpecIssues, instrumentsSchema, modelSchema, parseFitSpec, type FitSpec } from '../spec.js';
 import { FREQUENCIES } from '../data.js';
+import { groupedInteger } from '../text.js';
 
 /** Grids larger than this are refused unless the caller raises the limit (`--max-tasks`). */
 export const DEFAULT_MAX_TASKS = 10_000;
@@ -310,9 +311,9 @@ export function checkGridSize(g: GridSpec, maxTasks = DEFAULT_MAX_TASKS): number
     const parts = gridAxes(g).map((a) => `${a.axis} ${a.count}`).join(' x ');
     throw new DeflatorError(
       'INPUT_INVALID',
-      `the grid expands to ${n.toLocaleString('en-US')} tasks (${parts}), more than the limit of ${maxTasks.toLocaleString('en-US')}`,
+      `the grid expands to ${groupedInteger(n)} tasks (${parts}), more than the limit of ${groupedInteger(maxTasks)}`,
       n > HARD_MAX_TASKS
-        ? `split it into grids of at most ${HARD_MAX_TASKS.toLocaleString('en-US')} tasks (fewer factor candidates, a smaller maxSize, or one grid per value of an axis)`
+        ? `split it into grids of at most ${groupedInteger(HARD_MAX_TASKS)} tasks (fewer factor candidates, a smaller maxSize, or one grid per value of an axis)`
         : `pass --max-tasks ${n} to plan it anyway, or narrow the axes`,
     );
   }

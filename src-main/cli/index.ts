@@ -2,6 +2,7 @@
  * `deflator` command line: one program, one sub-command per file in ./commands.
  * Errors go to stderr with a non-zero exit; --json output goes to stdout.
  */
+import '../engine-flags.js';
 import { Command, CommanderError } from 'commander';
 import { describeError } from '../../shared/errors.js';
 import { escapeControls } from '../../shared/text.js';
@@ -54,5 +55,6 @@ for (const stream of [process.stdout, process.stderr]) {
 }
 
 guardTerminal();
-const code = await main(process.argv.slice(2));
-process.exitCode = code;
+void main(process.argv.slice(2)).then((code) => {
+  process.exitCode = code;
+});

@@ -5,6 +5,7 @@
  * window structurally so that this file never imports electron.
  */
 import { existsSync } from 'node:fs';
+import { createRequire } from 'node:module';
 import path from 'node:path';
 import { DeflatorError } from '../../shared/errors.js';
 
@@ -51,7 +52,8 @@ export async function htmlToPdf(html: string, opts: { executablePath?: string } 
       'install one (Debian: apt-get install chromium) or set DEFLATOR_CHROMIUM to its path; or export --format html and print that file',
     );
   }
-  const { chromium } = await import('playwright-core');
+  // required when needed, not imported: the command line's bundle is CommonJS run from V8's code cache (src-main/cli/launch.ts)
+  const { chromium } = createRequire(import.meta.url)('playwright-core') as typeof import('playwright-core');
   const browser = await chromium.launch({ executablePath, headless: true, args: CHROMIUM_ARGS });
   try {
     const page = await browser.newPage();

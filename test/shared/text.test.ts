@@ -4,7 +4,7 @@
  * tab and line breaks are kept in names, carriage returns are escaped when printed.
  */
 import { describe, expect, it } from 'vitest';
-import { codePointAt, controlCharAt, controlProblems, escapeControls } from '../../shared/text.js';
+import { codePointAt, controlCharAt, controlProblems, escapeControls, groupedInteger } from '../../shared/text.js';
 
 describe('control characters', () => {
   it('finds C0 (but tab and line breaks), DEL and C1', () => {
@@ -31,5 +31,13 @@ describe('control characters', () => {
       'spec: the value under key "odd key" holds the control character U+0000',
     ]);
     expect(controlProblems({ label: 'fine', n: 3, list: [null, true] }, 'spec')).toEqual([]);
+  });
+});
+
+describe('grouped integers', () => {
+  it("writes what ECMA-402's toLocaleString('en-US') writes for whole numbers", () => {
+    for (const n of [0, 7, 999, 1000, 20_000, 123_456, 1_234_567, -1_234_567, 1e15, Number.MAX_SAFE_INTEGER, -Number.MAX_SAFE_INTEGER]) {
+      expect(groupedInteger(n), String(n)).toBe(n.toLocaleString('en-US'));
+    }
   });
 });

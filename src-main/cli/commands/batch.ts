@@ -9,6 +9,7 @@
 import { readFileSync } from 'node:fs';
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
+import { groupedInteger } from '../../../shared/text.js';
 import { DEFAULT_MAX_TASKS, HARD_MAX_TASKS } from '../../../shared/batch/grid.js';
 import { RANK_KEYS, isRankBy, rankBatch, type RankBy } from '../../../shared/batch/rank.js';
 import { DEFAULT_TOP, batchText } from '../../../shared/batch/text.js';
@@ -83,11 +84,11 @@ export function register(program: Command): void {
     .argument('<grid>', 'JSON grid spec: {"base": {fit spec}, "grid": {"model.factors": {...}, "estimator.stage": [...], ...}}')
     .requiredOption('--db <path>', 'project database the returns panels are built from')
     .requiredOption('--out <dir>', 'new (or empty) folder for the plan, task specs, panel snapshot and results')
-    .option('--max-tasks <n>', `refuse grids larger than this (default ${DEFAULT_MAX_TASKS.toLocaleString('en-US')}; at most ${HARD_MAX_TASKS.toLocaleString('en-US')})`)
+    .option('--max-tasks <n>', `refuse grids larger than this (default ${groupedInteger(DEFAULT_MAX_TASKS)}; at most ${groupedInteger(HARD_MAX_TASKS)})`)
     .option('--json', 'print the plan summary as JSON')
     .action((gridFile: string, o: { db: string; out: string; maxTasks?: string; json?: boolean }) => {
       const maxTasks = positiveInt('--max-tasks', o.maxTasks) ?? DEFAULT_MAX_TASKS;
-      if (maxTasks > HARD_MAX_TASKS) throw new DeflatorError('INPUT_INVALID', `--max-tasks ${maxTasks} is above the ceiling of ${HARD_MAX_TASKS.toLocaleString('en-US')}`, 'split the grid into several grids');
+      if (maxTasks > HARD_MAX_TASKS) throw new DeflatorError('INPUT_INVALID', `--max-tasks ${maxTasks} is above the ceiling of ${groupedInteger(HARD_MAX_TASKS)}`, 'split the grid into several grids');
       const json = readGrid(gridFile);
       const store = new Store(o.db, { mustExist: true, access: 'read' });
       const bar = progressBar('panels');
