@@ -130,7 +130,7 @@ function fitCharts(r: FitResult): string[] {
           points: r.pricingErrors.map((e) => ({ label: e.asset, x: annualPercent(e.predicted, ppy), y: annualPercent(e.meanReturn, ppy) })),
           labelled: off,
         }),
-        `On the dashed 45-degree line the model prices the asset exactly. Labelled: the ${Math.min(LABELLED, r.pricingErrors.length)} assets farthest from the line; every asset is in the pricing errors table.`,
+        `On the dashed 45-degree line the model prices the asset exactly. Labelled: the ${Math.min(LABELLED, r.pricingErrors.length)} assets farthest from the line, where a label has room; every asset is in the pricing errors table.`,
       ),
     );
   }
@@ -245,7 +245,7 @@ function backtestCharts(r: BacktestResult): string[] {
           points: r.perAsset.map((a) => ({ label: a.asset, x: annualPercent(a.alphaIn, ppy), y: annualPercent(a.alphaOos, ppy) })),
           labelled: off,
         }),
-        `In sample: each window's own errors on its estimation periods, averaged over the windows. Labelled: the ${Math.min(LABELLED, r.perAsset.length)} assets farthest from the line; every asset is in the per-asset table.`,
+        `In sample: each window's own errors on its estimation periods, averaged over the windows. Labelled: the ${Math.min(LABELLED, r.perAsset.length)} assets farthest from the line, where a label has room; every asset is in the per-asset table.`,
       ),
     );
   }

@@ -172,34 +172,44 @@ export function scatterChart(opts: { id: string; title: string; xLabel: string; 
       `<line class="fit" x1="${f1(x(a))}" y1="${f1(y(fit.intercept + fit.slope * a))}" x2="${f1(x(b))}" y2="${f1(y(fit.intercept + fit.slope * b))}" stroke="${PALETTE[1]}" stroke-width="1.5" data-intercept="${exactNumber(fit.intercept)}" data-slope="${exactNumber(fit.slope)}"/>`,
     );
   }
-  // Labels never pile up: each named point's label goes right of it, else left, else below;
-  // one that would still overlap a placed label is left out (every point is in the table beside the chart).
+  // Labels never pile up: each named point's label goes right of it, else left, above or below,
+  // clear of every point and of the labels already placed; one that finds no free place is left
+  // out (every point is in the table beside the chart). Labels are drawn after the points, on top.
+  const dots = opts.points.map((p) => ({ x0: x(p.x) - 4, y0: y(p.y) - 4, x1: x(p.x) + 4, y1: y(p.y) + 4 }));
   const placed: { x0: number; y0: number; x1: number; y1: number }[] = [];
+  const hit = (a: { x0: number; y0: number; x1: number; y1: number }, b: typeof a) => b.x0 < a.x1 && a.x0 < b.x1 && b.y0 < a.y1 && a.y0 < b.y1;
   const labelAt = (px: number, py: number, text: string): { x: number; y: number; anchor: string } | undefined => {
     const w = 5 * text.length + 2;
     const tries = [
-      { x: px + 6, y: py - 5, anchor: 'start', x0: px + 6, x1: px + 6 + w },
-      { x: px - 6, y: py - 5, anchor: 'end', x0: px - 6 - w, x1: px - 6 },
-      { x: px + 6, y: py + 12, anchor: 'start', x0: px + 6, x1: px + 6 + w },
+      { x: px + 6, y: py + 3, anchor: 'start', x0: px + 6, x1: px + 6 + w },
+      { x: px - 6, y: py + 3, anchor: 'end', x0: px - 6 - w, x1: px - 6 },
+      { x: px + 6, y: py - 7, anchor: 'start', x0: px + 6, x1: px + 6 + w },
+      { x: px - 6, y: py - 7, anchor: 'end', x0: px - 6 - w, x1: px - 6 },
+      { x: px + 6, y: py + 13, anchor: 'start', x0: px + 6, x1: px + 6 + w },
+      { x: px - 6, y: py + 13, anchor: 'end', x0: px - 6 - w, x1: px - 6 },
+      { x: px, y: py - 9, anchor: 'middle', x0: px - w / 2, x1: px + w / 2 },
+      { x: px, y: py + 16, anchor: 'middle', x0: px - w / 2, x1: px + w / 2 },
     ];
     for (const t of tries) {
-      const box = { x0: t.x0, y0: t.y - 9, x1: t.x1, y1: t.y + 2 };
-      if (box.x0 < f.left || box.x1 > f.width - f.right + 40) continue;
-      if (placed.some((b) => b.x0 < box.x1 && box.x0 < b.x1 && b.y0 < box.y1 && box.y0 < b.y1)) continue;
+      const box = { x0: t.x0 - 1, y0: t.y - 10, x1: t.x1 + 1, y1: t.y + 3 };
+      if (box.x0 < f.left || box.x1 > f.width - f.right + 40 || box.y0 < f.top || box.y1 > f.height - f.bottom) continue;
+      if (placed.some((b) => hit(box, b)) || dots.some((d) => hit(box, d))) continue;
       placed.push(box);
       return { x: t.x, y: t.y, anchor: t.anchor };
     }
     return undefined;
   };
+  const labels: string[] = [];
   for (const p of opts.points) {
     out.push(
       `<circle class="point" cx="${f1(x(p.x))}" cy="${f1(y(p.y))}" r="4" fill="${PALETTE[0]}" data-label="${xmlEscape(p.label)}" data-x="${exactNumber(p.x)}" data-y="${exactNumber(p.y)}"><title>${xmlEscape(`${p.label}: ${significant(p.x, 6)}, ${significant(p.y, 6)}`)}</title></circle>`,
     );
     if (!opts.labelled || opts.labelled.has(p.label)) {
       const at = labelAt(x(p.x), y(p.y), p.label);
-      if (at) out.push(`<text class="point-label" x="${f1(at.x)}" y="${f1(at.y)}" text-anchor="${at.anchor}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
+      if (at) labels.push(`<text class="point-label" x="${f1(at.x)}" y="${f1(at.y)}" text-anchor="${at.anchor}" ${FONT} font-size="9" fill="#333">${xmlEscape(p.label)}</text>`);
     }
   }
+  out.push(...labels);
   out.push('</svg>');
   return out.join('\n');
 }
