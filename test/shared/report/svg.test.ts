@@ -34,7 +34,7 @@ describe.skipIf(!HAVE_CHROMIUM)(`scatter labels${HAVE_CHROMIUM ? '' : ' (skipped
     await page.setContent(`<!doctype html><body>${svg}</body>`);
     const boxes = await page.$$eval('svg text.point-label, svg circle.point', (els) =>
       els.map((e) => {
-        const b = (e as SVGGraphicsElement).getBBox();
+        const b = (e as unknown as { getBBox(): { x: number; y: number; width: number; height: number } }).getBBox();
         return { kind: e.tagName, label: e.textContent ?? e.getAttribute('data-label') ?? '', x0: b.x, y0: b.y, x1: b.x + b.width, y1: b.y + b.height };
       }),
     );
