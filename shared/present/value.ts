@@ -5,11 +5,24 @@
  */
 import type { DriftResult, PresentValueResult, ValueResult } from '../results.js';
 import { CAUTION } from '../results.js';
-import { numCol, table, textCol } from './build.js';
+import { numCol, table, tableWarnings, textCol } from './build.js';
 import type { CellValue, HeaderLine, NumberFormat, Presentation, PresentedColumn as ReportColumn, PresentedTable as ReportTable } from './types.js';
 
 const text = (key: string, label = key): ReportColumn => textCol(key, label);
 const num = (key: string, label: string, format: NumberFormat = 'value', unit?: string): ReportColumn => numCol(key, label, format, unit);
+
+/** Warning codes of the value analyses and the tables whose numbers they qualify (listed beneath those tables). */
+export const VALUE_WARNING_TABLES: Readonly<Record<string, readonly string[]>> = {
+  FEW_YEARS: ['regressions', 'long-run'],
+  DP_NEAR_UNIT_ROOT: ['long-run'],
+  LARGE_IDENTITY_GAP: ['summary', 'long-run'],
+  EQUAL_SHARES: ['summary', 'regressions', 'long-run'],
+  ASSET_DROPPED: ['drift'],
+};
+
+function placed(ws: readonly ValueResult['warnings'][number][], id: string) {
+  return tableWarnings(ws, Object.keys(VALUE_WARNING_TABLES).filter((c) => VALUE_WARNING_TABLES[c].includes(id)));
+}
 
 const REGRESSION_LABELS = { r: 'return r(t+1)', dd: 'dividend growth dd(t+1)', dp: 'dividend-price ratio dp(t+1)' } as const;
 
@@ -29,13 +42,14 @@ export function presentValueTables(r: PresentValueResult): ReportTable[] {
   const T = r.sample.T;
   const years: CellValue[][] = r.series.years.map((y, t) => [y, r.series.closes[t], r.series.price[t], r.series.dividend[t], r.series.dp[t], t > 0 ? r.series.r[t - 1] : null, t > 0 ? r.series.dd[t - 1] : null]);
   return [
-    { id: 'summary', title: 'Dividend-price decomposition', sheet: 'Decomposition', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: summary },
+    { id: 'summary', title: 'Dividend-price decomposition', sheet: 'Decomposition', columns: [text('measure', 'Measure'), num('value', 'Value'), text('detail', 'Detail')], rows: summary, warnings: placed(r.warnings, 'summary') },
     {
       id: 'regressions',
       sheet: 'Predictive regressions',
       title: `Predictive regressions on dp(t), ${T - 1} years (Newey-West s.e.)`,
-      columns: [text('regression', 'Regression of'), num('a', 'a'), num('seA', 's.e.(a)'), num('b', 'b (phi for dp)'), num('seB', 's.e.(b)'), num('tB', 't(b)', 'stat'), num('r2', 'R2')],
+      columns: [text('regression', 'Regression of'), num('a', 'a'), num('seA', 's.e.(a)'), num('b', 'b (phi for dp)'), num('seB', 's.e.(b)'), num('tB', 't(b)', 'stat'), num('r2', 'R^2 (regression)', 'ratio')],
       rows: regs,
+      warnings: placed(r.warnings, 'regressions'),
     },
     {
       id: 'long-run',
@@ -46,6 +60,7 @@ export function presentValueTables(r: PresentValueResult): ReportTable[] {
         ['returns: b_r / (1 - rho phi)', r.longRun.r.b, r.longRun.r.se, r.varianceShares.r],
         ['dividend growth: b_d / (1 - rho phi)', r.longRun.dd.b, r.longRun.dd.se, r.varianceShares.dd],
       ],
+      warnings: placed(r.warnings, 'long-run'),
     },
     {
       id: 'years',
@@ -86,6 +101,11 @@ export function driftTables(r: DriftResult): ReportTable[] {
         num('driftLessHalfVariance', 'mu - sigma^2/2', 'value', y),
       ],
       rows: r.assets.map((a) => [a.asset, a.source, a.drift, a.se.drift, a.priceGrowth, a.se.priceGrowth, a.dividendYield, a.se.dividendYield, a.sigma, a.logDrift, a.se.logDrift, a.driftLessHalfVariance]),
+      // NO_PRICE_SPLIT qualifies the rows of the assets stored as returns; the other codes the whole table.
+      warnings: [
+        ...placed(r.warnings, 'drift'),
+        ...r.warnings.filter((w) => w.code === 'NO_PRICE_SPLIT').map((w) => ({ ...w, rows: r.assets.flatMap((a, i) => (a.source === 'returns' ? [i] : [])) })),
+      ],
     },
   ].map(table);
 }

@@ -10,6 +10,9 @@ import { parseDriftSpec, parsePresentValueSpec } from '../../../shared/spec.js';
 import { driftAnalysis, driftPanel } from '../../../shared/values/drift.js';
 import { presentValue } from '../../../shared/values/presentValue.js';
 import { demoHistories } from './helpers.js';
+import { present } from '../../../shared/present/index.js';
+import { resultToHtml } from '../../../shared/report/html.js';
+import { resultToText } from '../../../shared/report/text.js';
 
 const histories = demoHistories();
 const byName = (n: string): PriceHistory => histories.find((h) => h.asset === n) as PriceHistory;
@@ -117,5 +120,29 @@ describe('drift: assets stored as returns', () => {
     expect(row?.sigma).toBeGreaterThan(0);
     expect(r.warnings).toEqual([expect.objectContaining({ code: 'NO_PRICE_SPLIT' })]);
     expect(r.warnings[0].message).toContain('harbor-fund is stored as returns');
+  });
+});
+
+describe('value warnings beside the numbers they qualify', () => {
+  it('FEW_YEARS (six years of the demo aggregate) is listed under the regressions and long-run tables on every surface', () => {
+    const r = presentValue(parsePresentValueSpec({ analysis: 'present-value', aggregate: true, start: '2019' }), histories);
+    expect(r.warnings.map((w) => w.code)).toContain('FEW_YEARS');
+    const p = present(r);
+    for (const id of ['regressions', 'long-run']) expect(p.tables.find((t) => t.id === id)!.warnings.map((w) => w.code), id).toContain('FEW_YEARS');
+    expect(p.tables.find((t) => t.id === 'covariance')!.warnings).toEqual([]);
+    const text = resultToText(r);
+    const block = text.slice(text.indexOf('\nPredictive regressions'), text.indexOf('\nLong-run coefficients'));
+    expect(block).toMatch(/! warning 1 \(FEW_YEARS\) applies to this table/);
+    expect(resultToHtml(r)).toMatch(/data-table="regressions"[\s\S]*?data-warning="FEW_YEARS"/);
+  });
+
+  it('NO_PRICE_SPLIT flags the rows of the assets stored as returns', () => {
+    const months = histories[0].dates.slice(1);
+    const fund: ReturnSeries = { name: 'harbor-fund', frequency: 'monthly', periods: months, net: Float64Array.from(months, (_, t) => 0.004 + 0.03 * Math.sin(t)) };
+    const spec = parseDriftSpec({ analysis: 'drift', assets: ['lanternfold-power', 'harbor-fund'] });
+    const r = driftAnalysis(spec, driftPanel(spec, histories, [fund]));
+    const t = present(r).tables.find((x) => x.id === 'drift')!;
+    const w = t.warnings.find((x) => x.code === 'NO_PRICE_SPLIT')!;
+    expect(w.rows?.map((i) => t.rows[i][0])).toEqual(['harbor-fund']);
   });
 });
