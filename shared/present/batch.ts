@@ -83,6 +83,7 @@ export function presentBatch(r: BatchResult, opts: BatchOptions = {}): Presentat
       numCol('oosRmsePooled', 'pooled RMSE out of sample', 'percent', u.pctPeriod),
       numCol('oosR2', 'R^2 against zero alpha, out of sample', 'ratio'),
       ...RANK_KEYS.map((k) => numCol(`rank.${k}`, `rank by ${RANK_BY[k].title}`, 'integer')),
+      textCol('warnings', 'Warnings', "the codes of the task's warnings (each is explained in the result's warning list)"),
       textCol('sha256', 'Outcome SHA-256'),
     ],
     rows: r.models.map((m) => [
@@ -108,6 +109,7 @@ export function presentBatch(r: BatchResult, opts: BatchOptions = {}): Presentat
       m.oos ? percent(m.oos.rmsePooled) : null,
       m.oos ? m.oos.r2 : null,
       ...RANK_KEYS.map((k, j) => (has(k, m) ? (ranks[j].get(m.task) ?? null) : null)),
+      m.warnings?.length ? [...new Set(m.warnings.map((w) => w.code))].join('; ') : null,
       m.sha256,
     ] as CellValue[]),
     rowKeys: r.models.map((m) => String(m.task)),

@@ -193,10 +193,15 @@ describe('deflator batch: 28 tasks, one shard against three shards with a kill',
     store.close();
     const hj = head.indexOf('HJ distance (per month)');
     expect(hj).toBeGreaterThan(0);
+    const warned = head.indexOf('Warnings');
+    expect(warned).toBeGreaterThan(0);
     for (const cells of csv.slice(1)) {
       const m = stored.models[Number(cells[0])];
       expect(Number(cells[hj])).toBe(m.hj!.distance);
+      // Each task's warning codes in its row; the batch's own list counts the tasks per code.
+      expect(cells[warned]).toBe([...new Set((m.warnings ?? []).map((w) => w.code))].join('; '));
     }
+    for (const w of stored.warnings) expect(show).toContain(w.code);
     expect(ok(['runs', '--db', p.dbPath, '--kind', 'batch']).out).toMatch(/batch .* factor search/);
   }, 120_000);
 });
