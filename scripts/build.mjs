@@ -2,7 +2,7 @@
 // Runs on `npm ci` (the package's prepare step) so that `npx deflator` works on a fresh clone.
 import { build } from 'esbuild';
 import { createHash } from 'node:crypto';
-import { existsSync, readFileSync } from 'node:fs';
+import { existsSync, readdirSync, readFileSync } from 'node:fs';
 import { fileURLToPath } from 'node:url';
 import path from 'node:path';
 
@@ -12,6 +12,24 @@ const entries = [
   { in: 'src-main/workers/worker.ts', out: 'worker' },
   { in: 'src-main/electron/main.ts', out: 'main' },
 ].filter((e) => existsSync(path.join(root, e.in)));
+
+// The build's identity: a digest of every source file bundled from shared/ and src-main/
+// (src-main/data/panel-cache.ts keys cached panels by it, so a changed program never reads a
+// panel an earlier one built).
+function sourceId() {
+  const h = createHash('sha256');
+  const walk = (dir) => {
+    for (const e of readdirSync(path.join(root, dir), { withFileTypes: true }).sort((a, b) => (a.name < b.name ? -1 : 1))) {
+      const rel = `${dir}/${e.name}`;
+      if (e.isDirectory()) walk(rel);
+      else if (/\.(ts|cts|mts)$/.test(e.name)) h.update(`${rel}\0`).update(readFileSync(path.join(root, rel))).update('\0');
+    }
+  };
+  walk('shared');
+  walk('src-main');
+  return h.digest('hex').slice(0, 32);
+}
+const define = { __DEFLATOR_SOURCE_ID__: JSON.stringify(sourceId()) };
 
 const banner = {
   js: "import { createRequire as __deflatorCreateRequire } from 'node:module'; const require = __deflatorCreateRequire(import.meta.url);",
@@ -31,7 +49,7 @@ await build({
   target: 'node20',
   sourcemap: true,
   external,
-  define: { 'import.meta.url': '__deflatorModuleUrl' },
+  define: { ...define, 'import.meta.url': '__deflatorModuleUrl' },
   banner: { js: "const __deflatorModuleUrl = require('node:url').pathToFileURL(__filename).href;" },
   logLevel: 'warning',
 });
@@ -63,6 +81,7 @@ await build({
   sourcemap: true,
   external,
   banner,
+  define,
   logLevel: 'warning',
 });
 

@@ -38,7 +38,11 @@ export interface SnapshotIndex {
   panels: SnapshotPanel[];
 }
 
+const LITTLE_ENDIAN = new Uint8Array(Float64Array.of(1).buffer)[7] === 0x3f;
+
+/** The series as float64 little-endian bytes (a copy of its memory where the machine is little-endian). */
 function columnBytes(values: Float64Array): Uint8Array {
+  if (LITTLE_ENDIAN) return new Uint8Array(Float64Array.from(values).buffer);
   const out = new Uint8Array(values.length * 8);
   const view = new DataView(out.buffer);
   for (let i = 0; i < values.length; i++) view.setFloat64(i * 8, values[i], true);
@@ -51,8 +55,14 @@ const isColumnRef = (x: unknown): x is { $col: number } => {
   return keys.length === 1 && keys[0] === '$col' && typeof (x as { $col: unknown }).$col === 'number';
 };
 
-/** Collects panels (each once, by fingerprint) and their distinct columns. */
+/**
+ * Collects panels (each once, by fingerprint) and their distinct columns. `shareColumns:
+ * false` stores every series as its own column without looking for equal ones (no digest
+ * per column: for a single panel, e.g. the store's panel cache, src-main/data/panel-cache.ts).
+ */
 export class SnapshotWriter {
+  constructor(private readonly opts: { shareColumns?: boolean } = {}) {}
+
   private readonly panels: SnapshotPanel[] = [];
   private readonly seen = new Set<string>();
   private readonly byColumn = new Map<string, number>();
@@ -62,14 +72,14 @@ export class SnapshotWriter {
 
   private column(values: Float64Array): number {
     const bytes = columnBytes(values);
-    const key = `${values.length}:${toHex(new Sha256().update(bytes).digest())}`;
-    const hit = this.byColumn.get(key);
+    const key = this.opts.shareColumns === false ? null : `${values.length}:${toHex(new Sha256().update(bytes).digest())}`;
+    const hit = key === null ? undefined : this.byColumn.get(key);
     if (hit !== undefined) return hit;
     const id = this.columns.length;
     this.columns.push({ offset: this.values, length: values.length });
     this.chunks.push(bytes);
     this.values += values.length;
-    this.byColumn.set(key, id);
+    if (key !== null) this.byColumn.set(key, id);
     return id;
   }
 
@@ -114,8 +124,12 @@ function broken(what: string): DeflatorError {
   return new DeflatorError('INPUT_INVALID', `the panel snapshot is damaged: ${what}`, 'plan the batch again (deflator batch plan) or copy the folder again from where it was planned');
 }
 
-/** Rebuilds every panel of a snapshot (the index as written by finish) and checks each against its fingerprint. */
-export function readSnapshot(indexText: string, columns: Uint8Array): Map<string, ReturnsPanel> {
+/**
+ * Rebuilds every panel of a snapshot (the index as written by finish) and checks each against
+ * its fingerprint. `trusted`: the fingerprints are taken as stored, not computed again (the
+ * store's panel cache, which trusts its database as the packed series do).
+ */
+export function readSnapshot(indexText: string, columns: Uint8Array, opts: { trusted?: boolean } = {}): Map<string, ReturnsPanel> {
   let index: SnapshotIndex;
   try {
     index = parseExact<SnapshotIndex>(indexText);
@@ -129,6 +143,9 @@ export function readSnapshot(indexText: string, columns: Uint8Array): Map<string
   const read = (id: number): Float64Array => {
     const c = index.columns[id];
     if (!c || (c.offset + c.length) * 8 > columns.byteLength) throw broken(`column ${id} is missing or of the wrong length`);
+    // a copy (aligned, and the caller's bytes may belong to a database row or a file buffer);
+    // Uint8Array's own slice: a Node Buffer's slice is a view into the whole pool
+    if (LITTLE_ENDIAN) return new Float64Array(Uint8Array.prototype.slice.call(columns, c.offset * 8, (c.offset + c.length) * 8).buffer);
     const out = new Float64Array(c.length);
     for (let t = 0; t < c.length; t++) out[t] = view.getFloat64((c.offset + t) * 8, true);
     return out;
@@ -146,6 +163,10 @@ export function readSnapshot(indexText: string, columns: Uint8Array): Map<string
   const out = new Map<string, ReturnsPanel>();
   for (const p of index.panels) {
     const panel = decode(p.panel) as ReturnsPanel;
+    if (opts.trusted) {
+      out.set(p.fingerprint.sha256, panel);
+      continue;
+    }
     let fp: PanelFingerprint;
     try {
       fp = fingerprintPanel(panel);

@@ -120,7 +120,8 @@ export async function replayRun(store: Store, id: number, recompute: Recompute, 
                 ? { kind: 'drift', spec: parseDriftSpec(record.spec) }
                 : { kind: 'backtest', spec: parseFitSpec(record.spec), ...(isEngine(engine) ? { engine } : {}) };
       backtestBlock = analysis.kind === 'fit' || analysis.kind === 'backtest' || analysis.kind === 'compare' ? analysis.spec.backtest : undefined;
-      const data = loadAnalysisData(store, analysis);
+      // built from the stored rows, never read from the panel cache: replay checks the whole path
+      const data = loadAnalysisData(store, analysis, { cache: false });
       const panels = data.panels;
       switch (analysis.kind) {
         case 'compare':

@@ -14,6 +14,7 @@ import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
 import { kernelIdentity } from '../../shared/linalg/identity.js';
 import { DataFingerprinter, nodeSha256, runSubjects } from './dependencies.js';
+import { knownFingerprint } from '../data/panel-cache.js';
 
 export interface RecordRunInput {
   /** The spec as parsed (defaults filled in): what replay runs again. */
@@ -99,7 +100,7 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
   if (!given.length) throw new DeflatorError('INPUT_INVALID', 'recordRun: no panel given', 'pass the returns panel the result was computed on');
   const panels: PanelFingerprint[] = [];
   for (const p of given) {
-    const fp = isPanel(p) ? fingerprintPanel(p, nodeSha256) : p;
+    const fp = isPanel(p) ? (knownFingerprint(p) ?? fingerprintPanel(p, nodeSha256)) : p;
     if (!panels.some((q) => q.sha256 === fp.sha256)) panels.push(fp);
   }
   const data = new DataFingerprinter(store, input.subjects);

@@ -22,6 +22,7 @@ import { driftPanelSpec } from '../../shared/values/drift.js';
 import type { BacktestEngine } from '../../shared/backtest/index.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { loadPanelInput, loadPresentValueHistories } from '../data/panel.js';
+import { cachedPanel, cachePanel } from '../data/panel-cache.js';
 import { buildPanel } from '../../shared/returns/index.js';
 import { loadedDigests } from '../runs/dependencies.js';
 import { recordRun } from '../runs/runs.js';
@@ -69,8 +70,12 @@ export function analysisFits(a: Analysis): FitSpec[] {
   return a.kind === 'compare' ? a.fits : a.kind === 'fit' || a.kind === 'backtest' ? [a.spec] : [];
 }
 
-/** Load panel: reads exactly what the spec(s) name from the store and builds the panel(s) (or the yearly values). */
-export function loadAnalysisData(store: Store, a: Analysis, opts: { digests?: boolean } = {}): AnalysisData {
+/**
+ * Load panel: reads exactly what the spec(s) name from the store and builds the panel(s) (or
+ * the yearly values). A panel the store's panel cache holds for the same data and settings
+ * is read from there (src-main/data/panel-cache.ts); `cache: false` (replay) always builds.
+ */
+export function loadAnalysisData(store: Store, a: Analysis, opts: { digests?: boolean; cache?: boolean } = {}): AnalysisData {
   if (a.kind === 'present-value') {
     const histories = loadPresentValueHistories(store, a.spec);
     const yearly = { assets: presentValueHistories(a.spec, histories).map((h) => h.asset), values: presentValueInputs(a.spec, histories) };
@@ -78,10 +83,23 @@ export function loadAnalysisData(store: Store, a: Analysis, opts: { digests?: bo
   }
   const panels: ReturnsPanel[] = [];
   const subjects = new Map<string, SubjectFingerprint>();
-  const inputs = a.kind === 'drift' ? [{ ...loadPanelInput(store, driftPanelSpec(a.spec)), priceRatios: true }] : analysisFits(a).map((f) => loadPanelInput(store, f));
-  for (const input of inputs) {
-    panels.push(buildPanel(input));
-    if (opts.digests) for (const s of loadedDigests(input, (x) => store.loadedDigest(x))) subjects.set(`${s.kind}\u0000${s.name}`, s);
+  const add = (list: readonly SubjectFingerprint[]) => {
+    for (const s of list) subjects.set(`${s.kind}\u0000${s.name}`, s);
+  };
+  const priceRatios = a.kind === 'drift';
+  const specs = a.kind === 'drift' ? [driftPanelSpec(a.spec)] : analysisFits(a);
+  for (const spec of specs) {
+    const hit = opts.cache === false ? null : cachedPanel(store, spec, priceRatios);
+    if (hit) {
+      panels.push(hit.panel);
+      if (opts.digests) add(hit.subjects);
+      continue;
+    }
+    const input = { ...loadPanelInput(store, spec), ...(priceRatios ? { priceRatios: true } : {}) };
+    const panel = buildPanel(input);
+    panels.push(panel);
+    if (opts.cache !== false) cachePanel(store, input, panel);
+    if (opts.digests) add(loadedDigests(input, (x) => store.loadedDigest(x)));
   }
   return opts.digests ? { panels, subjects: [...subjects.values()] } : { panels };
 }

@@ -162,6 +162,30 @@ export const MIGRATIONS: Migration[] = [
       db.exec(PACK_TRIGGERS_SQL);
     },
   },
+  {
+    version: 8,
+    name: 'panel cache: built returns panels by the digests of the data they came from (src-main/data/panel-cache.ts)',
+    up: `
+      -- A returns panel as built, under a key naming everything it came from (the spec's
+      -- panel keys, each subject's digest and stored kind, the program's build): a copy, so
+      -- any change to a packed subject clears it (the trigger below), and a key that no
+      -- longer matches is never read.
+      CREATE TABLE panel_cache (
+        key         TEXT    NOT NULL UNIQUE,
+        -- the panel's fingerprint (shared/records/panel-encoding.ts), as JSON
+        fingerprint TEXT    NOT NULL,
+        -- the subjects the build read, with their digests (the run record's), as JSON
+        subjects    TEXT    NOT NULL,
+        bytes       INTEGER NOT NULL,
+        -- the panel with each series replaced by {"$col": n} (shared/batch/snapshot.ts)
+        idx         TEXT    NOT NULL,
+        -- the series, float64 little-endian
+        columns     BLOB    NOT NULL
+      );
+      CREATE TRIGGER panel_cache_clear AFTER DELETE ON subject_pack
+        BEGIN DELETE FROM panel_cache; END;
+    `,
+  },
 ];
 
 /** The schema version this build writes. */
