@@ -19,9 +19,19 @@ export function allTests(r: Pick<FitResult, 'test' | 'tests'>): TestResult[] {
   return [r.test, ...r.tests.filter((t) => !(t.name === r.test.name && Object.is(t.stat, r.test.stat) && Object.is(t.p, r.test.p)))];
 }
 
-/** Sample notes read as sentences: the "*" subject (the whole sample) is dropped. */
+/**
+ * Result field names that stored notes use, in the words of the column headings (results
+ * keep their notes as recorded; the presentation speaks the headings' language).
+ */
+const NOTE_WORDS: readonly [RegExp, string][] = [
+  [/\bseShanken\b/g, 's.e. (Shanken)'],
+  [/\bseHac\b/g, 's.e. (HAC)'],
+  [/\bcentered\b/g, 'centred'],
+];
+
+/** Notes read as sentences: the "*" subject (the whole sample) is dropped, field names become the headings' words. */
 export function noteText(n: string): string {
-  return n.replace(/^\*:\s*/, '');
+  return NOTE_WORDS.reduce((t, [re, w]) => t.replace(re, w), n.replace(/^\*:\s*/, ''));
 }
 
 /** The title of a fit: its label, then the estimator, once. */
@@ -53,7 +63,7 @@ export function fitTables(r: FitResult): PresentedTable[] {
 
   const shanken = r.params.some((p) => p.seShanken !== undefined);
   const paramNotes = [...new Set(r.params.map((p) => p.note).filter((n): n is string => !!n))].map(
-    (n) => `${r.params.filter((p) => p.note === n).map((p) => p.name).join(', ')}: ${n}`,
+    (n) => `${r.params.filter((p) => p.note === n).map((p) => p.name).join(', ')}: ${noteText(n)}`,
   );
   tables.push(
     table({

@@ -6,6 +6,7 @@
 import type { DriftResult, PresentValueResult, ValueResult } from '../results.js';
 import { CAUTION } from '../results.js';
 import { numCol, table, tableWarnings, textCol } from './build.js';
+import { noteText } from './fit.js';
 import type { CellValue, HeaderLine, NumberFormat, Presentation, PresentedColumn as ReportColumn, PresentedTable as ReportTable } from './types.js';
 
 const text = (key: string, label = key): ReportColumn => textCol(key, label);
@@ -133,9 +134,9 @@ export function valueHeaderLines(r: ValueResult): HeaderLine[] {
 }
 
 export function presentPresentValue(r: PresentValueResult): Presentation {
-  return { kind: r.kind, title: r.label, caution: CAUTION, header: valueHeaderLines(r), tables: presentValueTables(r), notes: [...new Set(r.notes)], warnings: r.warnings };
+  return { kind: r.kind, title: r.label, caution: CAUTION, header: valueHeaderLines(r), tables: presentValueTables(r), notes: [...new Set(r.notes.map(noteText))], warnings: r.warnings };
 }
 
 export function presentDrift(r: DriftResult): Presentation {
-  return { kind: r.kind, title: r.label, caution: CAUTION, header: valueHeaderLines(r), tables: driftTables(r), notes: [...new Set(r.notes)], warnings: r.warnings };
+  return { kind: r.kind, title: r.label, caution: CAUTION, header: valueHeaderLines(r), tables: driftTables(r), notes: [...new Set(r.notes.map(noteText))], warnings: r.warnings };
 }

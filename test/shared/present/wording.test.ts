@@ -51,3 +51,16 @@ describe('presentation wording', () => {
     expect(line).not.toMatch(/\bg_t\b|r\^e_s/);
   });
 });
+
+describe('notes in the words of the headings', () => {
+  it('stored notes that name result fields (seShanken, seHac) or spell centred otherwise read as the column headings do', () => {
+    const r = sampleFit();
+    r.params[4].note = 'Fama-MacBeth s.e. (time s.d. of the period estimates); seShanken: Shanken (1992) correction';
+    r.notes = ['Pricing errors are the time-series intercepts; seHac beside them uses Newey-West.', 'Newey-West (Bartlett; centered, divide by T).'];
+    const text = resultToText(r);
+    expect(text).toContain('s.e. (Shanken): Shanken (1992) correction');
+    expect(text).toContain('s.e. (HAC) beside them');
+    expect(text).toContain('centred, divide by T');
+    expect(text).not.toMatch(/seShanken|seHac|centered/);
+  });
+});
