@@ -130,6 +130,24 @@ describe('warnings: each raised by a constructed case and shown on every surface
     await expectOnEverySurface(r, 'START_AT_EDGE');
   });
 
+  it('START_AT_EDGE through a whole fit: the GMM estimate gamma = 250 lies beyond the scan range, and the fit says so', async () => {
+    // The three-period cycle of the scan case above, repeated 40 times: growth e^-0.02, 1, e^0.02, so with
+    // X = e^(0.02 gamma) the moment of an excess return cycling (a, -b, c) is (a X - b + c / X) / 3. Asset A (1, -e^5, 0)
+    // and asset B (1, -(e^5 + e^-5), 1) both have a zero at X = e^5, gamma = 250 (B's other zero is at -250): the
+    // first stage reaches 250 exactly, beyond the scan's end at 200, where the scan's best point lies.
+    const T = 120;
+    const cycle = (v: number[]) => Float64Array.from({ length: T }, (_, t) => v[t % 3]);
+    const growth = cycle([Math.exp(-0.02), 1, Math.exp(0.02)]);
+    const returns = [cycle([1, -Math.exp(5), 0]), cycle([1, -(Math.exp(5) + Math.exp(-5)), 1])];
+    const periods = Array.from({ length: T }, (_, t) => `${2001 + Math.floor(t / 12)}-${String((t % 12) + 1).padStart(2, '0')}-28`);
+    const p: ReturnsPanel = { frequency: 'monthly', periods, assets: ['A', 'B'], returnKind: 'excess', returns, factors: [], consumptionGrowth: growth, sampleNotes: [] };
+    const r = fit(parseFitSpec({ returns: 'excess', riskfree: 'rf', model: { kind: 'consumption', consumption: 'c', delta: 1 }, estimator: { stage: 'first', lags: 0 } }), p);
+    const gamma = r.params.find((x) => x.name === 'gamma')!.estimate;
+    expect(gamma).toBeCloseTo(250, 6);
+    expect(codes(r.warnings)).toContain('START_AT_EDGE');
+    await expectOnEverySurface(r, 'START_AT_EDGE');
+  });
+
   it('ITERATION_CAP: iterated GMM stopped by estimator.maxIterations = 1 reports the last update, not converged', async () => {
     const r = fit(parseFitSpec({ returns: 'excess', riskfree: 'rf', model: { kind: 'linear', factors: ['f1'] }, estimator: { stage: 'iterated', maxIterations: 1 } }), panel(120, 8, 1, 6));
     expect(codes(r.warnings)).toContain('ITERATION_CAP');
