@@ -16,6 +16,20 @@ const root = path.resolve(import.meta.dirname, '../..');
 export const SCREENSHOTS = path.join(root, 'test-output', 'screenshots');
 mkdirSync(SCREENSHOTS, { recursive: true });
 
+/** One bridge call through the loopback server, with the page's access key; fails the test with the error's code and message. */
+export async function bridgeCall<T>(page: Page, name: string, req: unknown): Promise<T> {
+  const env = (await page.evaluate(
+    async ([n, r]) => {
+      const key = sessionStorage.getItem('deflator.key') ?? '';
+      const res = await fetch(`./api/${n}`, { method: 'POST', headers: { 'content-type': 'application/json', authorization: `Bearer ${key}` }, body: JSON.stringify(r) });
+      return res.json();
+    },
+    [name, req] as const,
+  )) as { ok: boolean; value: T; error?: unknown };
+  expect(env.ok, JSON.stringify(env.error)).toBe(true);
+  return env.value;
+}
+
 export async function shot(page: Page, name: string): Promise<void> {
   await page.screenshot({ path: path.join(SCREENSHOTS, `${name}.png`), fullPage: true });
 }

@@ -5,20 +5,8 @@
  */
 import type { DriftResult, PresentValueResult } from '../../shared/results.js';
 import { expect, test } from './fixtures.js';
-import { chooseFirstFactor, shot } from './flow.js';
+import { bridgeCall, chooseFirstFactor, shot } from './flow.js';
 
-async function call<T>(page: import('@playwright/test').Page, name: string, req: unknown): Promise<T> {
-  const env = (await page.evaluate(
-    async ([n, r]) => {
-      const key = sessionStorage.getItem('deflator.key') ?? '';
-      const res = await fetch(`./api/${n}`, { method: 'POST', headers: { 'content-type': 'application/json', authorization: `Bearer ${key}` }, body: JSON.stringify(r) });
-      return res.json();
-    },
-    [name, req] as const,
-  )) as { ok: boolean; value: T };
-  expect(env.ok).toBe(true);
-  return env.value;
-}
 
 test('the present-value screen: decomposition of the demo aggregate and the drift split', async ({ page }) => {
   await page.goto('/');
@@ -29,7 +17,7 @@ test('the present-value screen: decomposition of the demo aggregate and the drif
   await expect(page.locator('[data-testid=dp-chart]')).toHaveAttribute('data-drawn', /[1-9]/);
   await expect(page.locator('[data-testid=dp-regressions-chart]')).toHaveAttribute('data-drawn', /[1-9]/);
   // the numbers on screen are the engine's (6 significant digits)
-  const pv = await call<PresentValueResult>(page, 'presentValue', { spec: { analysis: 'present-value', aggregate: true } });
+  const pv = await bridgeCall<PresentValueResult>(page, 'presentValue', { spec: { analysis: 'present-value', aggregate: true } });
   await expect(result).toContainText(Number(pv.regressions.r.b.toPrecision(6)).toString());
   await expect(result).toContainText(Number(pv.longRun.dd.b.toPrecision(6)).toString());
   await expect(result).toContainText('2001 to 2024, T = 24');
@@ -38,7 +26,7 @@ test('the present-value screen: decomposition of the demo aggregate and the drif
   await page.click('[data-testid=drift-run]');
   const drift = page.locator('[data-testid=drift-chart]');
   await expect(drift).toHaveAttribute('data-drawn', /[1-9]/, { timeout: 60_000 });
-  const dr = await call<DriftResult>(page, 'drift', { spec: { analysis: 'drift' } });
+  const dr = await bridgeCall<DriftResult>(page, 'drift', { spec: { analysis: 'drift' } });
   expect(dr.assets.length).toBeGreaterThanOrEqual(30); // the demo's 30, and any other spec's imports into the shared server database
   await page.locator('[data-testid=drift-chart]').scrollIntoViewIfNeeded();
   await shot(page, 'drift-split');

@@ -5,24 +5,11 @@
  * screen lists each warning at the top and under the tables it qualifies, as every export
  * does (test/shared/warnings.test.ts covers the other surfaces and the other codes).
  */
-import type { Page } from '@playwright/test';
 import type { FitResult } from '../../shared/results.js';
 import { ESTIMATE_WARNINGS } from '../../shared/present/fit.js';
 import { expect, test } from './fixtures.js';
-import { shot } from './flow.js';
+import { bridgeCall, shot } from './flow.js';
 
-async function call<T>(page: Page, name: string, req: unknown): Promise<T> {
-  const env = (await page.evaluate(
-    async ([n, r]) => {
-      const key = sessionStorage.getItem('deflator.key') ?? '';
-      const res = await fetch(`./api/${n}`, { method: 'POST', headers: { 'content-type': 'application/json', authorization: `Bearer ${key}` }, body: JSON.stringify(r) });
-      return res.json();
-    },
-    [name, req] as const,
-  )) as { ok: boolean; value: T; error?: unknown };
-  expect(env.ok, JSON.stringify(env.error)).toBe(true);
-  return env.value;
-}
 
 // Ten of the demo's assets by name (other specs import more assets into the same server database).
 const assets = ['ashcombe-lamps', 'brackenholt-rail', 'brinemoor-ferries', 'cindervale-metals', 'corvane-saltworks', 'duskwater-fisheries', 'eddisholm-glass', 'emberlyn-clocks', 'fallowmere-grain', 'foxmere-printing'];
@@ -35,7 +22,7 @@ const cases = [
 for (const c of cases) {
   test(`${c.code}: a run built to raise it shows the warning at the top of the fit screen and under the tables it qualifies`, async ({ page }) => {
     await page.goto('/');
-    const r = await call<FitResult & { runId: number }>(page, 'fit', { spec: c.spec });
+    const r = await bridgeCall<FitResult & { runId: number }>(page, 'fit', { spec: c.spec });
     const w = r.warnings.find((x) => x.code === c.code);
     expect(w, `the run raises ${c.code}`).toBeDefined();
     expect(ESTIMATE_WARNINGS).toContain(c.code);
