@@ -13,11 +13,17 @@ export function assertAllFinite(value: unknown, path = 'result'): void {
   if (value === null || typeof value !== 'object') return;
   if (ArrayBuffer.isView(value)) {
     const arr = value as unknown as ArrayLike<number>;
-    for (let i = 0; i < arr.length; i++) assertAllFinite(arr[i], `${path}[${i}]`);
+    // the path is written only for the element that fails (a series has thousands)
+    for (let i = 0; i < arr.length; i++) if (!Number.isFinite(arr[i])) assertAllFinite(arr[i], `${path}[${i}]`);
     return;
   }
   if (Array.isArray(value)) {
-    value.forEach((v, i) => assertAllFinite(v, `${path}[${i}]`));
+    for (let i = 0; i < value.length; i++) {
+      const v: unknown = value[i];
+      if (typeof v === 'number') {
+        if (!Number.isFinite(v)) assertAllFinite(v, `${path}[${i}]`);
+      } else if (v !== null && typeof v === 'object') assertAllFinite(v, `${path}[${i}]`);
+    }
     return;
   }
   for (const [k, v] of Object.entries(value as Record<string, unknown>)) assertAllFinite(v, `${path}.${k}`);

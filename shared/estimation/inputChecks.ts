@@ -16,7 +16,8 @@ export function isConstant(x: Float64Array): boolean {
   if (x.length === 0) return true;
   let lo = Infinity;
   let hi = -Infinity;
-  for (const v of x) {
+  for (let t = 0; t < x.length; t++) {
+    const v = x[t];
     if (v < lo) lo = v;
     if (v > hi) hi = v;
   }

@@ -68,25 +68,46 @@ export function longRunCovariance(u: readonly Float64Array[], lags: number, cent
   }
   // v_a = u_a + sum_j w_j (lead_j + lag_j).
   const filtered: Float64Array[] = new Array(q);
-  for (let a = 0; a < q; a++) {
-    const x = series[a];
-    if (lags === 0) {
-      filtered[a] = x;
-      continue;
-    }
-    const v = Float64Array.from(x);
-    for (let j = 1; j <= lags; j++) {
-      const wj = w[j];
-      for (let t = 0; t + j < T; t++) {
-        v[t] += wj * x[t + j];
-        v[t + j] += wj * x[t];
-      }
-    }
-    filtered[a] = v;
-  }
+  for (let a = 0; a < q; a++) filtered[a] = lags === 0 ? series[a] : bartlettFilter(series[a], w, lags);
   // S_ab = S_ba = (1/T) sum_t v_a,t u_b,t for b >= a.
   const S = seriesProductsUpper(filtered, series);
   const invT = 1 / T;
   for (let k = 0; k < S.length; k++) S[k] *= invT;
   return { rows: q, cols: q, data: S };
+}
+
+/**
+ * v_t = u_t + sum_{j=1..L} w_j (u_{t-j} + u_{t+j}), terms outside 0..T-1 dropped, each
+ * period's sum taken in one pass: for j = 1, 2, ..., L the lag term, then the lead term,
+ * each added (and rounded) in that order. That is the order in which the pairwise form
+ * `for j: for t: v[t] += w_j u[t+j]; v[t+j] += w_j u[t]` adds them to period s (its lag term
+ * at t = s - j, before its lead term at t = s), so the sums are the same bit for bit; one
+ * write per period instead of 2L read-modify-writes of the whole series.
+ */
+function bartlettFilter(x: Float64Array, w: Float64Array, lags: number): Float64Array {
+  const T = x.length;
+  const v = new Float64Array(T);
+  // the ends, where some terms fall outside the sample
+  const edge = (s: number): number => {
+    let acc = x[s];
+    for (let j = 1; j <= lags; j++) {
+      if (s - j >= 0) acc += w[j] * x[s - j];
+      if (s + j < T) acc += w[j] * x[s + j];
+    }
+    return acc;
+  };
+  const lo = Math.min(lags, T);
+  const hi = Math.max(lo, T - lags);
+  for (let s = 0; s < lo; s++) v[s] = edge(s);
+  for (let s = lo; s < hi; s++) {
+    let acc = x[s];
+    for (let j = 1; j <= lags; j++) {
+      const wj = w[j];
+      acc += wj * x[s - j];
+      acc += wj * x[s + j];
+    }
+    v[s] = acc;
+  }
+  for (let s = hi; s < T; s++) v[s] = edge(s);
+  return v;
 }

@@ -62,7 +62,12 @@ function meanAndCov(x: readonly Float64Array[]): { mu: Float64Array; cov: Float6
     for (let t = 0; t < T; t++) s += x[i][t];
     mu[i] = s / T;
   }
-  const centered = x.map((xi, i) => Float64Array.from(xi, (v) => v - mu[i]));
+  const centered = x.map((xi, i) => {
+    const c = new Float64Array(T);
+    const m = mu[i];
+    for (let t = 0; t < T; t++) c[t] = xi[t] - m;
+    return c;
+  });
   const cov = seriesProductsUpper(centered, centered);
   for (let k = 0; k < cov.length; k++) cov[k] /= T;
   return { mu, cov };

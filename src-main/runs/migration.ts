@@ -131,3 +131,13 @@ export const RUNS_KINDS_MIGRATION_SQL = `
   CREATE INDEX run_by_time ON run (created_at);
   CREATE INDEX run_subject_by_name ON run_subject (kind, name);
 `;
+
+export const RUNS_COLUMNS_MIGRATION_NAME = 'run records: the result\'s long number series as float64 columns';
+
+/**
+ * The result's long number series (a fit's discounted paths, a bootstrap's draws: arrays of
+ * at least COLUMN_MIN numbers) as float64 columns beside its exact JSON, which refers to them
+ * by index (shared/records/exact-json.ts stringifyExactColumns). NULL for runs recorded
+ * before, whose JSON holds every number.
+ */
+export const RUNS_COLUMNS_MIGRATION_SQL = `ALTER TABLE run ADD COLUMN result_columns BLOB;`;

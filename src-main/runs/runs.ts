@@ -7,7 +7,7 @@ import type { ReturnsPanel } from '../../shared/panel.js';
 import type { RunResult } from '../../shared/results.js';
 import { DeflatorError } from '../../shared/errors.js';
 import { windowsPerChunk } from '../../shared/backtest/windows.js';
-import { parseExact, stringifyExact } from '../../shared/records/exact-json.js';
+import { decodeColumns, encodeColumns, parseExact, parseExactColumns, stringifyExact, stringifyExactColumns } from '../../shared/records/exact-json.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
 import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSummary, RunTag, StaleItem, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
@@ -48,6 +48,7 @@ interface RunRow {
   version: string;
   spec: string;
   result: string;
+  result_columns: Uint8Array | null;
   panel: string;
   panel_sha256: string;
   panels: string | null;
@@ -121,8 +122,10 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
     kernels: kernelIdentity(),
   };
   const insert = store.db.prepare(
-    'INSERT INTO run (kind, label, models, created_at, version, spec, result, panel, panel_sha256, panels, files, subjects, compute) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
+    'INSERT INTO run (kind, label, models, created_at, version, spec, result, result_columns, panel, panel_sha256, panels, files, subjects, compute) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?, ?)',
   );
+  // long number series as float64 columns beside the JSON (migration 9)
+  const stored = stringifyExactColumns(untagged(input.result));
   const insertSubject = store.db.prepare('INSERT INTO run_subject (run_id, kind, name, sha256) VALUES (?, ?, ?, ?)');
   const id = store.db.transaction(() => {
     const runId = Number(
@@ -133,7 +136,8 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
         createdAt,
         VERSION,
         stringifyExact(input.spec),
-        stringifyExact(untagged(input.result)),
+        stored.text,
+        stored.columns.length ? encodeColumns(stored.columns) : null,
         JSON.stringify(panels[0]),
         panels[0].sha256,
         panels.length > 1 ? JSON.stringify(panels) : null,
@@ -198,7 +202,7 @@ function toRecord(r: RunRow): RunRecord {
     createdAt: r.created_at,
     version: r.version,
     spec: parseExact(r.spec),
-    result: parseExact<RunResult>(r.result),
+    result: r.result_columns ? parseExactColumns<RunResult>(r.result, decodeColumns(r.result_columns)) : parseExact<RunResult>(r.result),
     panel: JSON.parse(r.panel) as PanelFingerprint,
     files: JSON.parse(r.files) as DataFileFingerprint[],
     subjects: JSON.parse(r.subjects) as SubjectFingerprint[],
@@ -273,7 +277,8 @@ export interface RunFilter {
 /** Runs, newest first, with their stale flags. */
 export function listRuns(store: Store, filter: RunFilter = {}): RunSummary[] {
   requireRunTables(store);
-  const rows = store.db.prepare('SELECT * FROM run ORDER BY id DESC').all() as RunRow[];
+  // the summary's columns only: not every run's result
+  const rows = store.db.prepare('SELECT id, kind, label, models, created_at, version, panel, panel_sha256, files, subjects FROM run ORDER BY id DESC').all() as Pick<RunRow, 'id' | 'kind' | 'label' | 'models' | 'created_at' | 'version' | 'panel' | 'panel_sha256' | 'files' | 'subjects'>[];
   const fp = new DataFingerprinter(store);
   const to = filter.to && /^\d{4}-\d{2}-\d{2}$/.test(filter.to) ? `${filter.to}T23:59:59.999Z` : filter.to;
   const needle = filter.model?.toLowerCase();

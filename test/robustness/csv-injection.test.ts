@@ -15,9 +15,9 @@ import { parse } from 'csv-parse/sync';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { present } from '../../shared/present/index.js';
 import { csvField, tableCsv, tableTsv } from '../../shared/report/csv.js';
-import { parseExact } from '../../shared/records/exact-json.js';
 import type { FitResult } from '../../shared/results.js';
 import { importPrices, importSeries } from '../../src-main/import/index.js';
+import { getRun } from '../../src-main/runs/runs.js';
 import { Store } from '../../src-main/store/store.js';
 import { makeProject, type Project } from '../src-main/runs/helpers.js';
 import { cleanTempDirs, tempDir, cli } from './helpers.js';
@@ -102,7 +102,7 @@ describe('CSV formula injection', () => {
     const s = new Store(p.dbPath, { mustExist: true });
     let result: FitResult;
     try {
-      result = parseExact<FitResult>(s.db.prepare('SELECT result FROM run WHERE id = ?').pluck().get(runId) as string);
+      result = getRun(s, runId).result as FitResult;
     } finally {
       s.close();
     }

@@ -6,6 +6,8 @@
 import { Matrix, solve } from 'ml-matrix';
 import { describe, expect, it } from 'vitest';
 import { gmmFitDetailed } from '../../../shared/estimation/gmmFit.js';
+import { longRunCovariance } from '../../../shared/estimation/longRunCovariance.js';
+import { seriesProductsUpper } from '../../../shared/linalg/matrix.js';
 import type { ReturnsPanel } from '../../../shared/panel.js';
 import { parseFitSpec, type FitSpecInput } from '../../../shared/spec.js';
 import { expectClose, monthEnds } from './helpers.js';
@@ -188,5 +190,35 @@ describe('gmmHjSquared', () => {
     const s2 = parseFitSpec({ returns: 'gross', model: { kind: 'consumption', consumption: 'c' } });
     const p2 = panel(gross, [], 'gross', growth);
     expectClose(gmmHjSquared(s2, p2), gmmFitDetailed(s2, p2).result.hj!.distance ** 2, 1e-12, 'HJ^2 consumption');
+  });
+});
+
+describe('Newey-West filter: the sums in the order of the definition', () => {
+  // S = (1/T) sum_t v_t u_t' with v = u + sum_j w_j (u lagged j + u led j), the sums added
+  // pairwise for j = 1..L (lag then lead for each period): the one-pass filter of
+  // longRunCovariance must give the same bits, at every T from L + 2 up.
+  it('gives the same bits as the pairwise form, sample ends included', () => {
+    const r = rng(20261202);
+    for (const [T, L] of [[3, 1], [7, 5], [11, 5], [12, 5], [40, 0], [288, 5], [1001, 12]]) {
+      const u = Array.from({ length: 4 }, () => normals(r, T));
+      const S = longRunCovariance(u, L, true);
+      const centered = u.map((x) => {
+        const m = x.reduce((a, b) => a + b, 0) / T;
+        return Float64Array.from(x, (v) => v - m);
+      });
+      const v = centered.map((x) => {
+        const out = Float64Array.from(x);
+        for (let j = 1; j <= L; j++) {
+          const wj = 1 - j / (L + 1);
+          for (let t = 0; t + j < T; t++) {
+            out[t] += wj * x[t + j];
+            out[t + j] += wj * x[t];
+          }
+        }
+        return out;
+      });
+      const expected = seriesProductsUpper(v, centered);
+      for (let k = 0; k < expected.length; k++) expect(Object.is(S.data[k], expected[k] * (1 / T)), `T ${T}, L ${L}, entry ${k}`).toBe(true);
+    }
   });
 });
