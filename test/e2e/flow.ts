@@ -192,6 +192,7 @@ export async function runDemoFlow(page: Page, prefix: string): Promise<void> {
   await page.click('[data-screen=setup]');
   // No factor is chosen for the user: the set-up asks, and one click picks the first.
   await expect(page.locator('[data-testid=factor-prompt]')).toBeVisible();
+  await expect(page.locator('.field-error', { hasText: 'needs at least one factor' }), 'the missing factors said once').toHaveCount(1);
   await chooseFirstFactor(page);
   await expect(page.locator('[data-testid=lags-preview]')).toContainText(/auto gives \d+ lags? on T = \d+ periods/);
   await shot(page, `${prefix}model-setup`);
