@@ -203,6 +203,33 @@ export function alreadyImported(file: string, sha256: string, before: ImportLogE
 }
 
 /**
+ * The import log's view of a file about to be read. `earlier(sha256, refuseDiffering)`:
+ * the report of an earlier import of these bytes read the same way (nothing to do), a
+ * refusal for bytes read another way (unless refuseDiffering is false), or undefined.
+ * With replace, the file is hashed first: read the same way before, `done` is that report;
+ * otherwise `differing` lists the earlier imports the new one takes out in its transaction.
+ */
+export async function importLogCheck(
+  store: Store,
+  file: string,
+  kind: ImportLogEntry['kind'],
+  recorded: Record<string, unknown>,
+  started: number,
+  replace: boolean,
+): Promise<{ earlier: (sha256: string, refuseDiffering: boolean) => ImportReport | undefined; done?: ImportReport; differing: EarlierImports['differing'] }> {
+  const earlier = (sha256: string, refuseDiffering: boolean): ImportReport | undefined => {
+    const e = earlierImports(store, sha256, kind, recorded);
+    if (e.same) return alreadyImported(file, sha256, e.same, started);
+    if (refuseDiffering && e.differing.length) throw readDifferentlyError(file, e.differing);
+    return undefined;
+  };
+  if (!replace) return { earlier, differing: [] };
+  const e = earlierImports(store, await sha256File(file), kind, recorded);
+  if (e.same) return { earlier, done: alreadyImported(file, e.same.sha256, e.same, started), differing: [] };
+  return { earlier, differing: e.differing };
+}
+
+/**
  * Replace mode, right after the session began: earlier imports of the same bytes read
  * another way are taken out in this import's transaction (so a file imported with the
  * wrong kind, units or form can be brought in again). Returns what was taken out, for

@@ -16,7 +16,7 @@ import { isoDayNumber } from '../data/calendar.js';
 import { ImportSession } from '../store/session.js';
 import type { ImportWarning, Store } from '../store/store.js';
 import { HistoryChecker, WarningSink, detectFrequency } from './checks.js';
-import { alreadyImported, codePoint, controlInName, earlierImports, fileSize, logName, readDifferentlyError, readHeader, sha256File, takeOutDiffering, type ImportReport, type ProgressCallback } from './common.js';
+import { codePoint, controlInName, importLogCheck, sha256File, fileSize, logName, readHeader, takeOutDiffering, type ImportReport, type ProgressCallback } from './common.js';
 import type { CsvRow } from './csv.js';
 import { dateHint } from './fields.js';
 import { Reading, type ReadingOptions } from './reading.js';
@@ -321,18 +321,8 @@ export async function importReturns(store: Store, file: string, options: ReturnI
   const total = fileSize(file);
   const progress = options.onProgress;
   const onProgress: ProgressCallback | undefined = progress ? (read) => progress(read, total) : undefined;
-  const earlier = (sha256: string, refuseDiffering: boolean): ImportReport | undefined => {
-    const e = earlierImports(store, sha256, 'returns', recorded);
-    if (e.same) return alreadyImported(file, sha256, e.same, started);
-    if (refuseDiffering && e.differing.length) throw readDifferentlyError(file, e.differing);
-    return undefined;
-  };
-  let differing: ReturnType<typeof earlierImports>['differing'] = [];
-  if (options.replace) {
-    const e = earlierImports(store, await sha256File(file), 'returns', recorded);
-    if (e.same) return alreadyImported(file, e.same.sha256, e.same, started);
-    differing = e.differing;
-  }
+  const { earlier, done, differing } = await importLogCheck(store, file, 'returns', recorded, started, options.replace === true);
+  if (done) return done;
 
   const session = new ImportSession(store);
   session.replace = options.replace === true;

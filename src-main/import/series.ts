@@ -11,7 +11,7 @@ import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { ImportSession } from '../store/session.js';
 import type { Store } from '../store/store.js';
 import { HistoryChecker, WarningSink, detectFrequency } from './checks.js';
-import { alreadyImported, earlierImports, fileSize, logName, readDifferentlyError, readHeader, sha256File, takeOutDiffering, type ImportReport, type ProgressCallback } from './common.js';
+import { importLogCheck, sha256File, fileSize, logName, readHeader, takeOutDiffering, type ImportReport, type ProgressCallback } from './common.js';
 import { dateHint } from './fields.js';
 import { Reading, type ReadingOptions } from './reading.js';
 
@@ -70,19 +70,8 @@ export async function importSeries(store: Store, file: string, options: SeriesIm
     ...(options.replace ? { replace: true } : {}),
   };
 
-  /** The earlier import of these bytes read the same way (nothing to do); read another way: refused, unless replacing. */
-  const earlier = (sha256: string, refuseDiffering: boolean): ImportReport | undefined => {
-    const e = earlierImports(store, sha256, 'series', recorded);
-    if (e.same) return alreadyImported(file, sha256, e.same, started);
-    if (refuseDiffering && e.differing.length) throw readDifferentlyError(file, e.differing);
-    return undefined;
-  };
-  let differing: ReturnType<typeof earlierImports>['differing'] = [];
-  if (options.replace) {
-    const e = earlierImports(store, await sha256File(file), 'series', recorded);
-    if (e.same) return alreadyImported(file, e.same.sha256, e.same, started);
-    differing = e.differing;
-  }
+  const { earlier, done, differing } = await importLogCheck(store, file, 'series', recorded, started, options.replace === true);
+  if (done) return done;
   const hash = createHash('sha256');
   const total = fileSize(file);
   const progress = options.onProgress;
