@@ -79,6 +79,24 @@ function progressBar(label: string): { onProgress?: (read: number, total: number
   };
 }
 
+/** One import from the command line: a progress bar on a terminal, the store opened and closed, the report printed. */
+async function runImport(
+  file: string,
+  o: { db: string; json?: boolean },
+  run: (store: Store, onProgress: ((read: number, total: number) => void) | undefined) => Promise<ImportReport>,
+): Promise<void> {
+  const bar = progressBar(`importing ${file}`);
+  const store = new Store(o.db);
+  try {
+    const r = await run(store, bar.onProgress);
+    bar.done();
+    report(r, o.json);
+  } finally {
+    bar.done();
+    store.close();
+  }
+}
+
 function report(r: ImportReport, json: boolean | undefined): void {
   process.stdout.write(json ? `${JSON.stringify(r, null, 2)}\n` : `${formatImportReport(r)}\n`);
 }
@@ -223,10 +241,8 @@ export function register(program: Command): void {
       if (o.dividendColumn) columns.dividend = o.dividendColumn;
       if (o.adjustColumn) columns.adjust = o.adjustColumn;
       if (o.sharesColumn) columns.shares = o.sharesColumn;
-      const bar = progressBar(`importing ${file}`);
-      const store = new Store(o.db);
-      try {
-        const r = await importPrices(store, file, {
+      await runImport(file, o, (store, onProgress) =>
+        importPrices(store, file, {
           layout: o.layout,
           ...(o.dividends ? { dividends: o.dividends } : {}),
           ...(Object.keys(columns).length ? { columns } : {}),
@@ -234,14 +250,9 @@ export function register(program: Command): void {
           thresholds: { maxReturn: o.maxReturn, maxDividendYield: o.maxDividendYield, stalePeriods: o.stalePeriods },
           maxRejects: o.maxRejects,
           ...(o.replace ? { replace: true } : {}),
-          ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
-        });
-        bar.done();
-        report(r, o.json);
-      } finally {
-        bar.done();
-        store.close();
-      }
+          ...(onProgress ? { onProgress } : {}),
+        }),
+      );
     });
 
   withReadingOptions(
@@ -258,24 +269,17 @@ export function register(program: Command): void {
     .option('--replace', 'values whose (series, date) is already stored replace the stored values (a corrected file), in the same transaction')
     .option('--json', 'print the import report as JSON')
     .action(async (file: string, o: SeriesFlags) => {
-      const bar = progressBar(`importing ${file}`);
-      const store = new Store(o.db);
-      try {
-        const r = await importSeries(store, file, {
+      await runImport(file, o, (store, onProgress) =>
+        importSeries(store, file, {
           kind: o.kind,
           units: o.units,
           ...(o.rfForm ? { rfForm: o.rfForm } : {}),
           ...(o.dateColumn ? { dateColumn: o.dateColumn } : {}),
           ...readingOptions(o),
           ...(o.replace ? { replace: true } : {}),
-          ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
-        });
-        bar.done();
-        report(r, o.json);
-      } finally {
-        bar.done();
-        store.close();
-      }
+          ...(onProgress ? { onProgress } : {}),
+        }),
+      );
     });
 
   withReadingOptions(
@@ -301,10 +305,8 @@ export function register(program: Command): void {
       if (o.dateColumn) columns.date = o.dateColumn;
       if (o.assetColumn) columns.asset = o.assetColumn;
       if (o.returnColumn) columns.return = o.returnColumn;
-      const bar = progressBar(`importing ${file}`);
-      const store = new Store(o.db);
-      try {
-        const r = await importReturns(store, file, {
+      await runImport(file, o, (store, onProgress) =>
+        importReturns(store, file, {
           layout: o.layout,
           form: o.form,
           units: o.units,
@@ -314,14 +316,9 @@ export function register(program: Command): void {
           maxReturn: o.maxReturn,
           maxRejects: o.maxRejects,
           ...(o.replace ? { replace: true } : {}),
-          ...(bar.onProgress ? { onProgress: bar.onProgress } : {}),
-        });
-        bar.done();
-        report(r, o.json);
-      } finally {
-        bar.done();
-        store.close();
-      }
+          ...(onProgress ? { onProgress } : {}),
+        }),
+      );
     });
 
   imp
