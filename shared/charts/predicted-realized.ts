@@ -78,7 +78,7 @@ export function predictedRealizedOption(fit: FitResult, opts: { annual?: boolean
         data: pts,
         symbolSize: pts.length > 50 ? 5 : 8,
         itemStyle: { color: PALETTE.primary, opacity: 0.85 },
-        label: { show: true, position: 'right', formatter: (x: { name?: string }) => (x.name && named.has(x.name) ? x.name : ''), fontSize: 9, color: PALETTE.muted },
+        label: { show: true, position: 'right', formatter: (x: { name?: string }) => (x.name && named.has(x.name) ? x.name : ''), fontSize: 9, color: PALETTE.muted, textBorderColor: '#ffffff', textBorderWidth: 2.5 },
         labelLayout: { hideOverlap: true },
       },
     ],

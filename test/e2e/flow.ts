@@ -31,6 +31,9 @@ export async function bridgeCall<T>(page: Page, name: string, req: unknown): Pro
 }
 
 export async function shot(page: Page, name: string): Promise<void> {
+  // From the top: the navigation and the page title are sticky, and a full-page capture
+  // taken while scrolled would draw them halfway down the image.
+  await page.evaluate(() => window.scrollTo(0, 0));
   await page.screenshot({ path: path.join(SCREENSHOTS, `${name}.png`), fullPage: true });
 }
 
