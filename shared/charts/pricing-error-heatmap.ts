@@ -68,7 +68,7 @@ export function heatmapCells(fit: FitResult, annual = true): { assets: string[];
 export function pricingErrorHeatmapOption(fit: FitResult, opts: { annual?: boolean } = {}): ChartOption {
   const annual = opts.annual ?? true;
   const { assets, instruments, cells } = heatmapCells(fit, annual);
-  const unit = annual ? '% a year' : `% per period (${fit.sample.frequency})`;
+  const unit = annual ? '% per year' : `% per period (${fit.sample.frequency})`;
   const byIndex = new Map(cells.map((c) => [`${c.x}:${c.y}`, c]));
   return {
     id: 'pricing-error-grid',

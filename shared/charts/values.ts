@@ -188,9 +188,9 @@ export function driftSplitOption(dr: DriftResult): ChartOption {
     ...baseOption(),
     legend: { top: 0, left: 64, textStyle: { color: PALETTE.muted, fontSize: 10 }, itemWidth: 14, itemHeight: 8 },
     grid: { left: 64, right: 16, top: 28, bottom: assets.length > 24 ? 96 : assets.length > 10 ? 72 : 36 },
-    tooltip: { ...(baseOption().tooltip as Record<string, unknown>), axisPointer: { type: 'shadow' }, valueFormatter: (v: number) => `${num(v, 2)} % a year` },
+    tooltip: { ...(baseOption().tooltip as Record<string, unknown>), axisPointer: { type: 'shadow' }, valueFormatter: (v: number) => `${num(v, 2)} % per year` },
     xAxis: categoryAxis(assets),
-    yAxis: valueAxis('% a year'),
+    yAxis: valueAxis('% per year'),
     series: [
       { type: 'bar', name: 'price growth', stack: 'split', data: dr.assets.map((a) => pct(a.priceGrowth)), itemStyle: { color: PALETTE.primary }, barMaxWidth: 28 },
       { type: 'bar', name: 'dividend yield', stack: 'split', data: dr.assets.map((a) => pct(a.dividendYield)), itemStyle: { color: PALETTE.secondary }, barMaxWidth: 28 },

@@ -7,6 +7,7 @@ import type { DriftResult, PresentValueResult, ValueResult } from '../results.js
 import { CAUTION } from '../results.js';
 import { numCol, table, tableWarnings, textCol } from './build.js';
 import { noteText } from './fit.js';
+import { percent } from './units.js';
 import type { CellValue, HeaderLine, NumberFormat, Presentation, PresentedColumn as ReportColumn, PresentedTable as ReportTable } from './types.js';
 
 const text = (key: string, label = key): ReportColumn => textCol(key, label);
@@ -81,7 +82,9 @@ export function presentValueTables(r: PresentValueResult): ReportTable[] {
 }
 
 export function driftTables(r: DriftResult): ReportTable[] {
-  const y = 'decimal per year';
+  // Percent per year, the unit of every other annualised mean on every surface (the JSON keeps decimals).
+  const y = '% per year';
+  const pct = (x: number | null): number | null => (x === null ? null : percent(x));
   return [
     {
       id: 'drift',
@@ -90,18 +93,18 @@ export function driftTables(r: DriftResult): ReportTable[] {
       columns: [
         text('asset', 'Asset'),
         text('source', 'Data'),
-        num('drift', 'Drift mu', 'value', y),
-        num('seDrift', 's.e.', 'value', y),
-        num('priceGrowth', 'Price growth', 'value', y),
-        num('sePriceGrowth', 's.e.', 'value', y),
-        num('dividendYield', 'Dividend yield', 'value', y),
-        num('seDividendYield', 's.e.', 'value', y),
-        num('sigma', 'sigma', 'value', 'decimal per square root of a year'),
-        num('logDrift', 'Log drift', 'value', y),
-        num('seLogDrift', 's.e.', 'value', y),
-        num('driftLessHalfVariance', 'mu - sigma^2/2', 'value', y),
+        num('drift', 'Drift mu', 'percent', y),
+        num('seDrift', 's.e.', 'percent', y),
+        num('priceGrowth', 'Price growth', 'percent', y),
+        num('sePriceGrowth', 's.e.', 'percent', y),
+        num('dividendYield', 'Dividend yield', 'percent', y),
+        num('seDividendYield', 's.e.', 'percent', y),
+        num('sigma', 'sigma', 'percent', '% per square root of a year'),
+        num('logDrift', 'Log drift', 'percent', y),
+        num('seLogDrift', 's.e.', 'percent', y),
+        num('driftLessHalfVariance', 'mu - sigma^2/2', 'percent', y),
       ],
-      rows: r.assets.map((a) => [a.asset, a.source, a.drift, a.se.drift, a.priceGrowth, a.se.priceGrowth, a.dividendYield, a.se.dividendYield, a.sigma, a.logDrift, a.se.logDrift, a.driftLessHalfVariance]),
+      rows: r.assets.map((a) => [a.asset, a.source, pct(a.drift), pct(a.se.drift), pct(a.priceGrowth), pct(a.se.priceGrowth), pct(a.dividendYield), pct(a.se.dividendYield), pct(a.sigma), pct(a.logDrift), pct(a.se.logDrift), pct(a.driftLessHalfVariance)]),
       // NO_PRICE_SPLIT qualifies the rows of the assets stored as returns; the other codes the whole table.
       warnings: [
         ...placed(r.warnings, 'drift'),

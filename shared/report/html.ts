@@ -206,8 +206,8 @@ function driftCharts(r: DriftResult): string[] {
     figure(
       stackedBarChart({
         id: 'chart-drift-split',
-        title: 'Drift split (% a year)',
-        yLabel: '% a year',
+        title: 'Drift split (% per year)',
+        yLabel: '% per year',
         partNames: ['price growth', 'dividend yield', 'drift (no split)'],
         markerName: 'drift mu',
         bars: r.assets.map((a) => ({ label: a.asset, parts: a.source === 'returns' ? [null, null, pct(a.drift)] : [pct(a.priceGrowth), pct(a.dividendYield), null], marker: a.drift * 100 })),
