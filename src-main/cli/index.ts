@@ -10,14 +10,19 @@ import { storageError } from '../store/errors.js';
 import { exitCodeOf } from './exit-codes.js';
 import { VERSION } from '../version.js';
 import { guardTerminal } from './terminal.js';
-import { COMMANDS } from './commands/registry.js';
+import { COMMANDS, commandsFor } from './commands/registry.js';
 
-export function buildProgram(): Command {
+/**
+ * The program with the commands `argv` needs (commandsFor: the one named, else all; with no
+ * argv, all), each command's modules loaded only then.
+ */
+export async function buildProgram(argv?: readonly string[]): Promise<Command> {
   const program = new Command('deflator')
     .description('Back-test asset-pricing models (GMM, HJ distance, GRS, two-pass) on your own return data, offline.')
     .version(VERSION)
     .showHelpAfterError('(run with --help for usage)');
-  for (const register of COMMANDS) register(program);
+  const registers = await Promise.all((argv ? commandsFor(argv) : COMMANDS).map((c) => c.load()));
+  for (const register of registers) register(program);
   return program;
 }
 
@@ -31,9 +36,9 @@ function dbArgument(argv: readonly string[]): string {
 }
 
 export async function main(argv: string[]): Promise<number> {
-  const program = buildProgram();
-  program.exitOverride();
   try {
+    const program = await buildProgram(argv);
+    program.exitOverride();
     await program.parseAsync(argv, { from: 'user' });
     return process.exitCode === undefined ? 0 : Number(process.exitCode);
   } catch (e) {

@@ -1,25 +1,47 @@
 /**
- * Every sub-command registers itself here (one line per command file).
- * Keep this list in the order `deflator --help` should show them.
+ * Every sub-command registers itself here (one line per command file), in the order
+ * `deflator --help` should show them. Each is loaded by a dynamic import, so that a
+ * command line evaluates only the modules of the command it names (a fit does not build
+ * the import, batch, export or server modules, nor their schemas): src-main/cli/index.ts
+ * loads one command when the first word names it, and all of them otherwise (help, an
+ * unknown or misspelt command, --version).
  */
 import type { Command } from 'commander';
-import { register as demo } from './demo.js';
-import { register as importData } from './import.js';
-import { register as info } from './info.js';
-import { register as returns } from './returns.js';
-import { register as fit } from './fit.js';
-import { register as backtest } from './backtest.js';
-import { register as compare } from './compare.js';
-import { register as presentValue } from './present-value.js';
-import { register as drift } from './drift.js';
-import { register as batch } from './batch.js';
-import { register as portfolio } from './portfolio.js';
-import { register as runs } from './runs.js';
-import { register as show } from './show.js';
-import { register as replay } from './replay.js';
-import { register as exportRun } from './export.js';
-import { register as serve } from './serve.js';
 
 export type RegisterCommand = (program: Command) => void;
 
-export const COMMANDS: RegisterCommand[] = [demo, importData, info, returns, portfolio, fit, backtest, compare, batch, presentValue, drift, runs, show, replay, exportRun, serve];
+export interface CommandEntry {
+  /** The word that selects it on the command line. */
+  name: string;
+  load: () => Promise<RegisterCommand>;
+}
+
+export const COMMANDS: CommandEntry[] = [
+  { name: 'demo', load: async () => (await import('./demo.js')).register },
+  { name: 'import', load: async () => (await import('./import.js')).register },
+  { name: 'info', load: async () => (await import('./info.js')).register },
+  { name: 'returns', load: async () => (await import('./returns.js')).register },
+  { name: 'portfolio', load: async () => (await import('./portfolio.js')).register },
+  { name: 'fit', load: async () => (await import('./fit.js')).register },
+  { name: 'backtest', load: async () => (await import('./backtest.js')).register },
+  { name: 'compare', load: async () => (await import('./compare.js')).register },
+  { name: 'batch', load: async () => (await import('./batch.js')).register },
+  { name: 'present-value', load: async () => (await import('./present-value.js')).register },
+  { name: 'drift', load: async () => (await import('./drift.js')).register },
+  { name: 'runs', load: async () => (await import('./runs.js')).register },
+  { name: 'show', load: async () => (await import('./show.js')).register },
+  { name: 'replay', load: async () => (await import('./replay.js')).register },
+  { name: 'export', load: async () => (await import('./export.js')).register },
+  { name: 'serve', load: async () => (await import('./serve.js')).register },
+];
+
+/**
+ * The commands a command line needs: the one its first word names, or all of them when
+ * that word names none (root help, `help`, --version, a misspelt command, whose
+ * suggestion needs every name).
+ */
+export function commandsFor(argv: readonly string[]): CommandEntry[] {
+  const first = argv.find((a) => !a.startsWith('-'));
+  const one = first === undefined ? undefined : COMMANDS.find((c) => c.name === first);
+  return one ? [one] : COMMANDS;
+}

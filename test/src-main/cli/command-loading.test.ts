@@ -1,0 +1,67 @@
+/**
+ * The command line loads only the command it is asked for (src-main/cli/commands/registry.ts):
+ * `node dist/cli.js` (the bundle vitest's global setup builds), with a preload that
+ * reports at exit which of Node's built-in modules the process loaded
+ * (process.moduleLoadList). A fit must not load the server's HTTP stack or the worker
+ * threads; help, `help CMD`, --version and a misspelt command still see every command.
+ */
+import { spawnSync } from 'node:child_process';
+import { mkdtempSync, writeFileSync } from 'node:fs';
+import { tmpdir } from 'node:os';
+import path from 'node:path';
+import { beforeAll, describe, expect, it } from 'vitest';
+import { COMMANDS } from '../../../src-main/cli/commands/registry.js';
+
+const root = path.resolve(import.meta.dirname, '../../..');
+const cli = path.join(root, 'dist', 'cli.js');
+let dir = '';
+let preload = '';
+
+beforeAll(() => {
+  dir = mkdtempSync(path.join(tmpdir(), 'deflator-loading-'));
+  preload = path.join(dir, 'loaded.cjs');
+  writeFileSync(preload, "process.on('exit', () => { process.stderr.write('@@loaded ' + JSON.stringify(process.moduleLoadList) + '\\n'); });\n");
+});
+
+function run(args: string[]) {
+  const r = spawnSync(process.execPath, ['--require', preload, cli, ...args], { cwd: root, encoding: 'utf8' });
+  const m = /@@loaded (.*)\n/.exec(r.stderr);
+  const loaded: string[] = m ? (JSON.parse(m[1]) as string[]) : [];
+  return { code: r.status, stdout: r.stdout, stderr: r.stderr.replace(/@@loaded .*\n/, ''), loaded };
+}
+
+const builtin = (loaded: string[], name: string) => loaded.includes(`NativeModule ${name}`);
+
+describe('command loading', () => {
+  it('a fit evaluates its own modules only: no HTTP server, no worker threads', () => {
+    const db = path.join(dir, 'demo.db');
+    expect(run(['demo', '--db', db]).code).toBe(0);
+    const r = run(['fit', path.join(root, 'sample-data/specs/linear-second.json'), '--db', db, '--no-record']);
+    expect(r.stderr).toBe('');
+    expect(r.code).toBe(0);
+    expect(r.stdout).toMatch(/Hansen J/);
+    expect(r.loaded.length).toBeGreaterThan(0);
+    expect(builtin(r.loaded, 'http')).toBe(false);
+    expect(builtin(r.loaded, 'worker_threads')).toBe(false);
+    // the server command does load it (the check above can fail)
+    const serve = run(['serve', '--help']);
+    expect(serve.code).toBe(0);
+    expect(builtin(serve.loaded, 'http')).toBe(true);
+  }, 60_000);
+
+  it('root help lists every command, in the registry order', () => {
+    const r = run(['--help']);
+    expect(r.code).toBe(0);
+    const listed = [...r.stdout.matchAll(/^ {2}([a-z-]+)(?: \[options\]| <|\s|$)/gm)].map((m) => m[1]).filter((n) => n !== 'help');
+    expect(listed).toEqual(COMMANDS.map((c) => c.name));
+  });
+
+  it('`help CMD`, a command\'s own help, a misspelt command and --version work as before', () => {
+    expect(run(['help', 'fit']).stdout).toMatch(/^Usage: deflator fit \[options\] <spec>/);
+    expect(run(['backtest', '--help']).stdout).toMatch(/^Usage: deflator backtest \[options\] <spec>/);
+    const typo = run(['fitt']);
+    expect(typo.code).not.toBe(0);
+    expect(typo.stderr).toMatch(/unknown command 'fitt'[\s\S]*Did you mean fit\?/);
+    expect(run(['--version']).stdout).toMatch(/^\d+\.\d+\.\d+/);
+  });
+});
