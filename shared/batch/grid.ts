@@ -24,28 +24,6 @@ export const DEFAULT_MAX_TASKS = 10_000;
 /** The ceiling of `--max-tasks`: plan holds every task spec in memory and writes one file per task (about 1 kB each). */
 export const HARD_MAX_TASKS = 100_000;
 
-const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
-const name = z.string().min(1);
-
-/** A set of test assets: "all", a list of names, or a named list. */
-const assetSetSchema = z.union([
-  z.literal('all'),
-  z.array(name).min(1),
-  z.object({ name: z.string().min(1).max(80), assets: z.array(name).min(1) }).strict(),
-]);
-
-/** All subsets of the candidates (sizes minSize..maxSize), each with the `always` factors first. */
-const factorSubsetsSchema = z
-  .object({
-    subsets: z.array(name).min(1).max(40),
-    minSize: z.number().int().min(0).default(1),
-    maxSize: z.number().int().min(0).optional(),
-    always: z.array(name).default([]),
-  })
-  .strict();
-
-const values = <T extends z.ZodType>(item: T) => z.array(item).min(1).max(10_000);
-
 /**
  * The axes, in expansion order. Each value list is validated with the schema of the key
  * it sets, so a grid refuses what a spec would refuse, naming the key.
@@ -72,43 +50,79 @@ export const AXES = [
 ] as const;
 export type AxisKey = (typeof AXES)[number];
 
-export const gridAxesSchema = z
-  .object({
-    frequency: values(z.enum(FREQUENCIES)).optional(),
-    start: values(isoDate).optional(),
-    end: values(isoDate).optional(),
-    assets: values(assetSetSchema).optional(),
-    'model.kind': values(modelSchema.shape.kind.unwrap()).optional(),
-    'model.factors': z.union([values(z.array(name)), factorSubsetsSchema]).optional(),
-    /** Conditioning information per task: an instruments block, or "none" for the unconditional model. */
-    instruments: values(z.union([z.literal('none'), instrumentsSchema])).optional(),
-    'estimator.method': values(estimatorSchema.shape.method.unwrap()).optional(),
-    'estimator.stage': values(estimatorSchema.shape.stage.unwrap()).optional(),
-    'estimator.weight': values(estimatorSchema.shape.weight.unwrap()).optional(),
-    'estimator.lags': values(estimatorSchema.shape.lags.unwrap()).optional(),
-    'estimator.centered': values(z.boolean()).optional(),
-    'estimator.inferenceS': values(estimatorSchema.shape.inferenceS.unwrap()).optional(),
-    'estimator.intercept': values(z.boolean()).optional(),
-    'backtest.window': values(backtestSchema.shape.window).optional(),
-    'backtest.step': values(z.number().int().min(1)).optional(),
-    'backtest.horizon': values(z.number().int().min(1)).optional(),
-    'backtest.expanding': values(z.boolean()).optional(),
-  })
-  .strict();
+/**
+ * The grid's schemas, built on first use (a module that imports this file for its helpers,
+ * like the run record's dependency list, does not pay for building them).
+ */
+function buildGridSchemas() {
+  const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
+  const name = z.string().min(1);
 
-/** The base spec: every key of a fit spec, each optional here (an axis may supply it). */
-const baseSchema = fitSpecSchema.extend({ model: modelSchema.default(modelSchema.parse({})) });
+  /** A set of test assets: "all", a list of names, or a named list. */
+  const assetSetSchema = z.union([
+    z.literal('all'),
+    z.array(name).min(1),
+    z.object({ name: z.string().min(1).max(80), assets: z.array(name).min(1) }).strict(),
+  ]);
 
-export const gridSpecSchema = z
-  .object({
-    label: z.string().max(200).optional(),
-    base: baseSchema,
-    grid: gridAxesSchema,
-  })
-  .strict();
+  /** All subsets of the candidates (sizes minSize..maxSize), each with the `always` factors first. */
+  const factorSubsetsSchema = z
+    .object({
+      subsets: z.array(name).min(1).max(40),
+      minSize: z.number().int().min(0).default(1),
+      maxSize: z.number().int().min(0).optional(),
+      always: z.array(name).default([]),
+    })
+    .strict();
 
-export type GridSpec = z.infer<typeof gridSpecSchema>;
-export type GridSpecInput = z.input<typeof gridSpecSchema>;
+  const values = <T extends z.ZodType>(item: T) => z.array(item).min(1).max(10_000);
+
+  const gridAxesSchema = z
+    .object({
+      frequency: values(z.enum(FREQUENCIES)).optional(),
+      start: values(isoDate).optional(),
+      end: values(isoDate).optional(),
+      assets: values(assetSetSchema).optional(),
+      'model.kind': values(modelSchema.shape.kind.unwrap()).optional(),
+      'model.factors': z.union([values(z.array(name)), factorSubsetsSchema]).optional(),
+      /** Conditioning information per task: an instruments block, or "none" for the unconditional model. */
+      instruments: values(z.union([z.literal('none'), instrumentsSchema])).optional(),
+      'estimator.method': values(estimatorSchema.shape.method.unwrap()).optional(),
+      'estimator.stage': values(estimatorSchema.shape.stage.unwrap()).optional(),
+      'estimator.weight': values(estimatorSchema.shape.weight.unwrap()).optional(),
+      'estimator.lags': values(estimatorSchema.shape.lags.unwrap()).optional(),
+      'estimator.centered': values(z.boolean()).optional(),
+      'estimator.inferenceS': values(estimatorSchema.shape.inferenceS.unwrap()).optional(),
+      'estimator.intercept': values(z.boolean()).optional(),
+      'backtest.window': values(backtestSchema.shape.window).optional(),
+      'backtest.step': values(z.number().int().min(1)).optional(),
+      'backtest.horizon': values(z.number().int().min(1)).optional(),
+      'backtest.expanding': values(z.boolean()).optional(),
+    })
+    .strict();
+
+  /** The base spec: every key of a fit spec, each optional here (an axis may supply it). */
+  const baseSchema = fitSpecSchema.extend({ model: modelSchema.default(modelSchema.parse({})) });
+
+  const gridSpecSchema = z
+    .object({
+      label: z.string().max(200).optional(),
+      base: baseSchema,
+      grid: gridAxesSchema,
+    })
+    .strict();
+
+  return { assetSetSchema, factorSubsetsSchema, gridAxesSchema, baseSchema, gridSpecSchema };
+}
+
+type GridSchemas = ReturnType<typeof buildGridSchemas>;
+let schemas: GridSchemas | undefined;
+function gridSchemas(): GridSchemas {
+  return (schemas ??= buildGridSchemas());
+}
+
+export type GridSpec = z.infer<GridSchemas['gridSpecSchema']>;
+export type GridSpecInput = z.input<GridSchemas['gridSpecSchema']>;
 
 /** One axis value as the task list shows it. */
 export interface BatchSetting {
@@ -138,7 +152,7 @@ const setIn = (spec: Record<string, unknown>, block: string, key: string, value:
   spec[block] = inner;
 };
 
-function assetSetText(v: z.infer<typeof assetSetSchema>, i: number): string {
+function assetSetText(v: z.infer<GridSchemas['assetSetSchema']>, i: number): string {
   if (v === 'all') return 'all';
   if (Array.isArray(v)) return v.length <= 3 ? v.join('+') : `set${i + 1}(${v.length})`;
   return v.name;
@@ -166,9 +180,9 @@ function* combinations(n: number, k: number): Generator<number[]> {
   }
 }
 
-type Axes = z.infer<typeof gridAxesSchema>;
+type Axes = z.infer<GridSchemas['gridAxesSchema']>;
 
-function subsetBounds(a: z.infer<typeof factorSubsetsSchema>): { min: number; max: number } {
+function subsetBounds(a: z.infer<GridSchemas['factorSubsetsSchema']>): { min: number; max: number } {
   const n = a.subsets.length;
   const max = a.maxSize ?? n;
   return { min: a.minSize, max };
@@ -179,7 +193,7 @@ function axisCount(key: AxisKey, axes: Axes): number {
   const v = axes[key];
   if (v === undefined) return 1;
   if (key === 'model.factors' && !Array.isArray(v)) {
-    const a = v as z.infer<typeof factorSubsetsSchema>;
+    const a = v as z.infer<GridSchemas['factorSubsetsSchema']>;
     const { min, max } = subsetBounds(a);
     let n = 0;
     for (let k = min; k <= Math.min(max, a.subsets.length); k++) n += choose(a.subsets.length, k);
@@ -201,7 +215,7 @@ function* axisValues(key: AxisKey, axes: Axes): Generator<AxisValue> {
       for (const f of v as string[][]) yield put(f);
       return;
     }
-    const a = v as z.infer<typeof factorSubsetsSchema>;
+    const a = v as z.infer<GridSchemas['factorSubsetsSchema']>;
     const { min, max } = subsetBounds(a);
     for (let k = min; k <= Math.min(max, a.subsets.length); k++) {
       for (const pick of combinations(a.subsets.length, k)) yield put([...a.always, ...pick.map((i) => a.subsets[i])]);
@@ -216,7 +230,7 @@ function* axisValues(key: AxisKey, axes: Axes): Generator<AxisValue> {
     return;
   }
   if (key === 'assets') {
-    const sets = v as z.infer<typeof assetSetSchema>[];
+    const sets = v as z.infer<GridSchemas['assetSetSchema']>[];
     for (let i = 0; i < sets.length; i++) {
       const set = sets[i];
       const names = set === 'all' ? 'all' : Array.isArray(set) ? set : set.assets;
@@ -244,7 +258,7 @@ function gridProblems(g: GridSpec): string[] {
     const v = axes[key];
     if (v === undefined) continue;
     if (key === 'model.factors' && !Array.isArray(v)) {
-      const a = v as z.infer<typeof factorSubsetsSchema>;
+      const a = v as z.infer<GridSchemas['factorSubsetsSchema']>;
       const { min, max } = subsetBounds(a);
       if (new Set(a.subsets).size !== a.subsets.length) problems.push(`spec.grid.model.factors.subsets: a factor is listed twice`);
       const clash = a.always.filter((f) => a.subsets.includes(f));
@@ -274,7 +288,7 @@ function gridProblems(g: GridSpec): string[] {
 
 /** Parses and checks a grid spec (SPEC_INVALID names every bad key). */
 export function parseGridSpec(input: unknown): GridSpec {
-  const r = gridSpecSchema.safeParse(input);
+  const r = gridSchemas().gridSpecSchema.safeParse(input);
   if (!r.success) throw specInvalid(formatSpecIssues(r.error, 'spec'));
   const problems = gridProblems(r.data);
   if (problems.length) throw specInvalid(problems.join('\n'));
@@ -401,4 +415,3 @@ export function gridNames(g: GridSpec): { series: string[]; assets: string[] | '
   return { series: [...series], assets: all ? 'all' : [...assets] };
 }
 
-export { baseSchema as gridBaseSchema };
