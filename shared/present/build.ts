@@ -30,7 +30,13 @@ export interface TableInput {
   title: string;
   sheet?: string;
   columns: PresentedColumn[];
-  rows: CellValue[][];
+  /**
+   * The rows, or a function that builds them: then `rows` (and `rowKeys` when not given) are
+   * built when a surface first reads them and kept. For long appendix listings (a daily
+   * fit's discounted paths: 10,000 rows of 100 assets), which the text report names but
+   * does not print.
+   */
+  rows: CellValue[][] | (() => CellValue[][]);
   rowKeys?: string[];
   marks?: Record<string, number[]>;
   notes?: string[];
@@ -41,20 +47,38 @@ export interface TableInput {
 
 /** A table; numbers that are not finite become missing cells, so no NaN reaches a surface. */
 export function table(t: TableInput): PresentedTable {
-  const rows = t.rows.map((r) => r.map((v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v)));
-  return {
+  const finiteRows = (rows: CellValue[][]) => rows.map((r) => r.map((v) => (typeof v === 'number' && !Number.isFinite(v) ? null : v)));
+  const keysOf = (rows: CellValue[][]) => t.rowKeys ?? rows.map((r, i) => (typeof r[0] === 'string' ? r[0] : String(i)));
+  const out: PresentedTable = {
     id: t.id,
     title: t.title,
     sheet: (t.sheet ?? t.title).slice(0, 31),
     columns: t.columns,
-    rows,
-    rowKeys: t.rowKeys ?? rows.map((r, i) => (typeof r[0] === 'string' ? r[0] : String(i))),
+    rows: [],
+    rowKeys: [],
     marks: t.marks ?? {},
     notes: [...new Set(t.notes ?? [])],
     warnings: t.warnings ?? [],
     role: t.role ?? 'main',
     ...(t.rowFormats ? { rowFormats: t.rowFormats } : {}),
   };
+  const given = t.rows;
+  if (typeof given !== 'function') {
+    out.rows = finiteRows(given);
+    out.rowKeys = keysOf(out.rows);
+    return out;
+  }
+  // Built on first read, then kept as plain data properties (enumerable, in the same places,
+  // so copies, JSON and structured clones see an ordinary table).
+  let rows: CellValue[][] | undefined;
+  const built = () => (rows ??= finiteRows(given()));
+  const settle = (key: 'rows' | 'rowKeys', value: CellValue[][] | string[]) => {
+    Object.defineProperty(out, key, { value, writable: true, enumerable: true, configurable: true });
+    return value;
+  };
+  Object.defineProperty(out, 'rows', { get: () => settle('rows', built()), set: (v: CellValue[][]) => settle('rows', v), enumerable: true, configurable: true });
+  Object.defineProperty(out, 'rowKeys', { get: () => settle('rowKeys', keysOf(built())), set: (v: string[]) => settle('rowKeys', v), enumerable: true, configurable: true });
+  return out;
 }
 
 /** The warnings among `all` whose code is in `codes`, placed on the whole table. */

@@ -245,7 +245,7 @@ export function fitTables(r: FitResult): PresentedTable[] {
         title: 'Fitted discount factor m_t',
         sheet: 'Discount factor series',
         columns: [textCol('period', 'Period'), numCol('m', 'm_t', 'value')],
-        rows: r.sdf.periods.map((p, i) => [p, finite(r.sdf!.values[i])]),
+        rows: () => r.sdf!.periods.map((p, i) => [p, finite(r.sdf!.values[i])]),
         role: 'appendix',
       }),
     );
@@ -260,7 +260,7 @@ export function fitTables(r: FitResult): PresentedTable[] {
         title: gains ? 'Discounted gains G_t = sum of m_s R^e_s' : 'Discounted value prod of m_s R_s',
         sheet: gains ? 'Discounted gains' : 'Discounted value',
         columns: [textCol('period', 'Period'), ...assets.map((a) => numCol(a, a, 'value'))],
-        rows: d.periods.map((p, t) => [p, ...assets.map((a) => finite(d.series[a][t]))]),
+        rows: () => d.periods.map((p, t) => [p, ...assets.map((a) => finite(d.series[a][t]))]),
         notes: [
           gains
             ? 'Per asset, the sum of m_s R^e_s up to each period (0 before the first): its mean increment G_T / T is the pricing error, 0 for an asset the model prices.'
