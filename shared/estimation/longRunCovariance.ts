@@ -18,6 +18,7 @@
  * (terms outside 0..T-1 dropped), which is the formula above regrouped: O(q T L + q^2 T / 2).
  */
 import { DeflatorError } from '../errors.js';
+import { wasmGramOf } from '../linalg/gramKernel.js';
 import { seriesProductsUpper, type Mat } from '../linalg/matrix.js';
 
 /** The automatic lag rule L = floor(4 (T/100)^(2/9)) (Newey and West 1994). */
@@ -53,24 +54,18 @@ export function longRunCovariance(u: readonly Float64Array[], lags: number, cent
   if (T <= lags + 1)
     throw new DeflatorError('SAMPLE_TOO_SHORT', `${T} periods are too few for ${lags} Newey-West lags (need more than ${lags + 1})`, 'use fewer lags (estimator.lags) or a longer sample');
   const w = bartlettWeights(lags);
-  const series: Float64Array[] = new Array(q);
-  for (let a = 0; a < q; a++) {
-    const x = u[a];
-    if (x.length !== T) throw new RangeError(`longRunCovariance: series ${a} has ${x.length} periods, expected ${T}`);
-    if (centered) {
-      let m = 0;
-      for (let t = 0; t < T; t++) m += x[t];
-      m /= T;
-      const c = new Float64Array(T);
-      for (let t = 0; t < T; t++) c[t] = x[t] - m;
-      series[a] = c;
-    } else series[a] = x;
-  }
-  // v_a = u_a + sum_j w_j (lead_j + lag_j).
-  const filtered: Float64Array[] = new Array(q);
-  for (let a = 0; a < q; a++) filtered[a] = lags === 0 ? series[a] : bartlettFilter(series[a], w, lags);
-  // S_ab = S_ba = (1/T) sum_t v_a,t u_b,t for b >= a.
-  const S = seriesProductsUpper(filtered, series);
+  for (let a = 0; a < q; a++) if (u[a].length !== T) throw new RangeError(`longRunCovariance: series ${a} has ${u[a].length} periods, expected ${T}`);
+  // S_ab = S_ba = (1/T) sum_t v_a,t u_b,t for b >= a, v_a = u_a + sum_j w_j (lead_j + lag_j):
+  // the kernel's products of x = v and y = u. Its WebAssembly route has both written straight
+  // into its memory (no q x T copies on the JavaScript heap, each page of which is new
+  // memory to the process); elsewhere, the same series as arrays.
+  const S =
+    wasmGramOf(q, T, lags === 0, (a, v, c) => {
+      const ua = c ?? v;
+      if (centered) demeanInto(ua, u[a]);
+      else ua.set(u[a]);
+      if (c) bartlettInto(v, c, w, lags);
+    }) ?? arrayProducts(u, w, lags, centered);
   const invT = 1 / T;
   for (let k = 0; k < S.length; k++) S[k] *= invT;
   return { rows: q, cols: q, data: S };
@@ -84,21 +79,11 @@ export function longRunCovariance(u: readonly Float64Array[], lags: number, cent
  * at t = s - j, before its lead term at t = s), so the sums are the same bit for bit; one
  * write per period instead of 2L read-modify-writes of the whole series.
  */
-function bartlettFilter(x: Float64Array, w: Float64Array, lags: number): Float64Array {
+function bartlettInto(v: Float64Array, x: Float64Array, w: Float64Array, lags: number): void {
   const T = x.length;
-  const v = new Float64Array(T);
-  // the ends, where some terms fall outside the sample
-  const edge = (s: number): number => {
-    let acc = x[s];
-    for (let j = 1; j <= lags; j++) {
-      if (s - j >= 0) acc += w[j] * x[s - j];
-      if (s + j < T) acc += w[j] * x[s + j];
-    }
-    return acc;
-  };
   const lo = Math.min(lags, T);
   const hi = Math.max(lo, T - lags);
-  for (let s = 0; s < lo; s++) v[s] = edge(s);
+  for (let s = 0; s < lo; s++) v[s] = bartlettEdge(x, w, lags, s);
   for (let s = lo; s < hi; s++) {
     let acc = x[s];
     for (let j = 1; j <= lags; j++) {
@@ -108,6 +93,61 @@ function bartlettFilter(x: Float64Array, w: Float64Array, lags: number): Float64
     }
     v[s] = acc;
   }
-  for (let s = hi; s < T; s++) v[s] = edge(s);
-  return v;
+  for (let s = hi; s < T; s++) v[s] = bartlettEdge(x, w, lags, s);
+}
+
+/** The products of the filtered and the (centred) series as arrays, for the JavaScript route. */
+function arrayProducts(u: readonly Float64Array[], w: Float64Array, lags: number, centered: boolean): Float64Array {
+  const q = u.length;
+  const series: Float64Array[] = new Array(q);
+  for (let a = 0; a < q; a++) {
+    if (centered) {
+      series[a] = new Float64Array(u[a].length);
+      demeanInto(series[a], u[a]);
+    } else series[a] = u[a];
+  }
+  const filtered: Float64Array[] = new Array(q);
+  for (let a = 0; a < q; a++) {
+    if (lags === 0) filtered[a] = series[a];
+    else {
+      filtered[a] = new Float64Array(series[a].length);
+      bartlettInto(filtered[a], series[a], w, lags);
+    }
+  }
+  return seriesProductsUpper(filtered, series);
+}
+
+/**
+ * v_s at the ends, where some terms fall outside the sample: the same terms in the same
+ * order as the middle periods' sum. A function of its own (not a closure made per call),
+ * so the optimised code of the filter is not thrown away at each new series.
+ */
+function bartlettEdge(x: Float64Array, w: Float64Array, lags: number, s: number): number {
+  const T = x.length;
+  let acc = x[s];
+  for (let j = 1; j <= lags; j++) {
+    if (s - j >= 0) acc += w[j] * x[s - j];
+    if (s + j < T) acc += w[j] * x[s + j];
+  }
+  return acc;
+}
+
+/**
+ * c = x minus its mean (the sum in order of t, divided by T). Each loop is a function of its
+ * own with nothing after it to learn: V8 compiles a long loop while it runs (on-stack
+ * replacement) and keeps that code for later calls, and code after the loop that had not
+ * yet run when it was compiled would send every later call back to the interpreter.
+ */
+function demeanInto(c: Float64Array, x: Float64Array): void {
+  subtractInto(c, x, sumOf(x) / x.length);
+}
+
+function sumOf(x: Float64Array): number {
+  let s = 0;
+  for (let t = 0; t < x.length; t++) s += x[t];
+  return s;
+}
+
+function subtractInto(c: Float64Array, x: Float64Array, m: number): void {
+  for (let t = 0; t < x.length; t++) c[t] = x[t] - m;
 }

@@ -200,15 +200,28 @@ function ensure(memory: WasmMemory, bytes: number): void {
 
 /** WebAssembly SIMD route (see the file comment); null when it does not apply. */
 export function wasmGram(x: readonly Float64Array[], y: readonly Float64Array[]): Float64Array | null {
-  const k = forceJs ? null : loadKernel();
   const q = x.length;
-  if (!k || q < 8 || y.length !== q) return null;
+  if (q < 8 || y.length !== q) return null;
   const T = x[0].length;
-  if (T < 16) return null;
   for (let a = 0; a < q; a++) if (x[a].length !== T || y[a].length !== T) return null;
+  const same = x === y || x.every((s, i) => s === y[i]);
+  return wasmGramOf(q, T, same, (a, xa, ya) => {
+    xa.set(x[a]);
+    if (ya) ya.set(y[a]);
+  });
+}
+
+/**
+ * The same products of q series pairs of length T that `fill` writes straight into the
+ * kernel's memory (no copy of them on the JavaScript heap): fill(a, x_a, y_a) writes x_a
+ * and y_a (y_a is null when `same`: y = x). The same bits as wasmGram of the same series;
+ * null where the WebAssembly route does not apply (the caller then takes jsGram).
+ */
+export function wasmGramOf(q: number, T: number, same: boolean, fill: (a: number, x: Float64Array, y: Float64Array | null) => void): Float64Array | null {
+  const k = forceJs ? null : loadKernel();
+  if (!k || q < 8 || T < 16) return null;
   const qPad = q + (q & 1);
   const rowBytes = T * 8;
-  const same = x === y || x.every((s, i) => s === y[i]);
   const xOff = 0;
   const yOff = same ? xOff : qPad * rowBytes;
   const accOff = yOff + qPad * rowBytes;
@@ -217,13 +230,18 @@ export function wasmGram(x: readonly Float64Array[], y: readonly Float64Array[])
   if (total > 2 ** 31 - PAGE) return null;
   ensure(k.memory, total);
   const heap = new Float64Array(k.memory.buffer);
-  const put = (series: readonly Float64Array[], off: number) => {
-    const base = off / 8;
-    for (let a = 0; a < q; a++) heap.set(series[a], base + a * T);
-    if (qPad > q) heap.fill(0, base + q * T, base + qPad * T);
-  };
-  put(x, xOff);
-  if (!same) put(y, yOff);
+  const row = (off: number, a: number) => heap.subarray(off / 8 + a * T, off / 8 + (a + 1) * T);
+  const xs: Float64Array[] = new Array(q);
+  const ys: Float64Array[] = new Array(q);
+  for (let a = 0; a < q; a++) {
+    xs[a] = row(xOff, a);
+    ys[a] = same ? xs[a] : row(yOff, a);
+    fill(a, xs[a], same ? null : ys[a]);
+  }
+  if (qPad > q) {
+    heap.fill(0, xOff / 8 + q * T, xOff / 8 + qPad * T);
+    if (!same) heap.fill(0, yOff / 8 + q * T, yOff / 8 + qPad * T);
+  }
   const T4 = T - (T % 4);
   const out = new Float64Array(q * q);
   const accBase = accOff / 8;
@@ -232,12 +250,12 @@ export function wasmGram(x: readonly Float64Array[], y: readonly Float64Array[])
     heap.fill(0, accBase, accBase + (a1 - a0) * qPad * 4);
     k.gramBlock(xOff, yOff, rowBytes, qPad, T4 * 8, accOff, a0, a1, CHUNK * 8);
     for (let a = a0; a < Math.min(a1, q); a++) {
-      const xa = x[a];
-      const row = accBase + (a - a0) * qPad * 4;
+      const xa = xs[a];
+      const rowAcc = accBase + (a - a0) * qPad * 4;
       for (let b = a; b < q; b++) {
-        const e = row + b * 4;
+        const e = rowAcc + b * 4;
         let s0 = heap[e];
-        const yb = y[b];
+        const yb = ys[b];
         for (let t = T4; t < T; t++) s0 += xa[t] * yb[t];
         const s = s0 + heap[e + 1] + heap[e + 2] + heap[e + 3];
         out[a * q + b] = s;

@@ -6,7 +6,8 @@
  * the products equal the exact values computed with BigInt arithmetic. (The estimators'
  * agreement with numpy and R through these products is in the estimation tests.) */
 import { afterEach, describe, expect, it } from 'vitest';
-import { gramRoute, jsGram, seriesDot, useJsKernels, wasmGram } from '../../../shared/linalg/gramKernel.js';
+import { gramRoute, jsGram, seriesDot, useJsKernels, wasmGram, wasmGramOf } from '../../../shared/linalg/gramKernel.js';
+import { longRunCovariance } from '../../../shared/estimation/longRunCovariance.js';
 import { seriesProductsUpper } from '../../../shared/linalg/matrix.js';
 import { mulberry32 } from '../../../shared/random.js';
 
@@ -42,6 +43,37 @@ describe('Gram kernel', () => {
     const viaWasm = seriesProductsUpper(x, x);
     useJsKernels(true);
     expect(sameBits(seriesProductsUpper(x, x), viaWasm)).toBe(true);
+  });
+
+  it('series written straight into the kernel memory (wasmGramOf) give the bits of wasmGram and jsGram', () => {
+    for (const [q, T] of [[9, 17], [65, 1030]] as const) {
+      const x = series(q, T, q + T);
+      const y = series(q, T, q + 2 * T);
+      const cross = wasmGramOf(q, T, false, (a, xa, ya) => {
+        xa.set(x[a]);
+        ya!.set(y[a]);
+      });
+      expect(sameBits(cross!, jsGram(x, y))).toBe(true);
+      const gram = wasmGramOf(q, T, true, (a, xa, ya) => {
+        expect(ya).toBeNull();
+        xa.set(x[a]);
+      });
+      expect(sameBits(gram!, wasmGram(x, x)!)).toBe(true);
+    }
+    expect(wasmGramOf(7, 100, true, () => {})).toBeNull();
+  });
+
+  it('the Newey-West long-run covariance gives the same bits on both routes', () => {
+    for (const [q, T, L] of [[12, 203, 4], [40, 333, 0], [5, 60, 3]] as const) {
+      const u = series(q, T, 3 * q + T);
+      for (const centered of [true, false]) {
+        const viaWasm = longRunCovariance(u, L, centered).data;
+        useJsKernels(true);
+        const viaJs = longRunCovariance(u, L, centered).data;
+        useJsKernels(false);
+        expect(sameBits(viaWasm, viaJs)).toBe(true);
+      }
+    }
   });
 
   it('integer-valued series: equal to the exact sums of products (BigInt arithmetic)', () => {
