@@ -22,7 +22,7 @@ export function monthEnds(T: number, from = 0): string[] {
   return Array.from({ length: T }, (_, k) => {
     const m = from + k;
     const y = 2001 + Math.floor(m / 12);
-    const mo = m % 12;
+    const mo = ((m % 12) + 12) % 12;
     const last = new Date(Date.UTC(y, mo + 1, 0)).getUTCDate();
     return `${y}-${String(mo + 1).padStart(2, '0')}-${String(last).padStart(2, '0')}`;
   });
@@ -46,7 +46,7 @@ function panel(T: number, N: number, K: number, seed: number): { factors: Float6
 export interface CaseFile {
   /** The file's name as the import log shows it. */
   name: string;
-  kind: 'returns' | 'series';
+  kind: 'returns' | 'series' | 'prices';
   options: Record<string, unknown>;
   text: string;
 }
@@ -209,4 +209,66 @@ function instrumentLevel(): WarningCase {
 
 export function warningCases(): WarningCase[] {
   return [nearSingular(), belowBound(), startAtEdge(), severalMinima(), failedWindows(), failedReplications(), instrumentLevel()];
+}
+
+/**
+ * A price history without shares outstanding (long layout: date, asset, price, dividend):
+ * month-end closes from December 2000 to December 2024 on a seeded path, one dividend each
+ * June of 2 % of the price. An aggregate that holds it cannot weight by market value.
+ */
+export function pricesWithoutShares(asset: string): CaseFile {
+  const r = rng(21);
+  const dates = monthEnds(24 * 12 + 1, -1);
+  let price = 40;
+  const lines = ['date,asset,price,dividend'];
+  dates.forEach((d, t) => {
+    if (t > 0) price *= Math.exp(0.005 + 0.04 * normal(r));
+    const dividend = d.slice(5, 7) === '06' ? Number((0.02 * price).toFixed(4)) : 0;
+    lines.push(`${d},${asset},${price.toFixed(4)},${dividend}`);
+  });
+  return { name: `${asset}.csv`, kind: 'prices', options: {}, text: lines.join('\n') + '\n' };
+}
+
+export interface ValueCase {
+  code: string;
+  why: string;
+  files: CaseFile[];
+  call: 'presentValue' | 'drift';
+  spec: Record<string, unknown>;
+  tables: string[];
+}
+
+/** Ten of the demo's priced assets (named, so that other specs' imports stay out of the aggregate). */
+const DEMO_PRICED = ['ashcombe-lamps', 'brackenholt-rail', 'brinemoor-ferries', 'cindervale-metals', 'corvane-saltworks', 'duskwater-fisheries', 'eddisholm-glass', 'emberlyn-clocks', 'fallowmere-grain', 'foxmere-printing'];
+
+/** The warnings of the present-value analyses (shared/present/value.ts VALUE_WARNING_TABLES, and NO_PRICE_SPLIT of the drift split). */
+export function valueCases(): ValueCase[] {
+  const months = monthEnds(24 * 12);
+  const fund: CaseFile = { name: 'wn-fund.csv', kind: 'returns', options: {}, text: wideCsv(months, [{ name: 'wn-fund', values: months.map((_, t) => 0.004 + 0.03 * Math.sin(t)) }]) };
+  return [
+    {
+      code: 'FEW_YEARS',
+      why: 'the aggregate of ten demo assets over 2019 to 2024: six years, below the 20 of the rule of thumb',
+      files: [],
+      call: 'presentValue',
+      spec: { analysis: 'present-value', label: 'wn six years', aggregate: true, assets: DEMO_PRICED, start: '2019', end: '2024' },
+      tables: ['regressions', 'long-run'],
+    },
+    {
+      code: 'EQUAL_SHARES',
+      why: 'one asset of the aggregate was imported without shares outstanding, so the aggregate cannot weight by market value',
+      files: [pricesWithoutShares('wn-noshares')],
+      call: 'presentValue',
+      spec: { analysis: 'present-value', label: 'wn no shares', aggregate: true, assets: ['brinemoor-ferries', 'wn-noshares'] },
+      tables: ['summary', 'regressions', 'long-run'],
+    },
+    {
+      code: 'NO_PRICE_SPLIT',
+      why: 'an asset imported as net returns (2001-2024, seeded as 0.004 + 0.03 sin t) beside a priced one: its drift has no price and dividend parts',
+      files: [fund],
+      call: 'drift',
+      spec: { analysis: 'drift', label: 'wn drift with a return asset', assets: ['lanternfold-power', 'wn-fund'] },
+      tables: ['drift'],
+    },
+  ];
 }
