@@ -229,6 +229,27 @@ export function pricesWithoutShares(asset: string): CaseFile {
   return { name: `${asset}.csv`, kind: 'prices', options: {}, text: lines.join('\n') + '\n' };
 }
 
+/**
+ * A price history built from yearly log dividend-price ratios dp and dividend growth dd
+ * (long layout: date, asset, price, dividend): in year y every month-end close is
+ * P_y = D_y / exp(dp_y) and the year's dividend D_y (D_0 = 5) is paid in June, so the
+ * decomposition's yearly values are exactly these P_y and D_y. Years from 1985.
+ */
+export function pricesFromDp(asset: string, dp: number[], dd: number[]): CaseFile {
+  const lines = ['date,asset,price,dividend'];
+  let dividend = 5;
+  dp.forEach((x, t) => {
+    if (t > 0) dividend *= Math.exp(dd[t]);
+    const price = dividend / Math.exp(x);
+    const y = 1985 + t;
+    for (let mo = 1; mo <= 12; mo++) {
+      const day = new Date(Date.UTC(y, mo, 0)).getUTCDate();
+      lines.push(`${y}-${String(mo).padStart(2, '0')}-${day},${asset},${price},${mo === 6 ? dividend : 0}`);
+    }
+  });
+  return { name: `${asset}.csv`, kind: 'prices', options: {}, text: lines.join('\n') + '\n' };
+}
+
 export interface ValueCase {
   code: string;
   why: string;
@@ -245,7 +266,35 @@ const DEMO_PRICED = ['ashcombe-lamps', 'brackenholt-rail', 'brinemoor-ferries', 
 export function valueCases(): ValueCase[] {
   const months = monthEnds(24 * 12);
   const fund: CaseFile = { name: 'wn-fund.csv', kind: 'returns', options: {}, text: wideCsv(months, [{ name: 'wn-fund', values: months.map((_, t) => 0.004 + 0.03 * Math.sin(t)) }]) };
+  const gapMonths = months.filter((d) => !d.startsWith('2010-06'));
+  const gapped: CaseFile = { name: 'wn-gapped.csv', kind: 'returns', options: {}, text: wideCsv(gapMonths, [{ name: 'wn-gapped', values: gapMonths.map((_, t) => 0.004 + 0.03 * Math.cos(t)) }]) };
+  const years = 40;
+  const steadyGrowth = Array.from({ length: years }, (_, t) => 0.02 + 0.01 * Math.sin(t));
   return [
+    {
+      code: 'DP_NEAR_UNIT_ROOT',
+      why: 'dp falling by 0.02 a year from -3.2 (with a wiggle of 0.005 sin 3t): phi is 1 and rho about 0.97, so 1 - rho phi is below 0.05',
+      files: [pricesFromDp('wn-unitroot', Array.from({ length: years }, (_, t) => -3.2 - 0.02 * t + 0.005 * Math.sin(3 * t)), steadyGrowth)],
+      call: 'presentValue',
+      spec: { analysis: 'present-value', label: 'wn unit root', asset: 'wn-unitroot' },
+      tables: ['long-run'],
+    },
+    {
+      code: 'LARGE_IDENTITY_GAP',
+      why: 'dp climbing from -4 to +4 in steps of 2 and falling back every five years: the first-order expansion of the return around mean dp is poor that far out, and the identity misses 1 by about 0.16',
+      files: [pricesFromDp('wn-widedp', Array.from({ length: years }, (_, t) => -4 + 8 * ((t % 5) / 4)), steadyGrowth)],
+      call: 'presentValue',
+      spec: { analysis: 'present-value', label: 'wn wide dp', asset: 'wn-widedp' },
+      tables: ['summary', 'long-run'],
+    },
+    {
+      code: 'ASSET_DROPPED',
+      why: 'a return series with June 2010 missing beside a priced demo asset: the common sample has no value for it that month, so it is left out by name',
+      files: [gapped],
+      call: 'drift',
+      spec: { analysis: 'drift', label: 'wn drift with a gap', assets: ['lanternfold-power', 'wn-gapped'] },
+      tables: ['drift'],
+    },
     {
       code: 'FEW_YEARS',
       why: 'the aggregate of ten demo assets over 2019 to 2024: six years, below the 20 of the rule of thumb',

@@ -21,8 +21,10 @@
  *   FEW_YEARS              decomposition of ten demo assets over six years (2019-2024)
  *   EQUAL_SHARES           an aggregate holding an asset imported without shares outstanding
  *   NO_PRICE_SPLIT         drift split of a priced asset and one imported as returns
- * Not raised here: DP_NEAR_UNIT_ROOT, LARGE_IDENTITY_GAP and ASSET_DROPPED have no construction
- * yet, in the browser or in the unit tests (their placement is in VALUE_WARNING_TABLES).
+ *   DP_NEAR_UNIT_ROOT      one asset whose dp falls 0.02 a year for 40 years (phi = 1)
+ *   LARGE_IDENTITY_GAP     one asset whose dp swings from -4 to +4 (the linearisation is poor)
+ *   ASSET_DROPPED          drift split of a priced asset and a return series missing a month
+ * (the same constructions as test/shared/values/warnings.test.ts)
  * Each test first checks that the run raised the code and that the presentation model places
  * it under the named tables, then reads the screen, so each screen assertion fails if the app
  * stopped rendering that warning.
