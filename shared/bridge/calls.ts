@@ -72,6 +72,12 @@ export const importOptionsSchema = z
     form: z.enum(RETURN_FORMS).optional(),
     /** Return files: the returns are excess returns. */
     excess: z.boolean().optional(),
+    /**
+     * Rows already stored for the same (asset or series, date) are replaced by the file's,
+     * and earlier imports of the same bytes read another way are taken out, in the same
+     * transaction (a corrected file, or a file first imported with the wrong options).
+     */
+    replace: z.boolean().optional(),
   })
   .strict();
 

@@ -6,7 +6,7 @@
 import { mkdirSync } from 'node:fs';
 import path from 'node:path';
 import { assetSourceText, isReturnHistory, type Frequency, type PriceHistory, type ReturnHistory } from '../../shared/data.js';
-import { DeflatorError } from '../../shared/errors.js';
+import { DeflatorError, isDeflatorError } from '../../shared/errors.js';
 import { returnsTable, storedFrequency } from '../../shared/returns/index.js';
 import { parseAscending, spacingFrequency } from '../../shared/returns/periods.js';
 import type { CompareSpec, DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
@@ -21,6 +21,7 @@ import { compareAnalysis, runAnalysis, type Analysis, type ResultOf } from '../s
 import { saveUnrecorded } from '../runs/unrecorded.js';
 import type { Compute } from '../services/compute.js';
 import type { Engine, ImportOptions, Importer, ProjectData, TaskContext } from './ports.js';
+import { panelWording } from './wording.js';
 
 /** What the app computes on: its worker pool (src-main/workers/pool.ts), which keeps the main thread free. */
 export type TaskRunner = Compute;
@@ -110,15 +111,23 @@ export class StoreProject implements ProjectData, Importer {
   async importFile(file: string, kind: ImportKind, options: ImportOptions, ctx: TaskContext): Promise<ImportReport> {
     const onProgress = (read: number, total: number) => ctx.onProgress(read, total, 'reading');
     const p = pipelineOptions(kind, options);
-    const r: PipelineReport =
-      p.kind === 'prices'
-        ? await importPrices(this.store, file, { ...p.options, onProgress })
-        : p.kind === 'series'
-          ? await importSeries(this.store, file, { ...p.options, onProgress })
-          : await importReturns(this.store, file, { ...p.options, onProgress });
+    const replace = options.replace ? { replace: true } : {};
+    let r: PipelineReport;
+    try {
+      r =
+        p.kind === 'prices'
+          ? await importPrices(this.store, file, { ...p.options, ...replace, onProgress })
+          : p.kind === 'series'
+            ? await importSeries(this.store, file, { ...p.options, ...replace, onProgress })
+            : await importReturns(this.store, file, { ...p.options, ...replace, onProgress });
+    } catch (e) {
+      // the pipeline's hints name command-line options; the panel's fields say the same
+      if (isDeflatorError(e)) throw new DeflatorError(e.code, panelWording(e.message), e.hint === undefined ? undefined : panelWording(e.hint));
+      throw e;
+    }
     ctx.onProgress(1, 1, 'done');
     const warnings: ImportWarning[] = r.warnings.map((w) => {
-      const out: ImportWarning = { message: w.message, kind: w.kind };
+      const out: ImportWarning = { message: panelWording(w.message), kind: w.kind };
       if (w.subject) out.subject = w.subject;
       return out;
     });
@@ -138,8 +147,11 @@ export class StoreProject implements ProjectData, Importer {
   }
 
   /** The first rows of a file as the import would read them (nothing stored; a scratch store checks them). */
-  previewFile(file: string, kind: ImportKind, options: ImportOptions, rows?: number): Promise<ImportPreview> {
-    return previewImport(file, pipelineOptions(kind, options), rows);
+  async previewFile(file: string, kind: ImportKind, options: ImportOptions, rows?: number): Promise<ImportPreview> {
+    const out = await previewImport(file, pipelineOptions(kind, options), rows);
+    if (out.problem) out.problem = { ...out.problem, message: panelWording(out.problem.message), ...(out.problem.hint !== undefined ? { hint: panelWording(out.problem.hint) } : {}) };
+    if (out.reads) out.reads = { ...out.reads, warnings: out.reads.warnings.map(panelWording) };
+    return out;
   }
 }
 

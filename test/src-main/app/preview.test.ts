@@ -13,6 +13,7 @@ import type { Coverage, ImportPreview } from '../../../shared/bridge/types.js';
 import { composeApp } from '../../../src-main/app/compose.js';
 import { ImportFilePolicy } from '../../../src-main/app/files.js';
 import { StoreProject } from '../../../src-main/app/project.js';
+import { panelWording } from '../../../src-main/app/wording.js';
 import { importReturns } from '../../../src-main/import/index.js';
 import { databaseState } from '../../robustness/helpers.js';
 import { rejection, seededStore, tempDir, write } from '../import/helpers.js';
@@ -49,9 +50,9 @@ describe('previewImport', () => {
     expect(p.rows[0].cells[1]).toMatchObject({ status: 'ok', read: String(1.25 / 100) });
     expect(p.rows[0].cells[2]).toMatchObject({ status: 'missing', note: 'a missing-value code: no value (a gap, not a zero)' });
     expect(p.rows[2].cells[1]).toMatchObject({ status: 'error', note: 'is not a number' });
-    // the import's own refusal, at the cell the preview marks
+    // the import's own refusal, at the cell the preview marks, in the panel's words
     const direct = await rejection(importReturns(a.store, file, { dateFormat: 'YYYYMM', units: 'percent', missing: ['-99.99'] }));
-    expect(p.problem).toMatchObject({ code: 'INPUT_INVALID', line: 4, column: 2, message: direct.message, hint: direct.hint });
+    expect(p.problem).toMatchObject({ code: 'INPUT_INVALID', line: 4, column: 2, message: panelWording(direct.message), hint: panelWording(direct.hint ?? '') });
     expect(databaseState(a.dbFile).digest, 'the preview stored nothing').toBe(before);
     a.store.close();
   });
@@ -93,7 +94,7 @@ describe('previewImport', () => {
     const s = await a.core.dispatcher.dispatch('previewImport', { source: { path: series }, kind: 'series', options: { percent: true } });
     const q = (s.ok ? s.value : null) as ImportPreview;
     expect(q.problem).toMatchObject({ line: 2, column: 1 });
-    expect(q.problem?.hint).toMatch(/--date-format YYYY-MM/);
+    expect(q.problem?.hint).toMatch(/name that layout with dates YYYY-MM/);
     const semi = await a.core.dispatcher.dispatch('previewImport', { source: { path: prices }, kind: 'prices' });
     expect(semi.ok && (semi.value as ImportPreview).problem?.message).toMatch(/the header is one column separated by semicolons, not commas/);
     a.store.close();
