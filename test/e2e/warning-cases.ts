@@ -7,15 +7,7 @@
  * server database. Pure TypeScript (no Playwright), so a script can write the same files.
  */
 
-/** Seeded uniform (a 32-bit LCG, Numerical Recipes constants) and normal (Box-Muller) draws. */
-function rng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s * 1664525 + 1013904223) >>> 0;
-    return s / 2 ** 32;
-  };
-}
-const normal = (r: () => number) => Math.sqrt(-2 * Math.log(r() + 1e-300)) * Math.cos(2 * Math.PI * r());
+import { normal, rng } from '../shared/seeded-draws.js';
 
 /** Month-end dates from January 2001 (the period keys of a monthly panel). */
 export function monthEnds(T: number, from = 0): string[] {

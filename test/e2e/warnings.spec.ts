@@ -65,31 +65,41 @@ async function screenTable(page: Page, id: string) {
   return box;
 }
 
+/**
+ * Runs a case through the bridge, checks that the run raised the code and that the
+ * presentation model places it under the named tables, then opens the recorded run from Run
+ * history and reads the screen: the warning in the list at the top (`top`) and under each
+ * table, with its message.
+ */
+async function raisedAndShown(page: Page, c: { code: string; call: string; files: CaseFile[]; spec: Record<string, unknown>; tables: string[] }, top: string, drawn?: string): Promise<void> {
+  await page.goto('/');
+  await importFiles(page, c.files);
+  const r = await bridgeCall<(AnyResult | ValueResult) & RunTag>(page, c.call, { spec: c.spec });
+  const w = r.warnings.find((x) => x.code === c.code);
+  expect(w, `the run raises ${c.code}; it raised ${r.warnings.map((x) => x.code).join(', ') || 'nothing'}`).toBeDefined();
+  expect(r.runId, 'the run is recorded').toBeGreaterThan(0);
+  // the presentation model places the warning under these tables (what the screen must show)
+  const p = present(r);
+  for (const id of c.tables) expect(p.tables.find((t) => t.id === id)?.warnings.map((x) => x.code), `presentation table ${id}`).toContain(c.code);
+
+  await page.click('[data-screen=runs]');
+  await page.locator(`[data-testid=runs-table] tr[data-run="${r.runId}"] button:has-text("Open")`).click();
+  if (drawn) await expect(page.locator(drawn).first()).toBeVisible({ timeout: 60_000 });
+  const listed = page.locator(`[data-testid=${top}] [data-warning=${c.code}]`);
+  await expect(listed).toBeVisible({ timeout: 60_000 });
+  await expect(listed).toContainText(w!.message.slice(0, 60));
+  for (const id of c.tables) {
+    const under = (await screenTable(page, id)).locator(`[data-testid=table-warnings] [data-warning=${c.code}]`);
+    await expect(under, `${c.code} under table ${id}`).toBeVisible();
+    await expect(under).toContainText(w!.message.slice(0, 60));
+  }
+  await expect(page.locator('[data-caution]').first()).toContainText('not investment advice');
+  await shot(page, `warning-${c.code.toLowerCase()}`);
+}
+
 for (const c of [...demoCases, ...warningCases()]) {
   test(`${c.code}: a ${c.call} built to raise it shows the warning at the top of its screen and under ${c.tables.join(', ')}`, async ({ page }) => {
-    await page.goto('/');
-    await importFiles(page, c.files);
-    const r = await bridgeCall<AnyResult & RunTag>(page, c.call, { spec: c.spec });
-    const w = r.warnings.find((x) => x.code === c.code);
-    expect(w, `the run raises ${c.code}; it raised ${r.warnings.map((x) => x.code).join(', ') || 'nothing'}`).toBeDefined();
-    expect(r.runId, 'the run is recorded').toBeGreaterThan(0);
-    // the presentation model places the warning under these tables (what the screen must show)
-    const p = present(r);
-    for (const id of c.tables) expect(p.tables.find((t) => t.id === id)?.warnings.map((x) => x.code), `presentation table ${id}`).toContain(c.code);
-
-    await page.click('[data-screen=runs]');
-    await page.locator(`[data-testid=runs-table] tr[data-run="${r.runId}"] button:has-text("Open")`).click();
-    await expect(page.locator(SCREEN[c.call]).first()).toBeVisible({ timeout: 60_000 });
-    const top = page.locator(`[data-testid=result-warnings] [data-warning=${c.code}]`);
-    await expect(top).toBeVisible();
-    await expect(top).toContainText(w!.message.slice(0, 60));
-    for (const id of c.tables) {
-      const under = (await screenTable(page, id)).locator(`[data-testid=table-warnings] [data-warning=${c.code}]`);
-      await expect(under, `${c.code} under table ${id}`).toBeVisible();
-      await expect(under).toContainText(w!.message.slice(0, 60));
-    }
-    await expect(page.locator('[data-caution]').first()).toContainText('not investment advice');
-    await shot(page, `warning-${c.code.toLowerCase()}`);
+    await raisedAndShown(page, c, 'result-warnings', SCREEN[c.call]);
   });
 }
 
@@ -98,28 +108,6 @@ for (const c of [...demoCases, ...warningCases()]) {
 // the tables it qualifies.
 for (const c of valueCases()) {
   test(`${c.code}: a ${c.call} run built to raise it shows the warning on the present-value screen and under ${c.tables.join(', ')}`, async ({ page }) => {
-    await page.goto('/');
-    await importFiles(page, c.files);
-    const r = await bridgeCall<ValueResult & RunTag>(page, c.call, { spec: c.spec });
-    const w = r.warnings.find((x) => x.code === c.code);
-    expect(w, `the run raises ${c.code}; it raised ${r.warnings.map((x) => x.code).join(', ') || 'nothing'}`).toBeDefined();
-    expect(r.runId, 'the run is recorded').toBeGreaterThan(0);
-    const p = present(r);
-    for (const id of c.tables) expect(p.tables.find((t) => t.id === id)?.warnings.map((x) => x.code), `presentation table ${id}`).toContain(c.code);
-
-    await page.click('[data-screen=runs]');
-    await page.locator(`[data-testid=runs-table] tr[data-run="${r.runId}"] button:has-text("Open")`).click();
-    const list = c.call === 'presentValue' ? 'pv-warnings' : 'drift-warnings';
-    const top = page.locator(`[data-testid=${list}] [data-warning=${c.code}]`);
-    await expect(top).toBeVisible({ timeout: 60_000 });
-    await expect(top).toContainText(w!.message.slice(0, 60));
-    for (const id of c.tables) {
-      const under = (await screenTable(page, id)).locator(`[data-testid=table-warnings] [data-warning=${c.code}]`);
-      await expect(under, `${c.code} under table ${id}`).toBeVisible();
-      await expect(under).toContainText(w!.message.slice(0, 60));
-    }
-    await expect(page.locator('[data-caution]').first()).toContainText('not investment advice');
-    await top.scrollIntoViewIfNeeded();
-    await shot(page, `warning-${c.code.toLowerCase()}`);
+    await raisedAndShown(page, c, c.call === 'presentValue' ? 'pv-warnings' : 'drift-warnings');
   });
 }

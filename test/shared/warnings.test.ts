@@ -23,16 +23,8 @@ import { parseCompareSpec, parseFitSpec } from '../../shared/spec.js';
 import { PERIODS_PER_MOMENT, S_PIVOT_WARN } from '../../shared/warnings.js';
 import { resultToXlsx } from '../../src-main/export/xlsx.js';
 import { sampleFit } from './report/sample-results.js';
+import { normal, rng } from './seeded-draws.js';
 
-/** Seeded uniform (a 32-bit LCG, Numerical Recipes constants) and normal (Box-Muller) draws. */
-function rng(seed: number): () => number {
-  let s = seed >>> 0;
-  return () => {
-    s = (s * 1664525 + 1013904223) >>> 0;
-    return s / 2 ** 32;
-  };
-}
-const normal = (r: () => number) => Math.sqrt(-2 * Math.log(r() + 1e-300)) * Math.cos(2 * Math.PI * r());
 
 function panel(T: number, N: number, K: number, seed: number): ReturnsPanel {
   const r = rng(seed);
