@@ -169,8 +169,9 @@ export function dpRegressionsOption(pv: PresentValueResult): ChartOption {
       trigger: 'item',
       formatter: (p: { seriesName?: string; name?: string; value?: number[] }) => (p.value ? `<b>${p.name ?? ''}</b><br/>dp(t) ${num(p.value[0], 3)}<br/>${p.seriesName ?? ''} ${num(p.value[1], 3)}` : ''),
     },
-    xAxis: keys.map((_, i) => valueAxis(i === 1 ? 'dp(t)' : '', { gridIndex: i, scale: true, splitNumber: 3, nameGap: 26, axisLabel: { color: PALETTE.muted, fontSize: 9, formatter: (v: number) => num(v, 2) } })),
-    yAxis: keys.map((_, i) => valueAxis('', { gridIndex: i, scale: true, axisLabel: { color: PALETTE.muted, fontSize: 9, formatter: (v: number) => num(v, 2) } })),
+    xAxis: keys.map((_, i) => valueAxis(i === 1 ? 'dp(t)' : '', { gridIndex: i, scale: true, splitNumber: 3, nameGap: 26, axisLabel: { color: PALETTE.muted, fontSize: 9 } })),
+    // ECharts picks the labels' decimals from the tick interval (a fixed two repeated 0.02 on a 0.005 grid)
+    yAxis: keys.map((_, i) => valueAxis('', { gridIndex: i, scale: true, axisLabel: { color: PALETTE.muted, fontSize: 9 } })),
     series,
   };
 }
