@@ -252,9 +252,13 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   // Window bounds from spec.start / spec.end, on the labels of periods with any asset return.
   const usable = assets.filter((a) => !a.unusable);
   for (const a of assets) if (a.unusable) notes.push({ subject: a.name, reason: `dropped: ${a.unusable}` });
-  const withReturns = new Set<number>();
-  for (const a of usable) for (const k of (a.values as Map<number, number>).keys()) withReturns.add(k);
-  const order = [...withReturns].sort((x, y) => x - y);
+  // (only a spec with a start or an end needs them)
+  const order: number[] = [];
+  if (spec.start !== undefined || spec.end !== undefined) {
+    const withReturns = new Set<number>();
+    for (const a of usable) for (const k of (a.values as Map<number, number>).keys()) withReturns.add(k);
+    order.push(...[...withReturns].sort((x, y) => x - y));
+  }
   const windowText = `${spec.start ?? 'the first period'}..${spec.end ?? 'the last period'}`;
   const bounds: { lo?: number; hi?: number } = {};
   if (spec.start !== undefined) {

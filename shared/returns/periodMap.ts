@@ -21,8 +21,13 @@ export class PeriodMap<V> extends Map<number, V> {
     if (lo !== undefined && capacity !== undefined && Number.isInteger(lo) && capacity > 0) {
       this.lo = lo;
       this.has_ = new Uint8Array(capacity);
-      this.vals = new Array<V>(capacity);
+      this.vals = this.storage(capacity);
     }
+  }
+
+  /** Room for `n` values (NumberPeriodMap keeps them in a Float64Array). */
+  protected storage(n: number): V[] {
+    return new Array<V>(n);
   }
 
   private slot(k: number): number {
@@ -33,14 +38,14 @@ export class PeriodMap<V> extends Map<number, V> {
     if (this.has_.length === 0) {
       this.lo = k;
       this.has_ = new Uint8Array(64);
-      this.vals = new Array<V>(64);
+      this.vals = this.storage(64);
       return;
     }
     if (k < this.lo) {
       const shift = Math.max(this.lo - k, this.has_.length);
       const flags = new Uint8Array(this.has_.length + shift);
       flags.set(this.has_, shift);
-      const vals = new Array<V>(this.has_.length + shift);
+      const vals = this.storage(this.has_.length + shift);
       for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) vals[i + shift] = this.vals[i];
       this.has_ = flags;
       this.vals = vals;
@@ -51,8 +56,10 @@ export class PeriodMap<V> extends Map<number, V> {
     while (k - this.lo >= size) size *= 2;
     const flags = new Uint8Array(size);
     flags.set(this.has_);
+    const vals = this.storage(size);
+    for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) vals[i] = this.vals[i];
     this.has_ = flags;
-    this.vals.length = size;
+    this.vals = vals;
   }
 
   override set(k: number, v: V): this {
@@ -81,14 +88,14 @@ export class PeriodMap<V> extends Map<number, V> {
     if (!this.has(k)) return false;
     const i = this.slot(k);
     this.has_[i] = 0;
-    this.vals[i] = undefined as V;
+    if (Array.isArray(this.vals)) this.vals[i] = undefined as V;
     this.count--;
     return true;
   }
 
   override clear(): void {
     this.has_ = new Uint8Array(0);
-    this.vals = [];
+    this.vals = this.storage(0);
     this.count = 0;
   }
 
@@ -123,5 +130,18 @@ export class PeriodMap<V> extends Map<number, V> {
 
   override forEach(fn: (value: V, key: number, map: Map<number, V>) => void, thisArg?: unknown): void {
     for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) fn.call(thisArg, this.vals[i], i + this.lo, this);
+  }
+}
+
+/**
+ * A PeriodMap of numbers held in a Float64Array: a daily history's maps are then memory
+ * outside the JavaScript heap, which the garbage collector does not copy from generation
+ * to generation (a million-row panel holds several million of these values at once).
+ * Values are stored as the float64 they are, so what `get` returns is bit for bit what
+ * `set` was given.
+ */
+export class NumberPeriodMap extends PeriodMap<number> {
+  protected override storage(n: number): number[] {
+    return new Float64Array(n) as unknown as number[];
   }
 }

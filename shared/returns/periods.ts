@@ -222,32 +222,72 @@ export interface PeriodCalendar {
   keyOf(index: number): string;
   /** Last weekday of a calendar period (weekly and lower); null for daily periods. */
   lastWeekday(index: number): number | null;
+  /**
+   * indexOf of every date of a list, -1 for null (never modify the result: the index list
+   * of a shared parsed list, see parseAscending, is kept and handed to every caller).
+   */
+  indicesOf(dates: readonly CalendarDate[]): Int32Array;
+}
+
+/** The index lists of shared parsed lists, per calendar (one computation per list and calendar). */
+function indexLists(indexOf: (d: CalendarDate) => number | null, fill?: (dates: readonly CalendarDate[], out: Int32Array) => void): (dates: readonly CalendarDate[]) => Int32Array {
+  const kept = new WeakMap<readonly CalendarDate[], Int32Array>();
+  return (dates) => {
+    const hit = kept.get(dates);
+    if (hit !== undefined) return hit;
+    const out = new Int32Array(dates.length);
+    if (fill) fill(dates, out);
+    else for (let i = 0; i < dates.length; i++) out[i] = indexOf(dates[i]) ?? -1;
+    if (sharedParsed.has(dates)) kept.set(dates, out);
+    return out;
+  };
 }
 
 /** A calendar of `frequency`; daily calendars need the trading dates (day numbers, any order, duplicates allowed). */
 export function periodCalendar(frequency: Frequency, tradingDays?: Iterable<number>): PeriodCalendar {
   if (frequency !== 'daily') {
     const f = frequency;
+    const indexOf = (d: CalendarDate): number => calendarIndex(d, f);
     return {
       frequency,
-      indexOf: (d) => calendarIndex(d, f),
+      indexOf,
       keyOf: (i) => calendarKey(i, f),
       lastWeekday: (i) => lastWeekdayOf(i, f),
+      indicesOf: indexLists(indexOf),
     };
   }
   const days = [...new Set(tradingDays ?? [])].sort((a, b) => a - b);
+  /** The first trading day at or after `day` (days.length when none), searching [lo, days.length). */
+  const lowerBound = (day: number, from: number): number => {
+    let lo = from;
+    let hi = days.length;
+    while (lo < hi) {
+      const mid = (lo + hi) >>> 1;
+      if (days[mid] < day) lo = mid + 1;
+      else hi = mid;
+    }
+    return lo;
+  };
+  const indexOf = (d: CalendarDate): number | null => {
+    const lo = lowerBound(d.day, 0);
+    return lo < days.length ? lo : null;
+  };
+  // ascending dates: each search starts where the previous one ended (the same lower bound)
+  const fill = (dates: readonly CalendarDate[], out: Int32Array): void => {
+    let at = 0;
+    let prevDay = Number.NEGATIVE_INFINITY;
+    for (let i = 0; i < dates.length; i++) {
+      const day = dates[i].day;
+      if (day < prevDay) at = 0;
+      while (at < days.length && days[at] < day) at++;
+      out[i] = at < days.length ? at : -1;
+      prevDay = day;
+    }
+  };
   return {
     frequency,
-    indexOf: (d) => {
-      let lo = 0;
-      let hi = days.length;
-      while (lo < hi) {
-        const mid = (lo + hi) >>> 1;
-        if (days[mid] < d.day) lo = mid + 1;
-        else hi = mid;
-      }
-      return lo < days.length ? lo : null;
-    },
+    indexOf,
+    indicesOf: indexLists(indexOf, fill),
     keyOf: (i) => (i >= 0 && i < days.length ? dateOfDay(days[i]) : `trading day #${i}`),
     lastWeekday: () => null,
   };
@@ -319,6 +359,8 @@ export function spacingFrequency(dates: readonly CalendarDate[]): Frequency | nu
  * Only frozen arrays are remembered, so a list that could change is always parsed again.
  */
 const parsedLists = new WeakMap<readonly string[], CalendarDate[]>();
+/** The lists parsedLists hands out (shared, never modified): calendars keep their index lists. */
+const sharedParsed = new WeakSet<readonly CalendarDate[]>();
 
 export function parseAscending(dates: readonly string[], where: string): CalendarDate[] {
   if (!Object.isFrozen(dates)) return parseAscendingOnce(dates, where);
@@ -326,6 +368,7 @@ export function parseAscending(dates: readonly string[], where: string): Calenda
   if (hit !== undefined) return hit;
   const out = parseAscendingOnce(dates, where);
   parsedLists.set(dates, out);
+  sharedParsed.add(out);
   return out;
 }
 

@@ -13,7 +13,7 @@
 import type { Frequency, PriceHistory } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { frequencyRank, parseAscending, storedFrequency, type PeriodCalendar } from './periods.js';
-import { PeriodMap } from './periodMap.js';
+import { NumberPeriodMap, PeriodMap } from './periodMap.js';
 
 export interface AssetPeriods {
   asset: string;
@@ -118,8 +118,9 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   const k0 = m > 0 ? cal.indexOf(rowDates[0]) : null;
   const k1 = m > 0 ? cal.indexOf(rowDates[m - 1]) : null;
   const span = k0 !== null && k1 !== null && k1 >= k0 ? k1 - k0 + 1 : undefined;
-  const dense = <V>() => (span !== undefined && k0 !== null ? new PeriodMap<V>(k0, span) : new PeriodMap<V>());
-  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: dense(), priceGross: dense(), gross: dense(), lastDay: dense(), lastDate: dense() };
+  const numbers = () => (span !== undefined && k0 !== null ? new NumberPeriodMap(k0, span) : new NumberPeriodMap());
+  const lastDate = span !== undefined && k0 !== null ? new PeriodMap<string>(k0, span) : new PeriodMap<string>();
+  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: numbers(), priceGross: numbers(), gross: numbers(), lastDay: numbers(), lastDate };
   const f = cal.frequency;
   if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
     out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
@@ -146,9 +147,10 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     prevClosedK = k;
   };
   let lastPeriodStart: string | null = null;
+  const indices = cal.indicesOf(rowDates);
   for (let j = 0; j < m; j++) {
-    const idx = cal.indexOf(rowDates[j]);
-    if (idx === null) continue;
+    const idx = indices[j];
+    if (idx < 0) continue;
     if (idx !== k) {
       flush();
       lastPeriodStart = k !== null ? (out.lastDate.get(k) ?? null) : null;

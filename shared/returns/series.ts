@@ -16,7 +16,7 @@
 import { PERIODS_PER_YEAR, type Frequency, type NamedSeries, type RiskfreeForm } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { frequencyRank, parseAscending, storedFrequency, dateOfDay, type CalendarDate, type PeriodCalendar } from './periods.js';
-import { PeriodMap } from './periodMap.js';
+import { NumberPeriodMap, PeriodMap } from './periodMap.js';
 
 export type DayCount = 'periods' | 'actual365';
 export type YieldConvention = 'simple' | 'annual' | 'continuous';
@@ -65,12 +65,13 @@ function observe(s: NamedSeries, cal: PeriodCalendar): Observations {
   const dates: CalendarDate[] = [];
   const values: number[] = [];
   const index: number[] = [];
+  const indices = cal.indicesOf(all);
   for (let i = 0; i < all.length; i++) {
     const v = s.values[i];
     if (Number.isNaN(v)) continue;
     if (!Number.isFinite(v)) throw new DeflatorError('INPUT_INVALID', `${where}, ${s.dates[i]}: value ${v} is not finite`, 'correct that row in the source file and import it again');
-    const k = cal.indexOf(all[i]);
-    if (k === null) continue;
+    const k = indices[i];
+    if (k < 0) continue;
     dates.push(all[i]);
     values.push(v);
     index.push(k);
@@ -102,7 +103,7 @@ function byPeriod(
   perPeriod: boolean,
 ): PeriodSeries {
   // observations are ascending, so are their periods: dense maps (periodMap.ts)
-  const out: PeriodSeries = { name, values: new PeriodMap(), lastDate: new PeriodMap(), stored: obs.stored };
+  const out: PeriodSeries = { name, values: new NumberPeriodMap(), lastDate: new PeriodMap(), stored: obs.stored };
   const aggregated = frequencyRank(obs.stored) < frequencyRank(cal.frequency);
   const observed = new Set(obs.index);
   let j = 0;

@@ -120,9 +120,12 @@ function header(buf: Buffer): { kind: number; n: number; flags: number } | null 
 }
 
 function column(buf: Buffer, colsAt: number, n: number, j: number): Float64Array {
-  // copy out of the blob (its memory belongs to the row that SQLite returned)
-  const out = new Float64Array(n);
   const start = buf.byteOffset + colsAt + j * n * 8;
+  // The blob is a fresh buffer of its own (the driver copies it out of SQLite for each row
+  // read): a view on it, with no copy, when it owns its whole memory and the column is aligned
+  if (buf.byteOffset === 0 && buf.buffer.byteLength === buf.length && start % 8 === 0) return new Float64Array(buf.buffer, start, n);
+  // otherwise (a buffer sharing its memory, e.g. a pooled one) a copy
+  const out = new Float64Array(n);
   if (start % 8 === 0) out.set(new Float64Array(buf.buffer, start, n));
   else for (let i = 0; i < n; i++) out[i] = buf.readDoubleLE(colsAt + (j * n + i) * 8);
   return out;

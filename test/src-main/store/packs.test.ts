@@ -17,6 +17,7 @@ import { afterEach, beforeEach, describe, expect, it } from 'vitest';
 import type { NamedSeries, PriceHistory, StoredAsset } from '../../../shared/data.js';
 import { importPrices, importSeries } from '../../../src-main/import/index.js';
 import { DataFingerprinter } from '../../../src-main/runs/dependencies.js';
+import { DateTexts, decodeHistory } from '../../../src-main/store/packs.js';
 import { Store } from '../../../src-main/store/store.js';
 import { editPrice, forgetImport, makeProject, type Project } from '../runs/helpers.js';
 
@@ -151,6 +152,31 @@ describe('packed series', () => {
       ro.close();
     }
     p.store = new Store(p.dbPath);
+  });
+});
+
+describe('packed series: decoding', () => {
+  it('a pack decodes to the same bits from a buffer of its own (columns read in place) and from one sharing its memory at any offset (copied); loads never share memory', () => {
+    p.store.loadAssets(); // packs them
+    const rows = p.store.db.prepare("SELECT s.data, a.name FROM subject_pack s JOIN asset a ON a.id = s.subject_id WHERE s.kind = 'asset'").all() as { data: Buffer; name: string }[];
+    expect(rows.length).toBeGreaterThan(0);
+    for (const { data, name } of rows) {
+      const own = decodeHistory(name, data, new DateTexts()) as PriceHistory;
+      expect(own).not.toBeNull();
+      for (const shift of [8, 3]) {
+        const shared = Buffer.alloc(data.length + 16);
+        data.copy(shared, shift);
+        const inside = decodeHistory(name, shared.subarray(shift, shift + data.length), new DateTexts()) as PriceHistory;
+        expect(sameHistory(own, inside), `${name}, offset ${shift}`).toBe(true);
+        shared.fill(0); // the decoded columns are copies: clearing the shared memory leaves them
+        expect(sameHistory(own, inside), `${name}, offset ${shift}, after the buffer changed`).toBe(true);
+      }
+    }
+    const a = p.store.loadAssets() as PriceHistory[];
+    const b = p.store.loadAssets() as PriceHistory[];
+    const before = b[0].price[0];
+    a[0].price[0] = -1;
+    expect(b[0].price[0]).toBe(before);
   });
 });
 

@@ -1,0 +1,80 @@
+/**
+ * Dense period maps (shared/returns/periodMap.ts) and a calendar's index lists
+ * (PeriodCalendar.indicesOf): checked against the ECMAScript built-in Map, which a period
+ * map stands in for (the same keys, values bit for bit, sizes and ascending iteration
+ * after any sequence of sets and deletes), and against the calendar's own one-date lookup.
+ */
+import fc from 'fast-check';
+import { describe, expect, it } from 'vitest';
+import { NumberPeriodMap, PeriodMap } from '../../../shared/returns/periodMap.js';
+import { dateOfDay, parseAscending, parseDate, periodCalendar, type CalendarDate } from '../../../shared/returns/periods.js';
+
+type Op = { del: boolean; k: number; v: number };
+const ops = fc.array(fc.record({ del: fc.boolean(), k: fc.integer({ min: -300, max: 300 }), v: fc.double() }), { maxLength: 200 });
+
+function same(m: Map<number, number>, ref: Map<number, number>): void {
+  expect(m.size).toBe(ref.size);
+  const keys = [...ref.keys()].sort((a, b) => a - b);
+  expect([...m.keys()]).toEqual(keys);
+  for (const k of keys) expect(Object.is(m.get(k), ref.get(k))).toBe(true);
+  for (const [k, v] of m) expect(Object.is(v, ref.get(k))).toBe(true);
+  for (let k = -310; k <= 310; k++) expect(m.has(k)).toBe(ref.has(k));
+}
+
+function apply(m: Map<number, number>, list: Op[]): void {
+  for (const o of list) {
+    if (o.del) m.delete(o.k);
+    else m.set(o.k, o.v);
+  }
+}
+
+describe('period maps', () => {
+  it('a number map (Float64Array) and a general map hold what the built-in Map holds, bit for bit (-0, NaN, growing down and up)', () => {
+    fc.assert(
+      fc.property(ops, fc.option(fc.integer({ min: -50, max: 50 }), { nil: undefined }), (list, lo) => {
+        const ref = new Map<number, number>();
+        apply(ref, list);
+        for (const m of [new NumberPeriodMap(), new PeriodMap<number>(), ...(lo !== undefined ? [new NumberPeriodMap(lo, 10), new PeriodMap<number>(lo, 10)] : [])]) {
+          apply(m, list);
+          same(m, ref);
+        }
+      }),
+      { numRuns: 200 },
+    );
+    const m = new NumberPeriodMap(5, 4);
+    m.set(6, -0).set(7, Number.NaN).set(1000, 1.5).set(-1000, 2.5);
+    expect(Object.is(m.get(6), -0)).toBe(true);
+    expect(Number.isNaN(m.get(7))).toBe(true);
+    expect(m.extent()).toEqual([-1000, 1000]);
+    m.clear();
+    expect(m.size).toBe(0);
+    expect(m.get(6)).toBeUndefined();
+  });
+});
+
+describe('calendar index lists', () => {
+  const days = fc.uniqueArray(fc.integer({ min: 18000, max: 18400 }), { minLength: 1, maxLength: 80 });
+  it('indicesOf gives indexOf of each date (-1 for none), on daily and calendar periods, for ascending and unordered lists', () => {
+    fc.assert(
+      fc.property(days, days, fc.boolean(), (trading, listed, sorted) => {
+        const list: CalendarDate[] = (sorted ? [...listed].sort((a, b) => a - b) : listed).map((d) => parseDate(dateOfDay(d)));
+        for (const cal of [periodCalendar('daily', trading), periodCalendar('monthly'), periodCalendar('weekly')]) {
+          const ix = cal.indicesOf(list);
+          expect(Array.from(ix)).toEqual(list.map((d) => cal.indexOf(d) ?? -1));
+        }
+      }),
+      { numRuns: 200 },
+    );
+  });
+
+  it('the list of a shared parsed list is computed once per calendar; other lists each time', () => {
+    const text = Object.freeze(['2024-01-02', '2024-01-03', '2024-01-05']);
+    const parsed = parseAscending(text, 'test');
+    const cal = periodCalendar('daily', parsed.map((d) => d.day));
+    expect(cal.indicesOf(parsed)).toBe(cal.indicesOf(parsed));
+    expect(Array.from(cal.indicesOf(parsed))).toEqual([0, 1, 2]);
+    const loose = parseAscending([...text], 'test');
+    expect(cal.indicesOf(loose)).not.toBe(cal.indicesOf(loose));
+    expect(dateOfDay(parsed[2].day)).toBe('2024-01-05');
+  });
+});
