@@ -17,6 +17,7 @@ import { dayNumbers, frequencyRank, parseAscending, periodCalendar, parseDate, t
 import { consumptionPeriods, factorPeriods, instrumentPeriods, riskfreePeriods, type PeriodSeries } from './series.js';
 import { assetPeriods, observedDates } from './stored-returns.js';
 import { assetLastDates, periodLabels } from './table.js';
+import { PeriodMap } from './periodMap.js';
 import { commonWindow } from './window.js';
 
 /** The keys of a spec that fix a panel's data (a fit spec has them all). */
@@ -336,6 +337,8 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   for (let k = w.lo; k <= w.hi; k++) periods.push(describe(k));
   const series = (m: Map<number, number>): Float64Array => {
     const out = new Float64Array(T);
+    // a dense map holding the whole window: one copy (the same values; the window checks made sure they are there)
+    if (m instanceof PeriodMap && m.rangeInto(w.lo, out)) return out;
     for (let k = w.lo; k <= w.hi; k++) out[k - w.lo] = m.get(k) as number;
     return out;
   };

@@ -112,6 +112,21 @@ export class PeriodMap<V> extends Map<number, V> {
     return a <= b ? [a + this.lo, b + this.lo] : [Number.POSITIVE_INFINITY, Number.NEGATIVE_INFINITY];
   }
 
+  /**
+   * The values of periods from..from+out.length-1 written into `out`, when the map holds
+   * every one of them (true); false, with `out` as it may be, when one is missing.
+   */
+  rangeInto(from: number, out: { [i: number]: V; length: number }): boolean {
+    const a = from - this.lo;
+    const n = out.length;
+    if (a < 0 || a + n > this.has_.length) return n === 0;
+    for (let i = 0; i < n; i++) if (!this.has_[a + i]) return false;
+    const vals: unknown = this.vals;
+    if (out instanceof Float64Array && vals instanceof Float64Array) out.set(vals.subarray(a, a + n));
+    else for (let i = 0; i < n; i++) out[i] = this.vals[a + i];
+    return true;
+  }
+
   override *entries(): MapIterator<[number, V]> {
     for (let i = 0; i < this.has_.length; i++) if (this.has_[i]) yield [i + this.lo, this.vals[i]];
   }

@@ -1,8 +1,9 @@
 /**
  * Dense period maps (shared/returns/periodMap.ts) and a calendar's index lists
  * (PeriodCalendar.indicesOf): checked against the ECMAScript built-in Map, which a period
- * map stands in for (the same keys, values bit for bit, sizes and ascending iteration
- * after any sequence of sets and deletes), and against the calendar's own one-date lookup.
+ * map stands in for (the same keys, values bit for bit, sizes, ascending iteration and
+ * copies of a run of periods after any sequence of sets and deletes), and against the
+ * calendar's own one-date lookup.
  */
 import fc from 'fast-check';
 import { describe, expect, it } from 'vitest';
@@ -40,6 +41,21 @@ describe('period maps', () => {
         }
       }),
       { numRuns: 200 },
+    );
+    fc.assert(
+      fc.property(ops, fc.integer({ min: -320, max: 320 }), fc.integer({ min: 0, max: 40 }), (list, from, n) => {
+        const ref = new Map<number, number>();
+        apply(ref, list);
+        let all = true;
+        for (let k = from; k < from + n; k++) all &&= ref.has(k);
+        for (const m of [new NumberPeriodMap(), new PeriodMap<number>()]) {
+          apply(m, list);
+          const out = new Float64Array(n);
+          expect(m.rangeInto(from, out)).toBe(all);
+          if (all) for (let i = 0; i < n; i++) expect(Object.is(out[i], ref.get(from + i))).toBe(true);
+        }
+      }),
+      { numRuns: 300 },
     );
     const m = new NumberPeriodMap(5, 4);
     m.set(6, -0).set(7, Number.NaN).set(1000, 1.5).set(-1000, 2.5);
