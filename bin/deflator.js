@@ -1,12 +1,13 @@
 #!/usr/bin/env node
 // Thin launcher: the CLI is bundled into dist/ by `npm run prepare` (run by npm ci).
-import { existsSync } from 'node:fs';
-import { fileURLToPath } from 'node:url';
-import path from 'node:path';
+// CommonJS (bin/package.json): a command starts without Node's ES module loader.
+'use strict';
+const { existsSync } = require('node:fs');
+const path = require('node:path');
 
-const cli = path.join(path.dirname(fileURLToPath(import.meta.url)), '..', 'dist', 'cli.js');
-if (!existsSync(cli)) {
-  process.stderr.write('deflator: dist/cli.js is missing; run `npm run prepare` (or `npm ci`) in the project folder first.\n');
+const launcher = path.join(__dirname, '..', 'dist', 'launch.cjs');
+if (!existsSync(launcher)) {
+  process.stderr.write('deflator: dist/launch.cjs is missing; run `npm run prepare` (or `npm ci`) in the project folder first.\n');
   process.exit(2);
 }
-await import(cli);
+require(launcher);

@@ -35,20 +35,20 @@ const banner = {
   js: "import { createRequire as __deflatorCreateRequire } from 'node:module'; const require = __deflatorCreateRequire(import.meta.url);",
 };
 
-// zod's `locales` namespace (every language's error messages, about 400 kB of the bundle):
-// only English is used (zod sets it as its default itself), so the namespace is bundled
-// with English alone. The parsing, the schemas and their messages are unchanged.
-const zodEnglishOnly = {
-  name: 'zod-english-only',
+/**
+ * commander requires node:child_process at load, for subcommands run as separate programs,
+ * which deflator has none of; that module brings Node's net, dgram and stream modules with
+ * it (a few ms at every start). In the bundle, the require is made on first use instead.
+ */
+const commanderLazyChildProcess = {
+  name: 'commander-lazy-child-process',
   setup(b) {
-    b.onResolve({ filter: /^\.\.\/locales\/index\.js$/ }, (args) =>
-      /[\\/]zod[\\/]v4[\\/](classic|core|mini)$/.test(args.resolveDir) ? { path: path.join(args.resolveDir, '../locales/index.js'), namespace: 'zod-locales' } : undefined,
-    );
-    b.onLoad({ filter: /.*/, namespace: 'zod-locales' }, (args) => ({
-      contents: 'export { default as en } from "./en.js";\n',
-      resolveDir: path.dirname(args.path),
-      loader: 'js',
-    }));
+    b.onLoad({ filter: /[\\/]commander[\\/]lib[\\/]command\.js$/ }, (args) => {
+      const text = readFileSync(args.path, 'utf8');
+      const line = "const childProcess = require('node:child_process');";
+      if (!text.includes(line)) throw new Error(`${args.path}: the child_process require to defer was not found; update scripts/build.mjs`);
+      return { contents: text.replace(line, "const childProcess = { get spawn() { return require('node:child_process').spawn; } };"), loader: 'js' };
+    });
   },
 };
 
@@ -74,29 +74,37 @@ await build({
   entryPoints: ['src-main/cli/index.ts'],
   outfile: 'dist/cli.cjs',
   bundle: true,
+  minify: true,
   platform: 'node',
   format: 'cjs',
   target: 'node20',
   sourcemap: true,
+  // minified: about half the bytes to read and hold at every start (no code reads a
+  // function's or class's name, so names need not be kept); the source map maps stack traces
+  minify: true,
   external,
   define: { ...define, 'import.meta.url': '__deflatorModuleUrl' },
   banner: { js: "const __deflatorModuleUrl = require('node:url').pathToFileURL(__filename).href;" },
-  plugins: [zodEnglishOnly],
+  plugins: [commanderLazyChildProcess],
   logLevel: 'warning',
 });
 asciiOnly(path.join(root, 'dist/cli.cjs'));
 const cliBuild = createHash('sha256').update(readFileSync(path.join(root, 'dist/cli.cjs'))).digest('hex').slice(0, 16);
+// The launcher is CommonJS (dist/launch.cjs): bin/deflator.js (CommonJS too, bin/package.json)
+// requires it without starting Node's ES module loader, which costs a command about 10 ms.
+// dist/cli.js, the entry scripts and tests call by path, imports it.
 await build({
   absWorkingDir: root,
   entryPoints: ['src-main/cli/launch.ts'],
-  outfile: 'dist/cli.js',
+  outfile: 'dist/launch.cjs',
   bundle: true,
   platform: 'node',
-  format: 'esm',
+  format: 'cjs',
   target: 'node20',
   define: { __DEFLATOR_CLI_BUILD__: JSON.stringify(cliBuild) },
   logLevel: 'warning',
 });
+writeFileSync(path.join(root, 'dist/cli.js'), "// The command line by path (`node dist/cli.js`): the launcher, src-main/cli/launch.ts.\nimport './launch.cjs';\n");
 
 // The worker and the Electron main. Code splitting: modules reached only through a dynamic
 // import() land in their own chunks, so they are loaded only when used.
@@ -114,7 +122,6 @@ await build({
   external,
   banner,
   define,
-  plugins: [zodEnglishOnly],
   logLevel: 'warning',
 });
 

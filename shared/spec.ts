@@ -3,14 +3,14 @@
  * the CLI (`deflator fit SPEC`), written by the app's model set-up screen, and stored
  * with every run. Keys are a contract scripts rely on: add freely, never rename.
  */
-import * as z from 'zod';
+import { s, type Infer, type Input, type SchemaError } from './schema.js';
 import { FREQUENCIES } from './data.js';
 import { DeflatorError } from './errors.js';
 import { isCalendarDate } from './returns/periods.js';
 import { controlProblems } from './text.js';
 
 /** A calendar date written as YYYY-MM-DD (2010-02-30 and 2010-13-01 are refused). */
-export const isoDate = z.string().refine(isCalendarDate, 'expected a calendar date as YYYY-MM-DD (e.g. 2010-02-28)');
+export const isoDate = s.string().refine(isCalendarDate, 'expected a calendar date as YYYY-MM-DD (e.g. 2010-02-28)');
 
 export const MODEL_KINDS = ['linear', 'linear-raw', 'linear-gross', 'consumption'] as const;
 export const METHODS = ['gmm', 'time-series', 'two-pass'] as const;
@@ -25,75 +25,75 @@ export const CONSTANT_INSTRUMENT = 'const';
  * multiplying the returns (managed portfolios), the factors (scaled factors) or both of
  * period t + lag. A constant is always the first instrument.
  */
-export const instrumentsSchema = z
+export const instrumentsSchema = s
   .object({
-    series: z.array(z.string().min(1)).default([]),
-    scale: z.enum(INSTRUMENT_SCALES).default('returns'),
-    lag: z.number().int().min(1).max(1000).default(1),
+    series: s.array(s.string().min(1)).default([]),
+    scale: s.enum(INSTRUMENT_SCALES).default('returns'),
+    lag: s.number().int().min(1).max(1000).default(1),
   })
   .strict();
 
-export const modelSchema = z
+export const modelSchema = s
   .object({
-    kind: z.enum(MODEL_KINDS).default('linear'),
-    factors: z.array(z.string().min(1)).default([]),
-    consumption: z.string().min(1).optional(),
+    kind: s.enum(MODEL_KINDS).default('linear'),
+    factors: s.array(s.string().min(1)).default([]),
+    consumption: s.string().min(1).optional(),
     /** Consumption model on excess returns: delta is fixed at this value (METHODS 2). */
-    delta: z.number().positive().finite().optional(),
+    delta: s.number().positive().finite().optional(),
   })
   .strict();
 
-export const estimatorSchema = z
+export const estimatorSchema = s
   .object({
-    method: z.enum(METHODS).default('gmm'),
-    stage: z.enum(STAGES).default('second'),
-    weight: z.enum(WEIGHTS).default('identity'),
-    lags: z.union([z.number().int().min(0).max(1000), z.literal('auto')]).default('auto'),
-    centered: z.boolean().default(true),
+    method: s.enum(METHODS).default('gmm'),
+    stage: s.enum(STAGES).default('second'),
+    weight: s.enum(WEIGHTS).default('identity'),
+    lags: s.union([s.number().int().min(0).max(1000), s.literal('auto')]).default('auto'),
+    centered: s.boolean().default(true),
     /** Inference with S from the weighting step (default) or re-estimated at the final estimate. */
-    inferenceS: z.enum(['weighting', 'final']).default('weighting'),
+    inferenceS: s.enum(['weighting', 'final']).default('weighting'),
     /** Two-pass: include a constant in the cross-sectional regressions (default true). */
-    intercept: z.boolean().default(true),
+    intercept: s.boolean().default(true),
     /** Iterated GMM / nonlinear solvers: iteration cap. */
-    maxIterations: z.number().int().min(1).max(10000).default(100),
+    maxIterations: s.number().int().min(1).max(10000).default(100),
   })
   .strict();
 
-export const backtestSchema = z
+export const backtestSchema = s
   .object({
-    window: z.number().int().min(2),
-    step: z.number().int().min(1).default(1),
-    horizon: z.number().int().min(1).default(1),
-    expanding: z.boolean().default(false),
+    window: s.number().int().min(2),
+    step: s.number().int().min(1).default(1),
+    horizon: s.number().int().min(1).default(1),
+    expanding: s.boolean().default(false),
   })
   .strict();
 
-export const bootstrapSchema = z
+export const bootstrapSchema = s
   .object({
-    replications: z.number().int().min(10).max(100000).default(499),
+    replications: s.number().int().min(10).max(100000).default(499),
     /** Block length in periods, or 'auto' = ceil(T^(1/3)) (common practice, see docs/methods.md). */
-    block: z.union([z.number().int().min(1), z.literal('auto')]).default('auto'),
-    seed: z.number().int().min(0).max(2 ** 31 - 1).default(20261201),
+    block: s.union([s.number().int().min(1), s.literal('auto')]).default('auto'),
+    seed: s.number().int().min(0).max(2 ** 31 - 1).default(20261201),
   })
   .strict();
 
 /** Keys that fix the data: shared by every model of a comparison. */
 const sampleShape = {
-  frequency: z.enum(FREQUENCIES).default('monthly'),
+  frequency: s.enum(FREQUENCIES).default('monthly'),
   start: isoDate.optional(),
   end: isoDate.optional(),
-  assets: z.union([z.literal('all'), z.array(z.string().min(1)).min(1)]).default('all'),
-  returns: z.enum(['excess', 'gross']).default('excess'),
-  riskfree: z.string().min(1).optional(),
-  includeRiskfree: z.boolean().default(false),
+  assets: s.union([s.literal('all'), s.array(s.string().min(1)).min(1)]).default('all'),
+  returns: s.enum(['excess', 'gross']).default('excess'),
+  riskfree: s.string().min(1).optional(),
+  includeRiskfree: s.boolean().default(false),
   /** Yield-quoted risk-free: dt = 1/periods-per-year (default) or actual days/365 (docs/methods.md, Returns). */
-  dayCount: z.enum(['periods', 'actual365']).optional(),
+  dayCount: s.enum(['periods', 'actual365']).optional(),
 };
 
-export const fitSpecSchema = z
+export const fitSpecSchema = s
   .object({
     ...sampleShape,
-    label: z.string().optional(),
+    label: s.string().optional(),
     model: modelSchema,
     estimator: estimatorSchema.default(estimatorSchema.parse({})),
     backtest: backtestSchema.optional(),
@@ -101,19 +101,19 @@ export const fitSpecSchema = z
   })
   .strict();
 
-export const compareEntrySchema = z
+export const compareEntrySchema = s
   .object({
-    label: z.string().optional(),
+    label: s.string().optional(),
     model: modelSchema,
     estimator: estimatorSchema.optional(),
-    returns: z.enum(['excess', 'gross']).optional(),
-    includeRiskfree: z.boolean().optional(),
+    returns: s.enum(['excess', 'gross']).optional(),
+    includeRiskfree: s.boolean().optional(),
     /** This model's instruments (in place of the comparison's own "instruments"). */
     instruments: instrumentsSchema.optional(),
   })
   .strict();
 
-export const compareSpecSchema = z
+export const compareSpecSchema = s
   .object({
     ...sampleShape,
     estimator: estimatorSchema.optional(),
@@ -121,26 +121,26 @@ export const compareSpecSchema = z
     bootstrap: bootstrapSchema.optional(),
     /** Instruments of every model that does not name its own. */
     instruments: instrumentsSchema.optional(),
-    compare: z.array(compareEntrySchema).min(1),
+    compare: s.array(compareEntrySchema).min(1),
   })
   .strict();
 
-const yearOrDate = z.string().regex(/^\d{4}(-\d{2}-\d{2})?$/, 'expected a year (YYYY) or a date (YYYY-MM-DD)');
-const lagsSchema = z.union([z.number().int().min(0).max(1000), z.literal('auto')]).default('auto');
+const yearOrDate = s.string().regex(/^\d{4}(-\d{2}-\d{2})?$/, 'expected a year (YYYY) or a date (YYYY-MM-DD)');
+const lagsSchema = s.union([s.number().int().min(0).max(1000), s.literal('auto')]).default('auto');
 
 /**
  * The dividend-price decomposition of one asset (`asset`) or of the aggregate of a set of
  * assets (`aggregate: true`, `assets` or every stored asset), on calendar years from the
  * year of `start` to the year of `end` (METHODS 10).
  */
-export const presentValueSpecSchema = z
+export const presentValueSpecSchema = s
   .object({
-    analysis: z.literal('present-value'),
-    label: z.string().optional(),
-    asset: z.string().min(1).optional(),
-    aggregate: z.boolean().default(false),
-    assets: z.union([z.literal('all'), z.array(z.string().min(1)).min(1)]).default('all'),
-    frequency: z.literal('annual').default('annual'),
+    analysis: s.literal('present-value'),
+    label: s.string().optional(),
+    asset: s.string().min(1).optional(),
+    aggregate: s.boolean().default(false),
+    assets: s.union([s.literal('all'), s.array(s.string().min(1)).min(1)]).default('all'),
+    frequency: s.literal('annual').default('annual'),
     start: yearOrDate.optional(),
     end: yearOrDate.optional(),
     lags: lagsSchema,
@@ -148,22 +148,22 @@ export const presentValueSpecSchema = z
   .strict();
 
 /** The drift split of each asset's return (METHODS 10) on the common sample of the assets. */
-export const driftSpecSchema = z
+export const driftSpecSchema = s
   .object({
-    analysis: z.literal('drift'),
-    label: z.string().optional(),
-    assets: z.union([z.literal('all'), z.array(z.string().min(1)).min(1)]).default('all'),
-    frequency: z.enum(FREQUENCIES).default('monthly'),
+    analysis: s.literal('drift'),
+    label: s.string().optional(),
+    assets: s.union([s.literal('all'), s.array(s.string().min(1)).min(1)]).default('all'),
+    frequency: s.enum(FREQUENCIES).default('monthly'),
     start: isoDate.optional(),
     end: isoDate.optional(),
     lags: lagsSchema,
   })
   .strict();
 
-export type PresentValueSpec = z.infer<typeof presentValueSpecSchema>;
-export type PresentValueSpecInput = z.input<typeof presentValueSpecSchema>;
-export type DriftSpec = z.infer<typeof driftSpecSchema>;
-export type DriftSpecInput = z.input<typeof driftSpecSchema>;
+export type PresentValueSpec = Infer<typeof presentValueSpecSchema>;
+export type PresentValueSpecInput = Input<typeof presentValueSpecSchema>;
+export type DriftSpec = Infer<typeof driftSpecSchema>;
+export type DriftSpecInput = Input<typeof driftSpecSchema>;
 
 /** Parses a present-value spec; exactly one of `asset` and `aggregate: true`. */
 export function parsePresentValueSpec(input: unknown, root = 'spec'): PresentValueSpec {
@@ -187,22 +187,21 @@ export function parseDriftSpec(input: unknown, root = 'spec'): DriftSpec {
   return r.data;
 }
 
-export type FitSpec = z.infer<typeof fitSpecSchema>;
-export type FitSpecInput = z.input<typeof fitSpecSchema>;
-export type CompareSpec = z.infer<typeof compareSpecSchema>;
-export type ModelSpec = z.infer<typeof modelSchema>;
-export type EstimatorSpec = z.infer<typeof estimatorSchema>;
-export type BacktestSpec = z.infer<typeof backtestSchema>;
-export type BootstrapSpec = z.infer<typeof bootstrapSchema>;
-export type InstrumentsSpec = z.infer<typeof instrumentsSchema>;
+export type FitSpec = Infer<typeof fitSpecSchema>;
+export type FitSpecInput = Input<typeof fitSpecSchema>;
+export type CompareSpec = Infer<typeof compareSpecSchema>;
+export type ModelSpec = Infer<typeof modelSchema>;
+export type EstimatorSpec = Infer<typeof estimatorSchema>;
+export type BacktestSpec = Infer<typeof backtestSchema>;
+export type BootstrapSpec = Infer<typeof bootstrapSchema>;
+export type InstrumentsSpec = Infer<typeof instrumentsSchema>;
 export type InstrumentScale = (typeof INSTRUMENT_SCALES)[number];
 
 /** "spec.estimator.stage: expected one of ..." for each problem, one per line. */
-export function formatSpecIssues(error: z.ZodError, root = 'spec'): string {
+export function formatSpecIssues(error: SchemaError, root = 'spec'): string {
   return error.issues
     .map((issue) => {
       const where = [root, ...issue.path.map(String)].join('.');
-      if (issue.code === 'unrecognized_keys') return `${where}: unknown key(s) ${issue.keys.map((k) => `"${k}"`).join(', ')}`;
       return `${where}: ${issue.message}`;
     })
     .join('\n');

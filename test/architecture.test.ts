@@ -54,7 +54,7 @@ describe('architecture', () => {
   });
 
   it('shared/ imports only shared/ and pure-JS packages (no node:, electron, vue, better-sqlite3, DOM libraries)', () => {
-    const allowed = new Set(['zod', 'ml-matrix', 'simple-statistics', 'jstat']);
+    const allowed = new Set(['ml-matrix', 'simple-statistics', 'jstat']);
     const bad: string[] = [];
     for (const f of shared) {
       for (const s of importsOf(f)) {

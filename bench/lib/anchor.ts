@@ -7,6 +7,7 @@
  */
 import { spawnSync, type SpawnSyncReturns } from 'node:child_process';
 import { existsSync } from 'node:fs';
+import { availableParallelism } from 'node:os';
 import path from 'node:path';
 
 export const ROOT = path.resolve(import.meta.dirname, '..', '..');
@@ -107,7 +108,7 @@ export function table(header: string[], rows: string[][]): void {
 /** Machine line for the figures' context. */
 export function machineLine(): string {
   const load = spawnSync('cat', ['/proc/loadavg'], { encoding: 'utf8' }).stdout.trim().split(' ').slice(0, 3).join(' ');
-  return `node ${process.version}, ${(globalThis as { navigator?: { hardwareConcurrency?: number } }).navigator?.hardwareConcurrency ?? '?'} cores, load average ${load}`;
+  return `node ${process.version}, ${availableParallelism()} cores, load average ${load}`;
 }
 
 /** CPU seconds of this process so far (user + system). */

@@ -13,7 +13,7 @@
  * within an axis, values in the order given; factor subsets by size, then in the
  * lexicographic order of the candidates' positions. Task numbers start at 0.
  */
-import { z } from 'zod';
+import { s, type AnySchema, type Infer, type Input } from '../schema.js';
 import { DeflatorError } from '../errors.js';
 import { backtestSchema, estimatorSchema, fitSpecSchema, formatSpecIssues, instrumentsSchema, modelSchema, parseFitSpec, type FitSpec } from '../spec.js';
 import { FREQUENCIES } from '../data.js';
@@ -55,58 +55,58 @@ export type AxisKey = (typeof AXES)[number];
  * like the run record's dependency list, does not pay for building them).
  */
 function buildGridSchemas() {
-  const isoDate = z.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
-  const name = z.string().min(1);
+  const isoDate = s.string().regex(/^\d{4}-\d{2}-\d{2}$/, 'expected a date as YYYY-MM-DD');
+  const name = s.string().min(1);
 
   /** A set of test assets: "all", a list of names, or a named list. */
-  const assetSetSchema = z.union([
-    z.literal('all'),
-    z.array(name).min(1),
-    z.object({ name: z.string().min(1).max(80), assets: z.array(name).min(1) }).strict(),
+  const assetSetSchema = s.union([
+    s.literal('all'),
+    s.array(name).min(1),
+    s.object({ name: s.string().min(1).max(80), assets: s.array(name).min(1) }).strict(),
   ]);
 
   /** All subsets of the candidates (sizes minSize..maxSize), each with the `always` factors first. */
-  const factorSubsetsSchema = z
+  const factorSubsetsSchema = s
     .object({
-      subsets: z.array(name).min(1).max(40),
-      minSize: z.number().int().min(0).default(1),
-      maxSize: z.number().int().min(0).optional(),
-      always: z.array(name).default([]),
+      subsets: s.array(name).min(1).max(40),
+      minSize: s.number().int().min(0).default(1),
+      maxSize: s.number().int().min(0).optional(),
+      always: s.array(name).default([]),
     })
     .strict();
 
-  const values = <T extends z.ZodType>(item: T) => z.array(item).min(1).max(10_000);
+  const values = <T extends AnySchema>(item: T) => s.array(item).min(1).max(10_000);
 
-  const gridAxesSchema = z
+  const gridAxesSchema = s
     .object({
-      frequency: values(z.enum(FREQUENCIES)).optional(),
+      frequency: values(s.enum(FREQUENCIES)).optional(),
       start: values(isoDate).optional(),
       end: values(isoDate).optional(),
       assets: values(assetSetSchema).optional(),
       'model.kind': values(modelSchema.shape.kind.unwrap()).optional(),
-      'model.factors': z.union([values(z.array(name)), factorSubsetsSchema]).optional(),
+      'model.factors': s.union([values(s.array(name)), factorSubsetsSchema]).optional(),
       /** Conditioning information per task: an instruments block, or "none" for the unconditional model. */
-      instruments: values(z.union([z.literal('none'), instrumentsSchema])).optional(),
+      instruments: values(s.union([s.literal('none'), instrumentsSchema])).optional(),
       'estimator.method': values(estimatorSchema.shape.method.unwrap()).optional(),
       'estimator.stage': values(estimatorSchema.shape.stage.unwrap()).optional(),
       'estimator.weight': values(estimatorSchema.shape.weight.unwrap()).optional(),
       'estimator.lags': values(estimatorSchema.shape.lags.unwrap()).optional(),
-      'estimator.centered': values(z.boolean()).optional(),
+      'estimator.centered': values(s.boolean()).optional(),
       'estimator.inferenceS': values(estimatorSchema.shape.inferenceS.unwrap()).optional(),
-      'estimator.intercept': values(z.boolean()).optional(),
+      'estimator.intercept': values(s.boolean()).optional(),
       'backtest.window': values(backtestSchema.shape.window).optional(),
-      'backtest.step': values(z.number().int().min(1)).optional(),
-      'backtest.horizon': values(z.number().int().min(1)).optional(),
-      'backtest.expanding': values(z.boolean()).optional(),
+      'backtest.step': values(s.number().int().min(1)).optional(),
+      'backtest.horizon': values(s.number().int().min(1)).optional(),
+      'backtest.expanding': values(s.boolean()).optional(),
     })
     .strict();
 
   /** The base spec: every key of a fit spec, each optional here (an axis may supply it). */
   const baseSchema = fitSpecSchema.extend({ model: modelSchema.default(modelSchema.parse({})) });
 
-  const gridSpecSchema = z
+  const gridSpecSchema = s
     .object({
-      label: z.string().max(200).optional(),
+      label: s.string().max(200).optional(),
       base: baseSchema,
       grid: gridAxesSchema,
     })
@@ -121,8 +121,8 @@ function gridSchemas(): GridSchemas {
   return (schemas ??= buildGridSchemas());
 }
 
-export type GridSpec = z.infer<GridSchemas['gridSpecSchema']>;
-export type GridSpecInput = z.input<GridSchemas['gridSpecSchema']>;
+export type GridSpec = Infer<GridSchemas['gridSpecSchema']>;
+export type GridSpecInput = Input<GridSchemas['gridSpecSchema']>;
 
 /** One axis value as the task list shows it. */
 export interface BatchSetting {
@@ -152,7 +152,7 @@ const setIn = (spec: Record<string, unknown>, block: string, key: string, value:
   spec[block] = inner;
 };
 
-function assetSetText(v: z.infer<GridSchemas['assetSetSchema']>, i: number): string {
+function assetSetText(v: Infer<GridSchemas['assetSetSchema']>, i: number): string {
   if (v === 'all') return 'all';
   if (Array.isArray(v)) return v.length <= 3 ? v.join('+') : `set${i + 1}(${v.length})`;
   return v.name;
@@ -180,9 +180,9 @@ function* combinations(n: number, k: number): Generator<number[]> {
   }
 }
 
-type Axes = z.infer<GridSchemas['gridAxesSchema']>;
+type Axes = Infer<GridSchemas['gridAxesSchema']>;
 
-function subsetBounds(a: z.infer<GridSchemas['factorSubsetsSchema']>): { min: number; max: number } {
+function subsetBounds(a: Infer<GridSchemas['factorSubsetsSchema']>): { min: number; max: number } {
   const n = a.subsets.length;
   const max = a.maxSize ?? n;
   return { min: a.minSize, max };
@@ -193,7 +193,7 @@ function axisCount(key: AxisKey, axes: Axes): number {
   const v = axes[key];
   if (v === undefined) return 1;
   if (key === 'model.factors' && !Array.isArray(v)) {
-    const a = v as z.infer<GridSchemas['factorSubsetsSchema']>;
+    const a = v as Infer<GridSchemas['factorSubsetsSchema']>;
     const { min, max } = subsetBounds(a);
     let n = 0;
     for (let k = min; k <= Math.min(max, a.subsets.length); k++) n += choose(a.subsets.length, k);
@@ -215,7 +215,7 @@ function* axisValues(key: AxisKey, axes: Axes): Generator<AxisValue> {
       for (const f of v as string[][]) yield put(f);
       return;
     }
-    const a = v as z.infer<GridSchemas['factorSubsetsSchema']>;
+    const a = v as Infer<GridSchemas['factorSubsetsSchema']>;
     const { min, max } = subsetBounds(a);
     for (let k = min; k <= Math.min(max, a.subsets.length); k++) {
       for (const pick of combinations(a.subsets.length, k)) yield put([...a.always, ...pick.map((i) => a.subsets[i])]);
@@ -223,14 +223,14 @@ function* axisValues(key: AxisKey, axes: Axes): Generator<AxisValue> {
     return;
   }
   if (key === 'instruments') {
-    for (const x of v as (z.infer<typeof instrumentsSchema> | 'none')[]) {
+    for (const x of v as (Infer<typeof instrumentsSchema> | 'none')[]) {
       if (x === 'none') yield { text: 'none', apply: (s) => delete s.instruments };
       else yield { text: `${x.series.join('+') || 'const'}/${x.scale}/lag${x.lag}`, apply: (s) => (s.instruments = x) };
     }
     return;
   }
   if (key === 'assets') {
-    const sets = v as z.infer<GridSchemas['assetSetSchema']>[];
+    const sets = v as Infer<GridSchemas['assetSetSchema']>[];
     for (let i = 0; i < sets.length; i++) {
       const set = sets[i];
       const names = set === 'all' ? 'all' : Array.isArray(set) ? set : set.assets;
@@ -258,7 +258,7 @@ function gridProblems(g: GridSpec): string[] {
     const v = axes[key];
     if (v === undefined) continue;
     if (key === 'model.factors' && !Array.isArray(v)) {
-      const a = v as z.infer<GridSchemas['factorSubsetsSchema']>;
+      const a = v as Infer<GridSchemas['factorSubsetsSchema']>;
       const { min, max } = subsetBounds(a);
       if (new Set(a.subsets).size !== a.subsets.length) problems.push(`spec.grid.model.factors.subsets: a factor is listed twice`);
       const clash = a.always.filter((f) => a.subsets.includes(f));

@@ -2,7 +2,7 @@
  * Options of a characteristic sort (the `deflator portfolio build` flags and the app's
  * portfolio screen). Keys are a contract: add, never rename.
  */
-import * as z from 'zod';
+import { s, type AnySchema, type Infer, type Input } from '../schema.js';
 import { FREQUENCIES, PERIODS_PER_YEAR, type Frequency } from '../data.js';
 import { DeflatorError } from '../errors.js';
 import { formatSpecIssues, isoDate } from '../spec.js';
@@ -10,33 +10,33 @@ import { formatSpecIssues, isoDate } from '../spec.js';
 export const CHARACTERISTICS = ['momentum', 'yield', 'price', 'size'] as const;
 export type Characteristic = (typeof CHARACTERISTICS)[number];
 
-export const sortSpecSchema = z
+export const sortSpecSchema = s
   .object({
     /** momentum: past return over `lookback` periods skipping the latest `skip`; yield: trailing dividends / price; price: price per share; size: price x shares outstanding. */
-    characteristic: z.enum(CHARACTERISTICS),
-    groups: z.number().int().min(2).max(100).default(5),
-    weight: z.enum(['equal', 'value']).default('equal'),
+    characteristic: s.enum(CHARACTERISTICS),
+    groups: s.number().int().min(2).max(100).default(5),
+    weight: s.enum(['equal', 'value']).default('equal'),
     /** Return frequency of the portfolios. */
-    frequency: z.enum(FREQUENCIES).default('monthly'),
+    frequency: s.enum(FREQUENCIES).default('monthly'),
     /** How often the sort is redone: at the last period of each such calendar period (default: every period). */
-    rebalance: z.enum(FREQUENCIES).optional(),
+    rebalance: s.enum(FREQUENCIES).optional(),
     /** Name prefix: portfolios are <name>.q1 .. <name>.q<groups>. */
-    name: z.string().regex(/^[A-Za-z][A-Za-z0-9_-]*$/, 'a name starts with a letter and holds letters, digits, _ or -'),
+    name: s.string().regex(/^[A-Za-z][A-Za-z0-9_-]*$/, 'a name starts with a letter and holds letters, digits, _ or -'),
     /** Look-back in periods (momentum and yield; default one year of periods). */
-    lookback: z.number().int().min(1).max(10000).optional(),
+    lookback: s.number().int().min(1).max(10000).optional(),
     /** Momentum: latest periods skipped (default 1, the 12-1 convention). */
-    skip: z.number().int().min(0).max(10000).default(1),
+    skip: s.number().int().min(0).max(10000).default(1),
     /** A bucket with fewer eligible assets than this has no return for that holding span. */
-    minAssets: z.number().int().min(1).default(1),
+    minAssets: s.number().int().min(1).default(1),
     /** Only these assets (default: every stored asset). */
-    assets: z.array(z.string().min(1)).min(1).optional(),
+    assets: s.array(s.string().min(1)).min(1).optional(),
     /** First and last period considered (ISO dates). */
     start: isoDate.optional(),
     end: isoDate.optional(),
   })
   .strict();
 
-export type SortSpecInput = z.input<typeof sortSpecSchema>;
+export type SortSpecInput = Input<typeof sortSpecSchema>;
 
 export interface SortSpec {
   characteristic: Characteristic;

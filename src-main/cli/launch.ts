@@ -1,6 +1,7 @@
 /**
- * The command line's launcher (built to dist/cli.js): runs the CLI bundle (dist/cli.cjs, one
- * CommonJS file) with V8's code cache, so that a command does not parse and compile again
+ * The command line's launcher (built to dist/launch.cjs, a CommonJS file: bin/deflator.js
+ * requires it, dist/cli.js imports it): runs the CLI bundle (dist/cli.cjs, one CommonJS
+ * file) with V8's code cache, so that a command does not parse and compile again
  * what its previous run compiled (about 60 ms of the demo fit's 0.3 s of CPU).
  *
  * The first run of each command compiles as usual and, at exit, stores what V8 compiled
@@ -17,14 +18,16 @@ import '../engine-flags.js';
 import { mkdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import path from 'node:path';
-import { fileURLToPath } from 'node:url';
 import { Script } from 'node:vm';
 
 declare const __DEFLATOR_CLI_BUILD__: string;
 
-const here = path.dirname(fileURLToPath(import.meta.url));
+// built as CommonJS: __dirname is dist/
+const here = __dirname;
 const bundle = path.join(here, 'cli.cjs');
-const source = readFileSync(bundle, 'utf8');
+// The bundle is ASCII only (scripts/build.mjs makes it so): read as Latin-1 it is the same
+// text, without a UTF-8 decoding pass over it.
+const source = readFileSync(bundle, 'latin1');
 
 /** The cache file of this command and this exact bundle, or null when caching is off. */
 function cacheFile(): string | null {

@@ -2,8 +2,8 @@
  * The command line loads only the command it is asked for (src-main/cli/commands/registry.ts):
  * `node dist/cli.js` (the bundle vitest's global setup builds), with a preload that
  * reports at exit which of Node's built-in modules the process loaded
- * (process.moduleLoadList). A fit must not load the server's HTTP stack or the worker
- * threads; help, `help CMD`, --version and a misspelt command still see every command.
+ * (process.moduleLoadList). A fit must not load the server's HTTP stack, the worker
+ * threads or child processes, nor (through bin/deflator.js) the ES module loader; help, `help CMD`, --version and a misspelt command still see every command.
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
@@ -43,6 +43,15 @@ describe('command loading', () => {
     expect(r.loaded.length).toBeGreaterThan(0);
     expect(builtin(r.loaded, 'http')).toBe(false);
     expect(builtin(r.loaded, 'worker_threads')).toBe(false);
+    // commander's child_process (with net and dgram) is required on first use only
+    // (scripts/build.mjs), and bin/deflator.js starts without the ES module loader
+    expect(builtin(r.loaded, 'child_process')).toBe(false);
+    const bin = spawnSync(process.execPath, ['--require', preload, path.join(root, 'bin', 'deflator.js'), 'fit', path.join(root, 'sample-data/specs/linear-second.json'), '--db', db, '--no-record'], { cwd: root, encoding: 'utf8' });
+    expect(bin.status).toBe(0);
+    const binLoaded = JSON.parse(/@@loaded (.*)\n/.exec(bin.stderr)?.[1] ?? '[]') as string[];
+    expect(binLoaded.length).toBeGreaterThan(0);
+    expect(builtin(binLoaded, 'internal/modules/esm/translators')).toBe(false);
+    expect(builtin(binLoaded, 'child_process')).toBe(false);
     // the server command does load it (the check above can fail)
     const serve = run(['serve', '--help']);
     expect(serve.code).toBe(0);
