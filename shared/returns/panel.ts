@@ -96,6 +96,28 @@ function portfolioAsset(p: ReturnSeries, cal: PeriodCalendar, frequency: Frequen
   return { name: p.name, gross, lastDates, ...(gross.size === 0 ? { unusable: 'no returns' } : {}) };
 }
 
+// The loops over every value of a panel are functions of their own, so that the engine
+// compiles them on their first long run; inside the long buildPanel, run once per panel,
+// each value read would be boxed as a new heap number (a daily panel: a million of them).
+
+/** Are all values finite? */
+function allFinite(xs: Float64Array): boolean {
+  for (let t = 0; t < xs.length; t++) if (!Number.isFinite(xs[t])) return false;
+  return true;
+}
+
+/** g -= rf in place; are all the differences finite? */
+function subtractFinite(g: Float64Array, rf: Float64Array): boolean {
+  let ok = true;
+  for (let t = 0; t < g.length; t++) {
+    const x = g[t] - rf[t];
+    g[t] = x;
+    // x - x is 0 for a finite x, NaN for an infinite one or NaN
+    ok = ok && x - x === 0;
+  }
+  return ok;
+}
+
 /** Builds the balanced panel a fit, back-test, comparison or drift split estimates on. */
 export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const { spec } = input;
@@ -346,12 +368,15 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   const kept = w.kept.map((name) => usable.find((a) => a.name === name) as TestAsset);
   const assetNames: string[] = [];
   const returns: Float64Array[] = [];
+  // every value finite (checked as the values are made; the error stays where it was raised before)
+  let finite = true;
+  if (rfGross) finite = allFinite(rfGross);
   for (const a of kept) {
     const g = series(a.values as Map<number, number>);
     if (a.subtractRf) {
       if (!rfGross) throw new DeflatorError('SPEC_INVALID', 'spec.riskfree: excess returns need a risk-free series name', 'set "riskfree" to the name of a risk-free series');
-      for (let t = 0; t < T; t++) g[t] -= rfGross[t];
-    }
+      finite = subtractFinite(g, rfGross) && finite;
+    } else if (finite) finite = allFinite(g);
     assetNames.push(a.name);
     returns.push(g);
     if (a.cutShort && a.cutShort.index >= w.lo && a.cutShort.index <= w.hi) notes.push({ subject: a.name, reason: `${describe(a.cutShort.index)}: ${a.cutShort.note}` });
@@ -364,9 +389,7 @@ export function buildPanel(input: BuildPanelInput): ReturnsPanel {
   if (rf?.cutShort && rf.cutShort.index >= w.lo && rf.cutShort.index <= w.hi) {
     notes.push({ subject: rf.name, reason: `${describe(rf.cutShort.index)}: last ${frequency} period cut short, compounded to ${rf.cutShort.to}` });
   }
-  for (const arr of [...returns, ...(rfGross ? [rfGross] : [])]) {
-    for (const v of arr) if (!Number.isFinite(v)) throw new DeflatorError('INPUT_INVALID', 'a return in the panel is not finite', 'check the prices and series for zeros or extreme values');
-  }
+  if (!finite) throw new DeflatorError('INPUT_INVALID', 'a return in the panel is not finite', 'check the prices and series for zeros or extreme values');
   notes.push({ subject: '*', reason: `common sample ${periods[0]}..${periods[T - 1]}: T = ${T} ${frequency} periods, N = ${assetNames.length} test assets` });
   const lostLabels = lost.map(describe);
   if (spec.instruments) {

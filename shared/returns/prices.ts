@@ -56,6 +56,11 @@ export function pricedDates(h: PriceHistory): string[] {
   return all && h.price.length === h.dates.length ? h.dates : h.dates.filter((_, i) => !Number.isNaN(h.price[i]));
 }
 
+/** An asset's periods with none in them (it yields no returns at the calendar's frequency). */
+function noPeriods(asset: string, stored: Frequency | null): AssetPeriods {
+  return { asset, stored, close: new NumberPeriodMap(), priceGross: new NumberPeriodMap(), gross: new NumberPeriodMap(), lastDay: new NumberPeriodMap(), lastDate: new PeriodMap<string>() };
+}
+
 function invalid(asset: string, date: string, what: string): DeflatorError {
   return new DeflatorError('INPUT_INVALID', `price history "${asset}", ${date}: ${what}`, 'correct that row in the source file and import it again');
 }
@@ -73,11 +78,26 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     throw new DeflatorError('INPUT_INVALID', `${where}: ${n} dates but ${h.price.length} prices, ${h.dividend.length} dividends${h.adjust ? `, ${h.adjust.length} split factors` : ''}`, 'give one price, dividend and split factor per date');
   }
   const dates = parseAscending(h.dates, where);
+  const f = cal.frequency;
+
+  // Every row priced and each on the calendar period after the previous row's (a daily
+  // panel's histories on its trading days): each row is a period of its own, and the
+  // period maps are runs over the row arrays (periodMap.ts), with no copy of them.
+  let allPriced = true;
+  for (let i = 0; i < n && allPriced; i++) allPriced = !Number.isNaN(h.price[i]);
+  let run = allPriced && n > 0;
+  const runIndices = run ? cal.indicesOf(dates) : null;
+  if (runIndices !== null) {
+    const k0 = runIndices[0];
+    run = k0 >= 0;
+    for (let j = 1; j < n && run; j++) run = runIndices[j] === k0 + j;
+  }
 
   // Row returns over priced rows (typed arrays of the history's length; m of them used).
-  const rowAt = new Int32Array(n); // the priced rows' positions in the history
+  let rowAt: Int32Array | null = null; // the priced rows' positions in the history (made at the first unpriced row)
   const rowGross = new Float64Array(n); // NaN for the first priced row
-  const rowPriceGross = new Float64Array(n); // P_t a_t / P_{t-1}: the row return without the dividend
+  // P_t a_t / P_{t-1}: the row return without the dividend (a run makes them when they are read)
+  const rowPriceGross = run ? null : new Float64Array(n);
   let m = 0;
   let prevPrice = Number.NaN;
   let factor = 1;
@@ -92,6 +112,10 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     if (!Number.isFinite(a) || a <= 0) throw invalid(h.asset, h.dates[i], `split factor ${rawA} is not a positive number`);
     factor *= a;
     if (Number.isNaN(p)) {
+      if (rowAt === null) {
+        rowAt = new Int32Array(n);
+        for (let q = 0; q < m; q++) rowAt[q] = q;
+      }
       carried += d * factor;
       continue;
     }
@@ -103,33 +127,73 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
       g = (p * factor) / prevPrice;
       if (!Number.isFinite(r) || r <= 0) throw invalid(h.asset, h.dates[i], `the return from the previous close is ${r}`);
     }
-    rowAt[m] = i;
+    if (rowAt !== null) rowAt[m] = i;
     rowGross[m] = r;
-    rowPriceGross[m] = g;
+    if (rowPriceGross !== null) rowPriceGross[m] = g;
     m++;
     prevPrice = p;
     factor = 1;
     carried = 0;
   }
 
-  const rowDates = m === n ? dates : Array.from(rowAt.subarray(0, m), (i) => dates[i]);
+  const rowDates = m === n || rowAt === null ? dates : Array.from(rowAt.subarray(0, m), (i) => dates[i]);
+  const stored = storedFrequency(rowDates);
+  if (stored !== null && frequencyRank(stored) > frequencyRank(f)) {
+    return { ...noPeriods(h.asset, stored), unusable: `stored at ${stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods` };
+  }
+  if (m === 0) return { ...noPeriods(h.asset, stored), unusable: 'no priced rows' };
+
+  if (run && runIndices !== null) {
+    const k0 = runIndices[0];
+    const kLast = k0 + n - 1;
+    // As the grouping below gives them for one row per period: V the running product of the
+    // row returns (1 at the first close); a period's return (and price ratio) its row's, 1 * r,
+    // which is r; no return for the first period.
+    const close = (): Float64Array => {
+      const c = new Float64Array(n);
+      let value = 1;
+      for (let j = 0; j < n; j++) {
+        const r = rowGross[j];
+        if (!Number.isNaN(r)) value *= r;
+        c[j] = value;
+      }
+      return c;
+    };
+    const priceRatios = (): Float64Array => {
+      const out = new Float64Array(n - 1);
+      for (let j = 1; j < n; j++) {
+        const rawA = h.adjust ? h.adjust[j] : 1;
+        const a = Number.isNaN(rawA) ? 1 : rawA;
+        out[j - 1] = (h.price[j] * a) / h.price[j - 1];
+      }
+      return out;
+    };
+    const out: AssetPeriods = {
+      asset: h.asset,
+      stored,
+      close: NumberPeriodMap.numberRun(k0, n, close),
+      priceGross: n > 1 ? NumberPeriodMap.numberRun(k0 + 1, n - 1, priceRatios) : new NumberPeriodMap(),
+      gross: n > 1 ? NumberPeriodMap.numberRun(k0 + 1, n - 1, rowGross.subarray(1)) : new NumberPeriodMap(),
+      lastDay: NumberPeriodMap.numberRun(k0, n, () => Float64Array.from(dates, (d) => d.day)),
+      // a frozen list is the store's shared one, never changed: the map reads it as it is
+      lastDate: PeriodMap.run(k0, n, Object.isFrozen(h.dates) ? h.dates : () => dates.map((d) => d.date)),
+    };
+    if (n === 1) out.unusable = `no two consecutive ${f} periods with a close, so no ${f} return`;
+    else if (stored !== null && frequencyRank(stored) < frequencyRank(f)) {
+      const lastWeekday = cal.lastWeekday(kLast);
+      if (lastWeekday !== null && dates[n - 1].day < lastWeekday) out.cutShort = { index: kLast, from: dates[n - 2].date, to: dates[n - 1].date };
+    }
+    return out;
+  }
+
   // Dense period maps over the periods of the first and last priced rows: rows are
   // ascending, so are their periods (periodMap.ts)
-  const k0 = m > 0 ? cal.indexOf(rowDates[0]) : null;
-  const k1 = m > 0 ? cal.indexOf(rowDates[m - 1]) : null;
+  const k0 = cal.indexOf(rowDates[0]);
+  const k1 = cal.indexOf(rowDates[m - 1]);
   const span = k0 !== null && k1 !== null && k1 >= k0 ? k1 - k0 + 1 : undefined;
   const numbers = () => (span !== undefined && k0 !== null ? new NumberPeriodMap(k0, span) : new NumberPeriodMap());
   const lastDate = span !== undefined && k0 !== null ? new PeriodMap<string>(k0, span) : new PeriodMap<string>();
-  const out: AssetPeriods = { asset: h.asset, stored: storedFrequency(rowDates), close: numbers(), priceGross: numbers(), gross: numbers(), lastDay: numbers(), lastDate };
-  const f = cal.frequency;
-  if (out.stored !== null && frequencyRank(out.stored) > frequencyRank(f)) {
-    out.unusable = `stored at ${out.stored} frequency, lower than the ${f} requested: its returns cannot be split into shorter periods`;
-    return out;
-  }
-  if (m === 0) {
-    out.unusable = 'no priced rows';
-    return out;
-  }
+  const out: AssetPeriods = { asset: h.asset, stored, close: numbers(), priceGross: numbers(), gross: numbers(), lastDay: numbers(), lastDate };
 
   // Group rows by period (rows are ascending, so are their periods).
   let value = 1;
@@ -148,6 +212,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   };
   let lastPeriodStart: string | null = null;
   const indices = cal.indicesOf(rowDates);
+  const pg = rowPriceGross as Float64Array;
   for (let j = 0; j < m; j++) {
     const idx = indices[j];
     if (idx < 0) continue;
@@ -162,7 +227,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     if (!Number.isNaN(r)) {
       value *= r;
       product *= r;
-      priceProduct *= rowPriceGross[j];
+      priceProduct *= pg[j];
     }
     out.lastDay.set(idx, rowDates[j].day);
     out.lastDate.set(idx, rowDates[j].date);

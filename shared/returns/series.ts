@@ -102,12 +102,15 @@ function byPeriod(
   combine: (acc: number, v: number, first: boolean) => number,
   perPeriod: boolean,
 ): PeriodSeries {
-  // observations are ascending, so are their periods: dense maps (periodMap.ts)
-  const out: PeriodSeries = { name, values: new NumberPeriodMap(), lastDate: new PeriodMap(), stored: obs.stored };
+  // observations are ascending, so are their periods: dense maps over the first to the last (periodMap.ts)
+  const nObs = obs.index.length;
+  const span = nObs > 0 ? obs.index[nObs - 1] - obs.index[0] + 1 : 0;
+  const out: PeriodSeries = { name, values: span > 0 ? new NumberPeriodMap(obs.index[0], span) : new NumberPeriodMap(), lastDate: span > 0 ? new PeriodMap(obs.index[0], span) : new PeriodMap(), stored: obs.stored };
   const aggregated = frequencyRank(obs.stored) < frequencyRank(cal.frequency);
-  const observed = new Set(obs.index);
+  // ascending periods: period k - 1 has an observation exactly when the period group before k's is k - 1
+  let prevK = Number.NaN;
   let j = 0;
-  while (j < obs.index.length) {
+  while (j < nObs) {
     const k = obs.index[j];
     let acc = Number.NaN;
     let ok = true;
@@ -120,7 +123,8 @@ function byPeriod(
       out.lastDate.set(k, obs.dates[j].date);
     }
     // Native per-period values stand alone; everything else runs from the previous period's last observation.
-    if (ok && ((perPeriod && !aggregated) || observed.has(k - 1))) out.values.set(k, acc);
+    if (ok && ((perPeriod && !aggregated) || prevK === k - 1)) out.values.set(k, acc);
+    prevK = k;
   }
   if (aggregated && obs.index.length > 0) {
     const k = obs.index[obs.index.length - 1];

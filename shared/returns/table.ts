@@ -48,7 +48,14 @@ export function tradingCalendar(frequency: Frequency, dateLists: readonly (reado
 /** Period index -> label: the latest date seen in that period across the given period maps. */
 export function periodLabels(lastDates: readonly Map<number, string>[]): Map<number, string> {
   const labels = new PeriodMap<string>();
+  const runs: PeriodMap<string>[] = [];
   for (const m of lastDates) {
+    // the same run of the same dates as a map already read (a daily panel's assets on one
+    // shared list of trading dates) adds nothing
+    if (m instanceof PeriodMap && m.isRun()) {
+      if (runs.some((r) => r.sameRun(m))) continue;
+      runs.push(m);
+    }
     m.forEach((d, k) => {
       const cur = labels.get(k);
       if (cur === undefined || d > cur) labels.set(k, d);

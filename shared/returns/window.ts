@@ -64,10 +64,13 @@ export function commonWindow(
     for (const a of active) {
       let missing = 0;
       let firstMissing = -1;
-      for (let k = lo; k <= hi; k++) {
-        if (!a.values.has(k)) {
-          if (missing === 0) firstMissing = k;
-          missing += 1;
+      if (a.values instanceof PeriodMap) ({ missing, first: firstMissing } = a.values.missingIn(lo, hi));
+      else {
+        for (let k = lo; k <= hi; k++) {
+          if (!a.values.has(k)) {
+            if (missing === 0) firstMissing = k;
+            missing += 1;
+          }
         }
       }
       if (missing === 0) still.push(a);

@@ -68,6 +68,57 @@ describe('period maps', () => {
   });
 });
 
+describe('period maps over a run of periods', () => {
+  const runs = fc.record({ lo: fc.integer({ min: -100, max: 100 }), values: fc.array(fc.double(), { minLength: 1, maxLength: 60 }), lazy: fc.boolean(), numbers: fc.boolean() });
+  it('a run holds what a built-in Map with the same entries holds, before and after sets and deletes, and never writes to the values it was given', () => {
+    fc.assert(
+      fc.property(runs, ops, fc.integer({ min: -320, max: 320 }), fc.integer({ min: 0, max: 70 }), (r, list, from, n) => {
+        const given = Float64Array.from(r.values);
+        const copy = Float64Array.from(given);
+        const src = r.lazy ? () => given : given;
+        const m = r.numbers ? NumberPeriodMap.numberRun(r.lo, given.length, src) : PeriodMap.run<number>(r.lo, given.length, src);
+        const ref = new Map<number, number>();
+        given.forEach((v, i) => ref.set(r.lo + i, v));
+        same(m, ref);
+        expect(m.extent()).toEqual([r.lo, r.lo + given.length - 1]);
+        // missingIn against has(), period by period
+        let missing = 0;
+        let first = -1;
+        for (let k = from; k < from + n; k++) {
+          if (!ref.has(k)) {
+            if (missing === 0) first = k;
+            missing++;
+          }
+        }
+        expect(m.missingIn(from, from + n - 1)).toEqual({ missing, first });
+        const out = new Float64Array(n);
+        const all = missing === 0;
+        expect(m.rangeInto(from, out)).toBe(all);
+        if (all) for (let i = 0; i < n; i++) expect(Object.is(out[i], ref.get(from + i))).toBe(true);
+        apply(m, list);
+        apply(ref, list);
+        same(m, ref);
+        expect(Array.from(given).every((v, i) => Object.is(v, copy[i]))).toBe(true);
+      }),
+      { numRuns: 300 },
+    );
+  });
+
+  it('two runs are the same run only over the same periods of the same given values', () => {
+    const dates = Object.freeze(['2024-01-02', '2024-01-03']);
+    const a = PeriodMap.run(5, 2, dates);
+    expect(a.sameRun(PeriodMap.run(5, 2, dates))).toBe(true);
+    expect(a.sameRun(PeriodMap.run(6, 2, dates))).toBe(false);
+    expect(a.sameRun(PeriodMap.run(5, 2, [...dates]))).toBe(false);
+    expect(a.sameRun(PeriodMap.run(5, 2, () => dates))).toBe(false);
+    const b = PeriodMap.run(5, 2, dates);
+    b.set(5, '2024-01-01');
+    expect(a.sameRun(b)).toBe(false);
+    expect(dates[0]).toBe('2024-01-02');
+    expect(() => PeriodMap.run(0, 0, [])).toThrow(RangeError);
+  });
+});
+
 describe('calendar index lists', () => {
   const days = fc.uniqueArray(fc.integer({ min: 18000, max: 18400 }), { minLength: 1, maxLength: 80 });
   it('indicesOf gives indexOf of each date (-1 for none), on daily and calendar periods, for ascending and unordered lists', () => {
