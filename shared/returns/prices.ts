@@ -48,12 +48,24 @@ export interface AssetPeriods {
   missing?: number[];
 }
 
+/** Is no price NaN? */
+function everyPriced(price: ArrayLike<number>): boolean {
+  for (let i = 0; i < price.length; i++) if (Number.isNaN(price[i])) return false;
+  return true;
+}
+
+/** Are the indices k0, k0 + 1, ... with k0 >= 0 (each row the period after the previous row's)? */
+function isRun(indices: Int32Array): boolean {
+  const k0 = indices[0];
+  if (!(k0 >= 0)) return false;
+  for (let j = 1; j < indices.length; j++) if (indices[j] !== k0 + j) return false;
+  return true;
+}
+
 /** Dates with a price (rows whose price is NaN are no observation): the history's trading dates. */
 export function pricedDates(h: PriceHistory): string[] {
   // every row priced (the usual case): the history's own list, no copy
-  let all = true;
-  for (let i = 0; i < h.price.length && all; i++) all = !Number.isNaN(h.price[i]);
-  return all && h.price.length === h.dates.length ? h.dates : h.dates.filter((_, i) => !Number.isNaN(h.price[i]));
+  return everyPriced(h.price) && h.price.length === h.dates.length ? h.dates : h.dates.filter((_, i) => !Number.isNaN(h.price[i]));
 }
 
 /** An asset's periods with none in them (it yields no returns at the calendar's frequency). */
@@ -66,38 +78,14 @@ function invalid(asset: string, date: string, what: string): DeflatorError {
 }
 
 /**
- * Period returns of one history on a calendar. Rows whose price is NaN count as no
- * observation: their dividend and split factor are carried to the next priced row
- * (cash held, not reinvested, for those days). A non-positive or infinite price,
- * a negative dividend or a non-positive split factor is an error naming the row.
+ * The row returns of a history's priced rows, in order, into rowGross (NaN for the first)
+ * and rowPriceGross (when given): how many (m), and the positions of the priced rows in the
+ * history when some row is unpriced (null: row j is priced row j). A function of its own so
+ * that the engine compiles this loop over every row early (historyPeriods/METHODS 1 rules).
  */
-export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPeriods {
+function rowReturns(h: PriceHistory, rowGross: Float64Array, rowPriceGross: Float64Array | null): { m: number; rowAt: Int32Array | null } {
   const n = h.dates.length;
-  const where = `price history "${h.asset}"`;
-  if (h.price.length !== n || h.dividend.length !== n || (h.adjust && h.adjust.length !== n)) {
-    throw new DeflatorError('INPUT_INVALID', `${where}: ${n} dates but ${h.price.length} prices, ${h.dividend.length} dividends${h.adjust ? `, ${h.adjust.length} split factors` : ''}`, 'give one price, dividend and split factor per date');
-  }
-  const dates = parseAscending(h.dates, where);
-  const f = cal.frequency;
-
-  // Every row priced and each on the calendar period after the previous row's (a daily
-  // panel's histories on its trading days): each row is a period of its own, and the
-  // period maps are runs over the row arrays (periodMap.ts), with no copy of them.
-  let allPriced = true;
-  for (let i = 0; i < n && allPriced; i++) allPriced = !Number.isNaN(h.price[i]);
-  let run = allPriced && n > 0;
-  const runIndices = run ? cal.indicesOf(dates) : null;
-  if (runIndices !== null) {
-    const k0 = runIndices[0];
-    run = k0 >= 0;
-    for (let j = 1; j < n && run; j++) run = runIndices[j] === k0 + j;
-  }
-
-  // Row returns over priced rows (typed arrays of the history's length; m of them used).
-  let rowAt: Int32Array | null = null; // the priced rows' positions in the history (made at the first unpriced row)
-  const rowGross = new Float64Array(n); // NaN for the first priced row
-  // P_t a_t / P_{t-1}: the row return without the dividend (a run makes them when they are read)
-  const rowPriceGross = run ? null : new Float64Array(n);
+  let rowAt: Int32Array | null = null; // made at the first unpriced row
   let m = 0;
   let prevPrice = Number.NaN;
   let factor = 1;
@@ -135,6 +123,35 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     factor = 1;
     carried = 0;
   }
+  return { m, rowAt };
+}
+
+/**
+ * Period returns of one history on a calendar. Rows whose price is NaN count as no
+ * observation: their dividend and split factor are carried to the next priced row
+ * (cash held, not reinvested, for those days). A non-positive or infinite price,
+ * a negative dividend or a non-positive split factor is an error naming the row.
+ */
+export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPeriods {
+  const n = h.dates.length;
+  const where = `price history "${h.asset}"`;
+  if (h.price.length !== n || h.dividend.length !== n || (h.adjust && h.adjust.length !== n)) {
+    throw new DeflatorError('INPUT_INVALID', `${where}: ${n} dates but ${h.price.length} prices, ${h.dividend.length} dividends${h.adjust ? `, ${h.adjust.length} split factors` : ''}`, 'give one price, dividend and split factor per date');
+  }
+  const dates = parseAscending(h.dates, where);
+  const f = cal.frequency;
+
+  // Every row priced and each on the calendar period after the previous row's (a daily
+  // panel's histories on its trading days): each row is a period of its own, and the
+  // period maps are runs over the row arrays (periodMap.ts), with no copy of them.
+  const runIndices = n > 0 && h.price.length === n && everyPriced(h.price) ? cal.indicesOf(dates) : null;
+  const run = runIndices !== null && isRun(runIndices);
+
+  // Row returns over priced rows (typed arrays of the history's length; m of them used).
+  const rowGross = new Float64Array(n); // NaN for the first priced row
+  // P_t a_t / P_{t-1}: the row return without the dividend (a run makes them when they are read)
+  const rowPriceGross = run ? null : new Float64Array(n);
+  const { m, rowAt } = rowReturns(h, rowGross, rowPriceGross);
 
   const rowDates = m === n || rowAt === null ? dates : Array.from(rowAt.subarray(0, m), (i) => dates[i]);
   const stored = storedFrequency(rowDates);

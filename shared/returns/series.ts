@@ -49,10 +49,16 @@ export function yieldToGross(y: number, dt: number, convention: YieldConvention)
 }
 
 interface Observations {
-  dates: CalendarDate[];
-  values: number[];
-  index: number[];
+  dates: readonly CalendarDate[];
+  values: ArrayLike<number>;
+  index: ArrayLike<number>;
   stored: Frequency;
+}
+
+/** Is every value finite and every date on the calendar (so that every observation is kept as it is)? */
+function everyKept(values: ArrayLike<number>, indices: Int32Array): boolean {
+  for (let i = 0; i < values.length; i++) if (!Number.isFinite(values[i]) || indices[i] < 0) return false;
+  return true;
 }
 
 /** Finite observations of a series, placed on the calendar; NaN values are no observation. */
@@ -62,10 +68,12 @@ function observe(s: NamedSeries, cal: PeriodCalendar): Observations {
     throw new DeflatorError('INPUT_INVALID', `${where}: ${s.dates.length} dates but ${s.values.length} values`, 'give one value per date');
   }
   const all = parseAscending(s.dates, where);
+  const indices = cal.indicesOf(all);
+  // the usual case: every row an observation on the calendar, read where it is (never modified here)
+  if (everyKept(s.values, indices)) return { dates: all, values: s.values, index: indices, stored: checkedStored(all, cal, where) };
   const dates: CalendarDate[] = [];
   const values: number[] = [];
   const index: number[] = [];
-  const indices = cal.indicesOf(all);
   for (let i = 0; i < all.length; i++) {
     const v = s.values[i];
     if (Number.isNaN(v)) continue;
@@ -76,6 +84,11 @@ function observe(s: NamedSeries, cal: PeriodCalendar): Observations {
     values.push(v);
     index.push(k);
   }
+  return { dates, values, index, stored: checkedStored(dates, cal, where) };
+}
+
+/** The frequency observations are stored at, when it is not lower than the calendar's. */
+function checkedStored(dates: readonly CalendarDate[], cal: PeriodCalendar, where: string): Frequency {
   const stored = storedFrequency(dates) ?? cal.frequency;
   if (frequencyRank(stored) > frequencyRank(cal.frequency)) {
     throw new DeflatorError(
@@ -84,7 +97,7 @@ function observe(s: NamedSeries, cal: PeriodCalendar): Observations {
       `choose frequency "${stored}" (or a lower one), or import the series at ${cal.frequency} frequency`,
     );
   }
-  return { dates, values, index, stored };
+  return stored;
 }
 
 /**

@@ -9,6 +9,7 @@ import type { ReturnsPanel } from '../../shared/panel.js';
 import { buildPanel, type BuildPanelInput, type PanelSpec } from '../../shared/returns/index.js';
 import type { DriftSpec, FitSpec, PresentValueSpec } from '../../shared/spec.js';
 import { driftPanelSpec } from '../../shared/values/drift.js';
+import { DateTexts } from '../store/packs.js';
 import type { Store } from '../store/store.js';
 
 const list = (names: string[]) => (names.length ? names.join(', ') : '(none)');
@@ -27,8 +28,10 @@ export function seriesNeeded(spec: PanelSpec): { name: string; role: string; key
 export function loadPanelInput(store: Store, spec: PanelSpec): BuildPanelInput {
   let histories: StoredAsset[];
   let portfolios: ReturnSeries[] = [];
+  // one set of date strings for the histories and the series: a series on the assets' trading days shares their list
+  const texts = new DateTexts();
   if (spec.assets === 'all') {
-    histories = store.loadAssets();
+    histories = store.loadAssets(undefined, texts);
   } else {
     const assets = new Set(store.assets());
     const ports = new Set(store.portfolioNames());
@@ -40,7 +43,7 @@ export function loadPanelInput(store: Store, spec: PanelSpec): BuildPanelInput {
         'import them, or correct spec.assets; `deflator info --db DB` lists what is stored',
       );
     }
-    histories = store.loadAssets(spec.assets.filter((a) => assets.has(a)));
+    histories = store.loadAssets(spec.assets.filter((a) => assets.has(a)), texts);
     const wantedPorts = spec.assets.filter((a) => ports.has(a));
     if (wantedPorts.length) portfolios = store.loadPortfolios(wantedPorts);
   }
@@ -58,7 +61,7 @@ export function loadPanelInput(store: Store, spec: PanelSpec): BuildPanelInput {
     }
     names.add(need.name);
   }
-  const series: NamedSeries[] = names.size ? store.loadSeries([...names]) : [];
+  const series: NamedSeries[] = names.size ? store.loadSeries([...names], texts) : [];
   return { histories, series, portfolios, spec };
 }
 

@@ -367,16 +367,16 @@ export class Store {
    * Asset histories, dates ascending: price histories, and assets stored as returns
    * (ReturnHistory, values as imported, NaN for a missing-value code). Without `assets`,
    * every stored asset (sorted by name); with it, exactly those in that order (NOT_FOUND
-   * names the first unknown one).
+   * names the first unknown one). `texts`: the date strings of a load that also reads series
+   * (loadSeries), so that the same trading dates are one shared list for both (packs.ts).
    */
-  loadAssets(assets?: string[]): StoredAsset[] {
+  loadAssets(assets?: string[], texts: DateTexts = new DateTexts()): StoredAsset[] {
     const wanted = assets ?? this.assets();
     const found = wanted.map((name) => {
       const a = this.st.assetRowByName.get(name) as AssetRow | undefined;
       if (a === undefined) throw new DeflatorError('NOT_FOUND', `asset "${name}" is not in ${this.path}`, 'run `deflator info --db DB` to list the stored assets');
       return a;
     });
-    const texts = new DateTexts();
     const fromPack = (a: AssetRow): PriceHistory | null => {
       const pk = this.packs.get('asset', a.id);
       const h = pk ? decodeHistory(a.name, pk.data, texts) : null;
@@ -443,7 +443,7 @@ export class Store {
   }
 
   /** Named series in decimals, dates ascending; same selection rules as loadHistories. */
-  loadSeries(names?: string[]): NamedSeries[] {
+  loadSeries(names?: string[], texts: DateTexts = new DateTexts()): NamedSeries[] {
     const rows = names
       ? names.map((name) => {
           const r = this.st.seriesByName.get(name) as SeriesRow | undefined;
@@ -451,7 +451,6 @@ export class Store {
           return r;
         })
       : (this.st.seriesAll.all() as SeriesRow[]);
-    const texts = new DateTexts();
     const load = (canPack: boolean): NamedSeries[] =>
       rows.map((r) => {
         const pk = this.packs.get('series', r.id);
