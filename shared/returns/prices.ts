@@ -48,18 +48,23 @@ export interface AssetPeriods {
   missing?: number[];
 }
 
-/** Is no price NaN? */
+/** Is no price NaN? (A function of its own: compiled on its first long run.) */
 function everyPriced(price: ArrayLike<number>): boolean {
   for (let i = 0; i < price.length; i++) if (Number.isNaN(price[i])) return false;
   return true;
 }
 
+/** isRun of the index lists a calendar hands to every history on one shared list of dates (periods.ts indicesOf). */
+const runLists = new WeakMap<Int32Array, boolean>();
+
 /** Are the indices k0, k0 + 1, ... with k0 >= 0 (each row the period after the previous row's)? */
 function isRun(indices: Int32Array): boolean {
-  const k0 = indices[0];
-  if (!(k0 >= 0)) return false;
-  for (let j = 1; j < indices.length; j++) if (indices[j] !== k0 + j) return false;
-  return true;
+  const known = runLists.get(indices);
+  if (known !== undefined) return known;
+  let run = indices.length > 0 && indices[0] >= 0;
+  for (let j = 1; j < indices.length && run; j++) run = indices[j] === indices[0] + j;
+  runLists.set(indices, run);
+  return run;
 }
 
 /** Dates with a price (rows whose price is NaN are no observation): the history's trading dates. */
@@ -144,14 +149,22 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
   // Every row priced and each on the calendar period after the previous row's (a daily
   // panel's histories on its trading days): each row is a period of its own, and the
   // period maps are runs over the row arrays (periodMap.ts), with no copy of them.
-  const runIndices = n > 0 && h.price.length === n && everyPriced(h.price) ? cal.indicesOf(dates) : null;
-  const run = runIndices !== null && isRun(runIndices);
+  const indicesAll = n > 0 ? cal.indicesOf(dates) : null;
+  const runShape = indicesAll !== null && isRun(indicesAll);
 
   // Row returns over priced rows (typed arrays of the history's length; m of them used).
   const rowGross = new Float64Array(n); // NaN for the first priced row
   // P_t a_t / P_{t-1}: the row return without the dividend (a run makes them when they are read)
-  const rowPriceGross = run ? null : new Float64Array(n);
-  const { m, rowAt } = rowReturns(h, rowGross, rowPriceGross);
+  let rowPriceGross = runShape ? null : new Float64Array(n);
+  let rows = rowReturns(h, rowGross, rowPriceGross);
+  if (rows.rowAt !== null && rowPriceGross === null) {
+    // an unpriced row: no run after all, and the price ratios are needed row by row
+    rowPriceGross = new Float64Array(n);
+    rows = rowReturns(h, rowGross, rowPriceGross);
+  }
+  const { m, rowAt } = rows;
+  const run = runShape && rowAt === null;
+  const runIndices = run ? indicesAll : null;
 
   const rowDates = m === n || rowAt === null ? dates : Array.from(rowAt.subarray(0, m), (i) => dates[i]);
   const stored = storedFrequency(rowDates);
@@ -228,7 +241,7 @@ export function historyPeriods(h: PriceHistory, cal: PeriodCalendar): AssetPerio
     prevClosedK = k;
   };
   let lastPeriodStart: string | null = null;
-  const indices = cal.indicesOf(rowDates);
+  const indices = rowDates === dates && indicesAll !== null ? indicesAll : cal.indicesOf(rowDates);
   const pg = rowPriceGross as Float64Array;
   for (let j = 0; j < m; j++) {
     const idx = indices[j];

@@ -98,6 +98,17 @@ describe('total-return index identities', () => {
     expect(t.periods).toEqual(['2024-01-04']);
     expectClose(t.series.x[0], (11 + 0.5) / 10, 'carried dividend', 1e-15);
   });
+
+  it('a row without a price on a trading day of another asset: no return across the gap, the other asset unaffected (hand-worked)', () => {
+    const dates = ['2024-01-02', '2024-01-03', '2024-01-04', '2024-01-05'];
+    const x: PriceHistory = { asset: 'x', dates, price: Float64Array.of(10, Number.NaN, 11, 12), dividend: Float64Array.of(0, 0.5, 0, 0) };
+    const y: PriceHistory = { asset: 'y', dates, price: Float64Array.of(20, 21, 22, 22), dividend: Float64Array.of(0, 0, 1, 0) };
+    const t = returnsTable([x, y], { frequency: 'daily', kind: 'gross' });
+    expect(t.periods).toEqual(dates.slice(1));
+    // x: 01-04 follows its close of 01-02 over the trading day 01-03, so no daily return there
+    expect(t.series.x).toEqual([null, null, 12 / 11]);
+    expect(t.series.y).toEqual([21 / 20, (22 + 1) / 21, 22 / 22]);
+  });
 });
 
 describe('the split factor leaves returns unchanged', () => {
