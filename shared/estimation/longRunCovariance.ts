@@ -59,13 +59,26 @@ export function longRunCovariance(u: readonly Float64Array[], lags: number, cent
   // the kernel's products of x = v and y = u. Its WebAssembly route has both written straight
   // into its memory (no q x T copies on the JavaScript heap, each page of which is new
   // memory to the process); elsewhere, the same series as arrays.
+  // The centring and the filter run there too, as WebAssembly (the same operations in the
+  // same order as demeanInto and bartlettInto below, so the same bits): compiled code from
+  // the first period, where these loops in JavaScript are interpreted (each value a new heap
+  // number) until V8 has compiled them, most of a short sample's time.
   const S =
-    wasmGramOf(q, T, lags === 0, (a, v, c) => {
-      const ua = c ?? v;
-      if (centered) demeanInto(ua, u[a]);
-      else ua.set(u[a]);
-      if (c) bartlettInto(v, c, w, lags);
-    }) ?? arrayProducts(u, w, lags, centered);
+    wasmGramOf(
+      q,
+      T,
+      lags === 0,
+      (a, v, c, rows) => {
+        const ua = c ?? v;
+        ua.set(u[a]);
+        if (centered) rows.demean(ua);
+        if (c) {
+          if (a === 0) rows.scratch.set(w);
+          rows.bartlett(v, c, rows.scratch, lags);
+        }
+      },
+      lags + 1,
+    ) ?? arrayProducts(u, w, lags, centered);
   const invT = 1 / T;
   for (let k = 0; k < S.length; k++) S[k] *= invT;
   return { rows: q, cols: q, data: S };

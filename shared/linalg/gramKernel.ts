@@ -20,9 +20,7 @@
  *
  * Measured (bench/kernels.ts, `npm run bench -- kernels`) against OpenBLAS through numpy.
  */
-import { Code, F64 as _F64, I32, moduleBytes, V128, wasmApi, type WasmMemory } from './wasm.js';
-
-void _F64;
+import { Code, F64, I32, moduleBytes, V128, wasmApi, type WasmMemory } from './wasm.js';
 
 /** Rows of x per block (even), periods per chunk (a multiple of 4). */
 const BLOCK_ROWS = 64;
@@ -84,11 +82,72 @@ function kernelCode(): Code {
   return k;
 }
 
+/**
+ * demean(p, T): the T values at byte address p minus their mean, in place: the sum in order
+ * of t (s = s + x_t from s = 0), divided by T, subtracted from each value. The same
+ * operations in the same order as longRunCovariance's demeanInto, so the same bits.
+ */
+function demeanCode(): Code {
+  const [p, T, end, q, s, m] = [0, 1, 2, 3, 4, 5];
+  const k = new Code();
+  k.get(p).get(T).i32(8).mul().add().set(end);
+  k.f64(0).set(s);
+  k.get(p).set(q);
+  k.block().loop();
+  k.get(q).get(end).geS().brIf(1);
+  k.get(s).get(q).fload().fadd().set(s);
+  k.get(q).i32(8).add().set(q);
+  k.br(0).end().end();
+  k.get(s).get(T).fromI32().fdiv().set(m);
+  k.get(p).set(q);
+  k.block().loop();
+  k.get(q).get(end).geS().brIf(1);
+  k.get(q).get(q).fload().get(m).fsub().fstore();
+  k.get(q).i32(8).add().set(q);
+  k.br(0).end().end();
+  return k;
+}
+
+/**
+ * bartlett(v, x, w, L, T): v_s = x_s + sum_{j=1..L} w_j x_{s-j} + w_j x_{s+j} (terms outside
+ * 0..T-1 dropped), for each j the lag term then the lead term, each product rounded and then
+ * added: the order of longRunCovariance's bartlettInto, so the same bits. v, x, w are byte
+ * addresses (w holds w_0..w_L).
+ */
+function bartlettCode(): Code {
+  const [v, x, w, L, T, s, j, idx, acc, wj] = [0, 1, 2, 3, 4, 5, 6, 7, 8, 9];
+  const k = new Code();
+  k.i32(0).set(s);
+  k.block().loop(); // periods s
+  k.get(s).get(T).geS().brIf(1);
+  k.get(x).get(s).i32(8).mul().add().fload().set(acc);
+  k.i32(1).set(j);
+  k.block().loop(); // lags j
+  k.get(j).get(L).gtS().brIf(1);
+  k.get(w).get(j).i32(8).mul().add().fload().set(wj);
+  k.block(); // the lag term, where s - j >= 0
+  k.get(s).get(j).sub().tee(idx).i32(0).ltS().brIf(0);
+  k.get(acc).get(wj).get(x).get(idx).i32(8).mul().add().fload().fmul().fadd().set(acc);
+  k.end();
+  k.block(); // the lead term, where s + j < T
+  k.get(s).get(j).add().tee(idx).get(T).geS().brIf(0);
+  k.get(acc).get(wj).get(x).get(idx).i32(8).mul().add().fload().fmul().fadd().set(acc);
+  k.end();
+  k.get(j).i32(1).add().set(j);
+  k.br(0).end().end();
+  k.get(v).get(s).i32(8).mul().add().get(acc).fstore();
+  k.get(s).i32(1).add().set(s);
+  k.br(0).end().end();
+  return k;
+}
+
 type GramBlock = (x: number, y: number, rowBytes: number, qPad: number, t4b: number, acc: number, a0: number, a1: number, tcb: number) => void;
 
 interface Kernel {
   memory: WasmMemory;
   gramBlock: GramBlock;
+  demean: (p: number, T: number) => void;
+  bartlett: (v: number, x: number, w: number, L: number, T: number) => void;
 }
 
 let kernel: Kernel | null | undefined;
@@ -100,11 +159,15 @@ function loadKernel(): Kernel | null {
   const api = wasmApi();
   if (!api) return kernel;
   try {
-    const bytes = moduleBytes([{ name: 'gramBlock', params: Array(9).fill(I32), locals: [...Array(12).fill(I32), ...Array(16).fill(V128)], code: kernelCode() }]);
+    const bytes = moduleBytes([
+      { name: 'gramBlock', params: Array(9).fill(I32), locals: [...Array(12).fill(I32), ...Array(16).fill(V128)], code: kernelCode() },
+      { name: 'demean', params: [I32, I32], locals: [I32, I32, F64, F64], code: demeanCode() },
+      { name: 'bartlett', params: Array(5).fill(I32), locals: [I32, I32, I32, F64, F64], code: bartlettCode() },
+    ]);
     if (!api.validate(bytes)) return kernel;
     const memory = new api.Memory({ initial: 1 });
     const inst = new api.Instance(new api.Module(bytes), { env: { memory } });
-    kernel = { memory, gramBlock: inst.exports.gramBlock as GramBlock };
+    kernel = { memory, gramBlock: inst.exports.gramBlock as GramBlock, demean: inst.exports.demean as Kernel['demean'], bartlett: inst.exports.bartlett as Kernel['bartlett'] };
   } catch {
     kernel = null;
   }
@@ -212,12 +275,28 @@ export function wasmGram(x: readonly Float64Array[], y: readonly Float64Array[])
 }
 
 /**
- * The same products of q series pairs of length T that `fill` writes straight into the
- * kernel's memory (no copy of them on the JavaScript heap): fill(a, x_a, y_a) writes x_a
- * and y_a (y_a is null when `same`: y = x). The same bits as wasmGram of the same series;
- * null where the WebAssembly route does not apply (the caller then takes jsGram).
+ * Row operations in the kernel's memory, for a `fill` of wasmGramOf: compiled WebAssembly
+ * from the first call (no interpreted warm-up), the same bits as the JavaScript loops they
+ * stand for (see demeanCode and bartlettCode). Every array passed must be one of the rows
+ * or the scratch of that call.
  */
-export function wasmGramOf(q: number, T: number, same: boolean, fill: (a: number, x: Float64Array, y: Float64Array | null) => void): Float64Array | null {
+export interface KernelRows {
+  /** `scratch` values (wasmGramOf's last argument) in the kernel's memory, for the caller's own use. */
+  readonly scratch: Float64Array;
+  /** row minus its mean, in place. */
+  demean(row: Float64Array): void;
+  /** v = x filtered with the Bartlett weights w (w_0..w_lags). */
+  bartlett(v: Float64Array, x: Float64Array, w: Float64Array, lags: number): void;
+}
+
+/**
+ * The same products of q series pairs of length T that `fill` writes straight into the
+ * kernel's memory (no copy of them on the JavaScript heap): fill(a, x_a, y_a, rows) writes
+ * x_a and y_a (y_a is null when `same`: y = x), with the kernel's row operations at hand.
+ * The same bits as wasmGram of the same series; null where the WebAssembly route does not
+ * apply (the caller then takes jsGram).
+ */
+export function wasmGramOf(q: number, T: number, same: boolean, fill: (a: number, x: Float64Array, y: Float64Array | null, rows: KernelRows) => void, scratch = 0): Float64Array | null {
   const k = forceJs ? null : loadKernel();
   if (!k || q < 8 || T < 16) return null;
   const qPad = q + (q & 1);
@@ -226,17 +305,33 @@ export function wasmGramOf(q: number, T: number, same: boolean, fill: (a: number
   const yOff = same ? xOff : qPad * rowBytes;
   const accOff = yOff + qPad * rowBytes;
   const accBytes = BLOCK_ROWS * qPad * 32;
-  const total = accOff + accBytes;
+  const scratchOff = accOff + accBytes;
+  const total = scratchOff + scratch * 8;
   if (total > 2 ** 31 - PAGE) return null;
   ensure(k.memory, total);
   const heap = new Float64Array(k.memory.buffer);
   const row = (off: number, a: number) => heap.subarray(off / 8 + a * T, off / 8 + (a + 1) * T);
+  const inKernel = (...arrays: Float64Array[]) => {
+    for (const x of arrays) if (x.buffer !== heap.buffer) throw new RangeError('wasmGramOf: a row operation was given an array outside the kernel memory');
+  };
+  const rows: KernelRows = {
+    scratch: heap.subarray(scratchOff / 8, scratchOff / 8 + scratch),
+    demean(r) {
+      inKernel(r);
+      k.demean(r.byteOffset, r.length);
+    },
+    bartlett(v, x, w, lags) {
+      inKernel(v, x, w);
+      if (v.length !== x.length || w.length < lags + 1) throw new RangeError('wasmGramOf: bartlett needs v and x of one length and lags + 1 weights');
+      k.bartlett(v.byteOffset, x.byteOffset, w.byteOffset, lags, x.length);
+    },
+  };
   const xs: Float64Array[] = new Array(q);
   const ys: Float64Array[] = new Array(q);
   for (let a = 0; a < q; a++) {
     xs[a] = row(xOff, a);
     ys[a] = same ? xs[a] : row(yOff, a);
-    fill(a, xs[a], same ? null : ys[a]);
+    fill(a, xs[a], same ? null : ys[a], rows);
   }
   if (qPad > q) {
     heap.fill(0, xOff / 8 + q * T, xOff / 8 + qPad * T);

@@ -64,7 +64,10 @@ describe('Gram kernel', () => {
   });
 
   it('the Newey-West long-run covariance gives the same bits on both routes', () => {
-    for (const [q, T, L] of [[12, 203, 4], [40, 333, 0], [5, 60, 3]] as const) {
+    // the centring and the Bartlett filter run as WebAssembly on the first route (q >= 8):
+    // lags beyond half the sample (both ends' partial sums overlap), the demo's shape, T not a
+    // multiple of 4, and a route below the kernel's size (q = 5) that stays in JavaScript
+    for (const [q, T, L] of [[12, 203, 4], [40, 333, 0], [5, 60, 3], [9, 17, 12], [33, 288, 5], [10, 1001, 37]] as const) {
       const u = series(q, T, 3 * q + T);
       for (const centered of [true, false]) {
         const viaWasm = longRunCovariance(u, L, centered).data;
@@ -74,6 +77,12 @@ describe('Gram kernel', () => {
         expect(sameBits(viaWasm, viaJs)).toBe(true);
       }
     }
+  });
+
+  it("the kernel's row operations refuse an array outside its memory", () => {
+    const outside = new Float64Array(20);
+    expect(() => wasmGramOf(8, 20, true, (a, xa, _ya, rows) => rows.demean(outside), 0)).toThrow(/outside the kernel memory/);
+    expect(() => wasmGramOf(8, 20, false, (a, xa, ya, rows) => rows.bartlett(xa, ya!, outside, 2), 0)).toThrow(/outside the kernel memory/);
   });
 
   it('integer-valued series: equal to the exact sums of products (BigInt arithmetic)', () => {
