@@ -82,7 +82,10 @@ await build({
   // minified: about half the bytes to read and hold at every start (no code reads a
   // function's or class's name, so names need not be kept); the source map maps stack traces
   minify: true,
-  external,
+  // better-sqlite3's JavaScript is bundled (compiled once into the code cache instead of
+  // read and compiled from node_modules at every start); its native addon is opened by path
+  // (src-main/store/sqlite.ts)
+  external: external.filter((e) => e !== 'better-sqlite3'),
   define: { ...define, 'import.meta.url': '__deflatorModuleUrl' },
   banner: { js: "const __deflatorModuleUrl = require('node:url').pathToFileURL(__filename).href;" },
   plugins: [commanderLazyChildProcess],

@@ -2,7 +2,7 @@
  * The demo database: imports the invented scenario in sample-data/ (listed in its
  * manifest.json) through the ordinary import pipeline into a fresh database file.
  */
-import Database from 'better-sqlite3';
+import { openSqlite } from '../store/sqlite.js';
 import { existsSync, readFileSync, rmSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
@@ -67,7 +67,7 @@ function replaceable(dbPath: string): void {
   if (!existsSync(dbPath)) return;
   let ok = false;
   try {
-    const db = new Database(dbPath, { readonly: true, fileMustExist: true });
+    const db = openSqlite(dbPath, { readonly: true, fileMustExist: true });
     try {
       const version = Number(db.pragma('user_version', { simple: true }));
       const hasLog = db.prepare("SELECT 1 FROM sqlite_master WHERE type = 'table' AND name = 'import_log'").get() !== undefined;

@@ -28,11 +28,11 @@
  * neither encodes nor hashes the panel again; a hit is not hashed again either (the database
  * is trusted here as it is for the packs; replay checks a run's panel against its rows).
  */
-import { createHash } from 'node:crypto';
 import type Database from 'better-sqlite3';
 import { readSnapshot, SnapshotWriter } from '../../shared/batch/snapshot.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
+import { sha256Hex } from '../../shared/records/sha256.js';
 import type { PanelFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import { isReturnHistory } from '../../shared/data.js';
 import type { BuildPanelInput, PanelSpec } from '../../shared/returns/index.js';
@@ -123,7 +123,7 @@ function keyOf(spec: PanelSpec, priceRatios: boolean, subjects: KeySubject[]): s
     instruments: spec.instruments ?? null,
   };
   const text = JSON.stringify({ layout: LAYOUT, build: identity, spec: panelKeys, priceRatios, subjects });
-  return createHash('sha256').update(text).digest('hex');
+  return sha256Hex(text);
 }
 
 /** The key of the panel the store's current data would give, or null when the cache does not apply. */

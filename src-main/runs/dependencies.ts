@@ -5,12 +5,12 @@
  * import_id) that fed them. Recomputing the same digests later tells whether a run's
  * data has changed since (re-imported, replaced or deleted): the run is then stale.
  */
-import { createHash } from 'node:crypto';
 import { isReturnHistory, type NamedSeries, type ReturnForm, type ReturnSeries, type StoredAsset, type ValueUnits } from '../../shared/data.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { gridNames, isGridSpec, type GridSpec } from '../../shared/batch/grid.js';
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type { Store } from '../store/store.js';
+import { sha256Hasher } from '../store/digest.js';
 
 export type SubjectKind = SubjectFingerprint['kind'];
 
@@ -219,7 +219,7 @@ export function subjectDigest(s: SubjectRows): SubjectFingerprint {
       if (on) o = buf.writeDoubleLE(s.optional[i] as number, o);
     }
   }
-  return { kind: s.kind, name: s.name, sha256: createHash('sha256').update(buf.subarray(0, o)).digest('hex'), rows: n };
+  return { kind: s.kind, name: s.name, sha256: sha256Hasher().update(buf.subarray(0, o)).digest('hex'), rows: n };
 }
 
 /** Digests of what a panel load read (src-main/data/panel.ts loadPanelInput), without reading the store again. */
@@ -247,4 +247,4 @@ export function loadedDigests(
 }
 
 /** SHA-256 (hex) by node:crypto, for shared/records' fingerprints (the same digest as its own code, faster). */
-export const nodeSha256 = (bytes: Uint8Array): string => createHash('sha256').update(bytes).digest('hex');
+export const nodeSha256 = (bytes: Uint8Array): string => sha256Hasher().update(bytes).digest('hex');

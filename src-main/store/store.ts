@@ -3,8 +3,9 @@
  * on, a busy timeout). Reads hand out the domain core's plain types (shared/data.ts);
  * writes of imported rows go through ImportSession (./session.ts) inside one transaction.
  */
-import Database from 'better-sqlite3';
-import { createHash } from 'node:crypto';
+import type Database from 'better-sqlite3';
+import { sha256Hasher } from './digest.js';
+import { openSqlite } from './sqlite.js';
 import { accessSync, constants, copyFileSync, existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -263,7 +264,7 @@ export class Store {
     this.readOnly = readonly;
     const busyMs = options.busyTimeout ?? 5000;
     try {
-      this.db = new Database(openPath, { readonly, fileMustExist: options.mustExist ?? false });
+      this.db = openSqlite(openPath, { readonly, fileMustExist: options.mustExist ?? false });
     } catch (e) {
       this.dropSnapshot();
       throw storageError(e, file, busyMs) ?? new DeflatorError('INPUT_INVALID', `cannot open database ${file}: ${(e as Error).message}`, 'check the path and that the file is a deflator database');
@@ -636,7 +637,7 @@ export class Store {
    * equal digests mean equal contents. Tests use it to show a failed import changed nothing.
    */
   contentDigest(): string {
-    const h = createHash('sha256');
+    const h = sha256Hasher();
     const f = Buffer.alloc(8);
     const put = (v: unknown) => {
       if (v === null) h.update('\u0000N');

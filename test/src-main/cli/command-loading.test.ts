@@ -3,7 +3,8 @@
  * `node dist/cli.js` (the bundle vitest's global setup builds), with a preload that
  * reports at exit which of Node's built-in modules the process loaded
  * (process.moduleLoadList). A fit must not load the server's HTTP stack, the worker
- * threads or child processes, nor (through bin/deflator.js) the ES module loader; help, `help CMD`, --version and a misspelt command still see every command.
+ * threads or child processes, nor (through bin/deflator.js) the ES module loader, nor
+ * node:crypto when its panel comes from the panel cache; help, `help CMD`, --version and a misspelt command still see every command.
  */
 import { spawnSync } from 'node:child_process';
 import { mkdtempSync, writeFileSync } from 'node:fs';
@@ -52,6 +53,22 @@ describe('command loading', () => {
     expect(binLoaded.length).toBeGreaterThan(0);
     expect(builtin(binLoaded, 'internal/modules/esm/translators')).toBe(false);
     expect(builtin(binLoaded, 'child_process')).toBe(false);
+    // node:crypto is loaded on first use (src-main/store/digest.ts): a fit that reads its
+    // panel from the panel cache hashes nothing large (the cache's key is a short text,
+    // hashed by shared/records/sha256.ts) and takes the stored digests for its record
+    const spec = path.join(root, 'sample-data/specs/linear-second.json');
+    expect(builtin(r.loaded, 'crypto')).toBe(false);
+    expect(run(['fit', spec, '--db', db]).code).toBe(0); // records the run, stores the panel
+    const hit = run(['fit', spec, '--db', db]);
+    expect(hit.code).toBe(0);
+    expect(hit.stdout).toMatch(/Hansen J/);
+    expect(builtin(hit.loaded, 'crypto')).toBe(false);
+    // an import does load it (the check above can fail)
+    const csv = path.join(dir, 'extra.csv');
+    writeFileSync(csv, 'date,extra_factor\n2020-01-31,1.5\n2020-02-29,1.25\n');
+    const imp = run(['import', 'series', csv, '--db', db, '--kind', 'factor']);
+    expect(imp.stderr).toBe('');
+    expect(builtin(imp.loaded, 'crypto')).toBe(true);
     // the server command does load it (the check above can fail)
     const serve = run(['serve', '--help']);
     expect(serve.code).toBe(0);

@@ -1,0 +1,17 @@
+/**
+ * SHA-256 hashers from Node's crypto module, loaded on first use. Loading node:crypto costs
+ * a command about 6 ms, and a fit on a store whose subjects are packed hashes nothing large
+ * (the record takes the stored digests, the panel cache's key is a short text hashed by
+ * shared/records/sha256.ts), so a fit does not load it at all; imports, exports and
+ * fingerprints of unpacked data load it when they first hash.
+ */
+import type { Hash } from 'node:crypto';
+import { createRequire } from 'node:module';
+
+let crypto: typeof import('node:crypto') | undefined;
+
+/** A new SHA-256 hasher (node:crypto). */
+export function sha256Hasher(): Hash {
+  crypto ??= createRequire(import.meta.url)('node:crypto') as typeof import('node:crypto');
+  return crypto.createHash('sha256');
+}
