@@ -188,36 +188,6 @@ export class Code {
   fromI32(): this {
     return this.byte(0xb7);
   }
-  /** i32.load (address on the stack) at a constant byte offset; alignment hint 4 bytes. */
-  iload(offset = 0): this {
-    return this.byte(0x28).byte(0x02).uleb(offset);
-  }
-  /** i32.load8_u at a constant byte offset. */
-  iload8u(offset = 0): this {
-    return this.byte(0x2d).byte(0x00).uleb(offset);
-  }
-  /** i32.store (address, value on the stack) at a constant byte offset. */
-  istore(offset = 0): this {
-    return this.byte(0x36).byte(0x02).uleb(offset);
-  }
-  and(): this {
-    return this.byte(0x71);
-  }
-  or(): this {
-    return this.byte(0x72);
-  }
-  xor(): this {
-    return this.byte(0x73);
-  }
-  shl(): this {
-    return this.byte(0x74);
-  }
-  shrU(): this {
-    return this.byte(0x76);
-  }
-  rotr(): this {
-    return this.byte(0x78);
-  }
   /** memory.fill (dest, value, size on the stack). */
   memfill(): this {
     return this.byte(0xfc).uleb(11).byte(0x00);

@@ -4,7 +4,6 @@
  * crypto module. Checked against the FIPS 180-4 / NIST CAVS example vectors and
  * against node:crypto in test/shared/records/sha256.test.ts.
  */
-import { Code, I32, moduleBytes, wasmApi, type WasmMemory } from '../linalg/wasm.js';
 import { utf8Encode } from './utf8.js';
 
 const K = new Uint32Array([
@@ -19,129 +18,6 @@ const K = new Uint32Array([
 ]);
 
 const H0 = [0x6a09e667, 0xbb67ae85, 0x3c6ef372, 0xa54ff53a, 0x510e527f, 0x9b05688c, 0x1f83d9ab, 0x5be0cd19];
-
-/*
- * The block function also as WebAssembly (32-bit integer arithmetic, exact in every tier):
- * compiled code from the first block, where the JavaScript rounds run interpreted at first,
- * every sum above 2^31 a new heap number (a 4 kB text, the panel cache's key: about 6 ms on a
- * new process, under 0.1 ms here). The same function, so the same digest; the JavaScript
- * compress below stays for engines without WebAssembly (and is checked against it).
- *
- * Memory (one module of its own): K at byte 0, W at 256, H at 512, the blocks from 1024.
- */
-const K_AT = 0;
-const W_AT = 256;
-const H_AT = 512;
-const DATA_AT = 1024;
-/** Blocks per call (64 kB). */
-const CHUNK_BLOCKS = 1024;
-
-function blocksCode(): Code {
-  const [n, p, end, t, q, x, y, a, b, c, d, e, f, g, h, t1, t2] = Array.from({ length: 17 }, (_, i) => i);
-  const k = new Code();
-  const rotrXor = (v: number, r1: number, r2: number, r3: number, shr: boolean) => {
-    k.get(v).i32(r1).rotr().get(v).i32(r2).rotr().xor().get(v).i32(r3);
-    if (shr) k.shrU();
-    else k.rotr();
-    k.xor();
-  };
-  k.i32(DATA_AT).set(p);
-  k.get(n).i32(64).mul().i32(DATA_AT).add().set(end);
-  k.block().loop(); // blocks
-  k.get(p).get(end).geS().brIf(1);
-  // W[0..15]: the block's big-endian words
-  k.i32(0).set(t);
-  k.block().loop();
-  k.get(t).i32(16).geS().brIf(1);
-  k.get(p).get(t).i32(4).mul().add().set(q);
-  k.get(t).i32(4).mul().i32(W_AT).add();
-  k.get(q).iload8u(0).i32(24).shl().get(q).iload8u(1).i32(16).shl().or().get(q).iload8u(2).i32(8).shl().or().get(q).iload8u(3).or();
-  k.istore();
-  k.get(t).i32(1).add().set(t);
-  k.br(0).end().end();
-  // W[16..63]
-  k.block().loop();
-  k.get(t).i32(64).geS().brIf(1);
-  k.get(t).i32(4).mul().i32(W_AT).add().set(q);
-  k.get(q).i32(60).sub().iload().set(x);
-  k.get(q).i32(8).sub().iload().set(y);
-  k.get(q);
-  k.get(q).i32(64).sub().iload();
-  rotrXor(x, 7, 18, 3, true);
-  k.add();
-  k.get(q).i32(28).sub().iload().add();
-  rotrXor(y, 17, 19, 10, true);
-  k.add();
-  k.istore();
-  k.get(t).i32(1).add().set(t);
-  k.br(0).end().end();
-  // the 64 rounds
-  [a, b, c, d, e, f, g, h].forEach((v, i) => k.i32(H_AT + 4 * i).iload().set(v));
-  k.i32(0).set(t);
-  k.block().loop();
-  k.get(t).i32(64).geS().brIf(1);
-  k.get(t).i32(4).mul().set(q);
-  // t1 = h + S1(e) + ch(e, f, g) + K[t] + W[t]
-  k.get(h);
-  rotrXor(e, 6, 11, 25, false);
-  k.add();
-  k.get(e).get(f).and().get(e).i32(-1).xor().get(g).and().xor().add();
-  k.get(q).iload(K_AT).add();
-  k.get(q).iload(W_AT).add().set(t1);
-  // t2 = S0(a) + maj(a, b, c)
-  rotrXor(a, 2, 13, 22, false);
-  k.get(a).get(b).and().get(a).get(c).and().xor().get(b).get(c).and().xor().add().set(t2);
-  k.get(g).set(h).get(f).set(g).get(e).set(f);
-  k.get(d).get(t1).add().set(e);
-  k.get(c).set(d).get(b).set(c).get(a).set(b);
-  k.get(t1).get(t2).add().set(a);
-  k.get(t).i32(1).add().set(t);
-  k.br(0).end().end();
-  [a, b, c, d, e, f, g, h].forEach((v, i) => k.i32(H_AT + 4 * i).i32(H_AT + 4 * i).iload().get(v).add().istore());
-  k.get(p).i32(64).add().set(p);
-  k.br(0).end().end();
-  return k;
-}
-
-interface WasmBlocks {
-  memory: WasmMemory;
-  words: Uint32Array;
-  bytes: Uint8Array;
-  blocks: (n: number) => void;
-}
-
-let wasmBlocks: WasmBlocks | null | undefined;
-let forceJs = false;
-
-/** Test hook: the JavaScript block function only (true), or WebAssembly where there is one (false). */
-export function useJsSha256(on: boolean): void {
-  forceJs = on;
-}
-
-/** Which block function hashes here: 'wasm' or 'js'. */
-export function sha256Route(): 'wasm' | 'js' {
-  return loadBlocks() ? 'wasm' : 'js';
-}
-
-function loadBlocks(): WasmBlocks | null {
-  if (forceJs) return null;
-  if (wasmBlocks !== undefined) return wasmBlocks;
-  wasmBlocks = null;
-  const api = wasmApi();
-  // the typed-array views below read the module's little-endian words in the platform's order
-  if (!api || new Uint8Array(Uint32Array.of(1).buffer)[0] !== 1) return wasmBlocks;
-  try {
-    const bytes = moduleBytes([{ name: 'blocks', params: [I32], locals: Array(16).fill(I32), code: blocksCode() }]);
-    const memory = new api.Memory({ initial: Math.ceil((DATA_AT + CHUNK_BLOCKS * 64) / 65536) });
-    const inst = new api.Instance(new api.Module(bytes), { env: { memory } });
-    const words = new Uint32Array(memory.buffer);
-    words.set(K, K_AT / 4);
-    wasmBlocks = { memory, words, bytes: new Uint8Array(memory.buffer), blocks: inst.exports.blocks as (n: number) => void };
-  } catch {
-    wasmBlocks = null;
-  }
-  return wasmBlocks;
-}
 
 /** Incremental hasher: feed bytes with update(), read the digest once with digest(). */
 export class Sha256 {
@@ -165,19 +41,6 @@ export class Sha256 {
       if (this.fill < 64) return this;
       this.compress(this.block, 0);
       this.fill = 0;
-    }
-    const whole = (data.length - i) >> 6;
-    const w = whole > 0 ? loadBlocks() : null;
-    if (w) {
-      w.words.set(this.h, H_AT / 4);
-      for (let left = whole; left > 0; ) {
-        const n = Math.min(left, CHUNK_BLOCKS);
-        w.bytes.set(data.subarray(i, i + n * 64), DATA_AT);
-        w.blocks(n);
-        i += n * 64;
-        left -= n;
-      }
-      this.h.set(w.words.subarray(H_AT / 4, H_AT / 4 + 8));
     }
     for (; i + 64 <= data.length; i += 64) this.compress(data, i);
     if (i < data.length) {

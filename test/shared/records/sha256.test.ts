@@ -1,24 +1,12 @@
 import { createHash } from 'node:crypto';
-import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { describe, expect, it } from 'vitest';
 import fc from 'fast-check';
-import { Sha256, sha256Hex, sha256Route, useJsSha256 } from '../../../shared/records/sha256.js';
+import { Sha256, sha256Hex } from '../../../shared/records/sha256.js';
 import { utf8Encode } from '../../../shared/records/utf8.js';
 
 const ascii = (s: string): Uint8Array => Uint8Array.from(s, (c) => c.charCodeAt(0));
 
-it('hashes with the WebAssembly block function in Node', () => {
-  expect(sha256Route()).toBe('wasm');
-});
-
-// Every check below runs on both block functions: WebAssembly (the default where the engine
-// has it) and the plain TypeScript one (forced), each against the published vectors and node:crypto.
-describe.each([
-  ['WebAssembly', false],
-  ['TypeScript', true],
-] as const)('sha256 (%s block function)', (_route, js) => {
-  beforeAll(() => useJsSha256(js));
-  afterAll(() => useJsSha256(false));
-
+describe('sha256 (pure TypeScript)', () => {
   // FIPS 180-4 / NIST CSRC "Examples with intermediate values", SHA-256: one-block message "abc".
   it('matches the FIPS 180-4 example for "abc"', () => {
     expect(sha256Hex(ascii('abc'))).toBe('ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad');
@@ -62,7 +50,7 @@ describe.each([
     );
   });
 
-  // Reference: Node's crypto on one long update (several 64 kB chunks of the WebAssembly route) after an odd-sized one.
+  // Reference: Node's crypto on one long update after an odd-sized one.
   it('agrees with node:crypto on a long input', () => {
     const bytes = new Uint8Array(300_007);
     for (let i = 0; i < bytes.length; i++) bytes[i] = (i * 2654435761) >>> 24;
