@@ -51,9 +51,9 @@ if (file) {
     // no cache yet: this run makes one
   }
 }
-// the wrapper Node puts around a CommonJS module (the bundle is one)
-const wrapped = `(function (exports, require, module, __filename, __dirname) { ${source}\n})`;
-const script = new Script(wrapped, { filename: bundle, ...(cached ? { cachedData: cached } : {}) });
+// The bundle is a CommonJS module inside the wrapper Node would put around it (a function
+// expression: scripts/build.mjs writes it so), compiled as read.
+const script = new Script(source, { filename: bundle, ...(cached ? { cachedData: cached } : {}) });
 if (file && (!cached || script.cachedDataRejected)) {
   process.once('exit', () => {
     try {
