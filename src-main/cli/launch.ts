@@ -15,7 +15,7 @@
  * cache, and the commands run as before. DEFLATOR_CODE_CACHE=0 turns it off.
  */
 import '../engine-flags.js';
-import { mkdirSync, readFileSync, renameSync, statSync, writeFileSync } from 'node:fs';
+import { mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import path from 'node:path';
 import { Script } from 'node:vm';
@@ -62,6 +62,12 @@ if (file && (!cached || script.cachedDataRejected)) {
       const tmp = `${file}.${process.pid}.tmp`;
       writeFileSync(tmp, data);
       renameSync(tmp, file);
+      // the same command's caches of earlier builds can no longer be used: drop them
+      // (cli-BUILD-SIZE-MTIME-COMMAND.v8: the command is what follows the fourth dash)
+      const own = path.basename(file);
+      const commandOf = (f: string) => f.split('-').slice(4).join('-');
+      for (const f of readdirSync(path.dirname(file)))
+        if (f !== own && f.startsWith('cli-') && f.endsWith('.v8') && commandOf(f) === commandOf(own)) rmSync(path.join(path.dirname(file), f), { force: true });
     } catch {
       // not writable (or full): the next run compiles as this one did
     }
