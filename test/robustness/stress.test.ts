@@ -2,8 +2,8 @@
  * Concurrency under load: many fits, back-tests and comparisons at once through the
  * loopback server (the real composition root: store, run records, a two-thread worker
  * pool), about half of them cancelled at random moments (while queued, while running,
- * and around the moment they finish), with a busy-looping process competing for the
- * CPU. Every call must get exactly one reply and exactly one task-end event within the
+ * and around the moment they finish; and each wave's last call when the first of the
+ * others answers), with a busy-looping process competing for the CPU. Every call must get exactly one reply and exactly one task-end event within the
  * time bound; a reply is either the result with its run id or CANCELLED (only for calls
  * that were cancelled); and the run table holds exactly the runs of the successful
  * replies, so a cancelled call recorded nothing. The cancel times come from a fixed seed
@@ -155,6 +155,16 @@ async function stress(threads: number, seed: number): Promise<Tally> {
           );
         }
         return reply.then((x) => ({ id, name: r.name, reply: x }));
+      });
+      // and the wave's last call cancelled when the first other call answers: it is then
+      // still queued or running whatever the machine's speed (the random moments above can
+      // all fall after a fast wave has finished)
+      const lastId = `t${threads}-w${w}-${PER_WAVE - 1}`;
+      void Promise.race(calls.slice(0, -1)).then(() => {
+        if (replies.has(lastId)) return;
+        tally.cancelRequests++;
+        cancelled.add(lastId);
+        cancelPosts.push(post(srv, 'cancel', { taskId: lastId }));
       });
       const outcome = await Promise.race([Promise.all(calls), new Promise<'timeout'>((res) => setTimeout(() => res('timeout'), WAVE_BOUND_MS))]);
       if (outcome === 'timeout') {
