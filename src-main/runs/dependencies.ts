@@ -9,6 +9,7 @@ import { isReturnHistory, type NamedSeries, type ReturnForm, type ReturnSeries, 
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { gridNames, isGridSpec, type GridSpec } from '../../shared/batch/grid.js';
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
+import type Database from 'better-sqlite3';
 import type { Store } from '../store/store.js';
 import { sha256Hasher } from '../store/digest.js';
 
@@ -83,23 +84,48 @@ export class DataFingerprinter {
     known: readonly SubjectFingerprint[] = [],
   ) {
     for (const k of known) this.cache.set(`${k.kind}\u0000${k.name}`, k);
+    // each statement prepared on first use: a run record whose subjects came with their digests
+    // (from the panel load) uses three of the eleven
     const db = store.db;
+    const prepared: Partial<Record<string, Database.Statement>> = {};
     this.st = {
-      assetId: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
-      seriesId: db.prepare('SELECT id FROM series WHERE name = ?').pluck(),
-      portfolioId: db.prepare('SELECT id FROM portfolio WHERE name = ?').pluck(),
-      assetRows: db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
-      assetForm: db.prepare('SELECT form, units, excess FROM asset WHERE id = ?').raw(),
-      returnRows: db.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw(),
-      seriesRows: db.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw(),
-      portfolioRows: db.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw(),
-      assetFiles: db.prepare(
-        'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT import_id FROM observation WHERE asset_id = $id UNION SELECT import_id FROM return_observation WHERE asset_id = $id) ORDER BY l.id',
-      ),
-      logEntry: db.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id = ?'),
-      seriesFiles: db.prepare(
-        'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM series_observation WHERE series_id = ?) ORDER BY l.id',
-      ),
+      get assetId() {
+        return (prepared.assetId ??= db.prepare('SELECT id FROM asset WHERE name = ?').pluck());
+      },
+      get seriesId() {
+        return (prepared.seriesId ??= db.prepare('SELECT id FROM series WHERE name = ?').pluck());
+      },
+      get portfolioId() {
+        return (prepared.portfolioId ??= db.prepare('SELECT id FROM portfolio WHERE name = ?').pluck());
+      },
+      get assetRows() {
+        return (prepared.assetRows ??= db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw());
+      },
+      get assetForm() {
+        return (prepared.assetForm ??= db.prepare('SELECT form, units, excess FROM asset WHERE id = ?').raw());
+      },
+      get returnRows() {
+        return (prepared.returnRows ??= db.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw());
+      },
+      get seriesRows() {
+        return (prepared.seriesRows ??= db.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw());
+      },
+      get portfolioRows() {
+        return (prepared.portfolioRows ??= db.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw());
+      },
+      get assetFiles() {
+        return (prepared.assetFiles ??= db.prepare(
+          'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT import_id FROM observation WHERE asset_id = $id UNION SELECT import_id FROM return_observation WHERE asset_id = $id) ORDER BY l.id',
+        ));
+      },
+      get logEntry() {
+        return (prepared.logEntry ??= db.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id = ?'));
+      },
+      get seriesFiles() {
+        return (prepared.seriesFiles ??= db.prepare(
+          'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM series_observation WHERE series_id = ?) ORDER BY l.id',
+        ));
+      },
     };
   }
 
