@@ -74,6 +74,25 @@ export function runSubjects(store: Store, spec: unknown, panels: ReturnsPanel[])
   return [...out.values()].sort((a, b) => (a.kind === b.kind ? (a.name < b.name ? -1 : a.name > b.name ? 1 : 0) : a.kind < b.kind ? -1 : 1));
 }
 
+/**
+ * The statements `make` names, each prepared the first time it is read (then kept): a
+ * statement costs its SQL compilation even when the caller never runs it.
+ */
+function preparedOnUse<T extends Record<string, (db: Database.Database) => Database.Statement>>(db: Database.Database, make: T): { [K in keyof T]: ReturnType<T[K]> } {
+  const out = {} as { [K in keyof T]: ReturnType<T[K]> };
+  for (const name of Object.keys(make) as (keyof T & string)[]) {
+    Object.defineProperty(out, name, {
+      configurable: true,
+      get() {
+        const statement = make[name](db);
+        Object.defineProperty(out, name, { value: statement });
+        return statement;
+      },
+    });
+  }
+  return out;
+}
+
 /** Reads subjects' digests and feeding files; caches per subject for one listing. */
 export class DataFingerprinter {
   private readonly cache = new Map<string, SubjectFingerprint | null>();
@@ -86,47 +105,25 @@ export class DataFingerprinter {
     for (const k of known) this.cache.set(`${k.kind}\u0000${k.name}`, k);
     // each statement prepared on first use: a run record whose subjects came with their digests
     // (from the panel load) uses three of the eleven
-    const db = store.db;
-    const prepared: Partial<Record<string, Database.Statement>> = {};
-    this.st = {
-      get assetId() {
-        return (prepared.assetId ??= db.prepare('SELECT id FROM asset WHERE name = ?').pluck());
-      },
-      get seriesId() {
-        return (prepared.seriesId ??= db.prepare('SELECT id FROM series WHERE name = ?').pluck());
-      },
-      get portfolioId() {
-        return (prepared.portfolioId ??= db.prepare('SELECT id FROM portfolio WHERE name = ?').pluck());
-      },
-      get assetRows() {
-        return (prepared.assetRows ??= db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw());
-      },
-      get assetForm() {
-        return (prepared.assetForm ??= db.prepare('SELECT form, units, excess FROM asset WHERE id = ?').raw());
-      },
-      get returnRows() {
-        return (prepared.returnRows ??= db.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw());
-      },
-      get seriesRows() {
-        return (prepared.seriesRows ??= db.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw());
-      },
-      get portfolioRows() {
-        return (prepared.portfolioRows ??= db.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw());
-      },
-      get assetFiles() {
-        return (prepared.assetFiles ??= db.prepare(
+    this.st = preparedOnUse(store.db, {
+      assetId: (d) => d.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
+      seriesId: (d) => d.prepare('SELECT id FROM series WHERE name = ?').pluck(),
+      portfolioId: (d) => d.prepare('SELECT id FROM portfolio WHERE name = ?').pluck(),
+      assetRows: (d) => d.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
+      assetForm: (d) => d.prepare('SELECT form, units, excess FROM asset WHERE id = ?').raw(),
+      returnRows: (d) => d.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw(),
+      seriesRows: (d) => d.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw(),
+      portfolioRows: (d) => d.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw(),
+      assetFiles: (d) =>
+        d.prepare(
           'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT import_id FROM observation WHERE asset_id = $id UNION SELECT import_id FROM return_observation WHERE asset_id = $id) ORDER BY l.id',
-        ));
-      },
-      get logEntry() {
-        return (prepared.logEntry ??= db.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id = ?'));
-      },
-      get seriesFiles() {
-        return (prepared.seriesFiles ??= db.prepare(
+        ),
+      logEntry: (d) => d.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id = ?'),
+      seriesFiles: (d) =>
+        d.prepare(
           'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM series_observation WHERE series_id = ?) ORDER BY l.id',
-        ));
-      },
-    };
+        ),
+    });
   }
 
   private id(ref: SubjectRef): number | undefined {
