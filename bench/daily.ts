@@ -16,18 +16,17 @@ import { mkdirSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
 import { buildPanel } from '../shared/returns/index.js';
-import { parseFitSpec } from '../shared/spec.js';
 import { loadPanelInput } from '../src-main/data/panel.js';
 import { Store } from '../src-main/store/store.js';
 import { havePandas, machineLine, out, PYTHON, ROOT, table, timeHere } from './lib/anchor.js';
-import { dailyScenario } from './lib/scenario.js';
+import { dailyPanelSpec, dailyScenario } from './lib/scenario.js';
 
 const reps = Number(process.argv[process.argv.indexOf('--reps') + 1]) || 5;
 const dir = path.join(tmpdir(), 'deflator-bench-scenarios', 'daily-100x10000');
 mkdirSync(dir, { recursive: true });
 const s = await dailyScenario(dir, 100, 10000);
 out(`Daily panel read: N = 100, T = 10,000 weekdays, 1,000,100 price rows (${s.prices}); ${machineLine()}`);
-const spec = parseFitSpec({ frequency: 'daily', returns: 'excess', riskfree: 'overnight', model: { kind: 'linear', factors: s.factorNames }, estimator: { stage: 'second', lags: 5 } });
+const spec = dailyPanelSpec(s.factorNames);
 const store = new Store(s.db, { mustExist: true });
 store.db.prepare('DELETE FROM subject_pack').run(); // as after an import
 let shape = '';

@@ -6,13 +6,13 @@
  *   node --import tsx bench/lib/load-panel-once.ts DB FACTOR[,FACTOR...]
  */
 import { buildPanel } from '../../shared/returns/index.js';
-import { parseFitSpec } from '../../shared/spec.js';
 import { loadPanelInput } from '../../src-main/data/panel.js';
 import { Store } from '../../src-main/store/store.js';
 import { timeHere } from './anchor.js';
+import { dailyPanelSpec } from './scenario.js';
 
 const [db, factors] = process.argv.slice(2);
-const spec = parseFitSpec({ frequency: 'daily', returns: 'excess', riskfree: 'overnight', model: { kind: 'linear', factors: factors.split(',') }, estimator: { stage: 'second', lags: 5 } });
+const spec = dailyPanelSpec(factors.split(','));
 const store = new Store(db, { mustExist: true });
 const t = timeHere(() => buildPanel(loadPanelInput(store, spec)));
 store.close();

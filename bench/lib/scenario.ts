@@ -9,6 +9,7 @@ import { spawnSync } from 'node:child_process';
 import { createWriteStream, existsSync } from 'node:fs';
 import path from 'node:path';
 import { mulberry32 } from '../../shared/random.js';
+import { parseFitSpec, type FitSpec } from '../../shared/spec.js';
 
 export const ROOT = path.resolve(import.meta.dirname, '..', '..');
 export const CLI = path.join(ROOT, 'dist', 'cli.js');
@@ -23,6 +24,11 @@ export interface DailyScenario {
   K: number;
   T: number;
   factorNames: string[];
+}
+
+/** The fit spec whose panel the daily-panel benchmarks read: excess returns over the overnight rate, the scenario's factors. */
+export function dailyPanelSpec(factorNames: readonly string[]): FitSpec {
+  return parseFitSpec({ frequency: 'daily', returns: 'excess', riskfree: 'overnight', model: { kind: 'linear', factors: [...factorNames] }, estimator: { stage: 'second', lags: 5 } });
 }
 
 async function writeLines(file: string, produce: (write: (s: string) => Promise<void>) => Promise<void>): Promise<void> {

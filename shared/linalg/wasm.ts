@@ -35,8 +35,6 @@ export const I32 = 0x7f;
 export const F64 = 0x7c;
 export const V128 = 0x7b;
 
-
-
 /** Function body writer: each method appends one instruction. */
 export class Code {
   private buf = new Uint8Array(1024);
@@ -50,39 +48,32 @@ export class Code {
    * at run time, on code V8 has not compiled yet, where a spread per instruction made a 2 kB
    * body cost several milliseconds.
    */
-  private byte(b: number): this {
-    if (this.n === this.buf.length) {
-      const grown = new Uint8Array(this.buf.length * 2);
-      grown.set(this.buf);
-      this.buf = grown;
-    }
+  /** Room for `extra` more bytes. */
+  private reserve(extra: number): void {
+    if (this.n + extra <= this.buf.length) return;
+    const grown = new Uint8Array(Math.max(this.buf.length * 2, this.n + extra));
+    grown.set(this.buf.subarray(0, this.n));
+    this.buf = grown;
+  }
+  /** One byte as it is. */
+  raw(b: number): this {
+    this.reserve(1);
     this.buf[this.n++] = b;
     return this;
   }
-  private uleb(v: number): this {
+  /** An unsigned LEB128 number: a count, an index, a size or an immediate. */
+  count(v: number): this {
     do {
       let b = v & 0x7f;
       v >>>= 7;
       if (v !== 0) b |= 0x80;
-      this.byte(b);
+      this.raw(b);
     } while (v !== 0);
     return this;
   }
-  /** One byte as it is (the module writer's). */
-  raw(b: number): this {
-    return this.byte(b);
-  }
-  /** An unsigned LEB128 number: a count, an index or a size (the module writer's). */
-  count(v: number): this {
-    return this.uleb(v);
-  }
-  /** Bytes as they are (the module writer's). */
+  /** Bytes as they are. */
   append(b: Uint8Array): this {
-    if (this.n + b.length > this.buf.length) {
-      const grown = new Uint8Array(Math.max(this.buf.length * 2, this.n + b.length));
-      grown.set(this.buf.subarray(0, this.n));
-      this.buf = grown;
-    }
+    this.reserve(b.length);
     this.buf.set(b, this.n);
     this.n += b.length;
     return this;
@@ -91,106 +82,104 @@ export class Code {
     for (;;) {
       const b = v & 0x7f;
       v >>= 7;
-      if ((v === 0 && (b & 0x40) === 0) || (v === -1 && (b & 0x40) !== 0)) return this.byte(b);
-      this.byte(b | 0x80);
+      if ((v === 0 && (b & 0x40) === 0) || (v === -1 && (b & 0x40) !== 0)) return this.raw(b);
+      this.raw(b | 0x80);
     }
   }
   get(i: number): this {
-    return this.byte(0x20).uleb(i);
+    return this.raw(0x20).count(i);
   }
   set(i: number): this {
-    return this.byte(0x21).uleb(i);
+    return this.raw(0x21).count(i);
   }
   tee(i: number): this {
-    return this.byte(0x22).uleb(i);
+    return this.raw(0x22).count(i);
   }
   i32(v: number): this {
-    return this.byte(0x41).sleb(v);
+    return this.raw(0x41).sleb(v);
   }
   add(): this {
-    return this.byte(0x6a);
+    return this.raw(0x6a);
   }
   sub(): this {
-    return this.byte(0x6b);
+    return this.raw(0x6b);
   }
   mul(): this {
-    return this.byte(0x6c);
+    return this.raw(0x6c);
   }
   ltS(): this {
-    return this.byte(0x48);
+    return this.raw(0x48);
   }
   geS(): this {
-    return this.byte(0x4e);
+    return this.raw(0x4e);
   }
   gtS(): this {
-    return this.byte(0x4a);
+    return this.raw(0x4a);
   }
   select(): this {
-    return this.byte(0x1b);
+    return this.raw(0x1b);
   }
   /** block with no result; the matching end() closes it. */
   block(): this {
-    return this.byte(0x02).byte(0x40);
+    return this.raw(0x02).raw(0x40);
   }
   loop(): this {
-    return this.byte(0x03).byte(0x40);
+    return this.raw(0x03).raw(0x40);
   }
   br(depth: number): this {
-    return this.byte(0x0c).uleb(depth);
+    return this.raw(0x0c).count(depth);
   }
   brIf(depth: number): this {
-    return this.byte(0x0d).uleb(depth);
+    return this.raw(0x0d).count(depth);
   }
   end(): this {
-    return this.byte(0x0b);
+    return this.raw(0x0b);
   }
   /** v128.load (address on the stack) at a constant byte offset; alignment hint 8 bytes. */
   vload(offset = 0): this {
-    return this.byte(0xfd).byte(0x00).byte(0x03).uleb(offset);
+    return this.raw(0xfd).raw(0x00).raw(0x03).count(offset);
   }
   /** v128.store (address, value on the stack) at a constant byte offset. */
   vstore(offset = 0): this {
-    return this.byte(0xfd).byte(0x0b).byte(0x03).uleb(offset);
+    return this.raw(0xfd).raw(0x0b).raw(0x03).count(offset);
   }
   f64x2add(): this {
-    return this.byte(0xfd).uleb(240);
+    return this.raw(0xfd).count(240);
   }
   f64x2mul(): this {
-    return this.byte(0xfd).uleb(242);
+    return this.raw(0xfd).count(242);
   }
   /** f64.load (address on the stack) at a constant byte offset; alignment hint 8 bytes. */
   fload(offset = 0): this {
-    return this.byte(0x2b).byte(0x03).uleb(offset);
+    return this.raw(0x2b).raw(0x03).count(offset);
   }
   /** f64.store (address, value on the stack) at a constant byte offset. */
   fstore(offset = 0): this {
-    return this.byte(0x39).byte(0x03).uleb(offset);
+    return this.raw(0x39).raw(0x03).count(offset);
   }
   /** f64.const: the eight bytes of the value, little-endian. */
   f64(v: number): this {
-    this.byte(0x44);
-    for (const b of new Uint8Array(Float64Array.of(v).buffer)) this.byte(b);
-    return this;
+    return this.raw(0x44).append(new Uint8Array(Float64Array.of(v).buffer));
   }
   fadd(): this {
-    return this.byte(0xa0);
+    return this.raw(0xa0);
   }
   fsub(): this {
-    return this.byte(0xa1);
+    return this.raw(0xa1);
   }
   fmul(): this {
-    return this.byte(0xa2);
+    return this.raw(0xa2);
   }
   fdiv(): this {
-    return this.byte(0xa3);
+    return this.raw(0xa3);
   }
   /** f64.convert_i32_s */
   fromI32(): this {
-    return this.byte(0xb7);
+    return this.raw(0xb7);
   }
   /** memory.fill (dest, value, size on the stack). */
   memfill(): this {
-    return this.byte(0xfc).uleb(11).byte(0x00);
+    return this.raw(0xfc).count(11).raw(0x00);
   }
 }
 

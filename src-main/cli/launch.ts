@@ -29,18 +29,23 @@ const bundle = path.join(here, 'cli.cjs');
 // text, without a UTF-8 decoding pass over it.
 const source = readFileSync(bundle, 'latin1');
 
+/** The command's part of a cache file's name: `cli-BUILD-SIZE-MTIME-${suffix}`. */
+const command = process.argv.slice(2).find((a) => !a.startsWith('-')) ?? '';
+const suffix = `${/^[a-z][a-z-]{0,23}$/.test(command) ? command : 'other'}.v8`;
+
 /** The cache file of this command and this exact bundle, or null when caching is off. */
 function cacheFile(): string | null {
   if (process.env.DEFLATOR_CODE_CACHE === '0') return null;
-  const command = process.argv.slice(2).find((a) => !a.startsWith('-')) ?? '';
-  const name = /^[a-z][a-z-]{0,23}$/.test(command) ? command : 'other';
   try {
     const st = statSync(bundle);
-    return path.join(here, 'cache', `cli-${__DEFLATOR_CLI_BUILD__}-${st.size}-${Math.round(st.mtimeMs)}-${name}.v8`);
+    return path.join(here, 'cache', `cli-${__DEFLATOR_CLI_BUILD__}-${st.size}-${Math.round(st.mtimeMs)}-${suffix}`);
   } catch {
     return null;
   }
 }
+
+/** Whether `f` is a cache file of this command (of any build): the build id is hex, size and time digits. */
+const ofThisCommand = (f: string) => /^cli-[0-9a-f]+-\d+-\d+-(.+)$/.exec(f)?.[1] === suffix;
 
 const file = cacheFile();
 let cached: Buffer | undefined;
@@ -63,11 +68,7 @@ if (file && (!cached || script.cachedDataRejected)) {
       writeFileSync(tmp, data);
       renameSync(tmp, file);
       // the same command's caches of earlier builds can no longer be used: drop them
-      // (cli-BUILD-SIZE-MTIME-COMMAND.v8: the command is what follows the fourth dash)
-      const own = path.basename(file);
-      const commandOf = (f: string) => f.split('-').slice(4).join('-');
-      for (const f of readdirSync(path.dirname(file)))
-        if (f !== own && f.startsWith('cli-') && f.endsWith('.v8') && commandOf(f) === commandOf(own)) rmSync(path.join(path.dirname(file), f), { force: true });
+      for (const f of readdirSync(path.dirname(file))) if (f !== path.basename(file) && ofThisCommand(f)) rmSync(path.join(path.dirname(file), f), { force: true });
     } catch {
       // not writable (or full): the next run compiles as this one did
     }

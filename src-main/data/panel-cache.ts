@@ -36,7 +36,7 @@ import { sha256Hex } from '../../shared/records/sha256.js';
 import type { PanelFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import { isReturnHistory } from '../../shared/data.js';
 import type { BuildPanelInput, PanelSpec } from '../../shared/returns/index.js';
-import { nodeSha256 } from '../runs/dependencies.js';
+import { nodeSha256 } from '../store/digest.js';
 import type { Store } from '../store/store.js';
 
 declare const __DEFLATOR_SOURCE_ID__: string | undefined;
@@ -108,6 +108,9 @@ function seriesNames(spec: PanelSpec): string[] {
   return [...names];
 }
 
+/** A SHA-256 digest as the store writes it. */
+const HEX64 = /^[0-9a-f]{64}$/;
+
 function keyOf(spec: PanelSpec, priceRatios: boolean, subjects: KeySubject[]): string | null {
   const panelKeys = {
     frequency: spec.frequency,
@@ -132,8 +135,6 @@ function keyOf(spec: PanelSpec, priceRatios: boolean, subjects: KeySubject[]): s
   const text = Buffer.from(JSON.stringify({ layout: LAYOUT, build: identity, spec: panelKeys, priceRatios, subjects: described }), 'utf8');
   return sha256Hex(Buffer.concat([text, Buffer.from(subjects.map((x) => x[2]).join(''), 'hex')]));
 }
-
-const HEX64 = /^[0-9a-f]{64}$/;
 
 /** The key of the panel the store's current data would give, or null when the cache does not apply. */
 function currentKey(store: Store, spec: PanelSpec, priceRatios: boolean): string | null {

@@ -11,7 +11,9 @@ import { gridNames, isGridSpec, type GridSpec } from '../../shared/batch/grid.js
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import type Database from 'better-sqlite3';
 import type { Store } from '../store/store.js';
-import { sha256Hasher } from '../store/digest.js';
+import { nodeSha256, sha256Hasher } from '../store/digest.js';
+
+export { nodeSha256 };
 
 export type SubjectKind = SubjectFingerprint['kind'];
 
@@ -269,5 +271,3 @@ export function loadedDigests(
   return out;
 }
 
-/** SHA-256 (hex) by node:crypto, for shared/records' fingerprints (the same digest as its own code, faster). */
-export const nodeSha256 = (bytes: Uint8Array): string => sha256Hasher().update(bytes).digest('hex');

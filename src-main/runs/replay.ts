@@ -23,7 +23,7 @@ import { computeAnalysis, loadAnalysisData, type Analysis, type AnalysisData } f
 import type { Compute } from '../services/compute.js';
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
-import { nodeSha256 } from './dependencies.js';
+import { nodeSha256 } from '../store/digest.js';
 import { getRun, staleItems } from './runs.js';
 
 export type { ReplayReport };

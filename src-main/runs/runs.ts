@@ -13,7 +13,8 @@ import type { DataFileFingerprint, PanelFingerprint, RunKind, RunRecord, RunSumm
 import type { Store } from '../store/store.js';
 import { VERSION } from '../version.js';
 import { kernelIdentity } from '../../shared/linalg/identity.js';
-import { DataFingerprinter, nodeSha256, runSubjects } from './dependencies.js';
+import { nodeSha256 } from '../store/digest.js';
+import { DataFingerprinter, runSubjects } from './dependencies.js';
 import { knownFingerprint } from '../data/panel-cache.js';
 
 export interface RecordRunInput {

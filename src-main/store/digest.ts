@@ -15,3 +15,6 @@ export function sha256Hasher(): Hash {
   crypto ??= createRequire(import.meta.url)('node:crypto') as typeof import('node:crypto');
   return crypto.createHash('sha256');
 }
+
+/** SHA-256 (hex) by node:crypto, for shared/records' fingerprints (the same digest as its own code, faster). */
+export const nodeSha256 = (bytes: Uint8Array): string => sha256Hasher().update(bytes).digest('hex');
