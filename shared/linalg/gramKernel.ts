@@ -343,7 +343,12 @@ export function wasmGramOf(q: number, T: number, same: boolean, fill: (a: number
   for (let a0 = 0; a0 < qPad; a0 += BLOCK_ROWS) {
     const a1 = Math.min(qPad, a0 + BLOCK_ROWS);
     heap.fill(0, accBase, accBase + (a1 - a0) * qPad * 4);
-    k.gramBlock(xOff, yOff, rowBytes, qPad, T4 * 8, accOff, a0, a1, CHUNK * 8);
+    // One call per chunk of periods (the rows' addresses moved on by t0 periods): the
+    // partial sums wait in memory between calls exactly as they do between the chunks of
+    // one call, so the bits are those of a single call. Short calls let the engine move the
+    // kernel from its baseline compile to its optimised one while a large product runs (a
+    // call that has started stays in the code it started in).
+    for (let t0 = 0; t0 < T4; t0 += CHUNK) k.gramBlock(xOff + t0 * 8, yOff + t0 * 8, rowBytes, qPad, Math.min(CHUNK, T4 - t0) * 8, accOff, a0, a1, CHUNK * 8);
     for (let a = a0; a < Math.min(a1, q); a++) {
       const xa = xs[a];
       const rowAcc = accBase + (a - a0) * qPad * 4;

@@ -2,7 +2,6 @@
  * `deflator` command line: one program, one sub-command per file in ./commands.
  * Errors go to stderr with a non-zero exit; --json output goes to stdout.
  */
-import '../engine-flags.js';
 import { Command, CommanderError } from 'commander';
 import { describeError } from '../../shared/errors.js';
 import { escapeControls } from '../../shared/text.js';

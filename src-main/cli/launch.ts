@@ -14,7 +14,6 @@
  * those who can change the bundle itself can write: where dist/ is not writable there is no
  * cache, and the commands run as before. DEFLATOR_CODE_CACHE=0 turns it off.
  */
-import '../engine-flags.js';
 import { mkdirSync, readdirSync, readFileSync, renameSync, rmSync, statSync, writeFileSync } from 'node:fs';
 import { createRequire } from 'node:module';
 import path from 'node:path';

@@ -2,7 +2,6 @@
  * The worker thread's entry (compiled by scripts/build.mjs to dist/worker.js): piscina
  * calls the default export with a TaskEnvelope and sends back its TaskReply.
  */
-import '../engine-flags.js';
 import { isDeflatorError } from '../../shared/errors.js';
 import type { TaskEnvelope, TaskKind, TaskReply, WorkerError } from './protocol.js';
 import { Reporter } from './reporter.js';
