@@ -12,6 +12,7 @@ import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/recor
 import type Database from 'better-sqlite3';
 import type { Store } from '../store/store.js';
 import { nodeSha256, sha256Hasher } from '../store/digest.js';
+import { preparedOnUse } from '../store/sqlite.js';
 
 export { nodeSha256 };
 
@@ -74,25 +75,6 @@ export function runSubjects(store: Store, spec: unknown, panels: ReturnsPanel[])
   for (const p of panels) for (const f of p.factors) seriesNames.push(f.name);
   for (const name of seriesNames) if (isSeries.get(name) !== undefined) add('series', name);
   return [...out.values()].sort((a, b) => (a.kind === b.kind ? (a.name < b.name ? -1 : a.name > b.name ? 1 : 0) : a.kind < b.kind ? -1 : 1));
-}
-
-/**
- * The statements `make` names, each prepared the first time it is read (then kept): a
- * statement costs its SQL compilation even when the caller never runs it.
- */
-function preparedOnUse<T extends Record<string, (db: Database.Database) => Database.Statement>>(db: Database.Database, make: T): { [K in keyof T]: ReturnType<T[K]> } {
-  const out = {} as { [K in keyof T]: ReturnType<T[K]> };
-  for (const name of Object.keys(make) as (keyof T & string)[]) {
-    Object.defineProperty(out, name, {
-      configurable: true,
-      get() {
-        const statement = make[name](db);
-        Object.defineProperty(out, name, { value: statement });
-        return statement;
-      },
-    });
-  }
-  return out;
 }
 
 /** Reads subjects' digests and feeding files; caches per subject for one listing. */

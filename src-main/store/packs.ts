@@ -30,6 +30,7 @@
  * [adjust], [shares, NaN where none] (price histories) or value (series).
  */
 import type Database from 'better-sqlite3';
+import { preparedOnUse } from './sqlite.js';
 import type { NamedSeries, PriceHistory } from '../../shared/data.js';
 import type { SubjectFingerprint } from '../../shared/records/run-record.js';
 import { subjectDigest } from '../runs/dependencies.js';
@@ -220,15 +221,16 @@ export class Packs {
   private readonly st;
 
   constructor(private readonly db: Database.Database) {
-    this.st = {
-      get: db.prepare('SELECT rows, sha256, data FROM subject_pack WHERE kind = ? AND subject_id = ?'),
-      put: db.prepare('INSERT OR REPLACE INTO subject_pack (kind, subject_id, rows, sha256, imports, data) VALUES (?, ?, ?, ?, ?, ?)'),
-      drop: db.prepare('DELETE FROM subject_pack WHERE kind = ? AND subject_id = ?'),
-      digest: db.prepare('SELECT sha256, rows FROM subject_pack WHERE kind = ? AND subject_id = ?'),
-      imports: db.prepare('SELECT imports FROM subject_pack WHERE kind = ? AND subject_id = ?').pluck(),
-      assetImports: db.prepare('SELECT DISTINCT import_id FROM observation WHERE asset_id = ? ORDER BY import_id').pluck(),
-      seriesImports: db.prepare('SELECT DISTINCT import_id FROM series_observation WHERE series_id = ? ORDER BY import_id').pluck(),
-    };
+    // each prepared when first used: a fit from the panel cache reads no pack
+    this.st = preparedOnUse(db, {
+      get: (d) => d.prepare('SELECT rows, sha256, data FROM subject_pack WHERE kind = ? AND subject_id = ?'),
+      put: (d) => d.prepare('INSERT OR REPLACE INTO subject_pack (kind, subject_id, rows, sha256, imports, data) VALUES (?, ?, ?, ?, ?, ?)'),
+      drop: (d) => d.prepare('DELETE FROM subject_pack WHERE kind = ? AND subject_id = ?'),
+      digest: (d) => d.prepare('SELECT sha256, rows FROM subject_pack WHERE kind = ? AND subject_id = ?'),
+      imports: (d) => d.prepare('SELECT imports FROM subject_pack WHERE kind = ? AND subject_id = ?').pluck(),
+      assetImports: (d) => d.prepare('SELECT DISTINCT import_id FROM observation WHERE asset_id = ? ORDER BY import_id').pluck(),
+      seriesImports: (d) => d.prepare('SELECT DISTINCT import_id FROM series_observation WHERE series_id = ? ORDER BY import_id').pluck(),
+    });
   }
 
   get(kind: PackKind, id: number): PackRow | undefined {

@@ -5,7 +5,7 @@
  */
 import type Database from 'better-sqlite3';
 import { sha256Hasher } from './digest.js';
-import { openSqlite } from './sqlite.js';
+import { openSqlite, preparedOnUse } from './sqlite.js';
 import { accessSync, constants, copyFileSync, existsSync, mkdtempSync, rmSync, statSync } from 'node:fs';
 import { tmpdir } from 'node:os';
 import path from 'node:path';
@@ -150,32 +150,33 @@ const toLogEntry = (r: LogRow): ImportLogEntry => ({
   importedAt: r.imported_at,
 });
 
+/** The store's statements, each prepared when first used (a command uses a few of them). */
 function prepareStatements(db: Database.Database) {
-  return {
-    assetNames: db.prepare('SELECT id, name, form, units, excess FROM asset ORDER BY name'),
-    assetByName: db.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
-    assetRowByName: db.prepare('SELECT id, name, form, units, excess FROM asset WHERE name = ?'),
-    returnRows: db.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw(),
-    returnDates: db.prepare('SELECT date FROM return_observation WHERE asset_id = ? AND value IS NOT NULL ORDER BY date').pluck(),
-    returnMissing: db.prepare('SELECT count(*) FROM return_observation WHERE asset_id = ? AND value IS NULL').pluck(),
-    history: db.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
-    historyDates: db.prepare('SELECT date FROM observation WHERE asset_id = ? ORDER BY date').pluck(),
-    assetEvents: db.prepare('SELECT sum(dividend <> 0), sum(adjust <> 1) FROM observation WHERE asset_id = ?').raw(),
-    seriesAll: db.prepare('SELECT id, name, kind, units, rf_form FROM series ORDER BY name'),
-    seriesByName: db.prepare('SELECT id, name, kind, units, rf_form FROM series WHERE name = ?'),
-    seriesObs: db.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw(),
-    seriesDates: db.prepare('SELECT date FROM series_observation WHERE series_id = ? ORDER BY date').pluck(),
-    portfolioAll: db.prepare('SELECT id, name, frequency, rules FROM portfolio ORDER BY name'),
-    portfolioByName: db.prepare('SELECT id, name, frequency, rules FROM portfolio WHERE name = ?'),
-    portfolioObs: db.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw(),
-    portfolioInsert: db.prepare('INSERT INTO portfolio (name, frequency, rules, created_at) VALUES (?, ?, ?, ?)'),
-    portfolioObsInsert: db.prepare('INSERT INTO portfolio_return (portfolio_id, period, net) VALUES (?, ?, ?)'),
-    portfolioDelete: db.prepare('DELETE FROM portfolio WHERE id = ?'),
-    log: db.prepare('SELECT * FROM import_log ORDER BY id'),
-    logByHash: db.prepare('SELECT * FROM import_log WHERE sha256 = ? AND kind = ? ORDER BY id LIMIT 1'),
-    logsByHash: db.prepare("SELECT * FROM import_log WHERE sha256 = ? AND kind <> 'dividends' ORDER BY id"),
-    logById: db.prepare('SELECT * FROM import_log WHERE id = ?'),
-  };
+  return preparedOnUse(db, {
+    assetNames: (d) => d.prepare('SELECT id, name, form, units, excess FROM asset ORDER BY name'),
+    assetByName: (d) => d.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
+    assetRowByName: (d) => d.prepare('SELECT id, name, form, units, excess FROM asset WHERE name = ?'),
+    returnRows: (d) => d.prepare('SELECT date, value FROM return_observation WHERE asset_id = ? ORDER BY date').raw(),
+    returnDates: (d) => d.prepare('SELECT date FROM return_observation WHERE asset_id = ? AND value IS NOT NULL ORDER BY date').pluck(),
+    returnMissing: (d) => d.prepare('SELECT count(*) FROM return_observation WHERE asset_id = ? AND value IS NULL').pluck(),
+    history: (d) => d.prepare('SELECT date, price, dividend, adjust, shares FROM observation WHERE asset_id = ? ORDER BY date').raw(),
+    historyDates: (d) => d.prepare('SELECT date FROM observation WHERE asset_id = ? ORDER BY date').pluck(),
+    assetEvents: (d) => d.prepare('SELECT sum(dividend <> 0), sum(adjust <> 1) FROM observation WHERE asset_id = ?').raw(),
+    seriesAll: (d) => d.prepare('SELECT id, name, kind, units, rf_form FROM series ORDER BY name'),
+    seriesByName: (d) => d.prepare('SELECT id, name, kind, units, rf_form FROM series WHERE name = ?'),
+    seriesObs: (d) => d.prepare('SELECT date, value FROM series_observation WHERE series_id = ? ORDER BY date').raw(),
+    seriesDates: (d) => d.prepare('SELECT date FROM series_observation WHERE series_id = ? ORDER BY date').pluck(),
+    portfolioAll: (d) => d.prepare('SELECT id, name, frequency, rules FROM portfolio ORDER BY name'),
+    portfolioByName: (d) => d.prepare('SELECT id, name, frequency, rules FROM portfolio WHERE name = ?'),
+    portfolioObs: (d) => d.prepare('SELECT period, net FROM portfolio_return WHERE portfolio_id = ? ORDER BY period').raw(),
+    portfolioInsert: (d) => d.prepare('INSERT INTO portfolio (name, frequency, rules, created_at) VALUES (?, ?, ?, ?)'),
+    portfolioObsInsert: (d) => d.prepare('INSERT INTO portfolio_return (portfolio_id, period, net) VALUES (?, ?, ?)'),
+    portfolioDelete: (d) => d.prepare('DELETE FROM portfolio WHERE id = ?'),
+    log: (d) => d.prepare('SELECT * FROM import_log ORDER BY id'),
+    logByHash: (d) => d.prepare('SELECT * FROM import_log WHERE sha256 = ? AND kind = ? ORDER BY id LIMIT 1'),
+    logsByHash: (d) => d.prepare("SELECT * FROM import_log WHERE sha256 = ? AND kind <> 'dividends' ORDER BY id"),
+    logById: (d) => d.prepare('SELECT * FROM import_log WHERE id = ?'),
+  });
 }
 
 type Statements = ReturnType<typeof prepareStatements>;
