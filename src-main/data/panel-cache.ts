@@ -5,7 +5,7 @@
  * instead of building it again (the demo fit: about 45 ms of a cold process; a daily panel
  * of 100 assets over 10,000 days: about 0.6 s).
  *
- * The key is a SHA-256 over: the spec's panel keys (frequency, window, assets, return kind,
+ * The key is the text (JSON) naming: the spec's panel keys (frequency, window, assets, return kind,
  * risk-free and its day count, factors, consumption, instruments), whether price ratios
  * were asked for, every subject read (each price history and series by name, with the digest
  * of its stored rows and, for a series, its stored kind and risk-free form), and the build of
@@ -32,7 +32,6 @@ import type Database from 'better-sqlite3';
 import { readSnapshot, SnapshotWriter } from '../../shared/batch/snapshot.js';
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { fingerprintPanel } from '../../shared/records/panel-encoding.js';
-import { sha256Hex } from '../../shared/records/sha256.js';
 import type { PanelFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
 import { isReturnHistory } from '../../shared/data.js';
 import type { BuildPanelInput, PanelSpec } from '../../shared/returns/index.js';
@@ -44,7 +43,7 @@ declare const __DEFLATOR_SOURCE_ID__: string | undefined;
 /** Panels kept at most (the oldest go first). */
 export const MAX_ENTRIES = 16;
 /** Layout of the key and the stored entry; change it when either changes. */
-const LAYOUT = 2;
+const LAYOUT = 3;
 
 let identity: string | null = typeof __DEFLATOR_SOURCE_ID__ === 'string' ? __DEFLATOR_SOURCE_ID__ : null;
 
@@ -108,10 +107,13 @@ function seriesNames(spec: PanelSpec): string[] {
   return [...names];
 }
 
-/** A SHA-256 digest as the store writes it. */
-const HEX64 = /^[0-9a-f]{64}$/;
-
-function keyOf(spec: PanelSpec, priceRatios: boolean, subjects: KeySubject[]): string | null {
+/**
+ * The key: the text naming everything the panel came from (JSON), itself, not a digest of
+ * it. Hashing it cost every cached read 5-9 ms of SHA-256 on code not yet compiled in a new
+ * process (the demo's 33 subjects); SQLite compares a few kilobytes of text in microseconds,
+ * and the cache holds at most MAX_ENTRIES keys.
+ */
+function keyOf(spec: PanelSpec, priceRatios: boolean, subjects: KeySubject[]): string {
   const panelKeys = {
     frequency: spec.frequency,
     start: spec.start ?? null,
@@ -125,15 +127,8 @@ function keyOf(spec: PanelSpec, priceRatios: boolean, subjects: KeySubject[]): s
     consumption: spec.model.consumption ?? null,
     instruments: spec.instruments ?? null,
   };
-  // The subjects' digests go in as their 32 bytes each (not 64 hex characters inside the
-  // JSON), the text as UTF-8 by Node: this key is hashed by shared/records/sha256.ts at every
-  // cached read, on code not yet compiled in a new process (about 4 ms for the demo's 33
-  // subjects as hex JSON, a third less this way). A digest that is not 64 hex digits makes
-  // no key (no caching) rather than an ambiguous one.
-  if (!subjects.every((x) => HEX64.test(x[2]))) return null;
-  const described = subjects.map(([kind, name, , rows, seriesKind, rfForm]) => [kind, name, rows, seriesKind ?? null, rfForm ?? null]);
-  const text = Buffer.from(JSON.stringify({ layout: LAYOUT, build: identity, spec: panelKeys, priceRatios, subjects: described }), 'utf8');
-  return sha256Hex(Buffer.concat([text, Buffer.from(subjects.map((x) => x[2]).join(''), 'hex')]));
+  const described = subjects.map(([kind, name, sha256, rows, seriesKind, rfForm]) => [kind, name, sha256, rows, seriesKind ?? null, rfForm ?? null]);
+  return JSON.stringify({ layout: LAYOUT, build: identity, spec: panelKeys, priceRatios, subjects: described });
 }
 
 /** The key of the panel the store's current data would give, or null when the cache does not apply. */
@@ -208,7 +203,6 @@ export function cachePanel(store: Store, input: BuildPanelInput, panel: ReturnsP
   const db = store.db;
   if (db.inTransaction) return fingerprint;
   const key = keyOf(spec, input.priceRatios === true, keySubjects);
-  if (key === null) return fingerprint;
   const writer = new SnapshotWriter({ shareColumns: false });
   writer.add(panel, fingerprint);
   const { index, columns } = writer.finish();
