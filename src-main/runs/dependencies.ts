@@ -57,23 +57,27 @@ export function specAssetNames(spec: unknown): string[] {
  * the spec says "all", including those alignment later dropped), the panels' assets,
  * and the spec's series. Names resolve to asset, then portfolio; series by name.
  */
-export function runSubjects(store: Store, spec: unknown, panels: ReturnsPanel[]): SubjectRef[] {
-  const db = store.db;
-  const isAsset = db.prepare('SELECT 1 FROM asset WHERE name = ?').pluck();
-  const isPortfolio = db.prepare('SELECT 1 FROM portfolio WHERE name = ?').pluck();
-  const isSeries = db.prepare('SELECT 1 FROM series WHERE name = ?').pluck();
+export function runSubjects(store: Store, spec: unknown, panels: ReturnsPanel[], loaded: readonly SubjectFingerprint[] = []): SubjectRef[] {
+  const st = preparedOnUse(store.db, {
+    isAsset: (d) => d.prepare('SELECT 1 FROM asset WHERE name = ?').pluck(),
+    isPortfolio: (d) => d.prepare('SELECT 1 FROM portfolio WHERE name = ?').pluck(),
+    isSeries: (d) => d.prepare('SELECT 1 FROM series WHERE name = ?').pluck(),
+  });
+  // subjects the panel load read (with their digests) are known to be stored, and as what
+  const seen = new Set(loaded.map((x) => `${x.kind}\u0000${x.name}`));
+  const was = (kind: SubjectKind, name: string) => seen.has(`${kind}\u0000${name}`);
   const out = new Map<string, SubjectRef>();
   const add = (kind: SubjectKind, name: string) => out.set(`${kind}\u0000${name}`, { kind, name });
   const explicit = specAssetNames(spec);
   const assetNames = explicit.length ? explicit : store.assets();
   for (const p of panels) assetNames.push(...p.assets);
   for (const name of assetNames) {
-    if (isAsset.get(name) !== undefined) add('asset', name);
-    else if (isPortfolio.get(name) !== undefined) add('portfolio', name);
+    if (was('asset', name) || st.isAsset.get(name) !== undefined) add('asset', name);
+    else if (was('portfolio', name) || st.isPortfolio.get(name) !== undefined) add('portfolio', name);
   }
   const seriesNames = specSeriesNames(spec);
   for (const p of panels) for (const f of p.factors) seriesNames.push(f.name);
-  for (const name of seriesNames) if (isSeries.get(name) !== undefined) add('series', name);
+  for (const name of seriesNames) if (was('series', name) || st.isSeries.get(name) !== undefined) add('series', name);
   return [...out.values()].sort((a, b) => (a.kind === b.kind ? (a.name < b.name ? -1 : a.name > b.name ? 1 : 0) : a.kind < b.kind ? -1 : 1));
 }
 
@@ -102,7 +106,11 @@ export class DataFingerprinter {
         d.prepare(
           'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT import_id FROM observation WHERE asset_id = $id UNION SELECT import_id FROM return_observation WHERE asset_id = $id) ORDER BY l.id',
         ),
-      logEntry: (d) => d.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id = ?'),
+      assetPackImports: (d) =>
+        d.prepare("SELECT a.name, p.imports FROM asset a JOIN subject_pack p ON p.kind = 'asset' AND p.subject_id = a.id WHERE a.name IN (SELECT value FROM json_each(?))").raw(),
+      seriesPackImports: (d) =>
+        d.prepare("SELECT s.name, p.imports FROM series s JOIN subject_pack p ON p.kind = 'series' AND p.subject_id = s.id WHERE s.name IN (SELECT value FROM json_each(?))").raw(),
+      logEntries: (d) => d.prepare('SELECT id, file_name, sha256 FROM import_log WHERE id IN (SELECT value FROM json_each(?))'),
       seriesFiles: (d) =>
         d.prepare(
           'SELECT l.id, l.file_name, l.sha256 FROM import_log l WHERE l.id IN (SELECT DISTINCT import_id FROM series_observation WHERE series_id = ?) ORDER BY l.id',
@@ -152,14 +160,27 @@ export class DataFingerprinter {
   /** Imported files feeding these subjects (portfolios have none: they are built, not imported). */
   files(refs: SubjectRef[]): DataFileFingerprint[] {
     const byImport = new Map<number, DataFileFingerprint>();
+    // a packed subject knows its imports (store/packs.ts): read for all the subjects at once,
+    // with their import-log entries; the others' rows are scanned
+    const names = (kind: SubjectKind) => JSON.stringify(refs.filter((r) => r.kind === kind).map((r) => r.name));
+    const packed = new Map<string, number[]>();
+    for (const [kind, st] of [['asset', this.st.assetPackImports], ['series', this.st.seriesPackImports]] as const) {
+      for (const [name, imports] of st.all(names(kind)) as [string, string][]) packed.set(`${kind}\u0000${name}`, JSON.parse(imports) as number[]);
+    }
+    const ids = new Set<number>();
+    for (const list of packed.values()) for (const i of list) ids.add(i);
+    const log = new Map<number, { id: number; file_name: string; sha256: string }>();
+    for (const row of this.st.logEntries.all(JSON.stringify([...ids])) as { id: number; file_name: string; sha256: string }[]) log.set(row.id, row);
     for (const ref of refs) {
       if (ref.kind === 'portfolio') continue;
-      const id = this.id(ref);
-      if (id === undefined) continue;
-      // a packed subject knows its imports (store/packs.ts); otherwise its rows are scanned
-      const packed = this.store.packs.imports(ref.kind === 'series' ? 'series' : 'asset', id);
-      const st = ref.kind === 'asset' ? this.st.assetFiles : this.st.seriesFiles;
-      const rows = packed ? packed.map((i: number) => this.st.logEntry.get(i)).filter((r: unknown) => r !== undefined) : ref.kind === 'asset' ? st.all({ id }) : st.all(id);
+      const known = packed.get(`${ref.kind}\u0000${ref.name}`);
+      let rows: unknown[];
+      if (known) rows = known.map((i) => log.get(i)).filter((r) => r !== undefined);
+      else {
+        const id = this.id(ref);
+        if (id === undefined) continue;
+        rows = ref.kind === 'asset' ? this.st.assetFiles.all({ id }) : this.st.seriesFiles.all(id);
+      }
       for (const row of rows as { id: number; file_name: string; sha256: string }[]) {
         const f = byImport.get(row.id) ?? { file: row.file_name, sha256: row.sha256, importId: row.id, subjects: [] };
         f.subjects.push(ref.name);

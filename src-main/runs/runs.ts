@@ -106,7 +106,7 @@ export function recordRun(store: Store, input: RecordRunInput): RunRecord {
     if (!panels.some((q) => q.sha256 === fp.sha256)) panels.push(fp);
   }
   const data = new DataFingerprinter(store, input.subjects);
-  const refs = runSubjects(store, input.spec, given.filter(isPanel));
+  const refs = runSubjects(store, input.spec, given.filter(isPanel), input.subjects);
   const subjects = refs.map((r) => data.subject(r)).filter((s): s is SubjectFingerprint => s !== null);
   const files = data.files(refs);
   const createdAt = (input.createdAt ?? new Date()).toISOString();

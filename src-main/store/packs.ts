@@ -227,7 +227,6 @@ export class Packs {
       put: (d) => d.prepare('INSERT OR REPLACE INTO subject_pack (kind, subject_id, rows, sha256, imports, data) VALUES (?, ?, ?, ?, ?, ?)'),
       drop: (d) => d.prepare('DELETE FROM subject_pack WHERE kind = ? AND subject_id = ?'),
       digest: (d) => d.prepare('SELECT sha256, rows FROM subject_pack WHERE kind = ? AND subject_id = ?'),
-      imports: (d) => d.prepare('SELECT imports FROM subject_pack WHERE kind = ? AND subject_id = ?').pluck(),
       assetImports: (d) => d.prepare('SELECT DISTINCT import_id FROM observation WHERE asset_id = ? ORDER BY import_id').pluck(),
       seriesImports: (d) => d.prepare('SELECT DISTINCT import_id FROM series_observation WHERE series_id = ? ORDER BY import_id').pluck(),
     });
@@ -252,12 +251,6 @@ export class Packs {
       // e.g. the disk is full: no packs this time (withWrite rolls back what was stored)
       this.failed = true;
     }
-  }
-
-  /** The ids of the imports a packed subject's rows come from (undefined without a pack). */
-  imports(kind: PackKind, id: number): number[] | undefined {
-    const t = this.st.imports.get(kind, id) as string | undefined;
-    return t === undefined ? undefined : (JSON.parse(t) as number[]);
   }
 
   /** Drops a subject's pack (its rows are about to change, in the caller's transaction). */
