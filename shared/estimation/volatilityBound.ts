@@ -90,9 +90,9 @@ export function volatilityBound(input: BoundInput): BoundOutput {
   input.returns.forEach((r, i) => {
     let lo = Infinity;
     let hi = -Infinity;
-    for (const x of r) {
-      lo = Math.min(lo, x);
-      hi = Math.max(hi, x);
+    for (let t = 0; t < r.length; t++) {
+      lo = Math.min(lo, r[t]);
+      hi = Math.max(hi, r[t]);
     }
     if (hi - lo > 1e-12 * Math.max(1, Math.abs(hi))) keep.push(i);
     else riskless.push(input.assetNames[i]);
