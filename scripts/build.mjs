@@ -86,12 +86,14 @@ await build({
   // read and compiled from node_modules at every start); its native addon is opened by path
   // (src-main/store/sqlite.ts)
   external: external.filter((e) => e !== 'better-sqlite3'),
-  define: { ...define, 'import.meta.url': '__deflatorModuleUrl' },
+  // import.meta in the CommonJS bundle: the folder as __dirname, the URL made when first read
+  // (node:url's pathToFileURL is not needed by every command)
+  define: { ...define, 'import.meta.url': '__deflatorModule.url', 'import.meta.dirname': '__dirname' },
   // The file is the CommonJS module wrapper itself, a function expression the launcher
   // compiles as it is (src-main/cli/launch.ts): no copy of 0.6 MB of text with the wrapper
   // around it at every start (about 4 ms). The wrapper opens on the banner's line, so the
   // source map's lines stay where they are.
-  banner: { js: "(function (exports, require, module, __filename, __dirname) { const __deflatorModuleUrl = require('node:url').pathToFileURL(__filename).href;" },
+  banner: { js: "(function (exports, require, module, __filename, __dirname) { const __deflatorModule = { get url() { return require('node:url').pathToFileURL(__filename).href; } };" },
   footer: { js: '})' },
   plugins: [commanderLazyChildProcess],
   logLevel: 'warning',

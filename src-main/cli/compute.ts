@@ -9,6 +9,7 @@
 import { DeflatorError } from '../../shared/errors.js';
 import { defaultThreads, sizedCompute, type ClosableCompute } from '../services/compute.js';
 import { Store } from '../store/store.js';
+import { err } from './terminal.js';
 
 export { defaultThreads };
 
@@ -23,7 +24,7 @@ export const THREADS_PER_CORE = 2;
  * per core (extra threads only wait for a core, each with its own memory: 100000 would
  * exhaust it) is cut to that with a note on stderr. The numbers never depend on it.
  */
-export function threadsFlag(value: string | undefined, flag = '--threads', cores = defaultThreads(), note: (text: string) => void = (t) => process.stderr.write(t)): number {
+export function threadsFlag(value: string | undefined, flag = '--threads', cores = defaultThreads(), note: (text: string) => void = (t) => err(t)): number {
   if (value === undefined) return cores;
   const n = Number(value);
   const most = Math.max(1, cores) * THREADS_PER_CORE;

@@ -8,7 +8,7 @@ import { escapeControls } from '../../shared/text.js';
 import { storageError } from '../store/errors.js';
 import { exitCodeOf } from './exit-codes.js';
 import { VERSION } from '../version.js';
-import { guardTerminal } from './terminal.js';
+import { err, out } from './terminal.js';
 import { COMMANDS, commandsFor } from './commands/registry.js';
 
 /**
@@ -19,7 +19,9 @@ export async function buildProgram(argv?: readonly string[]): Promise<Command> {
   const program = new Command('deflator')
     .description('Back-test asset-pricing models (GMM, HJ distance, GRS, two-pass) on your own return data, offline.')
     .version(VERSION)
-    .showHelpAfterError('(run with --help for usage)');
+    .showHelpAfterError('(run with --help for usage)')
+    // help and usage errors through the same gate as everything else (they quote what was typed)
+    .configureOutput({ writeOut: out, writeErr: err });
   const registers = await Promise.all((argv ? commandsFor(argv) : COMMANDS).map((c) => c.load()));
   for (const register of registers) register(program);
   return program;
@@ -43,22 +45,13 @@ export async function main(argv: string[]): Promise<number> {
   } catch (e) {
     if (e instanceof CommanderError) return e.exitCode;
     // a raw SQLite or file-system failure of the database, said plainly
-    const err = storageError(e, dbArgument(argv)) ?? e;
+    const failure = storageError(e, dbArgument(argv)) ?? e;
     // a message quotes file contents: show control characters, never send them to the terminal
-    process.stderr.write(`deflator: ${escapeControls(describeError(err))}\n`);
-    return exitCodeOf(err);
+    err(`deflator: ${escapeControls(describeError(failure))}\n`);
+    return exitCodeOf(failure);
   }
 }
 
-// A reader that closes the pipe early (`deflator info | head`) is not an error.
-for (const stream of [process.stdout, process.stderr]) {
-  stream.on('error', (e: NodeJS.ErrnoException) => {
-    if (e.code === 'EPIPE') process.exit(process.exitCode === undefined ? 0 : Number(process.exitCode));
-    throw e;
-  });
-}
-
-guardTerminal();
 void main(process.argv.slice(2)).then((code) => {
   process.exitCode = code;
 });

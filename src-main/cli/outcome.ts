@@ -10,16 +10,17 @@ import { withCompute, withStore } from './compute.js';
 import { printedReport } from '../services/report.js';
 import { saveUnrecorded } from '../runs/unrecorded.js';
 import { exitCodeOf } from './exit-codes.js';
+import { out, err } from './terminal.js';
 
 export function printOutcome(outcome: AnalysisOutcome & { run?: Pick<RunRecord, 'id'> }, a: Analysis, o: { json?: boolean; db: string; threads?: number }): void {
-  process.stdout.write(printedReport(outcome, o));
+  out(printedReport(outcome, o));
   const e = outcome.recordError;
   if (!e) return;
   const saved = saveUnrecorded(o.db, a, outcome.result, outcome.data, o.threads);
   const where = saved
     ? `the result is saved in ${saved}; record it later with: deflator runs --record ${saved} --db ${o.db}`
     : 'it could not be saved to a file either: keep the report above (--json prints every number in full)';
-  process.stderr.write(`deflator: the result above is not recorded: ${e.message}\n  -> ${where}\n`);
+  err(`deflator: the result above is not recorded: ${e.message}\n  -> ${where}\n`);
   process.exitCode = exitCodeOf(e);
 }
 

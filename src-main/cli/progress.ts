@@ -6,6 +6,7 @@
  *
  * Redrawn at most ten times a second; cleared when the task ends.
  */
+import { stderrStream } from './terminal.js';
 export interface ProgressBar {
   update(done: number, total: number, stage?: string): void;
   finish(): void;
@@ -25,7 +26,7 @@ export function formatBar(label: string, done: number, total: number, elapsedMs:
   return `${label} [${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${done}/${total} ${String(Math.round(frac * 100)).padStart(3)}%  ${clock}`;
 }
 
-export function progressBar(label: string, stream: Tty = process.stderr, now: () => number = Date.now): ProgressBar {
+export function progressBar(label: string, stream: Tty = stderrStream(), now: () => number = Date.now): ProgressBar {
   if (!stream.isTTY) return { update: () => {}, finish: () => {} };
   const started = now();
   let last = Number.NEGATIVE_INFINITY;

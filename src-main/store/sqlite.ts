@@ -32,7 +32,7 @@ function addon(): string | null {
   if (addonPath !== undefined) return addonPath;
   addonPath = null;
   if (process.versions.electron) return addonPath;
-  for (let dir = path.dirname(fileURLToPath(import.meta.url)); ; dir = path.dirname(dir)) {
+  for (let dir = import.meta.dirname ?? path.dirname(fileURLToPath(import.meta.url)); ; dir = path.dirname(dir)) {
     const candidate = path.join(dir, 'node_modules', ADDON);
     if (existsSync(candidate)) return (addonPath = candidate);
     if (path.dirname(dir) === dir) break;

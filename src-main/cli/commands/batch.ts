@@ -21,6 +21,7 @@ import { Store } from '../../store/store.js';
 import { defaultThreads, inProcess, type ClosableCompute } from '../../services/compute.js';
 import { progressBar } from '../progress.js';
 import { positiveInt } from './backtest.js';
+import { out, err, stderrStream } from '../terminal.js';
 
 function readGrid(file: string): unknown {
   let text: string;
@@ -55,7 +56,7 @@ function topOption(v: string | undefined): number {
  * one line at most every 10 seconds and at the end.
  */
 function shardProgress(label: string): { update: (p: ShardProgress) => void; finish: () => void } {
-  if (process.stderr.isTTY) {
+  if (stderrStream().isTTY) {
     const bar = progressBar(`shard ${label}`);
     return { update: (p) => bar.update(p.done, p.todo, `shard ${label}`), finish: () => bar.finish() };
   }
@@ -67,7 +68,7 @@ function shardProgress(label: string): { update: (p: ShardProgress) => void; fin
       if (p.done < p.todo && now - last < 10_000) return;
       last = now;
       const rate = p.done / Math.max(1e-9, (now - started) / 1000);
-      process.stderr.write(`deflator batch: shard ${label}: ${p.done}/${p.todo} tasks${p.failed ? ` (${p.failed} failed)` : ''}, ${rate.toFixed(1)} tasks/s${p.last ? `, last task ${p.last.task}` : ''}\n`);
+      err(`deflator batch: shard ${label}: ${p.done}/${p.todo} tasks${p.failed ? ` (${p.failed} failed)` : ''}, ${rate.toFixed(1)} tasks/s${p.last ? `, last task ${p.last.task}` : ''}\n`);
     },
     finish() {},
   };
@@ -96,7 +97,7 @@ export function register(program: Command): void {
         const r = planBatch(store, json, o.out, { maxTasks, onProgress: (d, t, stage) => bar.update(d, t, stage) });
         bar.finish();
         if (o.json) {
-          process.stdout.write(`${JSON.stringify(r, null, 2)}\n`);
+          out(`${JSON.stringify(r, null, 2)}\n`);
           return;
         }
         const lines = [
@@ -111,7 +112,7 @@ export function register(program: Command): void {
           `  deflator batch status ${o.out}`,
           `  deflator batch merge ${o.out} --db ${o.db}`,
         ];
-        process.stdout.write(`${lines.join('\n')}\n`);
+        out(`${lines.join('\n')}\n`);
       } finally {
         bar.finish();
         store.close();
@@ -136,15 +137,15 @@ export function register(program: Command): void {
         progress.finish();
         await compute.close();
       });
-      if (o.json) process.stdout.write(`${JSON.stringify(r, null, 2)}\n`);
+      if (o.json) out(`${JSON.stringify(r, null, 2)}\n`);
       else {
         const rate = r.done / Math.max(1e-9, r.seconds);
-        process.stdout.write(
+        out(
           `Shard ${r.shard}: ${r.share} tasks; ${r.skipped} already done, ${r.done - r.failed} run now${r.failed ? `, ${r.failed} FAILED` : ''} in ${r.seconds.toFixed(1)} s${r.done ? ` (${rate.toFixed(1)} tasks/s, ${threads} thread${threads === 1 ? '' : 's'})` : ''}\n`,
         );
-        if (r.replaced.length) process.stdout.write(`Replaced ${r.replaced.length} result file(s) that did not check out, e.g. task ${r.replaced[0].task}: ${r.replaced[0].reason}\n`);
-        for (const f of r.failures.slice(0, 10)) process.stdout.write(`  task ${f.task}: ${f.reason.split('\n')[0]}\n`);
-        if (r.failures.length) process.stdout.write(`Run the same command again to retry the failed tasks; \`deflator batch status ${dir}\` lists them.\n`);
+        if (r.replaced.length) out(`Replaced ${r.replaced.length} result file(s) that did not check out, e.g. task ${r.replaced[0].task}: ${r.replaced[0].reason}\n`);
+        for (const f of r.failures.slice(0, 10)) out(`  task ${f.task}: ${f.reason.split('\n')[0]}\n`);
+        if (r.failures.length) out(`Run the same command again to retry the failed tasks; \`deflator batch status ${dir}\` lists them.\n`);
       }
       if (r.failed) process.exitCode = 5;
     });
@@ -156,7 +157,7 @@ export function register(program: Command): void {
     .option('--json', 'print the status as JSON (every failure and rejected file)')
     .action((dir: string, o: { json?: boolean }) => {
       const s = batchStatus(dir);
-      process.stdout.write(o.json ? `${JSON.stringify(s, null, 2)}\n` : statusText(s));
+      out(o.json ? `${JSON.stringify(s, null, 2)}\n` : statusText(s));
     });
 
   batch
@@ -178,10 +179,10 @@ export function register(program: Command): void {
         bar.finish();
         if (o.json) {
           const ranking = Object.fromEntries(RANK_KEYS.map((k) => [k, rankBatch(result, k).map((m) => m.task)]));
-          process.stdout.write(`${JSON.stringify({ ...result, ranking, ...(record ? { run: record.id } : {}), caution: CAUTION }, null, 2)}\n`);
+          out(`${JSON.stringify({ ...result, ranking, ...(record ? { run: record.id } : {}), caution: CAUTION }, null, 2)}\n`);
         } else {
-          process.stdout.write(batchText(result, { rankBy, top }));
-          if (record) process.stdout.write(`Recorded as run ${record.id}: deflator show ${record.id} --db ${o.db}; deflator export ${record.id} --db ${o.db} --format csv --out DIR/\n`);
+          out(batchText(result, { rankBy, top }));
+          if (record) out(`Recorded as run ${record.id}: deflator show ${record.id} --db ${o.db}; deflator export ${record.id} --db ${o.db} --format csv --out DIR/\n`);
         }
       } finally {
         bar.finish();

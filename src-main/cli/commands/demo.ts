@@ -15,6 +15,7 @@ import { defaultThreads, withCompute } from '../compute.js';
 import { progressBar } from '../progress.js';
 import { formatImportReport, formatInfo } from '../../data/summary.js';
 import { Store } from '../../store/store.js';
+import { out } from '../terminal.js';
 
 export const DEFAULT_DEMO_DB = 'deflator-demo.db';
 
@@ -123,13 +124,13 @@ export async function runDemo(options: DemoOptions): Promise<void> {
     dbPath: options.db,
     set: options.set as DemoSet,
     options,
-    print: options.json ? () => {} : (s) => process.stdout.write(s.endsWith('\n') ? s : `${s}\n`),
+    print: options.json ? () => {} : (s) => out(s.endsWith('\n') ? s : `${s}\n`),
     json: {},
   };
   await importStep(ctx);
   // Further demo steps go here, one call each.
   if (ctx.set === 'monthly') await compareStep(ctx);
   if (ctx.set === 'returns') await returnsFitStep(ctx);
-  if (options.json) process.stdout.write(`${JSON.stringify({ ...ctx.json, caution: CAUTION }, null, 2)}\n`);
+  if (options.json) out(`${JSON.stringify({ ...ctx.json, caution: CAUTION }, null, 2)}\n`);
   else if (ctx.set === 'daily') ctx.print(`\n${CAUTION}`); // the comparison and fit reports end with it
 }

@@ -9,6 +9,7 @@ import type { Command } from 'commander';
 import { EXPORT_FORMATS, exportRunToPath, parseExportFormat } from '../../export/run-export.js';
 import { getRun, parseRunId } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
+import { out } from '../terminal.js';
 
 interface ExportOptions {
   db: string;
@@ -40,6 +41,6 @@ export function register(program: Command): void {
         store.close();
       }
       const written = await exportRunToPath(record, format, opts.out, { csvComments: opts.csvComments, ...(opts.appendix ? { appendix: true } : {}) });
-      process.stdout.write(opts.json ? `${JSON.stringify({ run: record.id, format, files: written })}\n` : `${written.map((w) => `wrote ${w}`).join('\n')}\n`);
+      out(opts.json ? `${JSON.stringify({ run: record.id, format, files: written })}\n` : `${written.map((w) => `wrote ${w}`).join('\n')}\n`);
     });
 }

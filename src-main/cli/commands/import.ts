@@ -34,6 +34,7 @@ import {
 } from '../../import/index.js';
 import { listRuns } from '../../runs/runs.js';
 import { Store, type RemovedImport } from '../../store/store.js';
+import { out, err, stderrStream } from '../terminal.js';
 
 /** "0.5", "50%" -> 0.5 */
 function fraction(flag: string) {
@@ -62,7 +63,7 @@ function oneOf<T extends string>(flag: string, allowed: readonly T[]) {
 
 /** A progress line on stderr, only when stderr is a terminal. */
 function progressBar(label: string): { onProgress?: (read: number, total: number) => void; done: () => void } {
-  if (!process.stderr.isTTY) return { done: () => {} };
+  if (!stderrStream().isTTY) return { done: () => {} };
   let last = -1;
   return {
     onProgress: (read, total) => {
@@ -71,10 +72,10 @@ function progressBar(label: string): { onProgress?: (read: number, total: number
       last = pct;
       const width = 30;
       const fill = Math.round((width * pct) / 100);
-      process.stderr.write(`\r${label} [${'#'.repeat(fill)}${'.'.repeat(width - fill)}] ${String(pct).padStart(3)}% of ${(total / 1e6).toFixed(1)} MB`);
+      err(`\r${label} [${'#'.repeat(fill)}${'.'.repeat(width - fill)}] ${String(pct).padStart(3)}% of ${(total / 1e6).toFixed(1)} MB`);
     },
     done: () => {
-      if (last >= 0) process.stderr.write('\r\u001b[K');
+      if (last >= 0) err('\r\u001b[K');
     },
   };
 }
@@ -98,7 +99,7 @@ async function runImport(
 }
 
 function report(r: ImportReport, json: boolean | undefined): void {
-  process.stdout.write(json ? `${JSON.stringify(r, null, 2)}\n` : `${formatImportReport(r)}\n`);
+  out(json ? `${JSON.stringify(r, null, 2)}\n` : `${formatImportReport(r)}\n`);
 }
 
 /** How the file's bytes are read: the options every import command takes. */
@@ -336,7 +337,7 @@ export function register(program: Command): void {
         const after = listRuns(store).filter((r) => r.stale);
         const nowStale = after.filter((r) => before.get(r.id) === false).map((r) => ({ id: r.id, label: r.label }));
         const stillStale = after.filter((r) => before.get(r.id) === true).map((r) => r.id);
-        process.stdout.write(
+        out(
           o.json ? `${JSON.stringify({ ...removed, nowStale: nowStale.map((r) => r.id), alreadyStale: stillStale }, null, 2)}\n` : `${formatRemoved(removed, nowStale, stillStale)}\n`,
         );
       } finally {

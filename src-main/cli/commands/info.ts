@@ -2,6 +2,7 @@
 import type { Command } from 'commander';
 import { formatInfo } from '../../data/summary.js';
 import { Store } from '../../store/store.js';
+import { out } from '../terminal.js';
 
 export function register(program: Command): void {
   program
@@ -13,7 +14,7 @@ export function register(program: Command): void {
       const store = new Store(o.db, { mustExist: true, access: 'read' });
       try {
         const info = store.info();
-        process.stdout.write(o.json ? `${JSON.stringify(info, null, 2)}\n` : `${formatInfo(info)}\n`);
+        out(o.json ? `${JSON.stringify(info, null, 2)}\n` : `${formatInfo(info)}\n`);
       } finally {
         store.close();
       }

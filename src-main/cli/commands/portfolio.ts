@@ -14,6 +14,7 @@ import { fixed } from '../../../shared/report/numbers.js';
 import { CAUTION } from '../../../shared/results.js';
 import { Store } from '../../store/store.js';
 import { positiveInt } from './backtest.js';
+import { out } from '../terminal.js';
 
 interface BuildFlags {
   db: string;
@@ -99,8 +100,8 @@ export function register(program: Command): void {
         })();
         if (o.json) {
           const series = res.series.map((s) => ({ name: s.name, frequency: s.frequency, periods: s.periods, net: Array.from(s.net, (v) => (Number.isNaN(v) ? null : v)) }));
-          process.stdout.write(`${JSON.stringify({ series, rules: res.rules, formations: res.formations, caution: CAUTION }, null, 2)}\n`);
-        } else process.stdout.write(summary(res));
+          out(`${JSON.stringify({ series, rules: res.rules, formations: res.formations, caution: CAUTION }, null, 2)}\n`);
+        } else out(summary(res));
       } finally {
         store.close();
       }
@@ -123,16 +124,16 @@ export function register(program: Command): void {
           rules: p.rules ?? null,
         }));
         if (o.json) {
-          process.stdout.write(`${JSON.stringify(list, null, 2)}\n`);
+          out(`${JSON.stringify(list, null, 2)}\n`);
           return;
         }
         if (!list.length) {
-          process.stdout.write(`No portfolios in ${o.db}; build some with deflator portfolio build.\n`);
+          out(`No portfolios in ${o.db}; build some with deflator portfolio build.\n`);
           return;
         }
-        process.stdout.write(`${alignTable(['portfolio', 'frequency', 'first', 'last', 'periods', 'missing'], list.map((p) => [p.name, p.frequency, p.first ?? '', p.last ?? '', String(p.periods), String(p.missing)]))}\n`);
+        out(`${alignTable(['portfolio', 'frequency', 'first', 'last', 'periods', 'missing'], list.map((p) => [p.name, p.frequency, p.first ?? '', p.last ?? '', String(p.periods), String(p.missing)]))}\n`);
         const rules = [...new Set(list.map((p) => (p.rules ?? '').replace(/ This is bucket \d+ of \d+ \([a-z]+ characteristic\)\.$/, '')).filter(Boolean))];
-        for (const r of rules) process.stdout.write(`\nRules: ${r}\n`);
+        for (const r of rules) out(`\nRules: ${r}\n`);
       } finally {
         store.close();
       }

@@ -12,6 +12,7 @@ import { printOutcome } from '../outcome.js';
 import { withStore } from '../compute.js';
 import { DeflatorError } from '../../../shared/errors.js';
 import { parsePresentValueSpec, type PresentValueSpec } from '../../../shared/spec.js';
+import { err } from '../terminal.js';
 
 interface Flags {
   db: string;
@@ -87,5 +88,5 @@ export function register(program: Command): void {
 export async function runValueCommand(a: Analysis & { kind: 'present-value' | 'drift' }, o: { db: string; json?: boolean; record: boolean }): Promise<void> {
   const outcome = await withStore(o.db, (store) => runAnalysis(store, a, inProcess(), { record: o.record, keepUnrecorded: true }), o.record ? 'write' : 'read');
   printOutcome(outcome, a, { json: o.json, db: o.db, threads: 1 });
-  if (o.json && outcome.run) process.stderr.write(recordedLine(outcome.run, o.db));
+  if (o.json && outcome.run) err(recordedLine(outcome.run, o.db));
 }

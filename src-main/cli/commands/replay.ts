@@ -11,6 +11,7 @@ import { toExactJson } from '../../../shared/records/exact-json.js';
 import { formatReplay, poolRecompute, replayRun } from '../../runs/replay.js';
 import { parseRunId } from '../../runs/runs.js';
 import { defaultThreads, threadsFlag, withCompute, withStore } from '../compute.js';
+import { out } from '../terminal.js';
 
 export const REPLAY_MISMATCH_EXIT = 4;
 
@@ -44,7 +45,7 @@ export function register(program: Command): void {
         }),
         'read',
       );
-      process.stdout.write(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
+      out(opts.json ? `${JSON.stringify(toExactJson(report), null, 2)}\n` : `${formatReplay(report)}\n`);
       if (!report.ok) process.exitCode = REPLAY_MISMATCH_EXIT;
     });
 }

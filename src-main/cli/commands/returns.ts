@@ -11,6 +11,7 @@ import { DeflatorError } from '../../../shared/errors.js';
 import { RETURN_KINDS, returnsTable, type ReturnKind, type ReturnsTable } from '../../../shared/returns/index.js';
 import { textTable } from '../../data/summary.js';
 import { Store } from '../../store/store.js';
+import { out } from '../terminal.js';
 
 interface ReturnsFlags {
   db: string;
@@ -74,9 +75,9 @@ export function register(program: Command): void {
           if (riskfree.kind !== 'riskfree') throw new DeflatorError('INPUT_INVALID', `series "${o.riskfree}" is of kind ${riskfree.kind}, not riskfree`, 'name a risk-free series, or re-import it with --kind riskfree');
         }
         const t = returnsTable(histories, { frequency, kind, dayCount, ...(riskfree ? { riskfree } : {}) });
-        if (o.json) process.stdout.write(`${JSON.stringify(t)}\n`);
-        else if (o.csv) process.stdout.write(returnsCsv(t));
-        else process.stdout.write(`${readable(t)}\n`);
+        if (o.json) out(`${JSON.stringify(t)}\n`);
+        else if (o.csv) out(returnsCsv(t));
+        else out(`${readable(t)}\n`);
       } finally {
         store.close();
       }

@@ -12,6 +12,7 @@ import { isCalendarDate } from '../../../shared/returns/periods.js';
 import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
 import { recordSaved } from '../../runs/unrecorded.js';
+import { out } from '../terminal.js';
 
 interface RunsOptions {
   db: string;
@@ -62,15 +63,15 @@ export function register(program: Command): void {
       try {
         if (opts.record !== undefined) {
           const run = recordSaved(store, opts.record);
-          if (opts.json) process.stdout.write(`${JSON.stringify({ recorded: run.id, file: opts.record })}\n`);
-          else process.stdout.write(`Recorded ${opts.record} as run ${run.id} (deflator show ${run.id} --db ${opts.db}).\n`);
+          if (opts.json) out(`${JSON.stringify({ recorded: run.id, file: opts.record })}\n`);
+          else out(`Recorded ${opts.record} as run ${run.id} (deflator show ${run.id} --db ${opts.db}).\n`);
           return;
         }
         if (opts.delete !== undefined) {
           const id = parseRunId(opts.delete);
           deleteRun(store, id);
-          if (opts.json) process.stdout.write(`${JSON.stringify({ deleted: id })}\n`);
-          else process.stdout.write(`Deleted run ${id}.\n`);
+          if (opts.json) out(`${JSON.stringify({ deleted: id })}\n`);
+          else out(`Deleted run ${id}.\n`);
           return;
         }
         if (opts.kind !== undefined && !isRunKind(opts.kind)) throw new DeflatorError('INPUT_INVALID', `--kind ${opts.kind}: not a run kind`, `use --kind ${RUN_KINDS.join(', ')}`);
@@ -83,7 +84,7 @@ export function register(program: Command): void {
         if (opts.from) filter.from = opts.from;
         if (opts.to) filter.to = opts.to;
         const runs = listRuns(store, filter);
-        process.stdout.write(opts.json ? `${JSON.stringify(runs, null, 2)}\n` : `${formatRuns(runs)}\n`);
+        out(opts.json ? `${JSON.stringify(runs, null, 2)}\n` : `${formatRuns(runs)}\n`);
       } finally {
         store.close();
       }

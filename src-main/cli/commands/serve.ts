@@ -14,6 +14,7 @@ import { demoDatabasePath, userDataDir } from '../../app/paths.js';
 import { findSampleData } from '../../data/demo.js';
 import { startServer } from '../../server/http.js';
 import { threadsFlag } from '../compute.js';
+import { out, err } from '../terminal.js';
 
 interface ServeOptions {
   db?: string;
@@ -82,11 +83,11 @@ export function register(program: Command): void {
       const dbPath = opts.db ? path.resolve(opts.db) : demoDatabasePath(dataDir);
       const threads = opts.threads === undefined ? undefined : threadsFlag(opts.threads);
       const web = rendererDir();
-      if (!web) process.stderr.write('deflator: dist/renderer is missing, so only the API is served; run `npm run build` for the screens\n');
+      if (!web) err('deflator: dist/renderer is missing, so only the API is served; run `npm run build` for the screens\n');
       const { createPool } = await import('../../workers/pool.js'); // loaded by the commands that start a pool only
       const pool = createPool(threads === undefined ? {} : { threads });
       const firstStart = !opts.db && !existsSync(dbPath);
-      if (firstStart) process.stdout.write(`deflator: building the demo database at ${dbPath} (first start)\n`);
+      if (firstStart) out(`deflator: building the demo database at ${dbPath} (first start)\n`);
       const opened = await openApp({
         dbPath,
         demo: !opts.db,
@@ -115,9 +116,9 @@ export function register(program: Command): void {
           throw e;
         }
       }
-      process.stdout.write(`deflator: serving ${path.basename(dbPath)} at ${server.openUrl}  (Ctrl+C to stop)\n`);
-      process.stdout.write('  the part after #key= is this start\'s access key: keep the address to yourself\n');
-      process.stdout.write(`  ${CAUTION}\n`);
+      out(`deflator: serving ${path.basename(dbPath)} at ${server.openUrl}  (Ctrl+C to stop)\n`);
+      out('  the part after #key= is this start\'s access key: keep the address to yourself\n');
+      out(`  ${CAUTION}\n`);
       await new Promise<void>((resolve) => {
         const stop = () => resolve();
         process.once('SIGINT', stop);

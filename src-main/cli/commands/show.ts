@@ -9,6 +9,7 @@ import { toExactJson } from '../../../shared/records/exact-json.js';
 import { resultToText } from '../../../shared/report/text.js';
 import { getRun, parseRunId, staleItems } from '../../runs/runs.js';
 import { Store } from '../../store/store.js';
+import { out } from '../terminal.js';
 
 interface ShowOptions {
   db: string;
@@ -28,7 +29,7 @@ export function register(program: Command): void {
         const record = getRun(store, parseRunId(run));
         const stale = staleItems(store, record);
         if (opts.json) {
-          process.stdout.write(`${JSON.stringify({ ...(toExactJson(record) as object), stale: stale.length > 0, staleItems: stale, caution: CAUTION }, null, 2)}\n`);
+          out(`${JSON.stringify({ ...(toExactJson(record) as object), stale: stale.length > 0, staleItems: stale, caution: CAUTION }, null, 2)}\n`);
           return;
         }
         const lines = [`Run ${record.id} (${record.kind}), recorded ${record.createdAt} by deflator ${record.version}`, ''];
@@ -38,7 +39,7 @@ export function register(program: Command): void {
           for (const s of stale) lines.push(`  ${s.what}: ${s.reason}`);
           lines.push(`  (deflator replay ${record.id} --db ${opts.db} shows what recomputing gives now)`);
         } else lines.push('Data: unchanged since the run (every recorded file and subject digest matches).');
-        process.stdout.write(`${lines.join('\n')}\n`);
+        out(`${lines.join('\n')}\n`);
       } finally {
         store.close();
       }

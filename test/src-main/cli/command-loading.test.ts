@@ -21,7 +21,8 @@ let preload = '';
 beforeAll(() => {
   dir = mkdtempSync(path.join(tmpdir(), 'deflator-loading-'));
   preload = path.join(dir, 'loaded.cjs');
-  writeFileSync(preload, "process.on('exit', () => { process.stderr.write('@@loaded ' + JSON.stringify(process.moduleLoadList) + '\\n'); });\n");
+  // the list is taken before anything is written (process.stderr would load Node's stream modules)
+  writeFileSync(preload, "process.on('exit', () => { const list = JSON.stringify(process.moduleLoadList); require('fs').writeSync(2, '@@loaded ' + list + '\\n'); });\n");
 });
 
 function run(args: string[]) {
@@ -47,6 +48,11 @@ describe('command loading', () => {
     // commander's child_process (with net and dgram) is required on first use only
     // (scripts/build.mjs), and bin/deflator.js starts without the ES module loader
     expect(builtin(r.loaded, 'child_process')).toBe(false);
+    // the report is written straight to the file descriptor (src-main/cli/terminal.ts), and no
+    // V8 flag is set (the kernels tier up by themselves, shared/linalg/gramKernel.ts): neither
+    // Node's stream modules nor node:v8 are loaded
+    expect(builtin(r.loaded, 'stream')).toBe(false);
+    expect(builtin(r.loaded, 'v8')).toBe(false);
     const bin = spawnSync(process.execPath, ['--require', preload, path.join(root, 'bin', 'deflator.js'), 'fit', path.join(root, 'sample-data/specs/linear-second.json'), '--db', db, '--no-record'], { cwd: root, encoding: 'utf8' });
     expect(bin.status).toBe(0);
     const binLoaded = JSON.parse(/@@loaded (.*)\n/.exec(bin.stderr)?.[1] ?? '[]') as string[];
@@ -54,8 +60,8 @@ describe('command loading', () => {
     expect(builtin(binLoaded, 'internal/modules/esm/translators')).toBe(false);
     expect(builtin(binLoaded, 'child_process')).toBe(false);
     // node:crypto is loaded on first use (src-main/store/digest.ts): a fit that reads its
-    // panel from the panel cache hashes nothing large (the cache's key is a short text,
-    // hashed by shared/records/sha256.ts) and takes the stored digests for its record
+    // panel from the panel cache hashes nothing (the cache is looked up by its key's text)
+    // and takes the stored digests for its record
     const spec = path.join(root, 'sample-data/specs/linear-second.json');
     expect(builtin(r.loaded, 'crypto')).toBe(false);
     expect(run(['fit', spec, '--db', db]).code).toBe(0); // records the run, stores the panel
@@ -73,6 +79,8 @@ describe('command loading', () => {
     const serve = run(['serve', '--help']);
     expect(serve.code).toBe(0);
     expect(builtin(serve.loaded, 'http')).toBe(true);
+    // the import's progress asks whether stderr is a terminal: the streams are loaded there (the check above can fail)
+    expect(builtin(imp.loaded, 'stream')).toBe(true);
   }, 60_000);
 
   it('root help lists every command, in the registry order', () => {
