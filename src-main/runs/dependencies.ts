@@ -92,7 +92,7 @@ export class DataFingerprinter {
   ) {
     for (const k of known) this.cache.set(`${k.kind}\u0000${k.name}`, k);
     // each statement prepared on first use: a run record whose subjects came with their digests
-    // (from the panel load) uses three of the eleven
+    // (from the panel load) uses three of the thirteen
     this.st = preparedOnUse(store.db, {
       assetId: (d) => d.prepare('SELECT id FROM asset WHERE name = ?').pluck(),
       seriesId: (d) => d.prepare('SELECT id FROM series WHERE name = ?').pluck(),
