@@ -98,7 +98,13 @@ export interface RunSummary {
   end: string;
   T: number;
   N: number;
+  /** Factor series in the (first) panel. */
   K: number;
+  /**
+   * Each panel's factor count, in the order of the run's panels, when the run used more than
+   * one (a comparison of models with different factors): K alone would show the first model's.
+   */
+  factorCounts?: number[];
   panelSha256: string;
   stale: boolean;
   staleItems: StaleItem[];
@@ -118,4 +124,10 @@ export interface RunTag {
 /** Is this parsed JSON a run record's kind? */
 export function isRunKind(x: unknown): x is RunKind {
   return typeof x === 'string' && (RUN_KINDS as readonly string[]).includes(x);
+}
+
+/** The K of a run list row: the factor count, or each compared model's ("1, 3, 0") when they differ. */
+export function factorCountText(r: Pick<RunSummary, 'K' | 'factorCounts'>): string {
+  const ks = r.factorCounts;
+  return ks && ks.some((k) => k !== ks[0]) ? ks.join(', ') : String(r.K);
 }

@@ -279,7 +279,10 @@ export interface RunFilter {
 export function listRuns(store: Store, filter: RunFilter = {}): RunSummary[] {
   requireRunTables(store);
   // the summary's columns only: not every run's result
-  const rows = store.db.prepare('SELECT id, kind, label, models, created_at, version, panel, panel_sha256, files, subjects FROM run ORDER BY id DESC').all() as Pick<RunRow, 'id' | 'kind' | 'label' | 'models' | 'created_at' | 'version' | 'panel' | 'panel_sha256' | 'files' | 'subjects'>[];
+  const rows = store.db.prepare('SELECT id, kind, label, models, created_at, version, panel, panel_sha256, panels, files, subjects FROM run ORDER BY id DESC').all() as Pick<
+    RunRow,
+    'id' | 'kind' | 'label' | 'models' | 'created_at' | 'version' | 'panel' | 'panel_sha256' | 'panels' | 'files' | 'subjects'
+  >[];
   const fp = new DataFingerprinter(store);
   const to = filter.to && /^\d{4}-\d{2}-\d{2}$/.test(filter.to) ? `${filter.to}T23:59:59.999Z` : filter.to;
   const needle = filter.model?.toLowerCase();
@@ -304,6 +307,7 @@ export function listRuns(store: Store, filter: RunFilter = {}): RunSummary[] {
       T: panel.T,
       N: panel.N,
       K: panel.K,
+      ...(row.panels ? { factorCounts: (JSON.parse(row.panels) as PanelFingerprint[]).map((p) => p.K) } : {}),
       panelSha256: row.panel_sha256,
       stale: stale.length > 0,
       staleItems: stale,

@@ -6,7 +6,7 @@
  */
 import type { Command } from 'commander';
 import { DeflatorError } from '../../../shared/errors.js';
-import { isRunKind, RUN_KINDS, type RunSummary } from '../../../shared/records/run-record.js';
+import { factorCountText, isRunKind, RUN_KINDS, type RunSummary } from '../../../shared/records/run-record.js';
 import { alignTable } from '../../../shared/report/text.js';
 import { isCalendarDate } from '../../../shared/returns/periods.js';
 import { deleteRun, listRuns, parseRunId, type RunFilter } from '../../runs/runs.js';
@@ -35,7 +35,7 @@ export function formatRuns(runs: RunSummary[]): string {
     `${r.start} to ${r.end}`,
     String(r.T),
     String(r.N),
-    String(r.K),
+    factorCountText(r),
     r.stale ? 'STALE' : 'ok',
   ]);
   const lines = alignTable(['run', 'kind', 'recorded (UTC)', 'model', 'sample', 'T', 'N', 'K', 'data'], rows, '', [true, false, false, false, false, true, true, true, false]).split('\n');

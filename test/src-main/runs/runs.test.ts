@@ -1,5 +1,5 @@
 import { createHash } from 'node:crypto';
-import { readFileSync } from 'node:fs';
+import { readFileSync, rmSync } from 'node:fs';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { backtest, windowsPerChunk } from '../../../shared/backtest/index.js';
 import { fit } from '../../../shared/estimation/fit.js';
@@ -245,6 +245,33 @@ describe('run records', () => {
       expect(listRuns(ro).length).toBe(2);
     } finally {
       ro.close();
+    }
+  });
+});
+
+describe('run list: factor counts of a run on several panels', () => {
+  it('lists each panel\'s K when they differ (K alone would show the first model\'s)', async () => {
+    const { formatRuns } = await import('../../../src-main/cli/commands/runs.js');
+    const { factorCountText } = await import('../../../shared/records/run-record.js');
+    const q = await makeProject(); // its own database: the tests above change theirs
+    try {
+      const two = loadPanel(q.store, spec);
+      const one = loadPanel(q.store, btSpec);
+      recordRun(q.store, { spec: btSpec, result: fit(btSpec, one), panel: one });
+      const rec = recordRun(q.store, { spec, result: fit(spec, two), panel: [two, one] });
+      const row = listRuns(q.store).find((r) => r.id === rec.id)!;
+      expect(row.K).toBe(2);
+      expect(row.factorCounts).toEqual([2, 1]);
+      expect(factorCountText(row)).toBe('2, 1');
+      expect(formatRuns([row]).split('\n')[2]).toMatch(/ 2, 1 +ok$/);
+      // one panel (or equal counts): the number alone
+      const single = listRuns(q.store).find((r) => r.id !== rec.id)!;
+      expect(single.factorCounts).toBeUndefined();
+      expect(factorCountText(single)).toBe(String(single.K));
+      expect(factorCountText({ K: 3, factorCounts: [3, 3] })).toBe('3');
+    } finally {
+      q.store.close();
+      rmSync(q.dir, { recursive: true, force: true });
     }
   });
 });
