@@ -26,20 +26,21 @@ import { Code, F64, I32, moduleBytes, V128, wasmApi, type WasmMemory } from './w
 const BLOCK_ROWS = 64;
 const CHUNK = 512;
 
+/**
+ * gramBlock: the partial sums of the block's entries over one chunk of periods, added to
+ * those parked in memory at acc (wasmGramOf calls it once per chunk, the rows' addresses
+ * moved on to the chunk's first period).
+ */
 function kernelCode(): Code {
-  // params: 0 x, 1 y, 2 rowBytes, 3 qPad, 4 t4b, 5 acc, 6 a0, 7 a1, 8 tcb
-  const [x, y, rowBytes, qPad, t4b, acc, a0, a1, tcb] = [0, 1, 2, 3, 4, 5, 6, 7, 8];
+  // params: 0 x, 1 y, 2 rowBytes, 3 qPad, 4 tb (the chunk's periods, in bytes), 5 acc, 6 a0, 7 a1
+  const [x, y, rowBytes, qPad, tb, acc, a0, a1] = [0, 1, 2, 3, 4, 5, 6, 7];
   // i32 locals
-  const [t0b, t1b, b, a, o, px0, px1, py0, py1, pacc, pacc1, accRow] = [9, 10, 11, 12, 13, 14, 15, 16, 17, 18, 19, 20];
+  const [b, a, o, px0, px1, py0, py1, pacc, pacc1, accRow] = [8, 9, 10, 11, 12, 13, 14, 15, 16, 17];
   // v128 locals: accumulators c[ab][lane pair] and loads
-  const c = [21, 22, 23, 24, 25, 26, 27, 28]; // c00a c00b c01a c01b c10a c10b c11a c11b
-  const [x0a, x0b, x1a, x1b, y0a, y0b, y1a, y1b] = [29, 30, 31, 32, 33, 34, 35, 36];
+  const c = [18, 19, 20, 21, 22, 23, 24, 25]; // c00a c00b c01a c01b c10a c10b c11a c11b
+  const [x0a, x0b, x1a, x1b, y0a, y0b, y1a, y1b] = [26, 27, 28, 29, 30, 31, 32, 33];
   const k = new Code();
   k.get(qPad).i32(32).mul().set(accRow);
-  k.i32(0).set(t0b);
-  k.block().loop(); // t0 chunks
-  k.get(t0b).get(t4b).geS().brIf(1);
-  k.get(t0b).get(tcb).add().get(t4b).get(t0b).get(tcb).add().get(t4b).ltS().select().set(t1b);
   k.get(a0).set(b);
   k.block().loop(); // b pairs
   k.get(b).get(qPad).geS().brIf(1);
@@ -53,9 +54,9 @@ function kernelCode(): Code {
   // entries (a, b), (a, b+1) at pacc; (a+1, b), (a+1, b+1) at pacc1
   k.get(pacc).vload(0).set(c[0]).get(pacc).vload(16).set(c[1]).get(pacc).vload(32).set(c[2]).get(pacc).vload(48).set(c[3]);
   k.get(pacc1).vload(0).set(c[4]).get(pacc1).vload(16).set(c[5]).get(pacc1).vload(32).set(c[6]).get(pacc1).vload(48).set(c[7]);
-  k.get(t0b).set(o);
+  k.i32(0).set(o);
   k.block().loop(); // four periods per pass
-  k.get(o).get(t1b).geS().brIf(1);
+  k.get(o).get(tb).geS().brIf(1);
   k.get(px0).get(o).add().vload(0).set(x0a).get(px0).get(o).add().vload(16).set(x0b);
   k.get(px1).get(o).add().vload(0).set(x1a).get(px1).get(o).add().vload(16).set(x1b);
   k.get(py0).get(o).add().vload(0).set(y0a).get(py0).get(o).add().vload(16).set(y0b);
@@ -76,8 +77,6 @@ function kernelCode(): Code {
   k.get(a).i32(2).add().set(a);
   k.br(0).end().end();
   k.get(b).i32(2).add().set(b);
-  k.br(0).end().end();
-  k.get(t1b).set(t0b);
   k.br(0).end().end();
   return k;
 }
@@ -141,7 +140,7 @@ function bartlettCode(): Code {
   return k;
 }
 
-type GramBlock = (x: number, y: number, rowBytes: number, qPad: number, t4b: number, acc: number, a0: number, a1: number, tcb: number) => void;
+type GramBlock = (x: number, y: number, rowBytes: number, qPad: number, tb: number, acc: number, a0: number, a1: number) => void;
 
 interface Kernel {
   memory: WasmMemory;
@@ -160,7 +159,7 @@ function loadKernel(): Kernel | null {
   if (!api) return kernel;
   try {
     const bytes = moduleBytes([
-      { name: 'gramBlock', params: Array(9).fill(I32), locals: [...Array(12).fill(I32), ...Array(16).fill(V128)], code: kernelCode() },
+      { name: 'gramBlock', params: Array(8).fill(I32), locals: [...Array(10).fill(I32), ...Array(16).fill(V128)], code: kernelCode() },
       { name: 'demean', params: [I32, I32], locals: [I32, I32, F64, F64], code: demeanCode() },
       { name: 'bartlett', params: Array(5).fill(I32), locals: [I32, I32, I32, F64, F64], code: bartlettCode() },
     ]);
@@ -343,12 +342,11 @@ export function wasmGramOf(q: number, T: number, same: boolean, fill: (a: number
   for (let a0 = 0; a0 < qPad; a0 += BLOCK_ROWS) {
     const a1 = Math.min(qPad, a0 + BLOCK_ROWS);
     heap.fill(0, accBase, accBase + (a1 - a0) * qPad * 4);
-    // One call per chunk of periods (the rows' addresses moved on by t0 periods): the
-    // partial sums wait in memory between calls exactly as they do between the chunks of
-    // one call, so the bits are those of a single call. Short calls let the engine move the
-    // kernel from its baseline compile to its optimised one while a large product runs (a
-    // call that has started stays in the code it started in).
-    for (let t0 = 0; t0 < T4; t0 += CHUNK) k.gramBlock(xOff + t0 * 8, yOff + t0 * 8, rowBytes, qPad, Math.min(CHUNK, T4 - t0) * 8, accOff, a0, a1, CHUNK * 8);
+    // One call per chunk of periods (the rows' addresses moved on by t0 periods), the partial
+    // sums waiting in memory between calls. Short calls also let the engine move the kernel
+    // from its baseline compile to its optimised one while a large product runs (a call that
+    // has started stays in the code it started in).
+    for (let t0 = 0; t0 < T4; t0 += CHUNK) k.gramBlock(xOff + t0 * 8, yOff + t0 * 8, rowBytes, qPad, Math.min(CHUNK, T4 - t0) * 8, accOff, a0, a1);
     for (let a = a0; a < Math.min(a1, q); a++) {
       const xa = xs[a];
       const rowAcc = accBase + (a - a0) * qPad * 4;

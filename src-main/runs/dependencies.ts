@@ -9,12 +9,9 @@ import { isReturnHistory, type NamedSeries, type ReturnForm, type ReturnSeries, 
 import type { ReturnsPanel } from '../../shared/panel.js';
 import { gridNames, isGridSpec, type GridSpec } from '../../shared/batch/grid.js';
 import type { DataFileFingerprint, SubjectFingerprint } from '../../shared/records/run-record.js';
-import type Database from 'better-sqlite3';
 import type { Store } from '../store/store.js';
-import { nodeSha256, sha256Hasher } from '../store/digest.js';
+import { sha256Hasher } from '../store/digest.js';
 import { preparedOnUse } from '../store/sqlite.js';
-
-export { nodeSha256 };
 
 export type SubjectKind = SubjectFingerprint['kind'];
 

@@ -1,9 +1,9 @@
 /**
  * SHA-256 hashers from Node's crypto module, loaded on first use. Loading node:crypto costs
- * a command about 6 ms, and a fit on a store whose subjects are packed hashes nothing
- * (the record takes the stored digests; the panel cache's key is its text, not hashed),
- * so a fit does not load it at all; imports, exports and
- * fingerprints of unpacked data load it when they first hash.
+ * a command about 6 ms, and a fit on a store whose subjects are packed hashes nothing (the
+ * record takes the stored digests; the panel cache's key is its text, not hashed), so a fit
+ * does not load it at all; imports, exports and fingerprints of unpacked data load it when
+ * they first hash.
  */
 import type { Hash } from 'node:crypto';
 import { createRequire } from 'node:module';

@@ -38,8 +38,7 @@ function addon(): string | null {
     if (path.dirname(dir) === dir) break;
   }
   const pkg = createRequire(import.meta.url).resolve('better-sqlite3/package.json');
-  addonPath = path.join(path.dirname(pkg), 'build', 'Release', 'better_sqlite3.node');
-  return addonPath;
+  return (addonPath = path.join(path.dirname(path.dirname(pkg)), ADDON));
 }
 
 /** A connection to `file` with better-sqlite3's options. */

@@ -7,7 +7,8 @@
  */
 import { createHash } from 'node:crypto';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
-import { loadedDigests, DataFingerprinter, nodeSha256, subjectDigest } from '../../../src-main/runs/dependencies.js';
+import { loadedDigests, DataFingerprinter, subjectDigest } from '../../../src-main/runs/dependencies.js';
+import { nodeSha256 } from '../../../src-main/store/digest.js';
 import { makeProject, type Project } from './helpers.js';
 
 let p: Project;
